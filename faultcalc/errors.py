@@ -1,0 +1,49 @@
+"""Located problems in the input, and the errors that carry them."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Any
+
+
+@dataclass(frozen=True)
+class Problem:
+    """One thing wrong (or doubtful) in the input, located as the spreadsheet shows it.
+
+    ``row`` is the spreadsheet row number (the header is row 1); ``None`` when the problem
+    concerns a whole sheet or column. ``column`` is the column name, or ``None``.
+    """
+
+    sheet: str
+    row: int | None
+    column: str | None
+    value: Any
+    message: str
+
+    def location(self) -> str:
+        parts = [f"sheet '{self.sheet}'"]
+        if self.row is not None:
+            parts.append(f"row {self.row}")
+        if self.column is not None:
+            parts.append(f"column '{self.column}'")
+        return ", ".join(parts)
+
+    def __str__(self) -> str:
+        text = f"{self.location()}: {self.message}"
+        if self.value is not None and self.value != "":
+            text += f" (found {self.value!r})"
+        return text
+
+
+class InputError(Exception):
+    """The input cannot be studied. ``problems`` lists every problem found, located."""
+
+    def __init__(self, problems: list[Problem]):
+        self.problems = list(problems)
+        count = len(self.problems)
+        head = f"{count} problem{'s' if count != 1 else ''} in the input"
+        super().__init__(head + ":\n" + "\n".join(f"  - {p}" for p in self.problems))
+
+
+class OutputError(Exception):
+    """A results file could not be written (path refused, not writable, ...)."""

@@ -1,0 +1,1 @@
+"""Reading the input workbook and writing results; no calculation lives here."""

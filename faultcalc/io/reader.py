@@ -1,0 +1,289 @@
+"""Read and validate an input into a ``System``, collecting every problem before stopping."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+from .. import model
+from ..errors import InputError, Problem
+from . import cells, schema
+from .tables import RawInput, RawSheet, load_input
+
+# Rated winding kV against bus kV: beyond this the off-nominal ratio is worth a warning.
+KV_MISMATCH_WARN = 0.05
+
+
+@dataclass
+class Record:
+    """One validated row: typed values by column (blank -> default or None)."""
+
+    row: int
+    values: dict[str, Any]
+    ok: bool
+
+
+class _Collector:
+    def __init__(self) -> None:
+        self.problems: list[Problem] = []
+        self.warnings: list[str] = []
+
+    def problem(self, sheet: str, row: int | None, column: str | None, value: Any, message: str):
+        self.problems.append(Problem(sheet, row, column, value, message))
+
+    def warn(self, sheet: str, row: int | None, column: str | None, value: Any, message: str):
+        self.warnings.append(str(Problem(sheet, row, column, value, message)))
+
+
+def _read_sheet(spec: schema.Sheet, raw: RawSheet | None, out: _Collector) -> list[Record]:
+    if raw is None:
+        if spec.required:
+            out.problem(spec.name, None, None, None,
+                        f"the workbook has no '{spec.name}' sheet; it is required "
+                        f"(columns: {', '.join(spec.names)})")
+        return []
+    known = set(spec.names)
+    for header in raw.headers:
+        if header not in known:
+            out.warn(spec.name, 1, header, None,
+                     "unknown column, ignored; known columns are " + ", ".join(spec.names))
+    for position in raw.blank_header_columns:
+        out.warn(spec.name, 1, None, None,
+                 f"column {position} has values but no header; ignored")
+    missing = [c.name for c in spec.columns if c.required and c.name not in raw.headers]
+    for name in missing:
+        out.problem(spec.name, 1, name, None, "required column is missing from the header row")
+    if missing:
+        return []
+    if spec.required and not raw.rows:
+        out.problem(spec.name, None, None, None, "the sheet has no data rows; at least one is needed")
+    records = []
+    for number, raw_values in raw.rows:
+        values: dict[str, Any] = {}
+        ok = True
+        for column in spec.columns:
+            cell = raw_values.get(column.name)
+            if cells.is_blank(cell):
+                if column.required:
+                    out.problem(spec.name, number, column.name, None,
+                                f"a value is required: {column.expected()}")
+                    ok = False
+                values[column.name] = column.default
+                continue
+            try:
+                values[column.name] = cells.parse(cell, column)
+            except cells.CellError as exc:
+                out.problem(spec.name, number, column.name, cell, str(exc))
+                values[column.name] = None
+                ok = False
+        for alternative in spec.alternatives:
+            ok &= _check_alternative(spec, alternative, number, raw_values, out)
+        records.append(Record(number, values, ok))
+    return records
+
+
+def _check_alternative(spec, alternative, number, raw_values, out) -> bool:
+    def filled(name):
+        return not cells.is_blank(raw_values.get(name))
+
+    used = [g for g in alternative.groups if any(filled(c) for c in g)]
+    label = ", ".join(c for g in alternative.groups for c in g)
+    if len(used) > 1:
+        found = {c: raw_values.get(c) for g in used for c in g if filled(c)}
+        out.problem(spec.name, number, label, found,
+                    f"give {alternative.describe()}, not more than one")
+        return False
+    if not used:
+        if alternative.required:
+            out.problem(spec.name, number, label, None, f"give {alternative.describe()}")
+            return False
+        return True
+    for c in used[0]:
+        if not filled(c):
+            others = [o for o in used[0] if o != c]
+            out.problem(spec.name, number, c, None,
+                        f"a value is required here because {', '.join(others)} is given")
+            return False
+    return True
+
+
+def _read_settings(raw: RawSheet | None, out: _Collector) -> model.Settings:
+    values = {s.name: s.default for s in schema.SETTINGS}
+    records = _read_sheet(schema.STUDY, raw, out)
+    known = {s.name: s for s in schema.SETTINGS}
+    seen: dict[str, int] = {}
+    for record in records:
+        name = (record.values.get("setting") or "").strip().lower()
+        raw_value = record.values.get("value")
+        if not record.ok:
+            continue
+        if name not in known:
+            out.warn("study", record.row, "setting", name,
+                     "unknown setting, ignored; known settings are " + ", ".join(known))
+            continue
+        if name in seen:
+            out.problem("study", record.row, "setting", name,
+                        f"the setting is given twice (rows {seen[name]} and {record.row})")
+            continue
+        seen[name] = record.row
+        spec = known[name]
+        try:
+            values[name] = cells.parse(raw_value, spec)
+        except cells.CellError as exc:
+            out.problem("study", record.row, "value", raw_value, f"{name}: {exc}")
+    return model.Settings(
+        title=str(values["title"] or ""),
+        base_mva=float(values["base_mva"]),
+        frequency_hz=int(values["frequency_hz"]),
+        prefault_pu=float(values["prefault_pu"]),
+    )
+
+
+def _unique_ids(sheet: str, id_column: str, records: list[Record], out: _Collector,
+                taken: dict[str, tuple[str, int]]) -> None:
+    for record in records:
+        name = record.values.get(id_column)
+        if name is None:
+            continue
+        if name in taken:
+            where_sheet, where_row = taken[name]
+            out.problem(sheet, record.row, id_column, name,
+                        f"the name is already used on sheet '{where_sheet}' row {where_row}; "
+                        "names must be unique")
+            record.ok = False
+        else:
+            taken[name] = (sheet, record.row)
+
+
+def _check_refs(sheet: str, columns: tuple[str, ...], records: list[Record],
+                bus_kv: dict[str, float], out: _Collector) -> None:
+    for record in records:
+        for column in columns:
+            name = record.values.get(column)
+            if name is not None and name not in bus_kv:
+                out.problem(sheet, record.row, column, name,
+                            "no bus of that name on the 'buses' sheet")
+                record.ok = False
+        if len(columns) == 2:
+            a, b = (record.values.get(c) for c in columns)
+            if a is not None and a == b:
+                out.problem(sheet, record.row, columns[1], b,
+                            f"both ends are the same bus; {columns[0]} and {columns[1]} must differ")
+                record.ok = False
+
+
+def _check_same_kv(sheet: str, records: list[Record], bus_kv: dict[str, float], out: _Collector):
+    """A cable or impedance joins buses of one voltage; a different kV means a missing transformer."""
+    for record in records:
+        if not record.ok:
+            continue
+        a, b = record.values["from_bus"], record.values["to_bus"]
+        if abs(bus_kv[a] - bus_kv[b]) > 1e-9 * max(bus_kv[a], bus_kv[b]):
+            out.problem(sheet, record.row, "to_bus", b,
+                        f"the two ends are at different voltages ({a}: {bus_kv[a]:g} kV, "
+                        f"{b}: {bus_kv[b]:g} kV); only a transformer joins voltage levels")
+            record.ok = False
+
+
+def _check_transformers(records: list[Record], bus_kv: dict[str, float], out: _Collector):
+    for record in records:
+        if not record.ok:
+            continue
+        v = record.values
+        if v["hv_kv"] <= v["lv_kv"]:
+            out.problem("transformers", record.row, "hv_kv", v["hv_kv"],
+                        f"hv_kv must be higher than lv_kv ({v['lv_kv']:g}); "
+                        "list the high-voltage winding's bus as hv_bus")
+            record.ok = False
+            continue
+        for side in ("hv", "lv"):
+            rated, nominal = v[f"{side}_kv"], bus_kv[v[f"{side}_bus"]]
+            if abs(rated / nominal - 1.0) > KV_MISMATCH_WARN:
+                out.warn("transformers", record.row, f"{side}_kv", rated,
+                         f"winding rated {rated:g} kV on bus {v[f'{side}_bus']} of {nominal:g} kV "
+                         f"(differs by {100 * (rated / nominal - 1):+.1f}%); modelled as an "
+                         "off-nominal ratio; check the nameplate and the bus voltage")
+
+
+def read_tables(raw: RawInput) -> model.System:
+    """Validate raw sheets into a System; raises InputError listing every problem."""
+    out = _Collector()
+    out.problems.extend(raw.problems)
+    known_sheets = {s.name for s in schema.SHEETS} | {schema.GUIDE_SHEET}
+    for name in raw.sheets:
+        if name not in known_sheets:
+            out.warn(name, None, None, None, "unknown sheet, ignored; known sheets are "
+                     + ", ".join(s.name for s in schema.SHEETS))
+    settings = _read_settings(raw.sheets.get("study"), out)
+    recs = {s.name: _read_sheet(s, raw.sheets.get(s.name), out) for s in schema.SHEETS[1:]}
+
+    bus_taken: dict[str, tuple[str, int]] = {}
+    _unique_ids("buses", "bus", recs["buses"], out, bus_taken)
+    bus_kv = {r.values["bus"]: r.values["kv"] for r in recs["buses"]
+              if r.values.get("bus") is not None and r.values.get("kv") is not None}
+    element_taken: dict[str, tuple[str, int]] = {}
+    for sheet in schema.SHEETS[2:]:
+        _unique_ids(sheet.name, sheet.columns[0].name, recs[sheet.name], out, element_taken)
+    _check_refs("sources", ("bus",), recs["sources"], bus_kv, out)
+    _check_refs("transformers", ("hv_bus", "lv_bus"), recs["transformers"], bus_kv, out)
+    _check_refs("cables", ("from_bus", "to_bus"), recs["cables"], bus_kv, out)
+    _check_refs("impedances", ("from_bus", "to_bus"), recs["impedances"], bus_kv, out)
+    _check_same_kv("cables", recs["cables"], bus_kv, out)
+    _check_same_kv("impedances", recs["impedances"], bus_kv, out)
+    _check_transformers(recs["transformers"], bus_kv, out)
+    for record in recs["cables"]:
+        v = record.values
+        if record.ok and (v.get("r_ohm_per_kft") or v.get("r_ohm_per_km") or 0) == 0 \
+                and (v.get("x_ohm_per_kft") or v.get("x_ohm_per_km") or 0) == 0:
+            column = "r_ohm_per_kft" if v.get("r_ohm_per_kft") is not None else "r_ohm_per_km"
+            out.problem("cables", record.row, column, 0,
+                        "R and X are both 0; a cable has impedance (use the 'impedances' sheet "
+                        "with r_ohm = x_ohm = 0 for a closed tie)")
+            record.ok = False
+    if not any(True for r in recs["sources"]) and "sources" in raw.sheets:
+        out.problem("sources", None, None, None, "no source given; at least one is needed")
+    if out.problems:
+        raise InputError(out.problems)
+
+    def build(cls, sheet):
+        fields = [f for f in cls.__dataclass_fields__ if f != "row"]
+        return tuple(cls(**{f: r.values[f] for f in fields}, row=r.row) for r in recs[sheet])
+
+    return model.System(
+        settings=settings,
+        buses=tuple(model.Bus(r.values["bus"], r.values["kv"], r.values["description"] or "",
+                              row=r.row) for r in recs["buses"]),
+        sources=build(model.Source, "sources"),
+        transformers=build(model.Transformer, "transformers"),
+        cables=tuple(model.Cable(**{**{f: r.values[f] for f in model.Cable.__dataclass_fields__
+                                       if f != "row"}, "size": r.values["size"] or ""}, row=r.row)
+                     for r in recs["cables"]),
+        impedances=build(model.Impedance, "impedances"),
+        input_name=raw.display_name,
+        input_sha256=raw.sha256,
+        warnings=tuple(out.warnings),
+    )
+
+
+def read_system(path: str | Path) -> model.System:
+    """Read a one-line input (an .xlsx workbook or a folder of CSV files) into a System.
+
+    Parameters
+    ----------
+    path : str or Path
+        The workbook, or a folder holding ``buses.csv``, ``sources.csv`` and the other sheets.
+
+    Raises
+    ------
+    InputError
+        Listing every problem found, each with sheet, row, column, value and what was expected.
+
+    Examples
+    --------
+    >>> from faultcalc import read_system, sample_path
+    >>> system = read_system(sample_path("plant_480v"))
+    >>> system.buses[0].bus
+    'UTIL-12'
+    """
+    return read_tables(load_input(path))

@@ -1,0 +1,231 @@
+"""The one table of every input sheet and column.
+
+The reader, the blank template, the README's input reference and the error messages are all
+generated from this table, so they cannot drift apart. Column names carry their unit.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+# Column kinds understood by the reader.
+ID = "id"  # unique name of the row's element within the workbook
+BUS_REF = "bus"  # name of a bus on the buses sheet
+TEXT = "text"
+NUMBER = "number"
+INTEGER = "integer"
+CHOICE = "choice"  # one of `choices`, case-insensitive
+
+# Bounds on numbers.
+POSITIVE = ">0"
+NON_NEGATIVE = ">=0"
+AT_LEAST_ONE = ">=1"
+
+BOUND_TEXT = {
+    POSITIVE: "a number greater than 0",
+    NON_NEGATIVE: "a number of 0 or more",
+    AT_LEAST_ONE: "a whole number of 1 or more",
+}
+
+
+@dataclass(frozen=True)
+class Column:
+    name: str
+    kind: str
+    help: str
+    unit: str = ""
+    required: bool = False
+    default: Any = None
+    choices: tuple[str, ...] = ()
+    bound: str = ""
+
+    def expected(self) -> str:
+        """What a valid cell of this column holds, in words, for error messages."""
+        if self.kind == CHOICE:
+            return "one of " + ", ".join(self.choices)
+        if self.kind in (NUMBER, INTEGER):
+            text = BOUND_TEXT.get(self.bound, "a whole number" if self.kind == INTEGER else "a number")
+            return text + (f" in {self.unit}" if self.unit else "")
+        if self.kind == BUS_REF:
+            return "the name of a bus on the 'buses' sheet"
+        if self.kind == ID:
+            return "a name, unique in the workbook"
+        return "text"
+
+
+@dataclass(frozen=True)
+class Alternative:
+    """Exactly one of several column groups must be filled (all columns of that group)."""
+
+    groups: tuple[tuple[str, ...], ...]
+    required: bool = True
+
+    def describe(self) -> str:
+        return " or ".join(" + ".join(g) for g in self.groups)
+
+
+@dataclass(frozen=True)
+class Sheet:
+    name: str
+    help: str
+    columns: tuple[Column, ...]
+    required: bool = False
+    alternatives: tuple[Alternative, ...] = field(default=())
+
+    def column(self, name: str) -> Column:
+        for c in self.columns:
+            if c.name == name:
+                return c
+        raise KeyError(name)
+
+    @property
+    def names(self) -> tuple[str, ...]:
+        return tuple(c.name for c in self.columns)
+
+
+WINDINGS = ("D", "Y", "YN")
+
+# Settings on the `study` sheet (columns `setting`, `value`), described like columns.
+SETTINGS: tuple[Column, ...] = (
+    Column("title", TEXT, "Title of the study, printed on every report.", default=""),
+    Column("base_mva", NUMBER, "Common MVA base of the per-unit system.", unit="MVA",
+           default=100.0, bound=POSITIVE),
+    Column("frequency_hz", CHOICE, "System frequency.", unit="Hz", default="60",
+           choices=("50", "60")),
+    Column("prefault_pu", NUMBER, "Prefault voltage behind every Thevenin impedance, per-unit of "
+           "each bus's nominal kV.", unit="pu", default=1.0, bound=POSITIVE),
+)
+
+STUDY = Sheet(
+    "study",
+    "Study settings, one per row: put the setting's name in 'setting' and its value in 'value'. "
+    "Any setting left out takes its default.",
+    (
+        Column("setting", TEXT, "Name of the setting: " + ", ".join(s.name for s in SETTINGS) + ".",
+               required=True),
+        Column("value", TEXT, "Value of the setting.", required=True),
+    ),
+)
+
+BUSES = Sheet(
+    "buses",
+    "Every bus (switchboard, panel, motor control centre, transformer terminal) of the one-line.",
+    (
+        Column("bus", ID, "Unique name of the bus.", required=True),
+        Column("kv", NUMBER, "Nominal line-to-line voltage; also the bus's base kV.", unit="kV",
+               required=True, bound=POSITIVE),
+        Column("description", TEXT, "Free text, e.g. equipment and location."),
+    ),
+    required=True,
+)
+
+SOURCES = Sheet(
+    "sources",
+    "Utility supply points: the available three-phase short-circuit at the point of delivery, as "
+    "stated by the serving utility.",
+    (
+        Column("source", ID, "Unique name of the source.", required=True),
+        Column("bus", BUS_REF, "Bus the source feeds.", required=True),
+        Column("sc_mva", NUMBER, "Available three-phase short-circuit power at the bus.",
+               unit="MVA", bound=POSITIVE),
+        Column("sc_ka", NUMBER, "Available three-phase short-circuit current at the bus.",
+               unit="kA", bound=POSITIVE),
+        Column("xr", NUMBER, "X/R ratio of the source impedance, from the utility.",
+               required=True, bound=POSITIVE),
+    ),
+    required=True,
+    alternatives=(Alternative((("sc_mva",), ("sc_ka",))),),
+)
+
+TRANSFORMERS = Sheet(
+    "transformers",
+    "Two-winding transformers, from the nameplate.",
+    (
+        Column("transformer", ID, "Unique name of the transformer.", required=True),
+        Column("hv_bus", BUS_REF, "Bus on the high-voltage side.", required=True),
+        Column("lv_bus", BUS_REF, "Bus on the low-voltage side.", required=True),
+        Column("kva", NUMBER, "Rated power (self-cooled rating the %Z is stated on).", unit="kVA",
+               required=True, bound=POSITIVE),
+        Column("hv_kv", NUMBER, "Rated high-voltage winding voltage, line to line.", unit="kV",
+               required=True, bound=POSITIVE),
+        Column("lv_kv", NUMBER, "Rated low-voltage winding voltage, line to line.", unit="kV",
+               required=True, bound=POSITIVE),
+        Column("z_pct", NUMBER, "Impedance on the transformer's own kVA and kV.", unit="%",
+               required=True, bound=POSITIVE),
+        Column("xr", NUMBER, "X/R ratio of the transformer impedance.", required=True,
+               bound=POSITIVE),
+        Column("hv_winding", CHOICE, "High-voltage winding connection (IEC 60076): D delta, "
+               "Y wye with the neutral not grounded, YN wye with the neutral grounded.",
+               required=True, choices=WINDINGS),
+        Column("lv_winding", CHOICE, "Low-voltage winding connection (IEC 60076): D, Y or YN.",
+               required=True, choices=WINDINGS),
+        Column("lv_neutral_ohm", NUMBER, "Impedance from the low-voltage neutral to ground; "
+               "0 = solidly grounded.", unit="ohm", default=0.0, bound=NON_NEGATIVE),
+    ),
+)
+
+CABLES = Sheet(
+    "cables",
+    "Cables and feeders: length and impedance of one conductor per phase; the tool divides by "
+    "'sets' for parallel conductors.",
+    (
+        Column("cable", ID, "Unique name of the cable.", required=True),
+        Column("from_bus", BUS_REF, "Bus at one end.", required=True),
+        Column("to_bus", BUS_REF, "Bus at the other end.", required=True),
+        Column("length_ft", NUMBER, "Route length.", unit="ft", bound=POSITIVE),
+        Column("length_m", NUMBER, "Route length.", unit="m", bound=POSITIVE),
+        Column("sets", INTEGER, "Parallel conductors per phase.", default=1, bound=AT_LEAST_ONE),
+        Column("size", TEXT, "Conductor size, e.g. 4/0, 500 (kcmil), 240 (mm2)."),
+        Column("material", CHOICE, "Conductor material: cu copper, al aluminium.",
+               choices=("cu", "al")),
+        Column("raceway", CHOICE, "Raceway: pvc (non-metallic), aluminum, steel.",
+               choices=("pvc", "aluminum", "steel")),
+        Column("r_ohm_per_kft", NUMBER, "AC resistance of one conductor.", unit="ohm/1000 ft",
+               bound=NON_NEGATIVE),
+        Column("x_ohm_per_kft", NUMBER, "Reactance of one conductor.", unit="ohm/1000 ft",
+               bound=NON_NEGATIVE),
+        Column("r_ohm_per_km", NUMBER, "AC resistance of one conductor.", unit="ohm/km",
+               bound=NON_NEGATIVE),
+        Column("x_ohm_per_km", NUMBER, "Reactance of one conductor.", unit="ohm/km",
+               bound=NON_NEGATIVE),
+    ),
+    alternatives=(
+        Alternative((("length_ft",), ("length_m",))),
+        Alternative((("r_ohm_per_kft", "x_ohm_per_kft"), ("r_ohm_per_km", "x_ohm_per_km"))),
+    ),
+)
+
+IMPEDANCES = Sheet(
+    "impedances",
+    "Other series elements (reactors, busway, overhead lines), as total ohms per phase at the "
+    "from-bus voltage. r_ohm = x_ohm = 0 is a closed tie or switch: its two buses become one.",
+    (
+        Column("element", ID, "Unique name of the element.", required=True),
+        Column("from_bus", BUS_REF, "Bus at one end.", required=True),
+        Column("to_bus", BUS_REF, "Bus at the other end.", required=True),
+        Column("r_ohm", NUMBER, "Total resistance per phase.", unit="ohm", required=True,
+               bound=NON_NEGATIVE),
+        Column("x_ohm", NUMBER, "Total reactance per phase.", unit="ohm", required=True,
+               bound=NON_NEGATIVE),
+    ),
+)
+
+SHEETS: tuple[Sheet, ...] = (STUDY, BUSES, SOURCES, TRANSFORMERS, CABLES, IMPEDANCES)
+
+# Sheets the template writes for people; the reader passes over them without a warning.
+GUIDE_SHEET = "guide"
+
+
+def sheet(name: str) -> Sheet:
+    for s in SHEETS:
+        if s.name == name:
+            return s
+    raise KeyError(name)
+
+
+def setting(name: str) -> Column:
+    for s in SETTINGS:
+        if s.name == name:
+            return s
+    raise KeyError(name)

@@ -1,0 +1,40 @@
+"""What a study returns: tables with unit-suffixed columns, warnings, cautions and its basis."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import pandas as pd
+
+from .model import Settings
+
+# Columns of StudyResult.buses, which are also the JSON fields of each bus entry.
+BUS_COLUMNS = ("bus", "kv", "r1_ohm", "x1_ohm", "z1_pu", "xr", "i3ph_ka", "s3ph_mva")
+
+# Columns of StudyResult.elements, the echo of every element on the common base.
+ELEMENT_COLUMNS = ("element", "kind", "from_bus", "to_bus", "input", "ohm_bus", "base_kv",
+                   "r_ohm", "x_ohm", "r_pu", "x_pu", "tap", "note")
+
+
+@dataclass(frozen=True)
+class Basis:
+    """What the numbers rest on, printed with every result."""
+
+    settings: Settings
+    method: str
+    input_name: str
+    input_sha256: str
+    calculated_at: str  # ISO 8601, local time with UTC offset
+    tool_name: str
+    tool_version: str
+
+
+@dataclass(frozen=True)
+class StudyResult:
+    buses: pd.DataFrame  # one row per bus, input order, columns BUS_COLUMNS
+    elements: pd.DataFrame  # one row per element, columns ELEMENT_COLUMNS
+    descriptions: tuple[str, ...]  # bus descriptions, aligned with `buses`
+    node_groups: tuple[str, ...]  # per bus: the other buses sharing its node through ties
+    warnings: tuple[str, ...]
+    cautions: tuple[str, ...]
+    basis: Basis

@@ -1,0 +1,1 @@
+"""Bundled sample systems. Invented scenarios for demonstration only: not real installations."""
