@@ -128,6 +128,8 @@ def _read_settings(raw: RawSheet | None, out: _Collector) -> model.Settings:
             continue
         seen[name] = record.row
         spec = known[name]
+        if cells.is_blank(raw_value):
+            continue
         try:
             values[name] = cells.parse(raw_value, spec)
         except cells.CellError as exc:

@@ -104,7 +104,8 @@ STUDY = Sheet(
     (
         Column("setting", TEXT, "Name of the setting: " + ", ".join(s.name for s in SETTINGS) + ".",
                required=True),
-        Column("value", TEXT, "Value of the setting.", required=True),
+        Column("value", TEXT, "Value of the setting; blank takes the default."),
+        Column("note", TEXT, "Free text for the reader of the workbook; not used."),
     ),
 )
 

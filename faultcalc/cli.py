@@ -1,0 +1,145 @@
+"""Command line: a thin layer over the public API; no calculation here."""
+
+from __future__ import annotations
+
+import os
+import sys
+import traceback
+from pathlib import Path
+
+import click
+
+from . import SAMPLES, InputError, OutputError, __version__, read_system, run_study, sample_path
+from .io.files import same_file, staged
+from .io.jsonout import write_json_to
+from .io.template import write_template
+from .io.workbook import write_workbook_to
+
+EXIT_BAD_INPUT = 2
+EXIT_FAILURE = 1
+
+
+def _fail(message: str, status: int) -> None:
+    click.echo(message, err=True)
+    sys.exit(status)
+
+
+def _guarded(action):
+    """Run ``action``; bad input exits 2 listing every problem, other failures exit 1."""
+    try:
+        return action()
+    except InputError as exc:
+        lines = [f"error: {len(exc.problems)} problem(s) in the input; nothing was written:"]
+        lines += [f"  - {p}" for p in exc.problems]
+        _fail("\n".join(lines), EXIT_BAD_INPUT)
+    except OutputError as exc:
+        _fail(f"error: {exc}", EXIT_FAILURE)
+    except Exception as exc:  # noqa: BLE001 - a tool for engineers never shows a bare traceback
+        if os.environ.get("FAULTCALC_DEBUG"):
+            traceback.print_exc()
+        _fail(f"internal error: {type(exc).__name__}: {exc}\n"
+              "Nothing was written. Set FAULTCALC_DEBUG=1 to see the details, and please report "
+              "it with the input.", EXIT_FAILURE)
+
+
+def _summary(result) -> str:
+    b = result.buses
+    worst = b.loc[b["i3ph_ka"].idxmax()]
+    return (f"{len(b)} buses studied; highest three-phase fault current {worst.i3ph_ka:.2f} kA "
+            f"at {worst.bus} ({worst.kv:g} kV). {len(result.warnings)} warning(s).")
+
+
+def _run(input_path: Path, output: Path, json_path: Path | None) -> None:
+    for target in filter(None, (output, json_path)):
+        if same_file(target, input_path) or (input_path.is_dir()
+                                             and same_file(target.parent, input_path)
+                                             and target.suffix.lower() == ".csv"):
+            raise OutputError(f"refusing to write {target}: it is the input")
+    if json_path is not None and same_file(output, json_path):
+        raise OutputError("the results workbook and the JSON file must be different files")
+    system = read_system(input_path)
+    result = run_study(system)
+    targets = [output] + ([json_path] if json_path else [])
+    with staged(*targets) as temps:
+        write_workbook_to(result, temps[0])
+        if json_path:
+            write_json_to(result, temps[1])
+    for w in result.warnings:
+        click.echo(f"warning: {w}", err=True)
+    click.echo(_summary(result))
+    click.echo(f"results workbook: {output.resolve()}")
+    if json_path:
+        click.echo(f"results JSON: {json_path.resolve()}")
+    click.echo("Caution: for review by a qualified engineer; see the 'Basis and cautions' sheet.")
+
+
+@click.group(context_settings={"help_option_names": ["-h", "--help"]})
+@click.version_option(__version__, "--version", prog_name="faultcalc")
+def main() -> None:
+    """Available short-circuit current and Thevenin impedance at every bus of a one-line.
+
+    \b
+    Start with a blank input workbook, fill it, then study it:
+      faultcalc template plant.xlsx
+      faultcalc study plant.xlsx -o plant-results.xlsx --json plant-results.json
+    """
+
+
+@main.command()
+@click.argument("input_path", metavar="INPUT", type=click.Path(path_type=Path))
+@click.option("-o", "--output", required=True, type=click.Path(path_type=Path),
+              metavar="RESULTS.xlsx", help="Results workbook to write.")
+@click.option("--json", "json_path", type=click.Path(path_type=Path), metavar="RESULTS.json",
+              help="Also write the results as JSON.")
+def study(input_path: Path, output: Path, json_path: Path | None) -> None:
+    """Study INPUT (an .xlsx workbook or a folder of <sheet>.csv files).
+
+    \b
+    Example:
+      faultcalc study plant.xlsx -o plant-results.xlsx --json plant-results.json
+
+    Exit status: 0 done, 2 bad input (every problem listed, nothing written), 1 other failure.
+    """
+    _guarded(lambda: _run(input_path, output, json_path))
+
+
+@main.command()
+@click.argument("path", metavar="PATH.xlsx", type=click.Path(path_type=Path))
+def template(path: Path) -> None:
+    """Write a blank input workbook with every sheet and column, help and choice lists.
+
+    \b
+    Example:
+      faultcalc template plant.xlsx
+    """
+    def action():
+        if path.exists():
+            raise OutputError(f"{path} exists already; choose another name")
+        write_template(path)
+        click.echo(f"blank input workbook: {path.resolve()}")
+        click.echo("Fill it (hover over a header for its help), then: "
+                   f"faultcalc study {path} -o results.xlsx")
+
+    _guarded(action)
+
+
+@main.command()
+@click.option("-o", "--output", type=click.Path(path_type=Path),
+              default=Path("faultcalc-demo-results.xlsx"), show_default=True,
+              help="Results workbook to write.")
+@click.option("--sample", type=click.Choice(SAMPLES), default=SAMPLES[0], show_default=True,
+              help="Which bundled sample system (invented scenarios) to study.")
+def demo(output: Path, sample: str) -> None:
+    """Study a bundled sample system (an invented scenario) and write its results.
+
+    \b
+    Example:
+      faultcalc demo -o demo-results.xlsx
+    """
+    click.echo(f"Sample system '{sample}' (invented for demonstration; not a real site): "
+               f"{sample_path(sample)}")
+    _guarded(lambda: _run(sample_path(sample), output, None))
+
+
+if __name__ == "__main__":  # pragma: no cover
+    main()

@@ -1,0 +1,57 @@
+"""Results as JSON: the machine-readable twin of the workbook."""
+
+from __future__ import annotations
+
+import json
+import math
+from pathlib import Path
+from typing import Any
+
+from ..results import BUS_COLUMNS, StudyResult
+from .files import staged
+
+
+def _number(value: Any) -> Any:
+    if isinstance(value, float) and not math.isfinite(value):
+        return None
+    return value
+
+
+def result_dict(result: StudyResult) -> dict[str, Any]:
+    """The JSON document as Python objects."""
+    b = result.basis
+    s = b.settings
+    buses = []
+    for row in result.buses.itertuples(index=False):
+        entry = {}
+        for name in BUS_COLUMNS:
+            value = getattr(row, name)
+            entry[name] = value if isinstance(value, str) else _number(float(value))
+        buses.append(entry)
+    return {
+        "tool": {"name": b.tool_name, "version": b.tool_version},
+        "study": {
+            "title": s.title,
+            "base_mva": s.base_mva,
+            "frequency_hz": s.frequency_hz,
+            "prefault_pu": s.prefault_pu,
+            "method": b.method,
+            "input": b.input_name,
+            "input_sha256": b.input_sha256,
+            "calculated_at": b.calculated_at,
+        },
+        "buses": buses,
+        "warnings": list(result.warnings),
+        "cautions": list(result.cautions),
+    }
+
+
+def write_json_to(result: StudyResult, path: Path) -> None:
+    text = json.dumps(result_dict(result), indent=2, allow_nan=False)
+    path.write_text(text + "\n", encoding="utf-8")
+
+
+def write_json(result: StudyResult, path: str | Path) -> None:
+    """Write the results as JSON, atomically (a temporary file renamed into place)."""
+    with staged(path) as (temp,):
+        write_json_to(result, temp)

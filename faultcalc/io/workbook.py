@@ -1,0 +1,211 @@
+"""The results workbook: formats what a study computed, computes nothing itself."""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from pathlib import Path
+
+from openpyxl import Workbook
+from openpyxl.comments import Comment
+from openpyxl.styles import Alignment, Border, Font, PatternFill, Side
+from openpyxl.utils import get_column_letter
+
+from ..cautions import SHORT_CAUTION
+from ..results import StudyResult
+from .files import staged
+
+HEADER_FILL = PatternFill("solid", fgColor="DCE6F0")
+CAUTION_FILL = PatternFill("solid", fgColor="FFF4CE")
+BOLD = Font(bold=True)
+TITLE = Font(bold=True, size=14)
+THIN = Side(style="thin", color="8EA9C1")
+HEADER_BORDER = Border(bottom=THIN)
+WRAP = Alignment(wrap_text=True, vertical="top")
+
+KA = "0.00"
+MVA = "0.0"
+OHM = "0.000000"
+PU = "0.000000"
+XR = "0.00"
+KV = "0.000"
+
+
+@dataclass(frozen=True)
+class Col:
+    label: str
+    width: float
+    number_format: str = "General"
+    note: str = ""
+
+
+def _finite(value):
+    if isinstance(value, float) and not math.isfinite(value):
+        return None
+    return value
+
+
+def _table(ws, cols: list[Col], rows, *, freeze_columns: int = 1) -> None:
+    for j, col in enumerate(cols, start=1):
+        cell = ws.cell(row=1, column=j, value=col.label)
+        cell.font = BOLD
+        cell.fill = HEADER_FILL
+        cell.border = HEADER_BORDER
+        cell.alignment = Alignment(wrap_text=True, vertical="bottom")
+        if col.note:
+            cell.comment = Comment(col.note, "faultcalc", width=320, height=120)
+        ws.column_dimensions[get_column_letter(j)].width = col.width
+    ws.row_dimensions[1].height = 45
+    for i, values in enumerate(rows, start=2):
+        for j, (col, value) in enumerate(zip(cols, values, strict=True), start=1):
+            cell = ws.cell(row=i, column=j, value=_finite(value))
+            cell.number_format = col.number_format
+    ws.freeze_panes = ws.cell(row=2, column=freeze_columns + 1)
+    last = get_column_letter(len(cols))
+    ws.auto_filter.ref = f"A1:{last}{max(1, ws.max_row)}"
+    ws.print_title_rows = "1:1"
+
+
+def _page_setup(ws, result: StudyResult) -> None:
+    ws.page_setup.orientation = "landscape"
+    ws.page_setup.fitToWidth = 1
+    ws.page_setup.fitToHeight = 0
+    ws.sheet_properties.pageSetUpPr.fitToPage = True
+    title = result.basis.settings.title or "Short-circuit study"
+    ws.oddHeader.left.text = title[:120]
+    ws.oddHeader.right.text = f"calculated {result.basis.calculated_at}"
+    ws.oddFooter.left.text = SHORT_CAUTION
+    ws.oddFooter.left.size = 7
+    ws.oddFooter.right.text = "page &P of &N"
+
+
+def _note_below(ws, text: str) -> None:
+    row = ws.max_row + 2
+    cell = ws.cell(row=row, column=1, value=text)
+    cell.fill = CAUTION_FILL
+    cell.font = Font(italic=True)
+
+
+def _fault_sheet(ws, result: StudyResult) -> None:
+    cols = [
+        Col("Bus", 14, note="Bus name as on the input 'buses' sheet."),
+        Col("Description", 44),
+        Col("Nominal kV (line-line)", 11, KV, "Nominal line-to-line voltage; the bus's base kV."),
+        Col("3-phase bolted fault current, kA symmetrical", 15, KA,
+            "Initial symmetrical RMS current of a bolted three-phase fault at the bus: prefault "
+            "voltage / |Z1|, converted with the bus base current."),
+        Col("3-phase fault MVA", 11, MVA, "sqrt(3) x nominal kV x fault current."),
+        Col("Thevenin R1, ohm", 13, OHM, "Resistance of the positive-sequence Thevenin impedance, "
+            "ohms at the bus's nominal kV."),
+        Col("Thevenin X1, ohm", 13, OHM, "Reactance of the positive-sequence Thevenin impedance."),
+        Col("|Z1|, per-unit", 12, PU, "Magnitude of the Thevenin impedance on the study MVA base "
+            "and the bus's base kV."),
+        Col("X/R at the fault", 10, XR, "X1/R1 of the complex Thevenin impedance."),
+        Col("Same node as (closed ties)", 24, note="Buses joined to this one by closed ties; "
+            "they share its results."),
+    ]
+    b = result.buses
+    rows = [(r.bus, d, r.kv, r.i3ph_ka, r.s3ph_mva, r.r1_ohm, r.x1_ohm, r.z1_pu, r.xr, g)
+            for r, d, g in zip(b.itertuples(index=False), result.descriptions,
+                               result.node_groups, strict=True)]
+    _table(ws, cols, rows)
+    for i in range(2, len(rows) + 2):
+        ws.cell(row=i, column=4).font = BOLD
+    _note_below(ws, SHORT_CAUTION)
+
+
+def _element_sheet(ws, result: StudyResult) -> None:
+    cols = [
+        Col("Element", 14),
+        Col("Kind", 12),
+        Col("From bus (HV side)", 14),
+        Col("To bus (LV side)", 14),
+        Col("As entered", 78, note="The input restated, so a reviewer can check what was read."),
+        Col("Ohms referred to bus", 14, note="The bus whose voltage the ohm values are at."),
+        Col("Base kV", 9, KV),
+        Col("R, ohm", 12, OHM),
+        Col("X, ohm", 12, OHM),
+        Col("R, per-unit", 12, PU, "On the study MVA base and the base kV beside it."),
+        Col("X, per-unit", 12, PU),
+        Col("Ratio (tap)", 9, "0.0000", "Transformers: rated ratio over the ratio of the bus "
+            "nominal voltages; 1 when they agree."),
+        Col("Note", 34),
+    ]
+    rows = [tuple(r) for r in result.elements.itertuples(index=False)]
+    _table(ws, cols, rows)
+
+
+def _warning_sheet(ws, result: StudyResult) -> None:
+    cols = [Col("No.", 6), Col("Warning (doubtful input or assumption made)", 120)]
+    rows = [(i, w) for i, w in enumerate(result.warnings, start=1)] or [("", "No warnings.")]
+    _table(ws, cols, rows, freeze_columns=0)
+    for row in ws.iter_rows(min_row=2, min_col=2, max_col=2):
+        for cell in row:
+            cell.alignment = WRAP
+
+
+def _basis_sheet(ws, result: StudyResult) -> None:
+    b = result.basis
+    s = b.settings
+    ws.column_dimensions["A"].width = 26
+    ws.column_dimensions["B"].width = 110
+    ws.cell(row=1, column=1, value=s.title or "Short-circuit study").font = TITLE
+    ws.cell(row=3, column=1, value="Cautions").font = BOLD
+    row = 4
+    for i, text in enumerate(result.cautions, start=1):
+        ws.cell(row=row, column=1, value=f"{i}.").alignment = Alignment(horizontal="right",
+                                                                        vertical="top")
+        cell = ws.cell(row=row, column=2, value=text)
+        cell.alignment = WRAP
+        cell.fill = CAUTION_FILL
+        ws.row_dimensions[row].height = 30
+        row += 1
+    row += 1
+    ws.cell(row=row, column=1, value="Basis of the calculation").font = BOLD
+    row += 1
+    items = [
+        ("Input file", b.input_name),
+        ("Input SHA-256", b.input_sha256),
+        ("Calculated at", b.calculated_at),
+        ("Tool", f"{b.tool_name} {b.tool_version}"),
+        ("MVA base", f"{s.base_mva:g} MVA"),
+        ("Frequency", f"{s.frequency_hz} Hz"),
+        ("Prefault voltage", f"{s.prefault_pu:g} per-unit of each bus's nominal kV"),
+        ("Method", b.method),
+        ("Warnings", f"{len(result.warnings)} (see sheet 'Warnings')"),
+    ]
+    for label, value in items:
+        label_cell = ws.cell(row=row, column=1, value=label)
+        label_cell.font = BOLD
+        label_cell.alignment = Alignment(vertical="top")
+        cell = ws.cell(row=row, column=2, value=value)
+        cell.alignment = WRAP
+        if label == "Method":
+            ws.row_dimensions[row].height = 60
+        row += 1
+
+
+def build_workbook(result: StudyResult) -> Workbook:
+    book = Workbook()
+    faults = book.active
+    faults.title = "Fault currents"
+    _fault_sheet(faults, result)
+    sheets = [faults]
+    for title, fill in (("Element impedances", _element_sheet), ("Warnings", _warning_sheet),
+                        ("Basis and cautions", _basis_sheet)):
+        ws = book.create_sheet(title)
+        fill(ws, result)
+        sheets.append(ws)
+    for ws in sheets:
+        _page_setup(ws, result)
+    return book
+
+
+def write_workbook_to(result: StudyResult, path: Path) -> None:
+    build_workbook(result).save(path)
+
+
+def write_workbook(result: StudyResult, path: str | Path) -> None:
+    """Write the results workbook, atomically (a temporary file renamed into place)."""
+    with staged(path) as (temp,):
+        write_workbook_to(result, temp)
