@@ -16,5 +16,7 @@ CAUTIONS: tuple[str, ...] = (
     "or the locally applicable electrical safety rules.",
 )
 
-SHORT_CAUTION = ("For review by a qualified engineer; confirm source data with the utility; local "
-                 "code and the authority having jurisdiction govern. See 'Basis and cautions'.")
+SHORT_CAUTION = (
+    "For review by a qualified engineer; confirm source data with the utility; local "
+    "code and the authority having jurisdiction govern. See 'Basis and cautions'."
+)

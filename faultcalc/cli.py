@@ -37,23 +37,30 @@ def _guarded(action):
     except Exception as exc:  # noqa: BLE001 - a tool for engineers never shows a bare traceback
         if os.environ.get("FAULTCALC_DEBUG"):
             traceback.print_exc()
-        _fail(f"internal error: {type(exc).__name__}: {exc}\n"
-              "Nothing was written. Set FAULTCALC_DEBUG=1 to see the details, and please report "
-              "it with the input.", EXIT_FAILURE)
+        _fail(
+            f"internal error: {type(exc).__name__}: {exc}\n"
+            "Nothing was written. Set FAULTCALC_DEBUG=1 to see the details, and please report "
+            "it with the input.",
+            EXIT_FAILURE,
+        )
 
 
 def _summary(result) -> str:
     b = result.buses
     worst = b.loc[b["i3ph_ka"].idxmax()]
-    return (f"{len(b)} buses studied; highest three-phase fault current {worst.i3ph_ka:.2f} kA "
-            f"at {worst.bus} ({worst.kv:g} kV). {len(result.warnings)} warning(s).")
+    return (
+        f"{len(b)} buses studied; highest three-phase fault current {worst.i3ph_ka:.2f} kA "
+        f"at {worst.bus} ({worst.kv:g} kV). {len(result.warnings)} warning(s)."
+    )
 
 
 def _run(input_path: Path, output: Path, json_path: Path | None) -> None:
     for target in filter(None, (output, json_path)):
-        if same_file(target, input_path) or (input_path.is_dir()
-                                             and same_file(target.parent, input_path)
-                                             and target.suffix.lower() == ".csv"):
+        if same_file(target, input_path) or (
+            input_path.is_dir()
+            and same_file(target.parent, input_path)
+            and target.suffix.lower() == ".csv"
+        ):
             raise OutputError(f"refusing to write {target}: it is the input")
     if json_path is not None and same_file(output, json_path):
         raise OutputError("the results workbook and the JSON file must be different files")
@@ -87,10 +94,21 @@ def main() -> None:
 
 @main.command()
 @click.argument("input_path", metavar="INPUT", type=click.Path(path_type=Path))
-@click.option("-o", "--output", required=True, type=click.Path(path_type=Path),
-              metavar="RESULTS.xlsx", help="Results workbook to write.")
-@click.option("--json", "json_path", type=click.Path(path_type=Path), metavar="RESULTS.json",
-              help="Also write the results as JSON.")
+@click.option(
+    "-o",
+    "--output",
+    required=True,
+    type=click.Path(path_type=Path),
+    metavar="RESULTS.xlsx",
+    help="Results workbook to write.",
+)
+@click.option(
+    "--json",
+    "json_path",
+    type=click.Path(path_type=Path),
+    metavar="RESULTS.json",
+    help="Also write the results as JSON.",
+)
 def study(input_path: Path, output: Path, json_path: Path | None) -> None:
     """Study INPUT (an .xlsx workbook or a folder of <sheet>.csv files).
 
@@ -112,23 +130,36 @@ def template(path: Path) -> None:
     Example:
       faultcalc template plant.xlsx
     """
+
     def action():
         if path.exists():
             raise OutputError(f"{path} exists already; choose another name")
         write_template(path)
         click.echo(f"blank input workbook: {path.resolve()}")
-        click.echo("Fill it (hover over a header for its help), then: "
-                   f"faultcalc study {path} -o results.xlsx")
+        click.echo(
+            "Fill it (hover over a header for its help), then: "
+            f"faultcalc study {path} -o results.xlsx"
+        )
 
     _guarded(action)
 
 
 @main.command()
-@click.option("-o", "--output", type=click.Path(path_type=Path),
-              default=Path("faultcalc-demo-results.xlsx"), show_default=True,
-              help="Results workbook to write.")
-@click.option("--sample", type=click.Choice(SAMPLES), default=SAMPLES[0], show_default=True,
-              help="Which bundled sample system (invented scenarios) to study.")
+@click.option(
+    "-o",
+    "--output",
+    type=click.Path(path_type=Path),
+    default=Path("faultcalc-demo-results.xlsx"),
+    show_default=True,
+    help="Results workbook to write.",
+)
+@click.option(
+    "--sample",
+    type=click.Choice(SAMPLES),
+    default=SAMPLES[0],
+    show_default=True,
+    help="Which bundled sample system (invented scenarios) to study.",
+)
 def demo(output: Path, sample: str) -> None:
     """Study a bundled sample system (an invented scenario) and write its results.
 
@@ -136,8 +167,10 @@ def demo(output: Path, sample: str) -> None:
     Example:
       faultcalc demo -o demo-results.xlsx
     """
-    click.echo(f"Sample system '{sample}' (invented for demonstration; not a real site): "
-               f"{sample_path(sample)}")
+    click.echo(
+        f"Sample system '{sample}' (invented for demonstration; not a real site): "
+        f"{sample_path(sample)}"
+    )
     _guarded(lambda: _run(sample_path(sample), output, None))
 
 

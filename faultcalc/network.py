@@ -60,8 +60,10 @@ def build_network(pu: PerUnitSystem, bus_rows: dict[str, int] | None = None) -> 
             continue
         a, b = node_of_bus[index[s.from_bus]], node_of_bus[index[s.to_bus]]
         if a == b:
-            warnings.append(f"{s.kind} {s.element}: both ends ({s.from_bus}, {s.to_bus}) are joined "
-                            "by closed ties, so it carries no fault current; left out")
+            warnings.append(
+                f"{s.kind} {s.element}: both ends ({s.from_bus}, {s.to_bus}) are joined "
+                "by closed ties, so it carries no fault current; left out"
+            )
             continue
         used.append(k)
         f.append(a)
@@ -93,10 +95,21 @@ def _check_connected(pu, node_of_bus, n, f, t, shunt_node, bus_rows):
     problems = []
     for i in np.flatnonzero(dead):
         name = pu.bus_names[i]
-        island = [pu.bus_names[j] for j in np.flatnonzero(labels[node_of_bus] ==
-                                                          labels[node_of_bus[i]])]
-        joined = f"; it is connected only to {', '.join(b for b in island if b != name)}" \
-            if len(island) > 1 else "; no element connects it"
-        problems.append(Problem("buses", bus_rows.get(name), "bus", name,
-                                "the bus has no path to any source" + joined))
+        island = [
+            pu.bus_names[j] for j in np.flatnonzero(labels[node_of_bus] == labels[node_of_bus[i]])
+        ]
+        joined = (
+            f"; it is connected only to {', '.join(b for b in island if b != name)}"
+            if len(island) > 1
+            else "; no element connects it"
+        )
+        problems.append(
+            Problem(
+                "buses",
+                bus_rows.get(name),
+                "bus",
+                name,
+                "the bus has no path to any source" + joined,
+            )
+        )
     raise InputError(problems)

@@ -83,8 +83,9 @@ def to_per_unit(system: System, base_mva: float | None = None) -> PerUnitSystem:
     for s in system.sources:
         kv_bus = kv[s.bus]
         z_pu = split_by_xr(prefault * base_mva / s.available_mva(kv_bus), s.xr)
-        shunts.append(ShuntPU(s.source, "source", s.bus, z_pu,
-                              z_pu * z_base_ohm(kv_bus, base_mva), kv_bus))
+        shunts.append(
+            ShuntPU(s.source, "source", s.bus, z_pu, z_pu * z_base_ohm(kv_bus, base_mva), kv_bus)
+        )
     series = []
     for t in system.transformers:
         hv_ratio = t.hv_kv / kv[t.hv_bus]
@@ -92,16 +93,47 @@ def to_per_unit(system: System, base_mva: float | None = None) -> PerUnitSystem:
         z_own_pu = split_by_xr(t.z_pct / 100.0, t.xr)
         z_pu = z_own_pu * (base_mva / (t.kva / 1000.0)) * lv_ratio**2
         z_ohm = z_own_pu * t.lv_kv**2 / (t.kva / 1000.0)
-        series.append(SeriesPU(t.transformer, "transformer", t.hv_bus, t.lv_bus, z_pu, z_ohm,
-                               t.lv_bus, kv[t.lv_bus], tap=hv_ratio / lv_ratio))
+        series.append(
+            SeriesPU(
+                t.transformer,
+                "transformer",
+                t.hv_bus,
+                t.lv_bus,
+                z_pu,
+                z_ohm,
+                t.lv_bus,
+                kv[t.lv_bus],
+                tap=hv_ratio / lv_ratio,
+            )
+        )
     for c in system.cables:
         kv_bus = kv[c.from_bus]
-        series.append(SeriesPU(c.cable, "cable", c.from_bus, c.to_bus,
-                               c.z_ohm / z_base_ohm(kv_bus, base_mva), c.z_ohm, c.from_bus, kv_bus))
+        series.append(
+            SeriesPU(
+                c.cable,
+                "cable",
+                c.from_bus,
+                c.to_bus,
+                c.z_ohm / z_base_ohm(kv_bus, base_mva),
+                c.z_ohm,
+                c.from_bus,
+                kv_bus,
+            )
+        )
     for e in system.impedances:
         kv_bus = kv[e.from_bus]
-        series.append(SeriesPU(e.element, "tie" if e.is_tie else "impedance", e.from_bus, e.to_bus,
-                               e.z_ohm / z_base_ohm(kv_bus, base_mva), e.z_ohm, e.from_bus, kv_bus))
+        series.append(
+            SeriesPU(
+                e.element,
+                "tie" if e.is_tie else "impedance",
+                e.from_bus,
+                e.to_bus,
+                e.z_ohm / z_base_ohm(kv_bus, base_mva),
+                e.z_ohm,
+                e.from_bus,
+                kv_bus,
+            )
+        )
     return PerUnitSystem(
         base_mva=base_mva,
         prefault_pu=prefault,

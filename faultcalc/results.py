@@ -12,8 +12,21 @@ from .model import Settings
 BUS_COLUMNS = ("bus", "kv", "r1_ohm", "x1_ohm", "z1_pu", "xr", "i3ph_ka", "s3ph_mva")
 
 # Columns of StudyResult.elements, the echo of every element on the common base.
-ELEMENT_COLUMNS = ("element", "kind", "from_bus", "to_bus", "input", "ohm_bus", "base_kv",
-                   "r_ohm", "x_ohm", "r_pu", "x_pu", "tap", "note")
+ELEMENT_COLUMNS = (
+    "element",
+    "kind",
+    "from_bus",
+    "to_bus",
+    "input",
+    "ohm_bus",
+    "base_kv",
+    "r_ohm",
+    "x_ohm",
+    "r_pu",
+    "x_pu",
+    "tap",
+    "note",
+)
 
 
 @dataclass(frozen=True)

@@ -16,11 +16,13 @@ from .results import BUS_COLUMNS, ELEMENT_COLUMNS, Basis, StudyResult
 
 TOOL_NAME = "faultcalc"
 
-METHOD = ("Thevenin equivalent at every bus: the diagonal of the inverse of the sparse "
-          "positive-sequence nodal admittance matrix (per-unit, one MVA base, each bus's nominal "
-          "kV as its base kV); prefault voltage {prefault:g} pu behind it; bolted three-phase "
-          "faults; utility sources as impedances reproducing their stated available fault current; "
-          "transformers at their rated ratio; load currents and capacitance neglected.")
+METHOD = (
+    "Thevenin equivalent at every bus: the diagonal of the inverse of the sparse "
+    "positive-sequence nodal admittance matrix (per-unit, one MVA base, each bus's nominal "
+    "kV as its base kV); prefault voltage {prefault:g} pu behind it; bolted three-phase "
+    "faults; utility sources as impedances reproducing their stated available fault current; "
+    "transformers at their rated ratio; load currents and capacitance neglected."
+)
 
 
 def _input_text(system: System) -> dict[str, str]:
@@ -29,26 +31,30 @@ def _input_text(system: System) -> dict[str, str]:
     kv = system.bus_kv()
     for s in system.sources:
         given = f"{s.sc_mva:g} MVA" if s.sc_mva is not None else f"{s.sc_ka:g} kA"
-        text[s.source] = (f"available {given} at {kv[s.bus]:g} kV "
-                          f"({s.available_mva(kv[s.bus]):.4g} MVA), X/R {s.xr:g}")
+        text[s.source] = (
+            f"available {given} at {kv[s.bus]:g} kV "
+            f"({s.available_mva(kv[s.bus]):.4g} MVA), X/R {s.xr:g}"
+        )
     for t in system.transformers:
-        text[t.transformer] = (f"{t.kva:g} kVA, {t.hv_kv:g}/{t.lv_kv:g} kV, {t.z_pct:g} %Z, "
-                               f"X/R {t.xr:g}, {t.hv_winding}-{t.lv_winding}"
-                               + (f", LV neutral {t.lv_neutral_ohm:g} ohm"
-                                  if t.lv_neutral_ohm else ""))
+        text[t.transformer] = (
+            f"{t.kva:g} kVA, {t.hv_kv:g}/{t.lv_kv:g} kV, {t.z_pct:g} %Z, "
+            f"X/R {t.xr:g}, {t.hv_winding}-{t.lv_winding}"
+            + (f", LV neutral {t.lv_neutral_ohm:g} ohm" if t.lv_neutral_ohm else "")
+        )
     for c in system.cables:
         length = f"{c.length_ft:g} ft" if c.length_ft is not None else f"{c.length_m:g} m"
         if c.r_ohm_per_kft is not None:
             z = f"{c.r_ohm_per_kft:g} + j{c.x_ohm_per_kft:g} ohm/1000 ft"
         else:
             z = f"{c.r_ohm_per_km:g} + j{c.x_ohm_per_km:g} ohm/km"
-        what = " ".join(x for x in (c.size, c.material or "", "in " + c.raceway if c.raceway
-                                     else "") if x)
+        what = " ".join(
+            x for x in (c.size, c.material or "", "in " + c.raceway if c.raceway else "") if x
+        )
         text[c.cable] = f"{length}, {c.sets} set(s), {z} per conductor" + (
-            f", {what}" if what else "")
+            f", {what}" if what else ""
+        )
     for e in system.impedances:
-        text[e.element] = ("closed tie (0 ohm)" if e.is_tie
-                           else f"{e.r_ohm:g} + j{e.x_ohm:g} ohm")
+        text[e.element] = "closed tie (0 ohm)" if e.is_tie else f"{e.r_ohm:g} + j{e.x_ohm:g} ohm"
     return text
 
 
@@ -56,9 +62,23 @@ def _element_table(system: System, pu: perunit.PerUnitSystem, used: set[int]) ->
     text = _input_text(system)
     rows = []
     for s in pu.shunts:
-        rows.append((s.element, s.kind, s.bus, "", text[s.element], s.bus, s.base_kv,
-                     s.z1_ohm.real, s.z1_ohm.imag, s.z1_pu.real, s.z1_pu.imag, np.nan,
-                     "impedance to the prefault source"))
+        rows.append(
+            (
+                s.element,
+                s.kind,
+                s.bus,
+                "",
+                text[s.element],
+                s.bus,
+                s.base_kv,
+                s.z1_ohm.real,
+                s.z1_ohm.imag,
+                s.z1_pu.real,
+                s.z1_pu.imag,
+                np.nan,
+                "impedance to the prefault source",
+            )
+        )
     for k, s in enumerate(pu.series):
         note = ""
         if s.kind == "tie":
@@ -67,10 +87,25 @@ def _element_table(system: System, pu: perunit.PerUnitSystem, used: set[int]) ->
             note = "left out: both ends share one node"
         elif s.kind == "transformer":
             note = "impedance on the LV side" + (
-                f"; off-nominal ratio {s.tap:.4f}" if abs(s.tap - 1) > 1e-12 else "")
-        rows.append((s.element, s.kind, s.from_bus, s.to_bus, text[s.element], s.ohm_bus,
-                     s.base_kv, s.z1_ohm.real, s.z1_ohm.imag, s.z1_pu.real, s.z1_pu.imag,
-                     s.tap if s.kind == "transformer" else np.nan, note))
+                f"; off-nominal ratio {s.tap:.4f}" if abs(s.tap - 1) > 1e-12 else ""
+            )
+        rows.append(
+            (
+                s.element,
+                s.kind,
+                s.from_bus,
+                s.to_bus,
+                text[s.element],
+                s.ohm_bus,
+                s.base_kv,
+                s.z1_ohm.real,
+                s.z1_ohm.imag,
+                s.z1_pu.real,
+                s.z1_pu.imag,
+                s.tap if s.kind == "transformer" else np.nan,
+                note,
+            )
+        )
     return pd.DataFrame(rows, columns=list(ELEMENT_COLUMNS))
 
 
@@ -113,26 +148,36 @@ def run_study(system: System, *, calculated_at: _dt.datetime | None = None) -> S
     i3_ka = faults.three_phase_pu(z1_pu, settings.prefault_pu) * i_base
     with np.errstate(divide="ignore"):
         xr = np.where(z1_pu.real > 0, z1_pu.imag / np.where(z1_pu.real > 0, z1_pu.real, 1), np.inf)
-    buses = pd.DataFrame({
-        "bus": list(pu.bus_names),
-        "kv": kv,
-        "r1_ohm": z1_pu.real * z_base,
-        "x1_ohm": z1_pu.imag * z_base,
-        "z1_pu": np.abs(z1_pu),
-        "xr": xr,
-        "i3ph_ka": i3_ka,
-        "s3ph_mva": np.sqrt(3.0) * kv * i3_ka,
-    }, columns=list(BUS_COLUMNS))
+    buses = pd.DataFrame(
+        {
+            "bus": list(pu.bus_names),
+            "kv": kv,
+            "r1_ohm": z1_pu.real * z_base,
+            "x1_ohm": z1_pu.imag * z_base,
+            "z1_pu": np.abs(z1_pu),
+            "xr": xr,
+            "i3ph_ka": i3_ka,
+            "s3ph_mva": np.sqrt(3.0) * kv * i3_ka,
+        },
+        columns=list(BUS_COLUMNS),
+    )
 
     groups = []
     node = network.node_of_bus
-    for i, name in enumerate(pu.bus_names):
+    for i in range(len(pu.bus_names)):
         mates = [pu.bus_names[j] for j in np.flatnonzero(node == node[i]) if j != i]
         groups.append(", ".join(mates))
 
     stamp = (calculated_at or _dt.datetime.now().astimezone()).isoformat(timespec="seconds")
-    basis = Basis(settings, METHOD.format(prefault=settings.prefault_pu), system.input_name,
-                  system.input_sha256, stamp, TOOL_NAME, __version__)
+    basis = Basis(
+        settings,
+        METHOD.format(prefault=settings.prefault_pu),
+        system.input_name,
+        system.input_sha256,
+        stamp,
+        TOOL_NAME,
+        __version__,
+    )
     return StudyResult(
         buses=buses,
         elements=_element_table(system, pu, set(network.series_used)),

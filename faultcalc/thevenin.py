@@ -26,8 +26,12 @@ class FactorizationError(RuntimeError):
 
 
 def _factor(y: sp.csc_matrix):
-    lu = sla.splu(y.tocsc(), permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
-                  options={"SymmetricMode": True})
+    lu = sla.splu(
+        y.tocsc(),
+        permc_spec="MMD_AT_PLUS_A",
+        diag_pivot_thresh=0.0,
+        options={"SymmetricMode": True},
+    )
     if not np.array_equal(lu.perm_r, lu.perm_c):
         raise FactorizationError("the factorization needed off-diagonal pivots")
     return lu

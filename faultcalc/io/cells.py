@@ -29,8 +29,9 @@ def as_number(value: Any, column: schema.Column) -> float:
     if isinstance(value, bool):
         raise CellError(f"expected {expected}, not TRUE/FALSE")
     if isinstance(value, (_dt.date, _dt.time, _dt.datetime, _dt.timedelta)):
-        raise CellError(f"expected {expected}, but the cell holds a date or time; "
-                        "format the cell as a number")
+        raise CellError(
+            f"expected {expected}, but the cell holds a date or time; format the cell as a number"
+        )
     if isinstance(value, (int, float)):
         number = float(value)
     else:
@@ -44,8 +45,11 @@ def as_number(value: Any, column: schema.Column) -> float:
     if column.kind == schema.INTEGER and not number.is_integer():
         raise CellError(f"expected {expected}")
     bound = column.bound
-    if (bound == schema.POSITIVE and number <= 0) or (bound == schema.NON_NEGATIVE and number < 0) \
-            or (bound == schema.AT_LEAST_ONE and number < 1):
+    if (
+        (bound == schema.POSITIVE and number <= 0)
+        or (bound == schema.NON_NEGATIVE and number < 0)
+        or (bound == schema.AT_LEAST_ONE and number < 1)
+    ):
         raise CellError(f"expected {expected}")
     return number
 

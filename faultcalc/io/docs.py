@@ -5,8 +5,10 @@ from __future__ import annotations
 from . import schema
 from .template import column_help, sheet_rules
 
-START = "<!-- input-reference:start (generated from faultcalc/io/schema.py; "\
-        "run python scripts/update_readme.py) -->"
+START = (
+    "<!-- input-reference:start (generated from faultcalc/io/schema.py; "
+    "run python scripts/update_readme.py) -->"
+)
 END = "<!-- input-reference:end -->"
 
 
@@ -26,7 +28,9 @@ def input_reference_markdown() -> str:
         lines.append("| column | unit | meaning |")
         lines.append("| --- | --- | --- |")
         for column in entries:
-            lines.append(f"| `{column.name}` | {column.unit or ''} | {_escape(column_help(column))} |")
+            lines.append(
+                f"| `{column.name}` | {column.unit or ''} | {_escape(column_help(column))} |"
+            )
         lines.append("")
         if sheet is schema.STUDY:
             lines.append("Settings:")

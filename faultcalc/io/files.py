@@ -33,8 +33,9 @@ def staged(*paths: str | Path) -> Iterator[list[Path]]:
             if not folder.is_dir():
                 raise OutputError(f"cannot write {target}: the folder {folder} does not exist")
             try:
-                handle, name = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".part",
-                                                dir=folder)
+                handle, name = tempfile.mkstemp(
+                    prefix=f".{target.name}.", suffix=".part", dir=folder
+                )
             except OSError as exc:
                 raise OutputError(f"cannot write in {folder}: {exc.strerror}") from None
             os.close(handle)

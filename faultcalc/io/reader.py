@@ -39,25 +39,36 @@ class _Collector:
 def _read_sheet(spec: schema.Sheet, raw: RawSheet | None, out: _Collector) -> list[Record]:
     if raw is None:
         if spec.required:
-            out.problem(spec.name, None, None, None,
-                        f"the workbook has no '{spec.name}' sheet; it is required "
-                        f"(columns: {', '.join(spec.names)})")
+            out.problem(
+                spec.name,
+                None,
+                None,
+                None,
+                f"the workbook has no '{spec.name}' sheet; it is required "
+                f"(columns: {', '.join(spec.names)})",
+            )
         return []
     known = set(spec.names)
     for header in raw.headers:
         if header not in known:
-            out.warn(spec.name, 1, header, None,
-                     "unknown column, ignored; known columns are " + ", ".join(spec.names))
+            out.warn(
+                spec.name,
+                1,
+                header,
+                None,
+                "unknown column, ignored; known columns are " + ", ".join(spec.names),
+            )
     for position in raw.blank_header_columns:
-        out.warn(spec.name, 1, None, None,
-                 f"column {position} has values but no header; ignored")
+        out.warn(spec.name, 1, None, None, f"column {position} has values but no header; ignored")
     missing = [c.name for c in spec.columns if c.required and c.name not in raw.headers]
     for name in missing:
         out.problem(spec.name, 1, name, None, "required column is missing from the header row")
     if missing:
         return []
     if spec.required and not raw.rows:
-        out.problem(spec.name, None, None, None, "the sheet has no data rows; at least one is needed")
+        out.problem(
+            spec.name, None, None, None, "the sheet has no data rows; at least one is needed"
+        )
     records = []
     for number, raw_values in raw.rows:
         values: dict[str, Any] = {}
@@ -66,8 +77,13 @@ def _read_sheet(spec: schema.Sheet, raw: RawSheet | None, out: _Collector) -> li
             cell = raw_values.get(column.name)
             if cells.is_blank(cell):
                 if column.required:
-                    out.problem(spec.name, number, column.name, None,
-                                f"a value is required: {column.expected()}")
+                    out.problem(
+                        spec.name,
+                        number,
+                        column.name,
+                        None,
+                        f"a value is required: {column.expected()}",
+                    )
                     ok = False
                 values[column.name] = column.default
                 continue
@@ -91,8 +107,9 @@ def _check_alternative(spec, alternative, number, raw_values, out) -> bool:
     label = ", ".join(c for g in alternative.groups for c in g)
     if len(used) > 1:
         found = {c: raw_values.get(c) for g in used for c in g if filled(c)}
-        out.problem(spec.name, number, label, found,
-                    f"give {alternative.describe()}, not more than one")
+        out.problem(
+            spec.name, number, label, found, f"give {alternative.describe()}, not more than one"
+        )
         return False
     if not used:
         if alternative.required:
@@ -102,8 +119,13 @@ def _check_alternative(spec, alternative, number, raw_values, out) -> bool:
     for c in used[0]:
         if not filled(c):
             others = [o for o in used[0] if o != c]
-            out.problem(spec.name, number, c, None,
-                        f"a value is required here because {', '.join(others)} is given")
+            out.problem(
+                spec.name,
+                number,
+                c,
+                None,
+                f"a value is required here because {', '.join(others)} is given",
+            )
             return False
     return True
 
@@ -119,12 +141,22 @@ def _read_settings(raw: RawSheet | None, out: _Collector) -> model.Settings:
         if not record.ok:
             continue
         if name not in known:
-            out.warn("study", record.row, "setting", name,
-                     "unknown setting, ignored; known settings are " + ", ".join(known))
+            out.warn(
+                "study",
+                record.row,
+                "setting",
+                name,
+                "unknown setting, ignored; known settings are " + ", ".join(known),
+            )
             continue
         if name in seen:
-            out.problem("study", record.row, "setting", name,
-                        f"the setting is given twice (rows {seen[name]} and {record.row})")
+            out.problem(
+                "study",
+                record.row,
+                "setting",
+                name,
+                f"the setting is given twice (rows {seen[name]} and {record.row})",
+            )
             continue
         seen[name] = record.row
         spec = known[name]
@@ -142,49 +174,75 @@ def _read_settings(raw: RawSheet | None, out: _Collector) -> model.Settings:
     )
 
 
-def _unique_ids(sheet: str, id_column: str, records: list[Record], out: _Collector,
-                taken: dict[str, tuple[str, int]]) -> None:
+def _unique_ids(
+    sheet: str,
+    id_column: str,
+    records: list[Record],
+    out: _Collector,
+    taken: dict[str, tuple[str, int]],
+) -> None:
     for record in records:
         name = record.values.get(id_column)
         if name is None:
             continue
         if name in taken:
             where_sheet, where_row = taken[name]
-            out.problem(sheet, record.row, id_column, name,
-                        f"the name is already used on sheet '{where_sheet}' row {where_row}; "
-                        "names must be unique")
+            out.problem(
+                sheet,
+                record.row,
+                id_column,
+                name,
+                f"the name is already used on sheet '{where_sheet}' row {where_row}; "
+                "names must be unique",
+            )
             record.ok = False
         else:
             taken[name] = (sheet, record.row)
 
 
-def _check_refs(sheet: str, columns: tuple[str, ...], records: list[Record],
-                bus_kv: dict[str, float], out: _Collector) -> None:
+def _check_refs(
+    sheet: str,
+    columns: tuple[str, ...],
+    records: list[Record],
+    bus_kv: dict[str, float],
+    out: _Collector,
+) -> None:
     for record in records:
         for column in columns:
             name = record.values.get(column)
             if name is not None and name not in bus_kv:
-                out.problem(sheet, record.row, column, name,
-                            "no bus of that name on the 'buses' sheet")
+                out.problem(
+                    sheet, record.row, column, name, "no bus of that name on the 'buses' sheet"
+                )
                 record.ok = False
         if len(columns) == 2:
             a, b = (record.values.get(c) for c in columns)
             if a is not None and a == b:
-                out.problem(sheet, record.row, columns[1], b,
-                            f"both ends are the same bus; {columns[0]} and {columns[1]} must differ")
+                out.problem(
+                    sheet,
+                    record.row,
+                    columns[1],
+                    b,
+                    f"both ends are the same bus; {columns[0]} and {columns[1]} must differ",
+                )
                 record.ok = False
 
 
 def _check_same_kv(sheet: str, records: list[Record], bus_kv: dict[str, float], out: _Collector):
-    """A cable or impedance joins buses of one voltage; a different kV means a missing transformer."""
+    """A cable or impedance joins buses of one voltage; different kVs mean a missing transformer."""
     for record in records:
         if not record.ok:
             continue
         a, b = record.values["from_bus"], record.values["to_bus"]
         if abs(bus_kv[a] - bus_kv[b]) > 1e-9 * max(bus_kv[a], bus_kv[b]):
-            out.problem(sheet, record.row, "to_bus", b,
-                        f"the two ends are at different voltages ({a}: {bus_kv[a]:g} kV, "
-                        f"{b}: {bus_kv[b]:g} kV); only a transformer joins voltage levels")
+            out.problem(
+                sheet,
+                record.row,
+                "to_bus",
+                b,
+                f"the two ends are at different voltages ({a}: {bus_kv[a]:g} kV, "
+                f"{b}: {bus_kv[b]:g} kV); only a transformer joins voltage levels",
+            )
             record.ok = False
 
 
@@ -194,18 +252,28 @@ def _check_transformers(records: list[Record], bus_kv: dict[str, float], out: _C
             continue
         v = record.values
         if v["hv_kv"] <= v["lv_kv"]:
-            out.problem("transformers", record.row, "hv_kv", v["hv_kv"],
-                        f"hv_kv must be higher than lv_kv ({v['lv_kv']:g}); "
-                        "list the high-voltage winding's bus as hv_bus")
+            out.problem(
+                "transformers",
+                record.row,
+                "hv_kv",
+                v["hv_kv"],
+                f"hv_kv must be higher than lv_kv ({v['lv_kv']:g}); "
+                "list the high-voltage winding's bus as hv_bus",
+            )
             record.ok = False
             continue
         for side in ("hv", "lv"):
             rated, nominal = v[f"{side}_kv"], bus_kv[v[f"{side}_bus"]]
             if abs(rated / nominal - 1.0) > KV_MISMATCH_WARN:
-                out.warn("transformers", record.row, f"{side}_kv", rated,
-                         f"winding rated {rated:g} kV on bus {v[f'{side}_bus']} of {nominal:g} kV "
-                         f"(differs by {100 * (rated / nominal - 1):+.1f}%); modelled as an "
-                         "off-nominal ratio; check the nameplate and the bus voltage")
+                out.warn(
+                    "transformers",
+                    record.row,
+                    f"{side}_kv",
+                    rated,
+                    f"winding rated {rated:g} kV on bus {v[f'{side}_bus']} of {nominal:g} kV "
+                    f"(differs by {100 * (rated / nominal - 1):+.1f}%); modelled as an "
+                    "off-nominal ratio; check the nameplate and the bus voltage",
+                )
 
 
 def read_tables(raw: RawInput) -> model.System:
@@ -215,15 +283,24 @@ def read_tables(raw: RawInput) -> model.System:
     known_sheets = {s.name for s in schema.SHEETS} | {schema.GUIDE_SHEET}
     for name in raw.sheets:
         if name not in known_sheets:
-            out.warn(name, None, None, None, "unknown sheet, ignored; known sheets are "
-                     + ", ".join(s.name for s in schema.SHEETS))
+            out.warn(
+                name,
+                None,
+                None,
+                None,
+                "unknown sheet, ignored; known sheets are "
+                + ", ".join(s.name for s in schema.SHEETS),
+            )
     settings = _read_settings(raw.sheets.get("study"), out)
     recs = {s.name: _read_sheet(s, raw.sheets.get(s.name), out) for s in schema.SHEETS[1:]}
 
     bus_taken: dict[str, tuple[str, int]] = {}
     _unique_ids("buses", "bus", recs["buses"], out, bus_taken)
-    bus_kv = {r.values["bus"]: r.values["kv"] for r in recs["buses"]
-              if r.values.get("bus") is not None and r.values.get("kv") is not None}
+    bus_kv = {
+        r.values["bus"]: r.values["kv"]
+        for r in recs["buses"]
+        if r.values.get("bus") is not None and r.values.get("kv") is not None
+    }
     element_taken: dict[str, tuple[str, int]] = {}
     for sheet in schema.SHEETS[2:]:
         _unique_ids(sheet.name, sheet.columns[0].name, recs[sheet.name], out, element_taken)
@@ -236,12 +313,20 @@ def read_tables(raw: RawInput) -> model.System:
     _check_transformers(recs["transformers"], bus_kv, out)
     for record in recs["cables"]:
         v = record.values
-        if record.ok and (v.get("r_ohm_per_kft") or v.get("r_ohm_per_km") or 0) == 0 \
-                and (v.get("x_ohm_per_kft") or v.get("x_ohm_per_km") or 0) == 0:
+        if (
+            record.ok
+            and (v.get("r_ohm_per_kft") or v.get("r_ohm_per_km") or 0) == 0
+            and (v.get("x_ohm_per_kft") or v.get("x_ohm_per_km") or 0) == 0
+        ):
             column = "r_ohm_per_kft" if v.get("r_ohm_per_kft") is not None else "r_ohm_per_km"
-            out.problem("cables", record.row, column, 0,
-                        "R and X are both 0; a cable has impedance (use the 'impedances' sheet "
-                        "with r_ohm = x_ohm = 0 for a closed tie)")
+            out.problem(
+                "cables",
+                record.row,
+                column,
+                0,
+                "R and X are both 0; a cable has impedance (use the 'impedances' sheet "
+                "with r_ohm = x_ohm = 0 for a closed tie)",
+            )
             record.ok = False
     if not any(True for r in recs["sources"]) and "sources" in raw.sheets:
         out.problem("sources", None, None, None, "no source given; at least one is needed")
@@ -254,13 +339,22 @@ def read_tables(raw: RawInput) -> model.System:
 
     return model.System(
         settings=settings,
-        buses=tuple(model.Bus(r.values["bus"], r.values["kv"], r.values["description"] or "",
-                              row=r.row) for r in recs["buses"]),
+        buses=tuple(
+            model.Bus(r.values["bus"], r.values["kv"], r.values["description"] or "", row=r.row)
+            for r in recs["buses"]
+        ),
         sources=build(model.Source, "sources"),
         transformers=build(model.Transformer, "transformers"),
-        cables=tuple(model.Cable(**{**{f: r.values[f] for f in model.Cable.__dataclass_fields__
-                                       if f != "row"}, "size": r.values["size"] or ""}, row=r.row)
-                     for r in recs["cables"]),
+        cables=tuple(
+            model.Cable(
+                **{
+                    **{f: r.values[f] for f in model.Cable.__dataclass_fields__ if f != "row"},
+                    "size": r.values["size"] or "",
+                },
+                row=r.row,
+            )
+            for r in recs["cables"]
+        ),
         impedances=build(model.Impedance, "impedances"),
         input_name=raw.display_name,
         input_sha256=raw.sha256,

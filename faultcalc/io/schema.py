@@ -45,7 +45,9 @@ class Column:
         if self.kind == CHOICE:
             return "one of " + ", ".join(self.choices)
         if self.kind in (NUMBER, INTEGER):
-            text = BOUND_TEXT.get(self.bound, "a whole number" if self.kind == INTEGER else "a number")
+            text = BOUND_TEXT.get(
+                self.bound, "a whole number" if self.kind == INTEGER else "a number"
+            )
             return text + (f" in {self.unit}" if self.unit else "")
         if self.kind == BUS_REF:
             return "the name of a bus on the 'buses' sheet"
@@ -89,12 +91,25 @@ WINDINGS = ("D", "Y", "YN")
 # Settings on the `study` sheet (columns `setting`, `value`), described like columns.
 SETTINGS: tuple[Column, ...] = (
     Column("title", TEXT, "Title of the study, printed on every report.", default=""),
-    Column("base_mva", NUMBER, "Common MVA base of the per-unit system.", unit="MVA",
-           default=100.0, bound=POSITIVE),
-    Column("frequency_hz", CHOICE, "System frequency.", unit="Hz", default="60",
-           choices=("50", "60")),
-    Column("prefault_pu", NUMBER, "Prefault voltage behind every Thevenin impedance, per-unit of "
-           "each bus's nominal kV.", unit="pu", default=1.0, bound=POSITIVE),
+    Column(
+        "base_mva",
+        NUMBER,
+        "Common MVA base of the per-unit system.",
+        unit="MVA",
+        default=100.0,
+        bound=POSITIVE,
+    ),
+    Column(
+        "frequency_hz", CHOICE, "System frequency.", unit="Hz", default="60", choices=("50", "60")
+    ),
+    Column(
+        "prefault_pu",
+        NUMBER,
+        "Prefault voltage behind every Thevenin impedance, per-unit of each bus's nominal kV.",
+        unit="pu",
+        default=1.0,
+        bound=POSITIVE,
+    ),
 )
 
 STUDY = Sheet(
@@ -102,8 +117,12 @@ STUDY = Sheet(
     "Study settings, one per row: put the setting's name in 'setting' and its value in 'value'. "
     "Any setting left out takes its default.",
     (
-        Column("setting", TEXT, "Name of the setting: " + ", ".join(s.name for s in SETTINGS) + ".",
-               required=True),
+        Column(
+            "setting",
+            TEXT,
+            "Name of the setting: " + ", ".join(s.name for s in SETTINGS) + ".",
+            required=True,
+        ),
         Column("value", TEXT, "Value of the setting; blank takes the default."),
         Column("note", TEXT, "Free text for the reader of the workbook; not used."),
     ),
@@ -114,8 +133,14 @@ BUSES = Sheet(
     "Every bus (switchboard, panel, motor control centre, transformer terminal) of the one-line.",
     (
         Column("bus", ID, "Unique name of the bus.", required=True),
-        Column("kv", NUMBER, "Nominal line-to-line voltage; also the bus's base kV.", unit="kV",
-               required=True, bound=POSITIVE),
+        Column(
+            "kv",
+            NUMBER,
+            "Nominal line-to-line voltage; also the bus's base kV.",
+            unit="kV",
+            required=True,
+            bound=POSITIVE,
+        ),
         Column("description", TEXT, "Free text, e.g. equipment and location."),
     ),
     required=True,
@@ -128,12 +153,27 @@ SOURCES = Sheet(
     (
         Column("source", ID, "Unique name of the source.", required=True),
         Column("bus", BUS_REF, "Bus the source feeds.", required=True),
-        Column("sc_mva", NUMBER, "Available three-phase short-circuit power at the bus.",
-               unit="MVA", bound=POSITIVE),
-        Column("sc_ka", NUMBER, "Available three-phase short-circuit current at the bus.",
-               unit="kA", bound=POSITIVE),
-        Column("xr", NUMBER, "X/R ratio of the source impedance, from the utility.",
-               required=True, bound=POSITIVE),
+        Column(
+            "sc_mva",
+            NUMBER,
+            "Available three-phase short-circuit power at the bus.",
+            unit="MVA",
+            bound=POSITIVE,
+        ),
+        Column(
+            "sc_ka",
+            NUMBER,
+            "Available three-phase short-circuit current at the bus.",
+            unit="kA",
+            bound=POSITIVE,
+        ),
+        Column(
+            "xr",
+            NUMBER,
+            "X/R ratio of the source impedance, from the utility.",
+            required=True,
+            bound=POSITIVE,
+        ),
     ),
     required=True,
     alternatives=(Alternative((("sc_mva",), ("sc_ka",))),),
@@ -146,23 +186,64 @@ TRANSFORMERS = Sheet(
         Column("transformer", ID, "Unique name of the transformer.", required=True),
         Column("hv_bus", BUS_REF, "Bus on the high-voltage side.", required=True),
         Column("lv_bus", BUS_REF, "Bus on the low-voltage side.", required=True),
-        Column("kva", NUMBER, "Rated power (self-cooled rating the %Z is stated on).", unit="kVA",
-               required=True, bound=POSITIVE),
-        Column("hv_kv", NUMBER, "Rated high-voltage winding voltage, line to line.", unit="kV",
-               required=True, bound=POSITIVE),
-        Column("lv_kv", NUMBER, "Rated low-voltage winding voltage, line to line.", unit="kV",
-               required=True, bound=POSITIVE),
-        Column("z_pct", NUMBER, "Impedance on the transformer's own kVA and kV.", unit="%",
-               required=True, bound=POSITIVE),
-        Column("xr", NUMBER, "X/R ratio of the transformer impedance.", required=True,
-               bound=POSITIVE),
-        Column("hv_winding", CHOICE, "High-voltage winding connection (IEC 60076): D delta, "
-               "Y wye with the neutral not grounded, YN wye with the neutral grounded.",
-               required=True, choices=WINDINGS),
-        Column("lv_winding", CHOICE, "Low-voltage winding connection (IEC 60076): D, Y or YN.",
-               required=True, choices=WINDINGS),
-        Column("lv_neutral_ohm", NUMBER, "Impedance from the low-voltage neutral to ground; "
-               "0 = solidly grounded.", unit="ohm", default=0.0, bound=NON_NEGATIVE),
+        Column(
+            "kva",
+            NUMBER,
+            "Rated power (self-cooled rating the %Z is stated on).",
+            unit="kVA",
+            required=True,
+            bound=POSITIVE,
+        ),
+        Column(
+            "hv_kv",
+            NUMBER,
+            "Rated high-voltage winding voltage, line to line.",
+            unit="kV",
+            required=True,
+            bound=POSITIVE,
+        ),
+        Column(
+            "lv_kv",
+            NUMBER,
+            "Rated low-voltage winding voltage, line to line.",
+            unit="kV",
+            required=True,
+            bound=POSITIVE,
+        ),
+        Column(
+            "z_pct",
+            NUMBER,
+            "Impedance on the transformer's own kVA and kV.",
+            unit="%",
+            required=True,
+            bound=POSITIVE,
+        ),
+        Column(
+            "xr", NUMBER, "X/R ratio of the transformer impedance.", required=True, bound=POSITIVE
+        ),
+        Column(
+            "hv_winding",
+            CHOICE,
+            "High-voltage winding connection (IEC 60076): D delta, "
+            "Y wye with the neutral not grounded, YN wye with the neutral grounded.",
+            required=True,
+            choices=WINDINGS,
+        ),
+        Column(
+            "lv_winding",
+            CHOICE,
+            "Low-voltage winding connection (IEC 60076): D, Y or YN.",
+            required=True,
+            choices=WINDINGS,
+        ),
+        Column(
+            "lv_neutral_ohm",
+            NUMBER,
+            "Impedance from the low-voltage neutral to ground; 0 = solidly grounded.",
+            unit="ohm",
+            default=0.0,
+            bound=NON_NEGATIVE,
+        ),
     ),
 )
 
@@ -178,18 +259,39 @@ CABLES = Sheet(
         Column("length_m", NUMBER, "Route length.", unit="m", bound=POSITIVE),
         Column("sets", INTEGER, "Parallel conductors per phase.", default=1, bound=AT_LEAST_ONE),
         Column("size", TEXT, "Conductor size, e.g. 4/0, 500 (kcmil), 240 (mm2)."),
-        Column("material", CHOICE, "Conductor material: cu copper, al aluminium.",
-               choices=("cu", "al")),
-        Column("raceway", CHOICE, "Raceway: pvc (non-metallic), aluminum, steel.",
-               choices=("pvc", "aluminum", "steel")),
-        Column("r_ohm_per_kft", NUMBER, "AC resistance of one conductor.", unit="ohm/1000 ft",
-               bound=NON_NEGATIVE),
-        Column("x_ohm_per_kft", NUMBER, "Reactance of one conductor.", unit="ohm/1000 ft",
-               bound=NON_NEGATIVE),
-        Column("r_ohm_per_km", NUMBER, "AC resistance of one conductor.", unit="ohm/km",
-               bound=NON_NEGATIVE),
-        Column("x_ohm_per_km", NUMBER, "Reactance of one conductor.", unit="ohm/km",
-               bound=NON_NEGATIVE),
+        Column(
+            "material", CHOICE, "Conductor material: cu copper, al aluminium.", choices=("cu", "al")
+        ),
+        Column(
+            "raceway",
+            CHOICE,
+            "Raceway: pvc (non-metallic), aluminum, steel.",
+            choices=("pvc", "aluminum", "steel"),
+        ),
+        Column(
+            "r_ohm_per_kft",
+            NUMBER,
+            "AC resistance of one conductor.",
+            unit="ohm/1000 ft",
+            bound=NON_NEGATIVE,
+        ),
+        Column(
+            "x_ohm_per_kft",
+            NUMBER,
+            "Reactance of one conductor.",
+            unit="ohm/1000 ft",
+            bound=NON_NEGATIVE,
+        ),
+        Column(
+            "r_ohm_per_km",
+            NUMBER,
+            "AC resistance of one conductor.",
+            unit="ohm/km",
+            bound=NON_NEGATIVE,
+        ),
+        Column(
+            "x_ohm_per_km", NUMBER, "Reactance of one conductor.", unit="ohm/km", bound=NON_NEGATIVE
+        ),
     ),
     alternatives=(
         Alternative((("length_ft",), ("length_m",))),
@@ -205,10 +307,22 @@ IMPEDANCES = Sheet(
         Column("element", ID, "Unique name of the element.", required=True),
         Column("from_bus", BUS_REF, "Bus at one end.", required=True),
         Column("to_bus", BUS_REF, "Bus at the other end.", required=True),
-        Column("r_ohm", NUMBER, "Total resistance per phase.", unit="ohm", required=True,
-               bound=NON_NEGATIVE),
-        Column("x_ohm", NUMBER, "Total reactance per phase.", unit="ohm", required=True,
-               bound=NON_NEGATIVE),
+        Column(
+            "r_ohm",
+            NUMBER,
+            "Total resistance per phase.",
+            unit="ohm",
+            required=True,
+            bound=NON_NEGATIVE,
+        ),
+        Column(
+            "x_ohm",
+            NUMBER,
+            "Total reactance per phase.",
+            unit="ohm",
+            required=True,
+            bound=NON_NEGATIVE,
+        ),
     ),
 )
 

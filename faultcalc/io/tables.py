@@ -58,9 +58,16 @@ def _sheet_from_rows(name: str, rows: list[tuple[int, list[Any]]], problems: lis
     for position, cell in enumerate(header_cells, start=1):
         text = "" if _is_blank(cell) else str(cell).strip().lower()
         if text and text in seen:
-            problems.append(Problem(name, 1, text, cell,
-                                    f"the header appears twice (columns {_column_letter(seen[text])}"
-                                    f" and {_column_letter(position)}); keep one"))
+            problems.append(
+                Problem(
+                    name,
+                    1,
+                    text,
+                    cell,
+                    f"the header appears twice (columns {_column_letter(seen[text])}"
+                    f" and {_column_letter(position)}); keep one",
+                )
+            )
         elif text:
             seen[text] = position
         headers.append(text)
@@ -88,14 +95,17 @@ def _load_workbook(path: Path, problems: list[Problem]) -> dict[str, RawSheet]:
     try:
         book = openpyxl.load_workbook(path, read_only=True, data_only=True)
     except (zipfile.BadZipFile, OSError, KeyError, ValueError) as exc:
-        raise InputError([Problem(path.name, None, None, None,
-                                  f"cannot be read as an .xlsx workbook ({exc})")]) from None
+        raise InputError(
+            [Problem(path.name, None, None, None, f"cannot be read as an .xlsx workbook ({exc})")]
+        ) from None
     sheets: dict[str, RawSheet] = {}
     try:
         for ws in book.worksheets:
             name = ws.title.strip().lower()
-            rows = [(number, list(values)) for number, values
-                    in enumerate(ws.iter_rows(values_only=True), start=1)]
+            rows = [
+                (number, list(values))
+                for number, values in enumerate(ws.iter_rows(values_only=True), start=1)
+            ]
             sheets[name] = _sheet_from_rows(name, rows, problems)
     finally:
         book.close()
@@ -113,8 +123,9 @@ def _load_csv_folder(path: Path, problems: list[Problem]) -> dict[str, RawSheet]
                 for cells in reader:
                     rows.append((reader.line_num, cells))
         except UnicodeDecodeError:
-            problems.append(Problem(name, None, None, file.name,
-                                    "is not UTF-8 text; save it as 'CSV UTF-8'"))
+            problems.append(
+                Problem(name, None, None, file.name, "is not UTF-8 text; save it as 'CSV UTF-8'")
+            )
             continue
         except csv.Error as exc:
             problems.append(Problem(name, None, None, file.name, f"is not valid CSV ({exc})"))
@@ -147,12 +158,22 @@ def load_input(path: str | Path) -> RawInput:
         raise InputError([Problem(path.name, None, None, str(path), "no such file or folder")])
     if path.is_dir():
         if not any(path.glob("*.csv")):
-            raise InputError([Problem(path.name, None, None, str(path),
-                                      "the folder holds no <sheet>.csv files")])
+            raise InputError(
+                [Problem(path.name, None, None, str(path), "the folder holds no <sheet>.csv files")]
+            )
         sheets = _load_csv_folder(path, problems)
     elif path.suffix.lower() in WORKBOOK_SUFFIXES:
         sheets = _load_workbook(path, problems)
     else:
-        raise InputError([Problem(path.name, None, None, path.suffix,
-                                  "expected an .xlsx workbook or a folder of <sheet>.csv files")])
+        raise InputError(
+            [
+                Problem(
+                    path.name,
+                    None,
+                    None,
+                    path.suffix,
+                    "expected an .xlsx workbook or a folder of <sheet>.csv files",
+                )
+            ]
+        )
     return RawInput(sheets, path.name, input_sha256(path), problems)

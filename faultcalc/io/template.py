@@ -48,9 +48,14 @@ def _header(ws, sheet: schema.Sheet) -> None:
         ws.column_dimensions[get_column_letter(j)].width = max(12, len(column.name) + 4)
         if column.kind == schema.CHOICE:
             allowed = ",".join(column.choices)
-            dv = DataValidation(type="list", formula1=f'"{allowed}"', allow_blank=True,
-                                showErrorMessage=True, errorTitle=column.name,
-                                error=f"Expected {column.expected()}.")
+            dv = DataValidation(
+                type="list",
+                formula1=f'"{allowed}"',
+                allow_blank=True,
+                showErrorMessage=True,
+                errorTitle=column.name,
+                error=f"Expected {column.expected()}.",
+            )
             letter = get_column_letter(j)
             dv.add(f"{letter}2:{letter}{TEMPLATE_ROWS}")
             ws.add_data_validation(dv)
@@ -64,8 +69,9 @@ def _study(ws) -> None:
     for i, setting in enumerate(schema.SETTINGS, start=2):
         ws.cell(row=i, column=1, value=setting.name)
         ws.cell(row=i, column=2, value=setting.default if setting.default != "" else None)
-        ws.cell(row=i, column=3, value=column_help(setting)).font = Font(italic=True,
-                                                                         color="666666")
+        ws.cell(row=i, column=3, value=column_help(setting)).font = Font(
+            italic=True, color="666666"
+        )
     ws.column_dimensions["C"].width = 90
 
 
@@ -87,9 +93,9 @@ def _guide(ws) -> None:
     for sheet in schema.SHEETS:
         row += 1
         ws.cell(row=row, column=1, value=sheet.name).font = Font(bold=True)
-        ws.cell(row=row, column=3, value=sheet.help + (" Required sheet." if sheet.required
-                                                       else "")).alignment = Alignment(
-            wrap_text=True)
+        ws.cell(
+            row=row, column=3, value=sheet.help + (" Required sheet." if sheet.required else "")
+        ).alignment = Alignment(wrap_text=True)
         row += 1
         for rule in sheet_rules(sheet):
             ws.cell(row=row, column=3, value=rule)
@@ -98,7 +104,8 @@ def _guide(ws) -> None:
         for column in entries:
             ws.cell(row=row, column=2, value=column.name)
             ws.cell(row=row, column=3, value=column_help(column)).alignment = Alignment(
-                wrap_text=True)
+                wrap_text=True
+            )
             row += 1
 
 

@@ -91,23 +91,41 @@ def _fault_sheet(ws, result: StudyResult) -> None:
         Col("Bus", 14, note="Bus name as on the input 'buses' sheet."),
         Col("Description", 44),
         Col("Nominal kV (line-line)", 11, KV, "Nominal line-to-line voltage; the bus's base kV."),
-        Col("3-phase bolted fault current, kA symmetrical", 15, KA,
+        Col(
+            "3-phase bolted fault current, kA symmetrical",
+            15,
+            KA,
             "Initial symmetrical RMS current of a bolted three-phase fault at the bus: prefault "
-            "voltage / |Z1|, converted with the bus base current."),
+            "voltage / |Z1|, converted with the bus base current.",
+        ),
         Col("3-phase fault MVA", 11, MVA, "sqrt(3) x nominal kV x fault current."),
-        Col("Thevenin R1, ohm", 13, OHM, "Resistance of the positive-sequence Thevenin impedance, "
-            "ohms at the bus's nominal kV."),
+        Col(
+            "Thevenin R1, ohm",
+            13,
+            OHM,
+            "Resistance of the positive-sequence Thevenin impedance, ohms at the bus's nominal kV.",
+        ),
         Col("Thevenin X1, ohm", 13, OHM, "Reactance of the positive-sequence Thevenin impedance."),
-        Col("|Z1|, per-unit", 12, PU, "Magnitude of the Thevenin impedance on the study MVA base "
-            "and the bus's base kV."),
+        Col(
+            "|Z1|, per-unit",
+            12,
+            PU,
+            "Magnitude of the Thevenin impedance on the study MVA base and the bus's base kV.",
+        ),
         Col("X/R at the fault", 10, XR, "X1/R1 of the complex Thevenin impedance."),
-        Col("Same node as (closed ties)", 24, note="Buses joined to this one by closed ties; "
-            "they share its results."),
+        Col(
+            "Same node as (closed ties)",
+            24,
+            note="Buses joined to this one by closed ties; they share its results.",
+        ),
     ]
     b = result.buses
-    rows = [(r.bus, d, r.kv, r.i3ph_ka, r.s3ph_mva, r.r1_ohm, r.x1_ohm, r.z1_pu, r.xr, g)
-            for r, d, g in zip(b.itertuples(index=False), result.descriptions,
-                               result.node_groups, strict=True)]
+    rows = [
+        (r.bus, d, r.kv, r.i3ph_ka, r.s3ph_mva, r.r1_ohm, r.x1_ohm, r.z1_pu, r.xr, g)
+        for r, d, g in zip(
+            b.itertuples(index=False), result.descriptions, result.node_groups, strict=True
+        )
+    ]
     _table(ws, cols, rows)
     for i in range(2, len(rows) + 2):
         ws.cell(row=i, column=4).font = BOLD
@@ -127,8 +145,13 @@ def _element_sheet(ws, result: StudyResult) -> None:
         Col("X, ohm", 12, OHM),
         Col("R, per-unit", 12, PU, "On the study MVA base and the base kV beside it."),
         Col("X, per-unit", 12, PU),
-        Col("Ratio (tap)", 9, "0.0000", "Transformers: rated ratio over the ratio of the bus "
-            "nominal voltages; 1 when they agree."),
+        Col(
+            "Ratio (tap)",
+            9,
+            "0.0000",
+            "Transformers: rated ratio over the ratio of the bus "
+            "nominal voltages; 1 when they agree.",
+        ),
         Col("Note", 34),
     ]
     rows = [tuple(r) for r in result.elements.itertuples(index=False)]
@@ -153,8 +176,9 @@ def _basis_sheet(ws, result: StudyResult) -> None:
     ws.cell(row=3, column=1, value="Cautions").font = BOLD
     row = 4
     for i, text in enumerate(result.cautions, start=1):
-        ws.cell(row=row, column=1, value=f"{i}.").alignment = Alignment(horizontal="right",
-                                                                        vertical="top")
+        ws.cell(row=row, column=1, value=f"{i}.").alignment = Alignment(
+            horizontal="right", vertical="top"
+        )
         cell = ws.cell(row=row, column=2, value=text)
         cell.alignment = WRAP
         cell.fill = CAUTION_FILL
@@ -191,8 +215,11 @@ def build_workbook(result: StudyResult) -> Workbook:
     faults.title = "Fault currents"
     _fault_sheet(faults, result)
     sheets = [faults]
-    for title, fill in (("Element impedances", _element_sheet), ("Warnings", _warning_sheet),
-                        ("Basis and cautions", _basis_sheet)):
+    for title, fill in (
+        ("Element impedances", _element_sheet),
+        ("Warnings", _warning_sheet),
+        ("Basis and cautions", _basis_sheet),
+    ):
         ws = book.create_sheet(title)
         fill(ws, result)
         sheets.append(ws)

@@ -1,0 +1,37 @@
+# make demo: local virtual environment, install, study the bundled invented sample.
+# make test: install the test extra, run the test suite.
+PYTHON ?= python3
+VENV := .venv
+BIN := $(VENV)/bin
+
+.PHONY: demo test lint samples readme clean
+
+$(BIN)/python:
+	$(PYTHON) -m venv $(VENV)
+
+$(VENV)/.installed: pyproject.toml | $(BIN)/python
+	$(BIN)/python -m pip install --quiet --disable-pip-version-check -e .
+	touch $@
+
+$(VENV)/.installed-test: pyproject.toml | $(BIN)/python
+	$(BIN)/python -m pip install --quiet --disable-pip-version-check -e '.[test]'
+	touch $(VENV)/.installed $@
+
+demo: $(VENV)/.installed
+	$(BIN)/faultcalc demo -o faultcalc-demo-results.xlsx
+
+test: $(VENV)/.installed-test
+	$(BIN)/python -m pytest
+
+lint: $(VENV)/.installed-test
+	$(BIN)/python -m pip install --quiet ruff
+	$(BIN)/ruff check faultcalc tests scripts benchmarks
+
+samples: $(VENV)/.installed
+	$(BIN)/python scripts/make_samples.py
+
+readme: $(VENV)/.installed
+	$(BIN)/python scripts/update_readme.py
+
+clean:
+	rm -rf $(VENV) build *.egg-info .pytest_cache faultcalc-demo-results.xlsx

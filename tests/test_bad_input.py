@@ -1,0 +1,291 @@
+"""Bad input: exit status 2, every problem located (sheet, row, column, value), nothing written."""
+
+from __future__ import annotations
+
+import copy
+
+import pytest
+from click.testing import CliRunner
+
+from faultcalc import InputError, read_system, run_study
+from faultcalc.cli import main
+
+GOOD = {
+    "buses": [{"bus": "HV", "kv": 12.47}, {"bus": "LV", "kv": 0.48}, {"bus": "PNL", "kv": 0.48}],
+    "sources": [{"source": "U", "bus": "HV", "sc_mva": 200, "xr": 8}],
+    "transformers": [
+        {
+            "transformer": "T",
+            "hv_bus": "HV",
+            "lv_bus": "LV",
+            "kva": 1000,
+            "hv_kv": 12.47,
+            "lv_kv": 0.48,
+            "z_pct": 5.75,
+            "xr": 5,
+            "hv_winding": "D",
+            "lv_winding": "YN",
+        }
+    ],
+    "cables": [
+        {
+            "cable": "C",
+            "from_bus": "LV",
+            "to_bus": "PNL",
+            "length_ft": 100,
+            "sets": 1,
+            "r_ohm_per_kft": 0.05,
+            "x_ohm_per_kft": 0.045,
+        }
+    ],
+}
+
+
+def edited(**changes):
+    """GOOD with sheet -> function(sheets) edits applied."""
+    sheets = copy.deepcopy(GOOD)
+    for edit in changes.values():
+        edit(sheets)
+    return sheets
+
+
+def set_cell(sheet, index, column, value):
+    def edit(sheets):
+        sheets[sheet][index][column] = value
+
+    return edit
+
+
+def drop_cell(sheet, index, column):
+    def edit(sheets):
+        sheets[sheet][index].pop(column)
+
+    return edit
+
+
+# (id, edit, expected sheet, row, column, value, words in the message)
+CASES = [
+    (
+        "unknown bus",
+        set_cell("cables", 0, "to_bus", "NOPE"),
+        "cables",
+        2,
+        "to_bus",
+        "NOPE",
+        "no bus of that name",
+    ),
+    (
+        "duplicate id",
+        lambda s: s["buses"].append({"bus": "LV", "kv": 0.48}),
+        "buses",
+        5,
+        "bus",
+        "LV",
+        "already used",
+    ),
+    (
+        "duplicate id across sheets",
+        set_cell("cables", 0, "cable", "T"),
+        "cables",
+        2,
+        "cable",
+        "T",
+        "already used",
+    ),
+    (
+        "missing required column",
+        lambda s: [row.pop("z_pct") for row in s["transformers"]],
+        "transformers",
+        1,
+        "z_pct",
+        None,
+        "required column is missing",
+    ),
+    (
+        "text in numeric cell",
+        set_cell("buses", 1, "kv", "four-eighty"),
+        "buses",
+        3,
+        "kv",
+        "four-eighty",
+        "expected a number greater than 0",
+    ),
+    (
+        "zero length",
+        set_cell("cables", 0, "length_ft", 0),
+        "cables",
+        2,
+        "length_ft",
+        "0",
+        "greater than 0",
+    ),
+    (
+        "negative length",
+        set_cell("cables", 0, "length_ft", -30),
+        "cables",
+        2,
+        "length_ft",
+        "-30",
+        "greater than 0",
+    ),
+    (
+        "zero kva",
+        set_cell("transformers", 0, "kva", 0),
+        "transformers",
+        2,
+        "kva",
+        "0",
+        "greater than 0",
+    ),
+    (
+        "negative z_pct",
+        set_cell("transformers", 0, "z_pct", -5.75),
+        "transformers",
+        2,
+        "z_pct",
+        "-5.75",
+        "greater than 0",
+    ),
+    (
+        "zero z_pct",
+        set_cell("transformers", 0, "z_pct", 0),
+        "transformers",
+        2,
+        "z_pct",
+        "0",
+        "greater than 0",
+    ),
+    (
+        "both sc_mva and sc_ka",
+        set_cell("sources", 0, "sc_ka", 9.3),
+        "sources",
+        2,
+        "sc_mva, sc_ka",
+        "9.3",
+        "not more than one",
+    ),
+    (
+        "neither sc_mva nor sc_ka",
+        drop_cell("sources", 0, "sc_mva"),
+        "sources",
+        2,
+        "sc_mva, sc_ka",
+        None,
+        "give sc_mva or sc_ka",
+    ),
+    (
+        "both length units",
+        set_cell("cables", 0, "length_m", 30),
+        "cables",
+        2,
+        "length_ft, length_m",
+        "30",
+        "not more than one",
+    ),
+    (
+        "neither impedance pair",
+        lambda s: [s["cables"][0].pop(k) for k in ("r_ohm_per_kft", "x_ohm_per_kft")],
+        "cables",
+        2,
+        "r_ohm_per_kft, x_ohm_per_kft, r_ohm_per_km, x_ohm_per_km",
+        None,
+        "give r_ohm_per_kft + x_ohm_per_kft or r_ohm_per_km + x_ohm_per_km",
+    ),
+    (
+        "half an impedance pair",
+        drop_cell("cables", 0, "x_ohm_per_kft"),
+        "cables",
+        2,
+        "x_ohm_per_kft",
+        None,
+        "required here because r_ohm_per_kft",
+    ),
+    (
+        "bad winding",
+        set_cell("transformers", 0, "lv_winding", "zigzag"),
+        "transformers",
+        2,
+        "lv_winding",
+        "zigzag",
+        "one of D, Y, YN",
+    ),
+    (
+        "bus cut off from every source",
+        lambda s: s["buses"].append({"bus": "ISLAND", "kv": 0.48}),
+        "buses",
+        5,
+        "bus",
+        "ISLAND",
+        "no path to any source",
+    ),
+    (
+        "cable between voltage levels",
+        set_cell("cables", 0, "from_bus", "HV"),
+        "cables",
+        2,
+        "to_bus",
+        "PNL",
+        "different voltages",
+    ),
+    (
+        "missing buses sheet",
+        lambda s: s.pop("buses"),
+        "buses",
+        None,
+        None,
+        None,
+        "no 'buses' sheet",
+    ),
+]
+
+
+@pytest.mark.parametrize("case", CASES, ids=[c[0] for c in CASES])
+def test_bad_input_is_located(make_input, tmp_path, case):
+    _, edit, sheet, row, column, value, words = case
+    sheets = copy.deepcopy(GOOD)
+    edit(sheets)
+    path = make_input(sheets)
+    out = tmp_path / "results.xlsx"
+    json_out = tmp_path / "results.json"
+    result = CliRunner().invoke(main, ["study", str(path), "-o", str(out), "--json", str(json_out)])
+    assert result.exit_code == 2, result.output
+    assert "Traceback" not in result.output
+    assert not out.exists() and not json_out.exists()
+    assert not list(tmp_path.glob(".results*"))  # no temporary file left behind
+    with pytest.raises(InputError) as info:
+        run_study(read_system(path))
+    matching = [
+        p
+        for p in info.value.problems
+        if p.sheet == sheet and p.row == row and p.column == column and words in p.message
+    ]
+    assert matching, [str(p) for p in info.value.problems]
+    if value is not None:
+        assert str(value) in str(matching[0].value)
+    assert str(matching[0]) in result.output
+
+
+def test_every_problem_is_listed_at_once(make_input):
+    sheets = copy.deepcopy(GOOD)
+    sheets["cables"][0]["to_bus"] = "NOPE"
+    sheets["transformers"][0]["kva"] = "big"
+    sheets["buses"][0]["kv"] = -1
+    with pytest.raises(InputError) as info:
+        read_system(make_input(sheets))
+    where = {(p.sheet, p.row, p.column) for p in info.value.problems}
+    assert {("cables", 2, "to_bus"), ("transformers", 2, "kva"), ("buses", 2, "kv")} <= where
+
+
+def test_the_good_case_is_good(make_input):
+    # Guard for the table above: without the edit the input studies cleanly.
+    result = run_study(read_system(make_input(copy.deepcopy(GOOD))))
+    assert len(result.buses) == 3 and not result.warnings
+
+
+def test_input_is_never_written(make_input, tmp_path):
+    path = make_input(copy.deepcopy(GOOD), kind="xlsx")
+    before = path.read_bytes()
+    result = CliRunner().invoke(main, ["study", str(path), "-o", str(path)])
+    assert result.exit_code == 1 and "it is the input" in result.output
+    CliRunner().invoke(main, ["study", str(path), "-o", str(tmp_path / "r.xlsx")])
+    assert path.read_bytes() == before

@@ -1,0 +1,149 @@
+"""The command line as a user drives it."""
+
+from __future__ import annotations
+
+import json
+
+import pytest
+from click.testing import CliRunner
+from openpyxl import load_workbook
+
+from faultcalc import __version__, read_system, sample_path
+from faultcalc.cli import main
+from faultcalc.io import schema
+
+
+def run(*args):
+    return CliRunner().invoke(main, list(args))
+
+
+def test_version():
+    result = run("--version")
+    assert result.exit_code == 0 and __version__ in result.output
+
+
+@pytest.mark.parametrize("command", ["study", "template", "demo"])
+def test_help_has_an_example(command):
+    result = run(command, "--help")
+    assert result.exit_code == 0
+    assert "Example:" in result.output and f"faultcalc {command}" in result.output
+
+
+def test_demo_writes_a_workbook_and_says_where(tmp_path):
+    out = tmp_path / "demo.xlsx"
+    result = run("demo", "-o", str(out))
+    assert result.exit_code == 0, result.output
+    assert str(out.resolve()) in result.output and "invented" in result.output
+    assert load_workbook(out).sheetnames[0] == "Fault currents"
+
+
+def test_study_writes_json_with_the_documented_fields(tmp_path):
+    out, js = tmp_path / "r.xlsx", tmp_path / "r.json"
+    result = run("study", str(sample_path("double_ended_480v")), "-o", str(out), "--json", str(js))
+    assert result.exit_code == 0, result.output
+    doc = json.loads(js.read_text())
+    assert doc["tool"] == {"name": "faultcalc", "version": __version__}
+    for key in (
+        "title",
+        "base_mva",
+        "frequency_hz",
+        "prefault_pu",
+        "input",
+        "input_sha256",
+        "calculated_at",
+    ):
+        assert key in doc["study"]
+    assert doc["study"]["input"] == "double_ended_480v" and len(doc["study"]["input_sha256"]) == 64
+    assert [set(b) for b in doc["buses"]] == [
+        {"bus", "kv", "r1_ohm", "x1_ohm", "z1_pu", "xr", "i3ph_ka", "s3ph_mva"}
+    ] * 7
+    assert [b["bus"] for b in doc["buses"]][:3] == ["MV-MAIN", "RMU-A", "RMU-B"]
+    assert doc["cautions"] and isinstance(doc["warnings"], list)
+
+
+def test_template_has_every_sheet_column_help_and_choice_list(tmp_path):
+    path = tmp_path / "blank.xlsx"
+    result = run("template", str(path))
+    assert result.exit_code == 0, result.output
+    book = load_workbook(path)
+    for sheet in schema.SHEETS:
+        ws = book[sheet.name]
+        headers = [c.value for c in ws[1]]
+        assert headers == list(sheet.names)
+        for cell in ws[1]:
+            assert cell.comment is not None and len(cell.comment.text) > 20
+        lists = {
+            str(dv.sqref).split(":")[0][0]: dv.formula1 for dv in ws.data_validations.dataValidation
+        }
+        for j, column in enumerate(sheet.columns):
+            if column.kind == schema.CHOICE:
+                letter = chr(ord("A") + j)
+                assert lists[letter] == '"' + ",".join(column.choices) + '"'
+    assert run("template", str(path)).exit_code == 1  # never overwrites
+
+
+def test_filled_template_reads_back_without_warnings(tmp_path):
+    path = tmp_path / "filled.xlsx"
+    assert run("template", str(path)).exit_code == 0
+    book = load_workbook(path)
+    sample = read_system(sample_path("plant_480v"))
+    rows = {
+        "buses": [(b.bus, b.kv, b.description) for b in sample.buses],
+        "sources": [(s.source, s.bus, s.sc_mva, s.sc_ka, s.xr) for s in sample.sources],
+        "transformers": [
+            (
+                t.transformer,
+                t.hv_bus,
+                t.lv_bus,
+                t.kva,
+                t.hv_kv,
+                t.lv_kv,
+                t.z_pct,
+                t.xr,
+                t.hv_winding,
+                t.lv_winding,
+                t.lv_neutral_ohm,
+            )
+            for t in sample.transformers
+        ],
+        "cables": [
+            (
+                c.cable,
+                c.from_bus,
+                c.to_bus,
+                c.length_ft,
+                c.length_m,
+                c.sets,
+                c.size,
+                c.material,
+                c.raceway,
+                c.r_ohm_per_kft,
+                c.x_ohm_per_kft,
+                c.r_ohm_per_km,
+                c.x_ohm_per_km,
+            )
+            for c in sample.cables
+        ],
+    }
+    for name, values in rows.items():
+        for row in values:
+            book[name].append(list(row))
+    book["study"]["B2"] = "Filled-in template (invented test data)"
+    book.save(path)
+    filled = read_system(path)
+    assert filled.warnings == ()
+    assert [b.bus for b in filled.buses] == [b.bus for b in sample.buses]
+    assert filled.transformers == sample.transformers and filled.cables == sample.cables
+
+
+def test_refuses_json_over_the_workbook(tmp_path):
+    out = tmp_path / "same.xlsx"
+    result = run("study", str(sample_path()), "-o", str(out), "--json", str(out))
+    assert result.exit_code == 1 and not out.exists()
+
+
+def test_unwritable_output_folder_is_a_clear_error(tmp_path):
+    out = tmp_path / "no such folder" / "r.xlsx"
+    result = run("study", str(sample_path()), "-o", str(out))
+    assert result.exit_code == 1 and "does not exist" in result.output
+    assert "Traceback" not in result.output
