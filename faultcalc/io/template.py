@@ -6,7 +6,7 @@ from pathlib import Path
 
 from openpyxl import Workbook
 from openpyxl.comments import Comment
-from openpyxl.styles import Alignment, Font, PatternFill
+from openpyxl.styles import Font, PatternFill
 from openpyxl.utils import get_column_letter
 from openpyxl.worksheet.datavalidation import DataValidation
 
@@ -76,9 +76,13 @@ def _study(ws) -> None:
 
 
 def _guide(ws) -> None:
+    ws.page_setup.orientation = "landscape"
+    ws.page_setup.fitToWidth = 1
+    ws.page_setup.fitToHeight = 0
+    ws.sheet_properties.pageSetUpPr.fitToPage = True
     ws.column_dimensions["A"].width = 16
     ws.column_dimensions["B"].width = 18
-    ws.column_dimensions["C"].width = 100
+    ws.column_dimensions["C"].width = 160
     ws.cell(row=1, column=1, value="How to fill this workbook").font = Font(bold=True, size=14)
     lines = [
         "One element per row, header in row 1, columns in any order; blank rows are ignored.",
@@ -95,7 +99,7 @@ def _guide(ws) -> None:
         ws.cell(row=row, column=1, value=sheet.name).font = Font(bold=True)
         ws.cell(
             row=row, column=3, value=sheet.help + (" Required sheet." if sheet.required else "")
-        ).alignment = Alignment(wrap_text=True)
+        )
         row += 1
         for rule in sheet_rules(sheet):
             ws.cell(row=row, column=3, value=rule)
@@ -103,9 +107,7 @@ def _guide(ws) -> None:
         entries = schema.SETTINGS if sheet is schema.STUDY else sheet.columns
         for column in entries:
             ws.cell(row=row, column=2, value=column.name)
-            ws.cell(row=row, column=3, value=column_help(column)).alignment = Alignment(
-                wrap_text=True
-            )
+            ws.cell(row=row, column=3, value=column_help(column))
             row += 1
 
 
