@@ -20,6 +20,7 @@ class Settings:
     base_mva: float = 100.0
     frequency_hz: int = 60
     prefault_pu: float = 1.0
+    fault_ohm: float = 0.0
 
 
 @dataclass(frozen=True)
@@ -39,6 +40,10 @@ class Source:
     xr: float
     sc_mva: float | None = None
     sc_ka: float | None = None
+    slg_ka: float | None = None
+    slg_xr: float | None = None
+    r0_ohm: float | None = None
+    x0_ohm: float | None = None
     row: int | None = None
 
     @property
@@ -64,11 +69,22 @@ class Transformer:
     hv_winding: str
     lv_winding: str
     lv_neutral_ohm: float = 0.0
+    hv_neutral_ohm: float = 0.0
+    z0_pct: float | None = None
+    xr0: float | None = None
+    clock_number: int | None = None
     row: int | None = None
 
     @property
     def name(self) -> str:
         return self.transformer
+
+    @property
+    def phase_shift_clock(self) -> int:
+        """IEC 60076 clock number; blank means 1 for D-Y and Y-D, 0 for D-D and Y-Y."""
+        if self.clock_number is not None:
+            return self.clock_number
+        return 1 if (self.hv_winding == "D") != (self.lv_winding == "D") else 0
 
 
 @dataclass(frozen=True)
@@ -88,6 +104,10 @@ class Cable:
     x_ohm_per_kft: float | None = None
     r_ohm_per_km: float | None = None
     x_ohm_per_km: float | None = None
+    r0_ohm_per_kft: float | None = None
+    x0_ohm_per_kft: float | None = None
+    r0_ohm_per_km: float | None = None
+    x0_ohm_per_km: float | None = None
     row: int | None = None
 
     @property
@@ -113,6 +133,19 @@ class Cable:
         """Total positive-sequence impedance per phase, parallel sets included."""
         return self.z_ohm_per_kft * self.length_kft / self.sets
 
+    @property
+    def z0_given(self) -> bool:
+        return self.r0_ohm_per_kft is not None or self.r0_ohm_per_km is not None
+
+    @property
+    def z0_ohm_per_kft(self) -> complex | None:
+        """Zero-sequence impedance of one set per 1000 ft, or None when not given."""
+        if self.r0_ohm_per_kft is not None:
+            return complex(self.r0_ohm_per_kft, self.x0_ohm_per_kft)
+        if self.r0_ohm_per_km is not None:
+            return complex(self.r0_ohm_per_km, self.x0_ohm_per_km) * (FT_PER_KFT * M_PER_FT / 1000)
+        return None
+
 
 @dataclass(frozen=True)
 class Impedance:
@@ -123,6 +156,8 @@ class Impedance:
     to_bus: str
     r_ohm: float
     x_ohm: float
+    r0_ohm: float | None = None
+    x0_ohm: float | None = None
     row: int | None = None
 
     @property
@@ -134,8 +169,54 @@ class Impedance:
         return complex(self.r_ohm, self.x_ohm)
 
     @property
+    def z0_ohm(self) -> complex:
+        """Zero-sequence impedance; blank r0/x0 means equal to the positive sequence."""
+        if self.r0_ohm is None:
+            return self.z_ohm
+        return complex(self.r0_ohm, self.x0_ohm)
+
+    @property
     def is_tie(self) -> bool:
         return self.r_ohm == 0.0 and self.x_ohm == 0.0
+
+
+# kVA per hp for motors rated in hp: 1 kVA per hp for induction motors and for synchronous
+# motors at 0.8 power factor (value from memory of the IEEE Std 141 short-circuit chapter's
+# approximations; a 1.0 power-factor synchronous motor is nearer 0.8 kVA per hp: enter kva).
+KVA_PER_HP = {"induction_motor": 1.0, "synchronous_motor": 1.0}
+
+
+@dataclass(frozen=True)
+class Machine:
+    """A motor or generator feeding the fault through its subtransient impedance."""
+
+    machine: str
+    bus: str
+    kind: str
+    kv: float
+    xd_pct: float
+    xr: float
+    kva: float | None = None
+    hp: float | None = None
+    count: int = 1
+    neutral_ohm: float | None = None
+    x0_pct: float | None = None
+    row: int | None = None
+
+    @property
+    def name(self) -> str:
+        return self.machine
+
+    @property
+    def rated_kva(self) -> float:
+        """Rated kVA of one machine (from hp at KVA_PER_HP when given in hp)."""
+        if self.kva is not None:
+            return self.kva
+        return self.hp * KVA_PER_HP[self.kind]
+
+    @property
+    def grounded(self) -> bool:
+        return self.neutral_ohm is not None
 
 
 @dataclass(frozen=True)
@@ -148,6 +229,7 @@ class System:
     transformers: tuple[Transformer, ...] = ()
     cables: tuple[Cable, ...] = ()
     impedances: tuple[Impedance, ...] = ()
+    machines: tuple[Machine, ...] = ()
     input_name: str = ""
     input_sha256: str = ""
     warnings: tuple[str, ...] = field(default=())

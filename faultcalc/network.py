@@ -1,29 +1,66 @@
 """Sparse sequence admittance matrices over the network's nodes.
 
-Buses joined by closed ties (zero impedance) share one node. Each node that has no path to any
-source is an input error naming its buses.
+Buses joined by closed ties (zero impedance) share one node in every sequence. A bus with no path
+to any source is an input error naming it. The negative-sequence matrix equals the positive one
+(see perunit.py), so only ``y1`` and ``y0`` are built.
 """
 
 from __future__ import annotations
 
+from collections import deque
 from dataclasses import dataclass
 
 import numpy as np
 import scipy.sparse as sp
 from scipy.sparse.csgraph import connected_components
 
+from . import perunit as pu_
 from .errors import InputError, Problem
 from .perunit import PerUnitSystem
 
 
 @dataclass(frozen=True)
+class Stamps:
+    """One sequence's entries: series branches and shunts, with the element each came from.
+
+    ``series_elem`` and ``shunt_elem`` index ``PerUnitSystem.series``; ``shunt_elem`` of -1 means
+    the shunt comes from ``PerUnitSystem.shunts[shunt_source]`` instead.
+    """
+
+    series_elem: np.ndarray
+    series_from: np.ndarray
+    series_to: np.ndarray
+    series_y: np.ndarray
+    series_tap: np.ndarray
+    shunt_elem: np.ndarray
+    shunt_source: np.ndarray
+    shunt_node: np.ndarray
+    shunt_y: np.ndarray
+
+    def matrix(self, n: int) -> sp.csc_matrix:
+        f, t, y, tap = self.series_from, self.series_to, self.series_y, self.series_tap
+        rows = np.concatenate([f, t, f, t, self.shunt_node])
+        cols = np.concatenate([f, t, t, f, self.shunt_node])
+        vals = np.concatenate([y / tap**2, y, -y / tap, -y / tap, self.shunt_y])
+        m = sp.coo_matrix((vals, (rows, cols)), shape=(n, n)).tocsc()
+        m.sum_duplicates()
+        return m
+
+
+@dataclass(frozen=True)
 class Network:
-    """Node-indexed admittance matrix and the maps between buses, nodes and elements."""
+    """Node-indexed admittance matrices and the maps between buses, nodes and elements."""
 
     node_of_bus: np.ndarray  # node index of each bus, in input bus order
     n_nodes: int
-    y1: sp.csc_matrix  # positive-sequence nodal admittance, per-unit
-    series_used: tuple[int, ...]  # indices into PerUnitSystem.series that enter the matrix
+    y1: sp.csc_matrix  # positive- (and negative-) sequence nodal admittance, per-unit
+    y0: (
+        sp.csc_matrix
+    )  # zero-sequence; nodes without a path to ground carry a dummy 1 on the diagonal
+    grounded: np.ndarray  # per node: True where a zero-sequence path to ground exists
+    seq1: Stamps
+    seq0: Stamps
+    series_used: tuple[int, ...]  # indices into PerUnitSystem.series that enter y1
     warnings: tuple[str, ...]
 
 
@@ -44,8 +81,27 @@ def _merge_ties(pu: PerUnitSystem) -> np.ndarray:
     return renumber[labels]
 
 
+def _stamps(series, shunts) -> Stamps:
+    def arr(values, dtype):
+        return np.array(values, dtype=dtype)
+
+    se, sf, st, sy, stap = zip(*series, strict=True) if series else ((),) * 5
+    he, hs, hn, hy = zip(*shunts, strict=True) if shunts else ((),) * 4
+    return Stamps(
+        arr(se, np.int64),
+        arr(sf, np.int64),
+        arr(st, np.int64),
+        arr(sy, complex),
+        arr(stap, float),
+        arr(he, np.int64),
+        arr(hs, np.int64),
+        arr(hn, np.int64),
+        arr(hy, complex),
+    )
+
+
 def build_network(pu: PerUnitSystem, bus_rows: dict[str, int] | None = None) -> Network:
-    """Assemble the positive-sequence admittance matrix.
+    """Assemble the sequence admittance matrices.
 
     Raises InputError listing every bus that has no path to a source.
     """
@@ -54,50 +110,68 @@ def build_network(pu: PerUnitSystem, bus_rows: dict[str, int] | None = None) -> 
     n = int(node_of_bus.max()) + 1 if len(node_of_bus) else 0
     warnings = []
     used = []
-    f, t, y, tap = [], [], [], []
+    series1, series0, shunts1, shunts0 = [], [], [], []
     for k, s in enumerate(pu.series):
         if s.kind == "tie":
             continue
         a, b = node_of_bus[index[s.from_bus]], node_of_bus[index[s.to_bus]]
         if a == b:
             warnings.append(
-                f"{s.kind} {s.element}: both ends ({s.from_bus}, {s.to_bus}) are joined "
-                "by closed ties, so it carries no fault current; left out"
+                f"{s.kind} {s.element}: both ends ({s.from_bus}, {s.to_bus}) are "
+                "joined by closed ties, so it carries no fault current; left out"
             )
             continue
         used.append(k)
-        f.append(a)
-        t.append(b)
-        y.append(1.0 / s.z1_pu)
-        tap.append(s.tap)
-    f, t = np.array(f, dtype=np.int64), np.array(t, dtype=np.int64)
-    y, tap = np.array(y, dtype=complex), np.array(tap, dtype=float)
-    shunt_node = np.array([node_of_bus[index[s.bus]] for s in pu.shunts], dtype=np.int64)
-    shunt_y = np.array([1.0 / s.z1_pu for s in pu.shunts], dtype=complex)
-    rows = np.concatenate([f, t, f, t, shunt_node])
-    cols = np.concatenate([f, t, t, f, shunt_node])
-    vals = np.concatenate([y / tap**2, y, -y / tap, -y / tap, shunt_y])
-    y1 = sp.coo_matrix((vals, (rows, cols)), shape=(n, n)).tocsc()
-    y1.sum_duplicates()
+        series1.append((k, a, b, 1.0 / s.z1_pu, s.tap))
+        if s.z0_mode == pu_.Z0_SERIES:
+            series0.append((k, a, b, 1.0 / s.z0_pu, s.tap))
+        elif s.z0_mode == pu_.Z0_SHUNT_FROM:
+            shunts0.append((k, -1, a, 1.0 / s.z0_pu))
+        elif s.z0_mode == pu_.Z0_SHUNT_TO:
+            shunts0.append((k, -1, b, 1.0 / s.z0_pu))
+    for k, h in enumerate(pu.shunts):
+        node = node_of_bus[index[h.bus]]
+        shunts1.append((-1, k, node, 1.0 / h.z1_pu))
+        if h.z0_pu is not None:
+            shunts0.append((-1, k, node, 1.0 / h.z0_pu))
+    seq1, seq0 = _stamps(series1, shunts1), _stamps(series0, shunts0)
+    y1 = seq1.matrix(n)
+    _check_fed(pu, node_of_bus, n, seq1, bus_rows or {})
+    grounded = _reaches_shunt(n, seq0)
+    y0 = seq0.matrix(n) + sp.diags((~grounded).astype(float), format="csc")
+    return Network(
+        node_of_bus, n, y1, y0.tocsc(), grounded, seq1, seq0, tuple(used), tuple(warnings)
+    )
 
-    _check_connected(pu, node_of_bus, n, f, t, shunt_node, bus_rows or {})
-    return Network(node_of_bus, n, y1, tuple(used), tuple(warnings))
+
+def _components(n, stamps: Stamps):
+    graph = sp.coo_matrix(
+        (np.ones(len(stamps.series_from)), (stamps.series_from, stamps.series_to)), shape=(n, n)
+    )
+    return connected_components(graph, directed=False)
 
 
-def _check_connected(pu, node_of_bus, n, f, t, shunt_node, bus_rows):
-    graph = sp.coo_matrix((np.ones(len(f)), (f, t)), shape=(n, n))
-    count, labels = connected_components(graph, directed=False)
+def _reaches_shunt(n: int, stamps: Stamps) -> np.ndarray:
+    """Per node: does its component (in this sequence) hold a shunt to the reference?"""
+    count, labels = _components(n, stamps)
     fed = np.zeros(count, dtype=bool)
-    fed[labels[shunt_node]] = True
+    fed[labels[stamps.shunt_node]] = True
+    return fed[labels]
+
+
+def _check_fed(pu, node_of_bus, n, seq1: Stamps, bus_rows):
+    sources = np.array([h.kind == "source" or h.kind == "generator" for h in pu.shunts], bool)
+    count, labels = _components(n, seq1)
+    fed = np.zeros(count, dtype=bool)
+    fed[labels[seq1.shunt_node[sources[seq1.shunt_source]]]] = True
     dead = ~fed[labels[node_of_bus]]
     if not dead.any():
         return
     problems = []
+    bus_labels = labels[node_of_bus]
     for i in np.flatnonzero(dead):
         name = pu.bus_names[i]
-        island = [
-            pu.bus_names[j] for j in np.flatnonzero(labels[node_of_bus] == labels[node_of_bus[i]])
-        ]
+        island = [pu.bus_names[j] for j in np.flatnonzero(bus_labels == bus_labels[i])]
         joined = (
             f"; it is connected only to {', '.join(b for b in island if b != name)}"
             if len(island) > 1
@@ -109,7 +183,72 @@ def _check_connected(pu, node_of_bus, n, f, t, shunt_node, bus_rows):
                 bus_rows.get(name),
                 "bus",
                 name,
-                "the bus has no path to any source" + joined,
+                "the bus has no path to any source or generator" + joined,
             )
         )
     raise InputError(problems)
+
+
+def zone_angles_deg(
+    pu: PerUnitSystem, network: Network, transformer_rows: dict[str, int] | None = None
+) -> np.ndarray:
+    """Phase displacement of every node's positive-sequence quantities, degrees.
+
+    Each transformer's low-voltage side lags its high-voltage side by 30 degrees per clock hour;
+    the first node of each island is at 0. A loop whose displacements do not add up to a whole
+    turn is an input error: such a network would circulate current.
+    """
+    n = network.n_nodes
+    s = network.seq1
+    if not len(s.series_elem) or all(pu.series[k].clock == 0 for k in s.series_elem):
+        return np.zeros(n)
+    adjacency: list[list[tuple[int, float, int]]] = [[] for _ in range(n)]
+    for k, a, b in zip(
+        s.series_elem.tolist(), s.series_from.tolist(), s.series_to.tolist(), strict=True
+    ):
+        shift = -30.0 * pu.series[k].clock
+        adjacency[a].append((b, shift, k))
+        adjacency[b].append((a, -shift, k))
+    angle = np.full(n, np.nan)
+    problems = []
+    for start in range(n):
+        if not np.isnan(angle[start]):
+            continue
+        angle[start] = 0.0
+        queue = deque([start])
+        while queue:
+            a = queue.popleft()
+            for b, shift, k in adjacency[a]:
+                want = angle[a] + shift
+                if np.isnan(angle[b]):
+                    angle[b] = want
+                    queue.append(b)
+                elif abs((angle[b] - want + 180.0) % 360.0 - 180.0) > 1e-6:
+                    element = pu.series[k]
+                    if element.kind == "transformer":
+                        problems.append(
+                            Problem(
+                                "transformers",
+                                (transformer_rows or {}).get(element.element),
+                                "clock_number",
+                                element.clock,
+                                f"transformer {element.element} closes a loop whose phase "
+                                "displacements do not add up; transformers in parallel need "
+                                "matching vector groups",
+                            )
+                        )
+                    else:
+                        problems.append(
+                            Problem(
+                                element.kind + "s",
+                                None,
+                                None,
+                                element.element,
+                                "closes a loop between transformers of different phase "
+                                "displacement; check the vector groups (clock_number)",
+                            )
+                        )
+    if problems:
+        unique = list({(p.sheet, p.row, p.value): p for p in problems}.values())
+        raise InputError(unique)
+    return angle

@@ -1,16 +1,25 @@
 """Every element on one MVA base, with each bus's nominal kV as its base kV.
 
-Conventions (stated in the README's method section):
+Conventions (stated in the README's method section, with their sources):
 
 * Base impedance of a bus: ``z_base_ohm = kv**2 / base_mva``; base current
   ``i_base_ka = base_mva / (sqrt(3) * kv)``.
-* Utility source: ``|Z| = prefault_pu * base_mva / sc_mva``, so that the study reproduces the
+* Negative sequence equals positive sequence for every element: static elements are symmetrical,
+  and machines use their subtransient impedance in both (common practice).
+* Utility source: ``|Z1| = prefault_pu * base_mva / sc_mva``, so that the study reproduces the
   utility's figure at the point of delivery whatever the prefault voltage; R and X split by X/R.
+  Zero sequence from the line-to-ground current: ``|2 Z1 + Z0| = 3 prefault_pu / I_slg_pu`` at
+  angle ``atan(slg_xr)``, or from r0_ohm/x0_ohm, or Z0 = Z1 (warned).
 * Transformer: the leakage impedance sits on the low-voltage side, changed from the nameplate base
   to the common base, ``z_pu = z_pct/100 * base_mva/(kva/1000) * (lv_kv/lv_bus_kv)**2``, behind an
-  ideal ratio ``tap = (hv_kv/hv_bus_kv) / (lv_kv/lv_bus_kv)`` on the high-voltage side. With
-  rated kV equal to bus kV the tap is 1 and the usual series impedance remains.
-* Cable and impedance: total ohms divided by the bus's base impedance.
+  ideal ratio ``tap = (hv_kv/hv_bus_kv) / (lv_kv/lv_bus_kv)`` on the high-voltage side. Zero
+  sequence by winding connection: YN-YN passes it in series (``z0 + 3 Zn_lv + 3 Zn_hv / tap**2``),
+  D-YN is a shunt to ground on the YN side (``z0 + 3 Zn``), YN-D the same on the HV side, and any
+  Y (ungrounded) or D-D winding pair blocks it.
+* Cable and impedance: total ohms divided by the bus's base impedance. Cable zero sequence: given,
+  or 3 x the positive sequence (warned).
+* Machine: ``z = xd_pct/100 * base_mva/(kva/1000) * (kv/bus_kv)**2 / count`` behind the prefault
+  voltage; zero sequence only when the neutral is grounded: ``(z0 + 3 Zn) / count``.
 """
 
 from __future__ import annotations
@@ -18,9 +27,21 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-from .model import System
+from .errors import InputError, Problem
+from .model import Machine, Source, System, Transformer
 
 SQRT3 = math.sqrt(3.0)
+
+# Cable zero-sequence impedance when not given: 3 x Z1 (common practice, no source; the true
+# value depends on the return path: conduit, grounding conductor, sheath, earth).
+CABLE_Z0_FACTOR = 3.0
+
+# Zero-sequence models of a series element.
+Z0_SERIES = "series"  # between the two buses, with the element's tap
+Z0_SHUNT_FROM = "shunt_from"  # to ground at the from (HV) bus only
+Z0_SHUNT_TO = "shunt_to"  # to ground at the to (LV) bus only
+Z0_OPEN = "open"  # no zero-sequence path through or to ground
+Z0_TIE = "tie"  # the two buses are one node in every sequence
 
 
 def z_base_ohm(kv: float, base_mva: float) -> float:
@@ -50,18 +71,24 @@ class SeriesPU:
     ohm_bus: str
     base_kv: float
     tap: float = 1.0
+    z0_mode: str = Z0_SERIES
+    z0_pu: complex | None = None  # on the base of the bus it sits at (see z0_mode)
+    clock: int = 0  # phase displacement, IEC 60076 clock number (to side lags by 30 deg each)
+    z0_note: str = ""
 
 
 @dataclass(frozen=True)
 class ShuntPU:
-    """A source seen from its bus: an impedance to the prefault-voltage reference."""
+    """A source or machine seen from its bus: an impedance to the prefault voltage."""
 
     element: str
-    kind: str  # "source"
+    kind: str  # "source", "induction_motor", "synchronous_motor", "generator"
     bus: str
     z1_pu: complex
     z1_ohm: complex
     base_kv: float
+    z0_pu: complex | None = None  # None: no zero-sequence path to ground
+    z0_note: str = ""
 
 
 @dataclass(frozen=True)
@@ -72,68 +99,202 @@ class PerUnitSystem:
     bus_kv: tuple[float, ...]
     series: tuple[SeriesPU, ...]
     shunts: tuple[ShuntPU, ...]
+    warnings: tuple[str, ...] = ()
+
+
+def _source(s: Source, kv: float, base_mva: float, prefault: float, problems, notes):
+    z_base = z_base_ohm(kv, base_mva)
+    z1 = split_by_xr(prefault * base_mva / s.available_mva(kv), s.xr)
+    if s.slg_ka is not None:
+        loop = split_by_xr(3.0 * prefault * i_base_ka(kv, base_mva) / s.slg_ka, s.slg_xr)
+        z0 = loop - 2.0 * z1
+        note = f"Z0 from {s.slg_ka:g} kA line-to-ground, X/R {s.slg_xr:g}"
+        if z0.real < 0 or z0.imag <= 0:
+            problems.append(
+                Problem(
+                    "sources",
+                    s.row,
+                    "slg_ka",
+                    s.slg_ka,
+                    "with the three-phase data this implies a zero-sequence impedance "
+                    f"R0 = {z0.real * z_base:.4g} ohm, X0 = {z0.imag * z_base:.4g} ohm, which "
+                    "is not physical; check slg_ka and slg_xr against sc_mva/sc_ka and xr",
+                )
+            )
+    elif s.r0_ohm is not None:
+        z0 = complex(s.r0_ohm, s.x0_ohm) / z_base
+        note = "Z0 from r0_ohm, x0_ohm"
+        if z0 == 0:
+            problems.append(
+                Problem(
+                    "sources",
+                    s.row,
+                    "r0_ohm, x0_ohm",
+                    0,
+                    "a zero-sequence impedance of 0 is an infinite ground source; "
+                    "give the utility's values",
+                )
+            )
+    else:
+        z0 = z1
+        note = "Z0 = Z1 (assumed)"
+        notes.append(
+            f"source {s.source}: no zero-sequence data (slg_ka, or r0_ohm and x0_ohm); "
+            "Z0 taken equal to Z1. Ask the utility for the available line-to-ground "
+            "current."
+        )
+    return ShuntPU(s.source, "source", s.bus, z1, z1 * z_base, kv, z0, note)
+
+
+def _transformer(t: Transformer, kv: dict[str, float], base_mva: float) -> SeriesPU:
+    hv_ratio = t.hv_kv / kv[t.hv_bus]
+    lv_ratio = t.lv_kv / kv[t.lv_bus]
+    tap = hv_ratio / lv_ratio
+    mva = t.kva / 1000.0
+    z_own = split_by_xr(t.z_pct / 100.0, t.xr)
+    z1_pu = z_own * (base_mva / mva) * lv_ratio**2
+    z1_ohm = z_own * t.lv_kv**2 / mva
+    z0_own = split_by_xr(t.z0_pct / 100.0, t.xr0)
+    zn_hv = t.hv_neutral_ohm / z_base_ohm(kv[t.hv_bus], base_mva)
+    zn_lv = t.lv_neutral_ohm / z_base_ohm(kv[t.lv_bus], base_mva)
+    pair = (t.hv_winding, t.lv_winding)
+    if pair == ("YN", "YN"):
+        mode = Z0_SERIES
+        z0 = z0_own * (base_mva / mva) * lv_ratio**2 + 3 * zn_lv + 3 * zn_hv / tap**2
+        note = "zero sequence passes (YN-YN)"
+    elif pair == ("D", "YN"):
+        mode = Z0_SHUNT_TO
+        z0 = z0_own * (base_mva / mva) * lv_ratio**2 + 3 * zn_lv
+        note = "zero sequence: path to ground on the LV side only (D-YN)"
+    elif pair == ("YN", "D"):
+        mode = Z0_SHUNT_FROM
+        z0 = z0_own * (base_mva / mva) * hv_ratio**2 + 3 * zn_hv
+        note = "zero sequence: path to ground on the HV side only (YN-D)"
+    else:
+        mode, z0 = Z0_OPEN, None
+        note = f"zero sequence blocked ({t.hv_winding}-{t.lv_winding})"
+    return SeriesPU(
+        t.transformer,
+        "transformer",
+        t.hv_bus,
+        t.lv_bus,
+        z1_pu,
+        z1_ohm,
+        t.lv_bus,
+        kv[t.lv_bus],
+        tap,
+        mode,
+        z0,
+        t.phase_shift_clock,
+        note,
+    )
+
+
+def _machine(m: Machine, kv_bus: float, base_mva: float) -> ShuntPU:
+    scale = (base_mva / (m.rated_kva / 1000.0)) * (m.kv / kv_bus) ** 2 / m.count
+    z1 = split_by_xr(m.xd_pct / 100.0, m.xr) * scale
+    z0, note = None, "ungrounded: no zero-sequence path"
+    if m.grounded:
+        x0_pct = m.x0_pct if m.x0_pct is not None else m.xd_pct
+        zn = m.neutral_ohm / z_base_ohm(kv_bus, base_mva) / m.count
+        z0 = split_by_xr(x0_pct / 100.0, m.xr) * scale + 3 * zn
+        note = f"grounded neutral ({m.neutral_ohm:g} ohm)"
+    return ShuntPU(
+        m.machine, m.kind, m.bus, z1, z1 * z_base_ohm(kv_bus, base_mva), kv_bus, z0, note
+    )
+
+
+def _names(items: list[str]) -> str:
+    shown = ", ".join(items[:10])
+    return shown + (f" and {len(items) - 10} more" if len(items) > 10 else "")
 
 
 def to_per_unit(system: System, base_mva: float | None = None) -> PerUnitSystem:
-    """Convert a System to per-unit on ``base_mva`` (default: the study setting)."""
+    """Convert a System to per-unit on ``base_mva`` (default: the study setting).
+
+    Raises InputError when source data imply a non-physical zero-sequence impedance.
+    """
     base_mva = system.settings.base_mva if base_mva is None else base_mva
     prefault = system.settings.prefault_pu
     kv = system.bus_kv()
-    shunts = []
-    for s in system.sources:
-        kv_bus = kv[s.bus]
-        z_pu = split_by_xr(prefault * base_mva / s.available_mva(kv_bus), s.xr)
-        shunts.append(
-            ShuntPU(s.source, "source", s.bus, z_pu, z_pu * z_base_ohm(kv_bus, base_mva), kv_bus)
-        )
-    series = []
-    for t in system.transformers:
-        hv_ratio = t.hv_kv / kv[t.hv_bus]
-        lv_ratio = t.lv_kv / kv[t.lv_bus]
-        z_own_pu = split_by_xr(t.z_pct / 100.0, t.xr)
-        z_pu = z_own_pu * (base_mva / (t.kva / 1000.0)) * lv_ratio**2
-        z_ohm = z_own_pu * t.lv_kv**2 / (t.kva / 1000.0)
-        series.append(
-            SeriesPU(
-                t.transformer,
-                "transformer",
-                t.hv_bus,
-                t.lv_bus,
-                z_pu,
-                z_ohm,
-                t.lv_bus,
-                kv[t.lv_bus],
-                tap=hv_ratio / lv_ratio,
-            )
-        )
+    problems: list[Problem] = []
+    notes: list[str] = []
+    shunts = [_source(s, kv[s.bus], base_mva, prefault, problems, notes) for s in system.sources]
+    shunts += [_machine(m, kv[m.bus], base_mva) for m in system.machines]
+    series = [_transformer(t, kv, base_mva) for t in system.transformers]
+    cables_assumed = []
     for c in system.cables:
-        kv_bus = kv[c.from_bus]
+        z_base = z_base_ohm(kv[c.from_bus], base_mva)
+        if c.z0_given:
+            z0_ohm, note = c.z0_ohm_per_kft * c.length_kft / c.sets, "zero sequence as given"
+        else:
+            z0_ohm, note = CABLE_Z0_FACTOR * c.z_ohm, "zero sequence assumed 3 x Z1"
+            cables_assumed.append(c.cable)
         series.append(
             SeriesPU(
                 c.cable,
                 "cable",
                 c.from_bus,
                 c.to_bus,
-                c.z_ohm / z_base_ohm(kv_bus, base_mva),
+                c.z_ohm / z_base,
                 c.z_ohm,
                 c.from_bus,
-                kv_bus,
+                kv[c.from_bus],
+                z0_pu=z0_ohm / z_base,
+                z0_note=note,
             )
         )
+    impedances_assumed = []
     for e in system.impedances:
-        kv_bus = kv[e.from_bus]
+        z_base = z_base_ohm(kv[e.from_bus], base_mva)
+        if e.is_tie:
+            series.append(
+                SeriesPU(
+                    e.element,
+                    "tie",
+                    e.from_bus,
+                    e.to_bus,
+                    0j,
+                    0j,
+                    e.from_bus,
+                    kv[e.from_bus],
+                    z0_mode=Z0_TIE,
+                    z0_pu=0j,
+                )
+            )
+            continue
+        if e.r0_ohm is None:
+            impedances_assumed.append(e.element)
+        note = "zero sequence as given" if e.r0_ohm is not None else "zero sequence = Z1"
         series.append(
             SeriesPU(
                 e.element,
-                "tie" if e.is_tie else "impedance",
+                "impedance",
                 e.from_bus,
                 e.to_bus,
-                e.z_ohm / z_base_ohm(kv_bus, base_mva),
+                e.z_ohm / z_base,
                 e.z_ohm,
                 e.from_bus,
-                kv_bus,
+                kv[e.from_bus],
+                z0_pu=e.z0_ohm / z_base,
+                z0_note=note,
             )
         )
+    if cables_assumed:
+        notes.append(
+            f"cables {_names(cables_assumed)}: no zero-sequence data; Z0 taken as "
+            f"{CABLE_Z0_FACTOR:g} x Z1 (common practice, no source). The true value "
+            "depends on the return path (conduit, grounding conductor, sheath): enter "
+            "r0/x0 for ground-fault currents you rely on."
+        )
+    if impedances_assumed:
+        notes.append(
+            f"impedances {_names(impedances_assumed)}: no r0_ohm/x0_ohm; zero sequence "
+            "taken equal to positive sequence (true of reactors of three single-phase "
+            "coils, not of busway or lines)."
+        )
+    if problems:
+        raise InputError(problems)
     return PerUnitSystem(
         base_mva=base_mva,
         prefault_pu=prefault,
@@ -141,4 +302,5 @@ def to_per_unit(system: System, base_mva: float | None = None) -> PerUnitSystem:
         bus_kv=tuple(b.kv for b in system.buses),
         series=tuple(series),
         shunts=tuple(shunts),
+        warnings=tuple(notes),
     )

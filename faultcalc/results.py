@@ -9,7 +9,26 @@ import pandas as pd
 from .model import Settings
 
 # Columns of StudyResult.buses, which are also the JSON fields of each bus entry.
-BUS_COLUMNS = ("bus", "kv", "r1_ohm", "x1_ohm", "z1_pu", "xr", "i3ph_ka", "s3ph_mva")
+BUS_COLUMNS = (
+    "bus",
+    "kv",
+    "r1_ohm",
+    "x1_ohm",
+    "z1_pu",
+    "xr",
+    "i3ph_ka",
+    "s3ph_mva",
+    "r2_ohm",
+    "x2_ohm",
+    "r0_ohm",
+    "x0_ohm",
+    "islg_ka",
+    "ill_ka",
+    "illg_ka",
+    "ig_llg_ka",
+    "max_fault",
+    "ground_note",
+)
 
 # Columns of StudyResult.elements, the echo of every element on the common base.
 ELEMENT_COLUMNS = (
@@ -26,6 +45,9 @@ ELEMENT_COLUMNS = (
     "x_pu",
     "tap",
     "note",
+    "r0_pu",
+    "x0_pu",
+    "zero_sequence",
 )
 
 
@@ -44,10 +66,11 @@ class Basis:
 
 @dataclass(frozen=True)
 class StudyResult:
-    buses: pd.DataFrame  # one row per bus, input order, columns BUS_COLUMNS
+    buses: pd.DataFrame  # one row per bus, input order, columns BUS_COLUMNS (NaN = none)
     elements: pd.DataFrame  # one row per element, columns ELEMENT_COLUMNS
     descriptions: tuple[str, ...]  # bus descriptions, aligned with `buses`
     node_groups: tuple[str, ...]  # per bus: the other buses sharing its node through ties
     warnings: tuple[str, ...]
     cautions: tuple[str, ...]
     basis: Basis
+    contributions: pd.DataFrame | None = None  # CONTRIBUTION_COLUMNS, when asked for

@@ -25,16 +25,78 @@ class FactorizationError(RuntimeError):
     """The symmetric factorization could not be formed with diagonal pivots."""
 
 
-def _factor(y: sp.csc_matrix):
-    lu = sla.splu(
-        y.tocsc(),
-        permc_spec="MMD_AT_PLUS_A",
-        diag_pivot_thresh=0.0,
-        options={"SymmetricMode": True},
-    )
-    if not np.array_equal(lu.perm_r, lu.perm_c):
-        raise FactorizationError("the factorization needed off-diagonal pivots")
-    return lu
+class SymmetricFactor:
+    """``P Y P^T = L D L^T`` of a complex symmetric admittance matrix, kept for reuse.
+
+    ``diagonal()`` gives the whole diagonal of ``Y^-1``; ``columns(nodes)`` solves for the
+    columns of ``Y^-1`` at a few nodes (fault contributions), each a pair of triangular solves.
+    """
+
+    def __init__(self, y: sp.spmatrix):
+        self.n = y.shape[0]
+        self._lu = None
+        if self.n:
+            self._lu = sla.splu(
+                sp.csc_matrix(y),
+                permc_spec="MMD_AT_PLUS_A",
+                diag_pivot_thresh=0.0,
+                options={"SymmetricMode": True},
+            )
+            if not np.array_equal(self._lu.perm_r, self._lu.perm_c):
+                raise FactorizationError("the factorization needed off-diagonal pivots")
+
+    def columns(self, nodes) -> np.ndarray:
+        """Columns of ``Y^-1`` at ``nodes``: an array of shape (n, len(nodes))."""
+        nodes = np.atleast_1d(np.asarray(nodes, dtype=np.int64))
+        rhs = np.zeros((self.n, len(nodes)), dtype=complex)
+        rhs[nodes, np.arange(len(nodes))] = 1.0
+        return self._lu.solve(rhs) if self.n else rhs
+
+    def diagonal(self) -> np.ndarray:
+        """Diagonal of ``Y^-1`` by the selected-inverse recurrence on the pattern of ``L``."""
+        n = self.n
+        if n == 0:
+            return np.zeros(0, dtype=complex)
+        lu = self._lu
+        low = lu.L.tocsc()
+        low.sort_indices()
+        inv_d = (1.0 / lu.U.diagonal()).tolist()
+        ptr = low.indptr.tolist()
+        idx = low.indices.tolist()
+        val = low.data.tolist()
+        z_low = [0j] * len(val)  # Z on the pattern of L, strictly below the diagonal
+        z_diag = [0j] * n
+        for j in range(n - 1, -1, -1):
+            start, stop = ptr[j] + 1, ptr[j + 1]  # each column's first entry is its diagonal
+            if start == stop:
+                z_diag[j] = inv_d[j]
+                continue
+            if stop - start == 1:  # one entry below the diagonal: every column of a radial net
+                parent, l_pj = idx[start], val[start]
+                z_pj = -l_pj * z_diag[parent]
+                z_low[start] = z_pj
+                z_diag[j] = inv_d[j] - l_pj * z_pj
+                continue
+            rows = idx[start:stop]
+            ls = val[start:stop]
+            acc = inv_d[j]
+            for a, k in enumerate(rows):
+                total = 0j
+                for b, m in enumerate(rows):
+                    if m == k:
+                        z_mk = z_diag[k]
+                    else:
+                        lo, hi = (k, m) if k < m else (m, k)
+                        pos = bisect.bisect_left(idx, hi, ptr[lo], ptr[lo + 1])
+                        if pos == ptr[lo + 1] or idx[pos] != hi:
+                            raise FactorizationError("the factor's pattern is not closed")
+                        z_mk = z_low[pos]
+                    total += ls[b] * z_mk
+                z_low[start + a] = -total
+                acc -= ls[a] * -total
+            z_diag[j] = acc
+        # The factored matrix is y[q][:, q] with q = argsort(perm_c).
+        return np.asarray(z_diag, dtype=complex)[lu.perm_c]
 
 
 def diagonal_of_inverse(y: sp.spmatrix) -> np.ndarray:
@@ -47,46 +109,4 @@ def diagonal_of_inverse(y: sp.spmatrix) -> np.ndarray:
     >>> np.round(diagonal_of_inverse(y).real, 6)
     array([0.4, 0.6])
     """
-    n = y.shape[0]
-    if n == 0:
-        return np.zeros(0, dtype=complex)
-    lu = _factor(y)
-    low = lu.L.tocsc()
-    low.sort_indices()
-    inv_d = (1.0 / lu.U.diagonal()).tolist()
-    ptr = low.indptr.tolist()
-    idx = low.indices.tolist()
-    val = low.data.tolist()
-    z_low = [0j] * len(val)  # Z on the pattern of L, strictly below the diagonal
-    z_diag = [0j] * n
-    for j in range(n - 1, -1, -1):
-        start, stop = ptr[j] + 1, ptr[j + 1]  # first stored entry of each column is its diagonal
-        if start == stop:
-            z_diag[j] = inv_d[j]
-            continue
-        if stop - start == 1:  # one entry below the diagonal: every column of a radial network
-            parent, l_pj = idx[start], val[start]
-            z_pj = -l_pj * z_diag[parent]
-            z_low[start] = z_pj
-            z_diag[j] = inv_d[j] - l_pj * z_pj
-            continue
-        rows = idx[start:stop]
-        ls = val[start:stop]
-        acc = inv_d[j]
-        for a, k in enumerate(rows):
-            total = 0j
-            for b, m in enumerate(rows):
-                if m == k:
-                    z_mk = z_diag[k]
-                else:
-                    lo, hi = (k, m) if k < m else (m, k)
-                    pos = bisect.bisect_left(idx, hi, ptr[lo], ptr[lo + 1])
-                    if pos == ptr[lo + 1] or idx[pos] != hi:
-                        raise FactorizationError("the factor's pattern is not closed")
-                    z_mk = z_low[pos]
-                total += ls[b] * z_mk
-            z_low[start + a] = -total
-            acc -= ls[a] * -total
-        z_diag[j] = acc
-    # The factored matrix is y[q][:, q] with q = argsort(perm_c).
-    return np.asarray(z_diag, dtype=complex)[lu.perm_c]
+    return SymmetricFactor(y).diagonal()

@@ -15,7 +15,7 @@ from openpyxl import Workbook
 ROOT = Path(__file__).resolve().parents[1]
 SOURCE = ROOT / "faultcalc" / "samples"
 TARGET = ROOT / "sample_systems"
-SHEET_ORDER = ("study", "buses", "sources", "transformers", "cables", "impedances")
+SHEET_ORDER = ("study", "buses", "sources", "transformers", "cables", "impedances", "machines")
 
 
 def _cell(text: str):

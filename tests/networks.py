@@ -7,6 +7,17 @@ import numpy as np
 MV_KV = 13.8
 LV_KV = 0.48
 
+# Winding pairs drawn when zero_sequence=True (HV, LV), grounded ones more often.
+WINDINGS = [
+    ("D", "YN"),
+    ("D", "YN"),
+    ("YN", "YN"),
+    ("YN", "D"),
+    ("D", "Y"),
+    ("D", "D"),
+    ("Y", "YN"),
+]
+
 
 def random_sheets(
     seed: int,
@@ -16,29 +27,40 @@ def random_sheets(
     sources: int = 1,
     ties: int = 0,
     off_nominal: bool = False,
+    zero_sequence: bool = False,
+    machines: int = 0,
 ) -> dict[str, list[dict]]:
     """A 13.8 kV network with 480 V networks hung under it through transformers.
 
     MV buses form a random tree (plus ``loops`` extra cables); every LV bus hangs from an MV bus
-    through a transformer or from an LV bus through a cable or impedance.
+    through a transformer or from an LV bus through a cable or impedance. With
+    ``zero_sequence`` the sources, cables and transformers get zero-sequence data and random
+    winding connections; ``machines`` adds motors and generators.
     """
     rng = np.random.default_rng(seed)
     buses = [{"bus": f"M{i}", "kv": MV_KV} for i in range(n_mv)]
     buses += [{"bus": f"L{i}", "kv": LV_KV} for i in range(n_lv)]
     src = []
     for k in range(sources):
-        src.append(
-            {
-                "source": f"S{k}",
-                "bus": f"M{rng.integers(n_mv)}",
-                "sc_mva": float(rng.uniform(100, 800)),
-                "xr": float(rng.uniform(5, 20)),
-            }
-        )
+        row = {
+            "source": f"S{k}",
+            "bus": f"M{rng.integers(n_mv)}",
+            "sc_mva": float(rng.uniform(100, 800)),
+            "xr": float(rng.uniform(5, 20)),
+        }
+        if zero_sequence and k % 2 == 0:
+            # A line-to-ground current between 0.6 and 1.1 of the three-phase one.
+            i3 = row["sc_mva"] / (3**0.5 * MV_KV)
+            row["slg_ka"] = float(i3 * rng.uniform(0.6, 1.1))
+            row["slg_xr"] = float(row["xr"] * rng.uniform(0.8, 1.0))
+        elif zero_sequence:
+            row["r0_ohm"] = float(rng.uniform(0.1, 1.0))
+            row["x0_ohm"] = float(rng.uniform(0.5, 3.0))
+        src.append(row)
     cables, transformers, impedances = [], [], []
 
     def cable(a, b, kv):
-        per_kft = kv < 1
+        low = kv < 1
         row = {
             "cable": f"C{len(cables)}",
             "from_bus": a,
@@ -46,15 +68,22 @@ def random_sheets(
             "sets": int(rng.integers(1, 4)),
         }
         if rng.random() < 0.5:
-            row["length_ft"] = float(rng.uniform(20, 800 if per_kft else 5000))
+            row["length_ft"] = float(rng.uniform(20, 800 if low else 5000))
         else:
-            row["length_m"] = float(rng.uniform(10, 250 if per_kft else 1500))
+            row["length_m"] = float(rng.uniform(10, 250 if low else 1500))
         if rng.random() < 0.5:
             row["r_ohm_per_kft"] = float(rng.uniform(0.02, 0.3))
             row["x_ohm_per_kft"] = float(rng.uniform(0.03, 0.06))
         else:
             row["r_ohm_per_km"] = float(rng.uniform(0.06, 1.0))
             row["x_ohm_per_km"] = float(rng.uniform(0.1, 0.2))
+        if zero_sequence and rng.random() < 0.7:
+            if rng.random() < 0.5:
+                row["r0_ohm_per_kft"] = float(rng.uniform(0.05, 0.9))
+                row["x0_ohm_per_kft"] = float(rng.uniform(0.05, 0.3))
+            else:
+                row["r0_ohm_per_km"] = float(rng.uniform(0.15, 3.0))
+                row["x0_ohm_per_km"] = float(rng.uniform(0.15, 1.0))
         cables.append(row)
 
     for i in range(1, n_mv):
@@ -68,32 +97,45 @@ def random_sheets(
         if not lv_fed or rng.random() < 0.4:
             hv_kv = MV_KV * (rng.choice([1.0, 0.95, 1.04]) if off_nominal else 1.0)
             lv_kv = LV_KV * (rng.choice([1.0, 1.02]) if off_nominal else 1.0)
-            transformers.append(
-                {
-                    "transformer": f"T{len(transformers)}",
-                    "hv_bus": f"M{rng.integers(n_mv)}",
-                    "lv_bus": name,
-                    "kva": float(rng.choice([300, 500, 750, 1000, 1500, 2500])),
-                    "hv_kv": float(hv_kv),
-                    "lv_kv": float(lv_kv),
-                    "z_pct": float(rng.uniform(4, 7)),
-                    "xr": float(rng.uniform(3, 10)),
-                    "hv_winding": "D",
-                    "lv_winding": "YN",
-                }
-            )
+            row = {
+                "transformer": f"T{len(transformers)}",
+                "hv_bus": f"M{rng.integers(n_mv)}",
+                "lv_bus": name,
+                "kva": float(rng.choice([300, 500, 750, 1000, 1500, 2500])),
+                "hv_kv": float(hv_kv),
+                "lv_kv": float(lv_kv),
+                "z_pct": float(rng.uniform(4, 7)),
+                "xr": float(rng.uniform(3, 10)),
+                "hv_winding": "D",
+                "lv_winding": "YN",
+            }
+            if zero_sequence:
+                hv_w, lv_w = WINDINGS[rng.integers(len(WINDINGS))]
+                row.update(
+                    {
+                        "hv_winding": hv_w,
+                        "lv_winding": lv_w,
+                        "z0_pct": float(row["z_pct"] * rng.uniform(0.8, 1.0)),
+                        "xr0": float(rng.uniform(3, 10)),
+                        "lv_neutral_ohm": float(rng.choice([0, 0, 0.5, 2.0])),
+                        "hv_neutral_ohm": float(rng.choice([0, 0, 5.0])),
+                    }
+                )
+            transformers.append(row)
         elif rng.random() < 0.8:
             cable(lv_fed[rng.integers(len(lv_fed))], name, LV_KV)
         else:
-            impedances.append(
-                {
-                    "element": f"Z{len(impedances)}",
-                    "from_bus": lv_fed[rng.integers(len(lv_fed))],
-                    "to_bus": name,
-                    "r_ohm": float(rng.uniform(0, 0.003)),
-                    "x_ohm": float(rng.uniform(0.0005, 0.004)),
-                }
-            )
+            row = {
+                "element": f"Z{len(impedances)}",
+                "from_bus": lv_fed[rng.integers(len(lv_fed))],
+                "to_bus": name,
+                "r_ohm": float(rng.uniform(0, 0.003)),
+                "x_ohm": float(rng.uniform(0.0005, 0.004)),
+            }
+            if zero_sequence and rng.random() < 0.5:
+                row["r0_ohm"] = float(rng.uniform(0, 0.01))
+                row["x0_ohm"] = float(rng.uniform(0.001, 0.01))
+            impedances.append(row)
         lv_fed.append(name)
     for _ in range(ties):
         a, b = rng.choice(n_lv, 2, replace=False)
@@ -106,7 +148,32 @@ def random_sheets(
                 "x_ohm": 0,
             }
         )
+    machine_rows = []
+    for k in range(machines):
+        generator = bool(rng.random() < 0.3)
+        on_lv = bool(rng.random() < 0.8)
+        row = {
+            "machine": f"G{k}" if generator else f"MOT{k}",
+            "bus": f"L{rng.integers(n_lv)}" if on_lv else f"M{rng.integers(n_mv)}",
+            "kind": "generator"
+            if generator
+            else str(rng.choice(["induction_motor", "synchronous_motor"])),
+            "kv": (LV_KV if on_lv else MV_KV) * float(rng.choice([1.0, 0.9583])),
+            "xd_pct": float(rng.uniform(12, 25)),
+            "xr": float(rng.uniform(3, 30)),
+            "count": int(rng.integers(1, 5)),
+        }
+        if generator or rng.random() < 0.5:
+            row["kva"] = float(rng.uniform(50, 2000))
+        else:
+            row["hp"] = float(rng.uniform(5, 500))
+        if generator and rng.random() < 0.7:
+            row["neutral_ohm"] = float(rng.choice([0.0, 0.3]))
+            row["x0_pct"] = float(rng.uniform(3, 10))
+        machine_rows.append(row)
     sheets = {"buses": buses, "sources": src, "transformers": transformers, "cables": cables}
     if impedances:
         sheets["impedances"] = impedances
+    if machine_rows:
+        sheets["machines"] = machine_rows
     return sheets

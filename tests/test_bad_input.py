@@ -12,7 +12,7 @@ from faultcalc.cli import main
 
 GOOD = {
     "buses": [{"bus": "HV", "kv": 12.47}, {"bus": "LV", "kv": 0.48}, {"bus": "PNL", "kv": 0.48}],
-    "sources": [{"source": "U", "bus": "HV", "sc_mva": 200, "xr": 8}],
+    "sources": [{"source": "U", "bus": "HV", "sc_mva": 200, "xr": 8, "slg_ka": 7}],
     "transformers": [
         {
             "transformer": "T",
@@ -36,6 +36,8 @@ GOOD = {
             "sets": 1,
             "r_ohm_per_kft": 0.05,
             "x_ohm_per_kft": 0.045,
+            "r0_ohm_per_kft": 0.15,
+            "x0_ohm_per_kft": 0.12,
         }
     ],
 }

@@ -54,9 +54,9 @@ def test_study_writes_json_with_the_documented_fields(tmp_path):
     ):
         assert key in doc["study"]
     assert doc["study"]["input"] == "double_ended_480v" and len(doc["study"]["input_sha256"]) == 64
-    assert [set(b) for b in doc["buses"]] == [
-        {"bus", "kv", "r1_ohm", "x1_ohm", "z1_pu", "xr", "i3ph_ka", "s3ph_mva"}
-    ] * 7
+    fields = {"bus", "kv", "r1_ohm", "x1_ohm", "z1_pu", "xr", "i3ph_ka", "s3ph_mva"}
+    fields |= {"r0_ohm", "x0_ohm", "islg_ka", "ill_ka", "illg_ka", "ig_llg_ka"}
+    assert all(fields <= set(b) for b in doc["buses"]) and len(doc["buses"]) == 7
     assert [b["bus"] for b in doc["buses"]][:3] == ["MV-MAIN", "RMU-A", "RMU-B"]
     assert doc["cautions"] and isinstance(doc["warnings"], list)
 
@@ -87,53 +87,16 @@ def test_filled_template_reads_back_without_warnings(tmp_path):
     assert run("template", str(path)).exit_code == 0
     book = load_workbook(path)
     sample = read_system(sample_path("plant_480v"))
-    rows = {
-        "buses": [(b.bus, b.kv, b.description) for b in sample.buses],
-        "sources": [(s.source, s.bus, s.sc_mva, s.sc_ka, s.xr) for s in sample.sources],
-        "transformers": [
-            (
-                t.transformer,
-                t.hv_bus,
-                t.lv_bus,
-                t.kva,
-                t.hv_kv,
-                t.lv_kv,
-                t.z_pct,
-                t.xr,
-                t.hv_winding,
-                t.lv_winding,
-                t.lv_neutral_ohm,
-            )
-            for t in sample.transformers
-        ],
-        "cables": [
-            (
-                c.cable,
-                c.from_bus,
-                c.to_bus,
-                c.length_ft,
-                c.length_m,
-                c.sets,
-                c.size,
-                c.material,
-                c.raceway,
-                c.r_ohm_per_kft,
-                c.x_ohm_per_kft,
-                c.r_ohm_per_km,
-                c.x_ohm_per_km,
-            )
-            for c in sample.cables
-        ],
-    }
-    for name, values in rows.items():
-        for row in values:
-            book[name].append(list(row))
+    for sheet in schema.SHEETS[1:]:
+        for element in getattr(sample, sheet.name):
+            book[sheet.name].append([getattr(element, c) for c in sheet.names])
     book["study"]["B2"] = "Filled-in template (invented test data)"
     book.save(path)
     filled = read_system(path)
     assert filled.warnings == ()
     assert [b.bus for b in filled.buses] == [b.bus for b in sample.buses]
-    assert filled.transformers == sample.transformers and filled.cables == sample.cables
+    for sheet in schema.SHEETS[1:]:
+        assert getattr(filled, sheet.name) == getattr(sample, sheet.name)
 
 
 def test_refuses_json_over_the_workbook(tmp_path):

@@ -25,8 +25,8 @@ def _by_xr(z, xr):
     return complex(r, r * xr)
 
 
-def dense_reference(sheets, base_mva=100.0):
-    """Thevenin impedance in ohms at every bus, from a dense inverse."""
+def dense_reference(sheets, base_mva=100.0, prefault=1.0):
+    """Thevenin impedances in ohms at every bus, from dense inverses: (z1, z0), NaN = no path."""
     kv = {b["bus"]: b["kv"] for b in sheets["buses"]}
     names = list(kv)
     parent = {n: n for n in names}
@@ -41,12 +41,16 @@ def dense_reference(sheets, base_mva=100.0):
             parent[root(e["to_bus"])] = root(e["from_bus"])
     nodes = sorted({root(n) for n in names})
     idx = {n: nodes.index(root(n)) for n in names}
-    y = np.zeros((len(nodes), len(nodes)), dtype=complex)
+    size = len(nodes)
+    y1 = np.zeros((size, size), dtype=complex)
+    y0 = np.zeros((size, size), dtype=complex)
+    links0 = []  # zero-sequence branches, for finding islands without a ground path
+    grounds0 = set()
 
     def zbase(bus):
         return kv[bus] ** 2 / base_mva
 
-    def stamp(a, b, z_pu, tap=1.0):
+    def stamp(y, a, b, z_pu, tap=1.0):
         i, j = idx[a], idx[b]
         if i == j:
             return
@@ -55,27 +59,89 @@ def dense_reference(sheets, base_mva=100.0):
         y[j, j] += adm
         y[i, j] -= adm / tap
         y[j, i] -= adm / tap
+        if y is y0:
+            links0.append((i, j))
+
+    def shunt(y, bus, z_pu):
+        y[idx[bus], idx[bus]] += 1 / z_pu
+        if y is y0:
+            grounds0.add(idx[bus])
 
     for s in sheets["sources"]:
-        y[idx[s["bus"]], idx[s["bus"]]] += 1 / _by_xr(base_mva / s["sc_mva"], s["xr"])
+        z1 = _by_xr(prefault * base_mva / s["sc_mva"], s["xr"])
+        shunt(y1, s["bus"], z1)
+        if "slg_ka" in s:
+            i_base = base_mva / (math.sqrt(3) * kv[s["bus"]])
+            z0 = _by_xr(3 * prefault * i_base / s["slg_ka"], s.get("slg_xr", s["xr"])) - 2 * z1
+        elif "r0_ohm" in s:
+            z0 = complex(s["r0_ohm"], s["x0_ohm"]) / zbase(s["bus"])
+        else:
+            z0 = z1
+        shunt(y0, s["bus"], z0)
     for t in sheets["transformers"]:
-        z_lv_ohm = _by_xr(t["z_pct"] / 100, t["xr"]) * t["lv_kv"] ** 2 / (t["kva"] / 1000)
+        mva = t["kva"] / 1000
+        z_lv_ohm = _by_xr(t["z_pct"] / 100, t["xr"]) * t["lv_kv"] ** 2 / mva
         tap = (t["hv_kv"] / kv[t["hv_bus"]]) / (t["lv_kv"] / kv[t["lv_bus"]])
-        stamp(t["hv_bus"], t["lv_bus"], z_lv_ohm / zbase(t["lv_bus"]), tap)
+        stamp(y1, t["hv_bus"], t["lv_bus"], z_lv_ohm / zbase(t["lv_bus"]), tap)
+        z0_own = _by_xr(t.get("z0_pct", t["z_pct"]) / 100, t.get("xr0", t["xr"]))
+        z0_lv = z0_own * t["lv_kv"] ** 2 / mva / zbase(t["lv_bus"])  # on the LV bus base
+        z0_hv = z0_own * t["hv_kv"] ** 2 / mva / zbase(t["hv_bus"])  # on the HV bus base
+        zn_lv = 3 * t.get("lv_neutral_ohm", 0) / zbase(t["lv_bus"])
+        zn_hv = 3 * t.get("hv_neutral_ohm", 0) / zbase(t["hv_bus"])
+        pair = (t["hv_winding"], t["lv_winding"])
+        if pair == ("YN", "YN"):
+            stamp(y0, t["hv_bus"], t["lv_bus"], z0_lv + zn_lv + zn_hv / tap**2, tap)
+        elif pair == ("D", "YN"):
+            shunt(y0, t["lv_bus"], z0_lv + zn_lv)
+        elif pair == ("YN", "D"):
+            shunt(y0, t["hv_bus"], z0_hv + zn_hv)
     for c in sheets["cables"]:
         length_kft = c["length_ft"] / 1000 if "length_ft" in c else c["length_m"] / 304.8
         if "r_ohm_per_kft" in c:
             per_kft = complex(c["r_ohm_per_kft"], c["x_ohm_per_kft"])
         else:
             per_kft = complex(c["r_ohm_per_km"], c["x_ohm_per_km"]) * 0.3048
-        stamp(c["from_bus"], c["to_bus"], per_kft * length_kft / c["sets"] / zbase(c["from_bus"]))
+        if "r0_ohm_per_kft" in c:
+            per_kft0 = complex(c["r0_ohm_per_kft"], c["x0_ohm_per_kft"])
+        elif "r0_ohm_per_km" in c:
+            per_kft0 = complex(c["r0_ohm_per_km"], c["x0_ohm_per_km"]) * 0.3048
+        else:
+            per_kft0 = 3 * per_kft  # the documented default
+        zb = zbase(c["from_bus"])
+        stamp(y1, c["from_bus"], c["to_bus"], per_kft * length_kft / c["sets"] / zb)
+        stamp(y0, c["from_bus"], c["to_bus"], per_kft0 * length_kft / c["sets"] / zb)
     for e in sheets.get("impedances", []):
         if e["r_ohm"] or e["x_ohm"]:
-            stamp(
-                e["from_bus"], e["to_bus"], complex(e["r_ohm"], e["x_ohm"]) / zbase(e["from_bus"])
-            )
-    z = np.diag(np.linalg.inv(y))
-    return np.array([z[idx[n]] * zbase(n) for n in names])
+            zb = zbase(e["from_bus"])
+            stamp(y1, e["from_bus"], e["to_bus"], complex(e["r_ohm"], e["x_ohm"]) / zb)
+            z0 = complex(e.get("r0_ohm", e["r_ohm"]), e.get("x0_ohm", e["x_ohm"]))
+            stamp(y0, e["from_bus"], e["to_bus"], z0 / zb)
+    for m in sheets.get("machines", []):
+        kva = m.get("kva", m.get("hp"))  # 1 kVA per hp, the documented convention
+        scale = base_mva / (kva / 1000) * (m["kv"] / kv[m["bus"]]) ** 2 / m.get("count", 1)
+        shunt(y1, m["bus"], _by_xr(m["xd_pct"] / 100, m["xr"]) * scale)
+        if "neutral_ohm" in m:
+            z0 = _by_xr(m.get("x0_pct", m["xd_pct"]) / 100, m["xr"]) * scale
+            z0 += 3 * m["neutral_ohm"] / zbase(m["bus"]) / m.get("count", 1)
+            shunt(y0, m["bus"], z0)
+    # Zero-sequence islands with no path to ground: find them by flooding from grounded nodes.
+    reach = set(grounds0)
+    changed = True
+    while changed:
+        changed = False
+        for i, j in links0:
+            if (i in reach) != (j in reach):
+                reach |= {i, j}
+                changed = True
+    grounded = np.array([k in reach for k in range(size)])
+    z1 = np.diag(np.linalg.inv(y1))
+    z0 = np.full(size, np.nan, dtype=complex)
+    keep = np.flatnonzero(grounded)
+    if len(keep):
+        z0[keep] = np.diag(np.linalg.inv(y0[np.ix_(keep, keep)]))
+    z1_ohm = np.array([z1[idx[n]] * zbase(n) for n in names])
+    z0_ohm = np.array([z0[idx[n]] * zbase(n) for n in names])
+    return z1_ohm, z0_ohm
 
 
 CASES = [
@@ -85,6 +151,20 @@ CASES = [
     dict(seed=4, loops=2, sources=2, ties=2),
     dict(seed=5, loops=4, off_nominal=True),
     dict(seed=6, n_mv=30, n_lv=80, loops=10, sources=4, ties=3, off_nominal=True),
+    dict(seed=7, zero_sequence=True),
+    dict(seed=8, zero_sequence=True, machines=6),
+    dict(seed=9, loops=4, sources=2, zero_sequence=True, machines=10, ties=2),
+    dict(
+        seed=10,
+        n_mv=30,
+        n_lv=90,
+        loops=8,
+        sources=3,
+        zero_sequence=True,
+        machines=25,
+        off_nominal=True,
+        ties=2,
+    ),
 ]
 
 
@@ -92,11 +172,21 @@ CASES = [
 def test_study_matches_dense_inverse(make_input, case):
     sheets = random_sheets(**case)
     result = run_study(read_system(make_input(sheets)))
-    z_ref = dense_reference(sheets)
-    z = result.buses.r1_ohm.to_numpy() + 1j * result.buses.x1_ohm.to_numpy()
-    np.testing.assert_allclose(z, z_ref, rtol=1e-9, atol=0)
-    i_ref = 1 / np.abs(z_ref) * result.buses.kv.to_numpy() / math.sqrt(3)
-    np.testing.assert_allclose(result.buses.i3ph_ka.to_numpy(), i_ref, rtol=1e-9)
+    z1_ref, z0_ref = dense_reference(sheets)
+    b = result.buses
+    z1 = b.r1_ohm.to_numpy() + 1j * b.x1_ohm.to_numpy()
+    z2 = b.r2_ohm.to_numpy() + 1j * b.x2_ohm.to_numpy()
+    z0 = b.r0_ohm.to_numpy() + 1j * b.x0_ohm.to_numpy()
+    np.testing.assert_allclose(z1, z1_ref, rtol=1e-9, atol=0)
+    np.testing.assert_allclose(z2, z1_ref, rtol=1e-9, atol=0)  # Z2 = Z1 (stated convention)
+    assert np.array_equal(np.isnan(z0), np.isnan(z0_ref))
+    ok = ~np.isnan(z0_ref)
+    np.testing.assert_allclose(z0[ok], z0_ref[ok], rtol=1e-9, atol=0)
+    i_ref = 1 / np.abs(z1_ref) * b.kv.to_numpy() / math.sqrt(3)
+    np.testing.assert_allclose(b.i3ph_ka.to_numpy(), i_ref, rtol=1e-9)
+    islg_ref = 3 / np.abs(2 * z1_ref + z0_ref) * b.kv.to_numpy() / math.sqrt(3)
+    np.testing.assert_allclose(b.islg_ka.to_numpy()[ok], islg_ref[ok], rtol=1e-9)
+    assert np.isnan(b.islg_ka.to_numpy()[~ok]).all()
 
 
 @pytest.mark.parametrize("seed", range(10))
@@ -109,7 +199,10 @@ def test_selected_inverse_equals_dense_diagonal(make_input, seed):
         sources=1 + seed % 3,
         ties=seed % 2,
         off_nominal=seed % 2 == 1,
+        zero_sequence=True,
+        machines=2 * seed,
     )
     network = build_network(to_per_unit(read_system(make_input(sheets))))
-    dense = np.diag(np.linalg.inv(network.y1.toarray()))
-    np.testing.assert_allclose(diagonal_of_inverse(network.y1), dense, rtol=1e-9, atol=0)
+    for y in (network.y1, network.y0):
+        dense = np.diag(np.linalg.inv(y.toarray()))
+        np.testing.assert_allclose(diagonal_of_inverse(y), dense, rtol=1e-9, atol=0)

@@ -93,6 +93,9 @@ def _read_sheet(spec: schema.Sheet, raw: RawSheet | None, out: _Collector) -> li
                 out.problem(spec.name, number, column.name, cell, str(exc))
                 values[column.name] = None
                 ok = False
+        for column in spec.columns:
+            if column.default_from and values.get(column.name) is None:
+                values[column.name] = values.get(column.default_from)
         for alternative in spec.alternatives:
             ok &= _check_alternative(spec, alternative, number, raw_values, out)
         records.append(Record(number, values, ok))
@@ -171,6 +174,7 @@ def _read_settings(raw: RawSheet | None, out: _Collector) -> model.Settings:
         base_mva=float(values["base_mva"]),
         frequency_hz=int(values["frequency_hz"]),
         prefault_pu=float(values["prefault_pu"]),
+        fault_ohm=float(values["fault_ohm"]),
     )
 
 
@@ -276,6 +280,76 @@ def _check_transformers(records: list[Record], bus_kv: dict[str, float], out: _C
                 )
 
 
+def _check_machines(records: list[Record], bus_kv: dict[str, float], out: _Collector) -> None:
+    for record in records:
+        v = record.values
+        if v.get("kind") == "generator" and v.get("hp") is not None:
+            out.problem(
+                "machines",
+                record.row,
+                "hp",
+                v["hp"],
+                "a generator is rated in kVA: give kva instead of hp",
+            )
+            record.ok = False
+        if not record.ok:
+            continue
+        nominal = bus_kv[v["bus"]]
+        if abs(v["kv"] / nominal - 1.0) > KV_MISMATCH_WARN:
+            out.warn(
+                "machines",
+                record.row,
+                "kv",
+                v["kv"],
+                f"machine rated {v['kv']:g} kV on bus {v['bus']} of {nominal:g} kV; its "
+                "impedance is changed to the bus voltage base; check the rating",
+            )
+        if v.get("neutral_ohm") is not None and v.get("x0_pct") is None:
+            out.warn(
+                "machines",
+                record.row,
+                "x0_pct",
+                None,
+                "grounded neutral but no zero-sequence reactance: X0 taken equal to xd_pct; "
+                "a generator's X0 is usually lower, so its ground-fault contribution may be "
+                "understated; enter x0_pct from the manufacturer's data",
+            )
+
+
+def _check_sources(records: list[Record], raw: RawSheet | None, out: _Collector) -> None:
+    for record in records:
+        v = record.values
+        raw_values = dict(raw.rows).get(record.row, {}) if raw else {}
+        if v.get("slg_ka") is None and not cells.is_blank(raw_values.get("slg_xr")):
+            out.warn(
+                "sources",
+                record.row,
+                "slg_xr",
+                raw_values.get("slg_xr"),
+                "slg_xr is used only with slg_ka; ignored",
+            )
+
+
+def _check_clock(records: list[Record], out: _Collector) -> None:
+    for record in records:
+        v = record.values
+        clock = v.get("clock_number")
+        if clock is None or not record.ok:
+            continue
+        mixed = (v["hv_winding"] == "D") != (v["lv_winding"] == "D")
+        if clock > 11 or (clock % 2 == 1) != mixed:
+            parity = "odd (1, 5, 7 or 11)" if mixed else "even (0, 2, ..., 10)"
+            out.problem(
+                "transformers",
+                record.row,
+                "clock_number",
+                clock,
+                f"a {v['hv_winding']}-{v['lv_winding']} transformer has an {parity} "
+                "clock number from 0 to 11 (IEC 60076-1 vector groups)",
+            )
+            record.ok = False
+
+
 def read_tables(raw: RawInput) -> model.System:
     """Validate raw sheets into a System; raises InputError listing every problem."""
     out = _Collector()
@@ -311,6 +385,7 @@ def read_tables(raw: RawInput) -> model.System:
     _check_same_kv("cables", recs["cables"], bus_kv, out)
     _check_same_kv("impedances", recs["impedances"], bus_kv, out)
     _check_transformers(recs["transformers"], bus_kv, out)
+    _check_clock(recs["transformers"], out)
     for record in recs["cables"]:
         v = record.values
         if (
@@ -328,34 +403,33 @@ def read_tables(raw: RawInput) -> model.System:
                 "with r_ohm = x_ohm = 0 for a closed tie)",
             )
             record.ok = False
+    _check_refs("machines", ("bus",), recs["machines"], bus_kv, out)
+    _check_machines(recs["machines"], bus_kv, out)
+    _check_sources(recs["sources"], raw.sheets.get("sources"), out)
     if not any(True for r in recs["sources"]) and "sources" in raw.sheets:
         out.problem("sources", None, None, None, "no source given; at least one is needed")
     if out.problems:
         raise InputError(out.problems)
 
     def build(cls, sheet):
-        fields = [f for f in cls.__dataclass_fields__ if f != "row"]
-        return tuple(cls(**{f: r.values[f] for f in fields}, row=r.row) for r in recs[sheet])
+        fields = cls.__dataclass_fields__
+        rows = []
+        for r in recs[sheet]:
+            kwargs = {f: r.values.get(f) for f in fields if f != "row"}
+            for f, spec in fields.items():  # blank text cells take the dataclass default ("")
+                if kwargs.get(f) is None and spec.default == "":
+                    kwargs[f] = ""
+            rows.append(cls(**kwargs, row=r.row))
+        return tuple(rows)
 
     return model.System(
         settings=settings,
-        buses=tuple(
-            model.Bus(r.values["bus"], r.values["kv"], r.values["description"] or "", row=r.row)
-            for r in recs["buses"]
-        ),
+        buses=build(model.Bus, "buses"),
         sources=build(model.Source, "sources"),
         transformers=build(model.Transformer, "transformers"),
-        cables=tuple(
-            model.Cable(
-                **{
-                    **{f: r.values[f] for f in model.Cable.__dataclass_fields__ if f != "row"},
-                    "size": r.values["size"] or "",
-                },
-                row=r.row,
-            )
-            for r in recs["cables"]
-        ),
+        cables=build(model.Cable, "cables"),
         impedances=build(model.Impedance, "impedances"),
+        machines=build(model.Machine, "machines"),
         input_name=raw.display_name,
         input_sha256=raw.sha256,
         warnings=tuple(out.warnings),

@@ -39,6 +39,7 @@ class Column:
     default: Any = None
     choices: tuple[str, ...] = ()
     bound: str = ""
+    default_from: str = ""  # blank takes the value of this other column of the row
 
     def expected(self) -> str:
         """What a valid cell of this column holds, in words, for error messages."""
@@ -110,6 +111,16 @@ SETTINGS: tuple[Column, ...] = (
         default=1.0,
         bound=POSITIVE,
     ),
+    Column(
+        "fault_ohm",
+        NUMBER,
+        "Fault impedance (arc or contact resistance) in every fault, ohms; 0 = bolted. "
+        "Three-phase: in each phase; line-to-ground and double-line-to-ground: to ground; "
+        "line-to-line: between the two lines.",
+        unit="ohm",
+        default=0.0,
+        bound=NON_NEGATIVE,
+    ),
 )
 
 STUDY = Sheet(
@@ -174,9 +185,41 @@ SOURCES = Sheet(
             required=True,
             bound=POSITIVE,
         ),
+        Column(
+            "slg_ka",
+            NUMBER,
+            "Available line-to-ground short-circuit current at the bus, from the utility; fixes "
+            "the source's zero-sequence impedance. Blank with r0_ohm/x0_ohm blank: Z0 = Z1.",
+            unit="kA",
+            bound=POSITIVE,
+        ),
+        Column(
+            "slg_xr",
+            NUMBER,
+            "X/R ratio of the line-to-ground fault loop (2 Z1 + Z0).",
+            bound=POSITIVE,
+            default_from="xr",
+        ),
+        Column(
+            "r0_ohm",
+            NUMBER,
+            "Zero-sequence resistance of the source, ohms at the bus voltage.",
+            unit="ohm",
+            bound=NON_NEGATIVE,
+        ),
+        Column(
+            "x0_ohm",
+            NUMBER,
+            "Zero-sequence reactance of the source, ohms at the bus voltage.",
+            unit="ohm",
+            bound=NON_NEGATIVE,
+        ),
     ),
     required=True,
-    alternatives=(Alternative((("sc_mva",), ("sc_ka",))),),
+    alternatives=(
+        Alternative((("sc_mva",), ("sc_ka",))),
+        Alternative((("slg_ka",), ("r0_ohm", "x0_ohm")), required=False),
+    ),
 )
 
 TRANSFORMERS = Sheet(
@@ -244,6 +287,38 @@ TRANSFORMERS = Sheet(
             default=0.0,
             bound=NON_NEGATIVE,
         ),
+        Column(
+            "hv_neutral_ohm",
+            NUMBER,
+            "Impedance from the high-voltage neutral to ground (YN winding); 0 = solidly grounded.",
+            unit="ohm",
+            default=0.0,
+            bound=NON_NEGATIVE,
+        ),
+        Column(
+            "z0_pct",
+            NUMBER,
+            "Zero-sequence impedance on the transformer's own kVA and kV.",
+            unit="%",
+            bound=POSITIVE,
+            default_from="z_pct",
+        ),
+        Column(
+            "xr0",
+            NUMBER,
+            "X/R ratio of the zero-sequence impedance.",
+            bound=POSITIVE,
+            default_from="xr",
+        ),
+        Column(
+            "clock_number",
+            INTEGER,
+            "Phase displacement as the IEC 60076 clock number of the vector group (Dyn1 -> 1, "
+            "Dyn11 -> 11): the low-voltage side lags by 30 degrees per hour. Used for the "
+            "currents of sources seen through the transformer. Blank = 1 for D-Y and Y-D "
+            "connections (low voltage lagging by 30 degrees), 0 otherwise.",
+            bound=NON_NEGATIVE,
+        ),
     ),
 )
 
@@ -292,10 +367,27 @@ CABLES = Sheet(
         Column(
             "x_ohm_per_km", NUMBER, "Reactance of one conductor.", unit="ohm/km", bound=NON_NEGATIVE
         ),
+        *(
+            Column(
+                f"{q}0_ohm_per_{unit}",
+                NUMBER,
+                f"Zero-sequence {what} of one set of conductors with its return path "
+                "(divided by 'sets' like R and X). Blank: 3 x the positive-sequence value "
+                "(an assumption, warned).",
+                unit=f"ohm/{label}",
+                bound=NON_NEGATIVE,
+            )
+            for unit, label in (("kft", "1000 ft"), ("km", "km"))
+            for q, what in (("r", "resistance"), ("x", "reactance"))
+        ),
     ),
     alternatives=(
         Alternative((("length_ft",), ("length_m",))),
         Alternative((("r_ohm_per_kft", "x_ohm_per_kft"), ("r_ohm_per_km", "x_ohm_per_km"))),
+        Alternative(
+            (("r0_ohm_per_kft", "x0_ohm_per_kft"), ("r0_ohm_per_km", "x0_ohm_per_km")),
+            required=False,
+        ),
     ),
 )
 
@@ -323,10 +415,104 @@ IMPEDANCES = Sheet(
             required=True,
             bound=NON_NEGATIVE,
         ),
+        Column(
+            "r0_ohm",
+            NUMBER,
+            "Total zero-sequence resistance. Blank: equal to r_ohm (true of a reactor of three "
+            "single-phase coils; for busway and lines enter it).",
+            unit="ohm",
+            bound=NON_NEGATIVE,
+        ),
+        Column(
+            "x0_ohm",
+            NUMBER,
+            "Total zero-sequence reactance. Blank: equal to x_ohm.",
+            unit="ohm",
+            bound=NON_NEGATIVE,
+        ),
     ),
+    alternatives=(Alternative((("r0_ohm", "x0_ohm"),), required=False),),
 )
 
-SHEETS: tuple[Sheet, ...] = (STUDY, BUSES, SOURCES, TRANSFORMERS, CABLES, IMPEDANCES)
+MACHINE_KINDS = ("induction_motor", "synchronous_motor", "generator")
+
+MACHINES = Sheet(
+    "machines",
+    "Rotating machines that feed a fault: motors running at the time of the fault and "
+    "generators, each a source behind its subtransient impedance. Group identical small motors "
+    "with 'count'.",
+    (
+        Column("machine", ID, "Unique name of the machine or group.", required=True),
+        Column("bus", BUS_REF, "Bus the machine is connected to.", required=True),
+        Column(
+            "kind",
+            CHOICE,
+            "induction_motor, synchronous_motor or generator.",
+            required=True,
+            choices=MACHINE_KINDS,
+        ),
+        Column("kva", NUMBER, "Rated apparent power of one machine.", unit="kVA", bound=POSITIVE),
+        Column(
+            "hp",
+            NUMBER,
+            "Rated output of one motor; taken as 1 kVA per hp (see the README's method).",
+            unit="hp",
+            bound=POSITIVE,
+        ),
+        Column(
+            "kv",
+            NUMBER,
+            "Rated line-to-line voltage of the machine.",
+            unit="kV",
+            required=True,
+            bound=POSITIVE,
+        ),
+        Column(
+            "xd_pct",
+            NUMBER,
+            "Subtransient reactance X\"d on the machine's own kVA and kV (induction motors: the "
+            "locked-rotor reactance, about 100 / locked-rotor current multiple).",
+            unit="%",
+            required=True,
+            bound=POSITIVE,
+        ),
+        Column("xr", NUMBER, "X/R ratio of the machine.", required=True, bound=POSITIVE),
+        Column(
+            "count",
+            INTEGER,
+            "Number of identical machines in the group.",
+            default=1,
+            bound=AT_LEAST_ONE,
+        ),
+        Column(
+            "neutral_ohm",
+            NUMBER,
+            "Impedance from the machine's neutral to ground; 0 = solidly grounded; blank = "
+            "ungrounded (no zero-sequence path).",
+            unit="ohm",
+            bound=NON_NEGATIVE,
+        ),
+        Column(
+            "x0_pct",
+            NUMBER,
+            "Zero-sequence reactance on the machine's own rating, used when the neutral is "
+            "grounded. Blank: equal to xd_pct (warned; a generator's is usually lower).",
+            unit="%",
+            bound=POSITIVE,
+        ),
+    ),
+    alternatives=(Alternative((("kva",), ("hp",))),),
+)
+
+SHEETS: tuple[Sheet, ...] = (
+    STUDY,
+    BUSES,
+    SOURCES,
+    TRANSFORMERS,
+    CABLES,
+    IMPEDANCES,
+    MACHINES,
+)
 
 # Sheets the template writes for people; the reader passes over them without a warning.
 GUIDE_SHEET = "guide"

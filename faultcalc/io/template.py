@@ -26,6 +26,8 @@ def column_help(column: schema.Column) -> str:
     parts.append(f"Expected: {column.expected()}.")
     if column.required:
         parts.append("Required.")
+    elif column.default_from:
+        parts.append(f"Optional; blank = the value of {column.default_from}.")
     elif column.default not in (None, ""):
         parts.append(f"Optional; blank = {column.default}.")
     else:

@@ -86,50 +86,153 @@ def _note_below(ws, text: str) -> None:
     cell.font = Font(italic=True)
 
 
+FAULT_WORDS = {
+    "3ph": "3-phase",
+    "slg": "line-to-ground",
+    "ll": "line-to-line",
+    "llg": "double line-to-ground",
+}
+NO_PATH = "no path"
+
+
+def _ka_or_note(value):
+    return NO_PATH if isinstance(value, float) and math.isnan(value) else value
+
+
 def _fault_sheet(ws, result: StudyResult) -> None:
     cols = [
         Col("Bus", 14, note="Bus name as on the input 'buses' sheet."),
-        Col("Description", 44),
-        Col("Nominal kV (line-line)", 11, KV, "Nominal line-to-line voltage; the bus's base kV."),
+        Col("Description", 40),
+        Col("Nominal kV (line-line)", 10, KV, "Nominal line-to-line voltage; the bus's base kV."),
         Col(
-            "3-phase bolted fault current, kA symmetrical",
-            15,
+            "3-phase fault, kA sym",
+            11,
             KA,
-            "Initial symmetrical RMS current of a bolted three-phase fault at the bus: prefault "
-            "voltage / |Z1|, converted with the bus base current.",
+            "Initial symmetrical RMS current of a three-phase fault at the bus: prefault voltage / "
+            "|Z1 + Zf|, converted with the bus base current.",
         ),
-        Col("3-phase fault MVA", 11, MVA, "sqrt(3) x nominal kV x fault current."),
+        Col(
+            "Line-to-ground fault, kA sym",
+            11,
+            KA,
+            "3 I0 = 3 E / |Z1 + Z2 + Z0 + 3 Zf|. 'no path': no zero-sequence path to ground.",
+        ),
+        Col("Line-to-line fault, kA sym", 11, KA, "sqrt(3) E / |Z1 + Z2 + Zf|."),
+        Col(
+            "Double line-to-ground fault, kA sym (larger phase)",
+            13,
+            KA,
+            "The larger of the two faulted phase currents of a double line-to-ground fault.",
+        ),
+        Col(
+            "Double line-to-ground, ground current 3I0, kA",
+            13,
+            KA,
+            "Current into ground of the double line-to-ground fault.",
+        ),
+        Col("Largest current from", 14, note="The fault type giving the largest phase current."),
+        Col("3-phase fault MVA", 10, MVA, "sqrt(3) x nominal kV x three-phase fault current."),
         Col(
             "Thevenin R1, ohm",
-            13,
+            12,
             OHM,
-            "Resistance of the positive-sequence Thevenin impedance, ohms at the bus's nominal kV.",
+            "Resistance of the positive-sequence Thevenin impedance, ohms at the bus's nominal kV. "
+            "The negative-sequence impedance equals it (machines at subtransient in both).",
         ),
-        Col("Thevenin X1, ohm", 13, OHM, "Reactance of the positive-sequence Thevenin impedance."),
+        Col("Thevenin X1, ohm", 12, OHM, "Reactance of the positive-sequence Thevenin impedance."),
         Col(
             "|Z1|, per-unit",
-            12,
+            11,
             PU,
             "Magnitude of the Thevenin impedance on the study MVA base and the bus's base kV.",
         ),
-        Col("X/R at the fault", 10, XR, "X1/R1 of the complex Thevenin impedance."),
+        Col("X/R at the fault", 9, XR, "X1/R1 of the complex Thevenin impedance."),
+        Col("Thevenin R0, ohm", 12, OHM, "Resistance of the zero-sequence Thevenin impedance."),
+        Col("Thevenin X0, ohm", 12, OHM, "Reactance of the zero-sequence Thevenin impedance."),
         Col(
             "Same node as (closed ties)",
-            24,
+            18,
             note="Buses joined to this one by closed ties; they share its results.",
         ),
+        Col("Ground-fault note", 50),
     ]
     b = result.buses
     rows = [
-        (r.bus, d, r.kv, r.i3ph_ka, r.s3ph_mva, r.r1_ohm, r.x1_ohm, r.z1_pu, r.xr, g)
+        (
+            r.bus,
+            d,
+            r.kv,
+            r.i3ph_ka,
+            _ka_or_note(r.islg_ka),
+            r.ill_ka,
+            r.illg_ka,
+            _ka_or_note(r.ig_llg_ka),
+            FAULT_WORDS[r.max_fault],
+            r.s3ph_mva,
+            r.r1_ohm,
+            r.x1_ohm,
+            r.z1_pu,
+            r.xr,
+            _ka_or_note(r.r0_ohm),
+            _ka_or_note(r.x0_ohm),
+            g,
+            r.ground_note,
+        )
         for r, d, g in zip(
             b.itertuples(index=False), result.descriptions, result.node_groups, strict=True
         )
     ]
     _table(ws, cols, rows)
-    for i in range(2, len(rows) + 2):
-        ws.cell(row=i, column=4).font = BOLD
-    _note_below(ws, SHORT_CAUTION)
+    column_of = {"3ph": 4, "slg": 5, "ll": 6, "llg": 7}
+    for i, r in enumerate(b.itertuples(index=False), start=2):
+        ws.cell(row=i, column=column_of[r.max_fault]).font = BOLD
+        for j in (5, 8, 15, 16):
+            if ws.cell(row=i, column=j).value == NO_PATH:
+                ws.cell(row=i, column=j).alignment = Alignment(horizontal="right")
+    _note_below(ws, "Bold: the largest fault current at the bus. " + SHORT_CAUTION)
+
+
+def _contribution_sheet(ws, result: StudyResult) -> None:
+    cols = [
+        Col("Faulted bus", 14),
+        Col("Fault", 14),
+        Col("Element", 14),
+        Col("Kind", 16),
+        Col(
+            "From bus",
+            14,
+            note="Branches: the bus at the far end, the current flowing from it into the faulted "
+            "bus. Sources and machines: the bus they are connected to.",
+        ),
+        Col(
+            "Current, kA sym (largest phase)",
+            13,
+            KA,
+            "Sources and machines: at their terminals, in their own windings (phase displacement "
+            "of D-Y transformers applied). Branches: at the faulted-bus end.",
+        ),
+        Col(
+            "Angle, degrees",
+            10,
+            "0.0",
+            "Relative to the prefault phase-a voltage at the faulted bus.",
+        ),
+        Col("Phase", 7),
+    ]
+    rows = [
+        (
+            r.faulted_bus,
+            FAULT_WORDS[r.fault],
+            r.element,
+            r.kind.replace("_", " "),
+            r.from_bus,
+            r.i_ka,
+            r.angle_deg,
+            r.phase,
+        )
+        for r in result.contributions.itertuples(index=False)
+    ]
+    _table(ws, cols, rows)
 
 
 def _element_sheet(ws, result: StudyResult) -> None:
@@ -153,6 +256,14 @@ def _element_sheet(ws, result: StudyResult) -> None:
             "nominal voltages; 1 when they agree.",
         ),
         Col("Note", 34),
+        Col("R0, per-unit", 12, PU, "Zero-sequence resistance on the study base (see the model)."),
+        Col("X0, per-unit", 12, PU, "Zero-sequence reactance on the study base."),
+        Col(
+            "Zero-sequence model",
+            46,
+            note="How the element enters the zero-sequence network (winding connection, "
+            "grounding, given or assumed values).",
+        ),
     ]
     rows = [tuple(r) for r in result.elements.itertuples(index=False)]
     _table(ws, cols, rows)
@@ -215,7 +326,11 @@ def build_workbook(result: StudyResult) -> Workbook:
     faults.title = "Fault currents"
     _fault_sheet(faults, result)
     sheets = [faults]
+    extra = []
+    if result.contributions is not None:
+        extra = [("Contributions", _contribution_sheet)]
     for title, fill in (
+        *extra,
         ("Element impedances", _element_sheet),
         ("Warnings", _warning_sheet),
         ("Basis and cautions", _basis_sheet),
