@@ -28,6 +28,8 @@ def _guarded(action):
     """Run ``action``; bad input exits 2 listing every problem, other failures exit 1."""
     try:
         return action()
+    except click.ClickException:
+        raise
     except InputError as exc:
         lines = [f"error: {len(exc.problems)} problem(s) in the input; nothing was written:"]
         lines += [f"  - {p}" for p in exc.problems]
@@ -54,7 +56,9 @@ def _summary(result) -> str:
     )
 
 
-def _run(input_path: Path, output: Path, json_path: Path | None) -> None:
+def _run(
+    input_path: Path, output: Path, json_path: Path | None, contributions: str | None = None
+) -> None:
     for target in filter(None, (output, json_path)):
         if same_file(target, input_path) or (
             input_path.is_dir()
@@ -65,7 +69,18 @@ def _run(input_path: Path, output: Path, json_path: Path | None) -> None:
     if json_path is not None and same_file(output, json_path):
         raise OutputError("the results workbook and the JSON file must be different files")
     system = read_system(input_path)
-    result = run_study(system)
+    if contributions is not None:
+        names = {b.bus for b in system.buses}
+        wanted = [c.strip() for c in contributions.split(",") if c.strip()]
+        unknown = [c for c in wanted if c not in names and c.lower() != "all"]
+        if unknown or not wanted:
+            raise click.BadParameter(
+                f"no bus named {', '.join(unknown)} in {input_path.name}"
+                if unknown
+                else "give bus names separated by commas, or all",
+                param_hint="--contributions",
+            )
+    result = run_study(system, contributions=contributions)
     targets = [output] + ([json_path] if json_path else [])
     with staged(*targets) as temps:
         write_workbook_to(result, temps[0])
@@ -109,16 +124,25 @@ def main() -> None:
     metavar="RESULTS.json",
     help="Also write the results as JSON.",
 )
-def study(input_path: Path, output: Path, json_path: Path | None) -> None:
+@click.option(
+    "--contributions",
+    metavar="BUS[,BUS...]|all",
+    help="Add the current from every source, machine and branch for three-phase and "
+    "line-to-ground faults at these buses (or all).",
+)
+def study(
+    input_path: Path, output: Path, json_path: Path | None, contributions: str | None
+) -> None:
     """Study INPUT (an .xlsx workbook or a folder of <sheet>.csv files).
 
     \b
     Example:
       faultcalc study plant.xlsx -o plant-results.xlsx --json plant-results.json
+      faultcalc study plant.xlsx -o plant-results.xlsx --contributions SWBD-1,MCC-1
 
     Exit status: 0 done, 2 bad input (every problem listed, nothing written), 1 other failure.
     """
-    _guarded(lambda: _run(input_path, output, json_path))
+    _guarded(lambda: _run(input_path, output, json_path, contributions))
 
 
 @main.command()

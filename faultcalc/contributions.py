@@ -12,12 +12,31 @@ currents are formed, so magnitudes are those in the real windings.
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+
 import numpy as np
 import pandas as pd
 
 from .faults import phase_currents, sequence_currents
 from .network import Network
 from .perunit import PerUnitSystem
+
+
+@dataclass(frozen=True)
+class Phasors:
+    """One element's contribution to one fault: phase currents (a, b, c) and 3I0, complex kA.
+
+    Angles are relative to the prefault phase-a voltage at the faulted bus.
+    """
+
+    faulted_bus: str
+    fault: str
+    element: str
+    kind: str
+    from_bus: str
+    phases_ka: np.ndarray
+    residual_ka: complex
+
 
 CONTRIBUTION_COLUMNS = (
     "faulted_bus",
@@ -28,14 +47,10 @@ CONTRIBUTION_COLUMNS = (
     "i_ka",
     "angle_deg",
     "phase",
+    "ig_ka",
 )
 CONTRIBUTION_FAULTS = ("3ph", "slg")
-
-
-def _largest_phase(i1: complex, i2: complex, i0: complex) -> tuple[float, float, str]:
-    phases = phase_currents(i1, i2, i0)
-    k = int(np.argmax(np.abs(phases)))
-    return float(np.abs(phases[k])), float(np.degrees(np.angle(phases[k]))), "abc"[k]
+NEGLIGIBLE = 1e-9  # kA below this (relative to 1 kA or the largest phase) reads as zero
 
 
 def _rotate(i1: complex, i2: complex, i0: complex, theta_deg: float):
@@ -46,7 +61,7 @@ def _rotate(i1: complex, i2: complex, i0: complex, theta_deg: float):
     return i1 * rot, i2 / rot, i0_rot
 
 
-def contributions(
+def contribution_phasors(
     pu: PerUnitSystem,
     network: Network,
     factor1,
@@ -132,17 +147,45 @@ def contributions(
                 if what == "shunt":
                     theta = angle_deg[network.node_of_bus[bus_index[element.bus]]] - angle_deg[n]
                     c1, c2, c0 = _rotate(c1, c2, c0, theta)
-                magnitude, angle, phase = _largest_phase(c1, c2, c0)
+                phases_ka = phase_currents(c1, c2, c0) * base_ka
                 rows.append(
-                    (
+                    Phasors(
                         pu.bus_names[b],
                         fault,
                         element.element,
                         element.kind,
                         from_bus,
-                        magnitude * base_ka,
-                        angle,
-                        phase,
+                        phases_ka,
+                        3 * c0 * base_ka,
                     )
                 )
+    return rows
+
+
+def as_table(phasors: list[Phasors]) -> pd.DataFrame:
+    """One row per contribution: the largest phase current, its angle and phase letter, and
+    the residual (ground) current 3I0."""
+    rows = []
+    for p in phasors:
+        size = np.abs(p.phases_ka)
+        floor = NEGLIGIBLE * max(1.0, float(size.max()))
+        k = int(np.flatnonzero(size >= size.max() * (1 - 1e-9))[0])  # 'a' first on a tie
+        if size[k] <= floor:
+            i_ka, angle = 0.0, float("nan")
+        else:
+            i_ka, angle = float(size[k]), float(np.degrees(np.angle(p.phases_ka[k])))
+        ig = float(abs(p.residual_ka))
+        rows.append(
+            (
+                p.faulted_bus,
+                p.fault,
+                p.element,
+                p.kind,
+                p.from_bus,
+                i_ka,
+                angle,
+                "abc"[k] if i_ka else "",
+                ig if ig > floor else 0.0,
+            )
+        )
     return pd.DataFrame(rows, columns=list(CONTRIBUTION_COLUMNS))

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import datetime as _dt
 from collections.abc import Iterable
+from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
@@ -11,9 +12,9 @@ import pandas as pd
 from . import faults, perunit
 from ._version import __version__
 from .cautions import CAUTIONS
-from .contributions import contributions as _contributions
+from .contributions import Phasors, as_table, contribution_phasors
 from .model import System
-from .network import build_network, zone_angles_deg
+from .network import Network, build_network, zone_angles_deg
 from .results import BUS_COLUMNS, ELEMENT_COLUMNS, Basis, StudyResult
 from .thevenin import SymmetricFactor
 
@@ -173,6 +174,41 @@ def _bus_indices(system: System, contributions) -> list[int]:
     return [index[c.strip()] for c in contributions]
 
 
+@dataclass(frozen=True)
+class Analysis:
+    """The reduced network of one system: what every result is computed from."""
+
+    system: System
+    pu: perunit.PerUnitSystem
+    network: Network
+    factor1: SymmetricFactor
+    factor0: SymmetricFactor
+    z1_node: np.ndarray  # positive- (= negative-) sequence Thevenin impedance per node, pu
+    z0_node: np.ndarray  # zero-sequence, NaN where no path to ground
+
+
+def analyse(system: System) -> Analysis:
+    """Per-unit conversion, sequence networks, one factorization each, all-bus diagonals."""
+    pu = perunit.to_per_unit(system)
+    network = build_network(pu, {b.bus: b.row for b in system.buses})
+    factor1 = SymmetricFactor(network.y1)
+    factor0 = SymmetricFactor(network.y0)
+    z1_node = factor1.diagonal()
+    z0_node = np.where(network.grounded, factor0.diagonal(), complex(np.nan, np.nan))
+    return Analysis(system, pu, network, factor1, factor0, z1_node, z0_node)
+
+
+def contributions_of(a: Analysis, buses: list[int]) -> list[Phasors]:
+    """Complex contributions to faults at the buses with these input indices."""
+    kv = np.array(a.pu.bus_kv)
+    zf_pu = a.system.settings.fault_ohm / (kv**2 / a.pu.base_mva)
+    rows = {t.transformer: t.row for t in a.system.transformers}
+    angles = zone_angles_deg(a.pu, a.network, rows)
+    return contribution_phasors(
+        a.pu, a.network, a.factor1, a.factor0, a.z1_node, a.z0_node, buses, zf_pu, angles
+    )
+
+
 def run_study(
     system: System,
     *,
@@ -212,12 +248,8 @@ def run_study(
     """
     settings = system.settings
     wanted = _bus_indices(system, contributions)
-    pu = perunit.to_per_unit(system)
-    network = build_network(pu, {b.bus: b.row for b in system.buses})
-    factor1 = SymmetricFactor(network.y1)
-    factor0 = SymmetricFactor(network.y0)
-    z1_node = factor1.diagonal()
-    z0_node = np.where(network.grounded, factor0.diagonal(), np.nan)
+    a = analyse(system)
+    pu, network, z1_node, z0_node = a.pu, a.network, a.z1_node, a.z0_node
     z1 = z1_node[network.node_of_bus]
     z0 = z0_node[network.node_of_bus]
     kv = np.array(pu.bus_kv)
@@ -260,18 +292,7 @@ def run_study(
 
     contribution_table = None
     if wanted:
-        angles = zone_angles_deg(pu, network, {t.transformer: t.row for t in system.transformers})
-        contribution_table = _contributions(
-            pu,
-            network,
-            factor1,
-            factor0,
-            z1_node,
-            z0_node,
-            wanted,
-            np.broadcast_to(zf_pu, kv.shape),
-            angles,
-        )
+        contribution_table = as_table(contributions_of(a, wanted))
 
     stamp = (calculated_at or _dt.datetime.now().astimezone()).isoformat(timespec="seconds")
     method = METHOD.format(prefault=settings.prefault_pu, fault_ohm=settings.fault_ohm)

@@ -230,6 +230,99 @@ CASES = [
         "different voltages",
     ),
     (
+        "even clock number on a delta-wye",
+        set_cell("transformers", 0, "clock_number", 6),
+        "transformers",
+        2,
+        "clock_number",
+        "6",
+        "odd (1, 5, 7 or 11)",
+    ),
+    (
+        "line-to-ground current too high to be physical",
+        set_cell("sources", 0, "slg_ka", 50),
+        "sources",
+        2,
+        "slg_ka",
+        "50",
+        "not physical",
+    ),
+    (
+        "generator rated in hp",
+        lambda s: s.__setitem__(
+            "machines",
+            [
+                {
+                    "machine": "G1",
+                    "bus": "LV",
+                    "kind": "generator",
+                    "hp": 500,
+                    "kv": 0.48,
+                    "xd_pct": 15,
+                    "xr": 20,
+                }
+            ],
+        ),
+        "machines",
+        2,
+        "hp",
+        "500",
+        "rated in kVA",
+    ),
+    (
+        "machine on an unknown bus",
+        lambda s: s.__setitem__(
+            "machines",
+            [
+                {
+                    "machine": "M1",
+                    "bus": "MCC-9",
+                    "kind": "induction_motor",
+                    "hp": 50,
+                    "kv": 0.46,
+                    "xd_pct": 16.7,
+                    "xr": 5,
+                }
+            ],
+        ),
+        "machines",
+        2,
+        "bus",
+        "MCC-9",
+        "no bus of that name",
+    ),
+    (
+        "unknown machine kind",
+        lambda s: s.__setitem__(
+            "machines",
+            [
+                {
+                    "machine": "M1",
+                    "bus": "LV",
+                    "kind": "turbine",
+                    "kva": 50,
+                    "kv": 0.46,
+                    "xd_pct": 16.7,
+                    "xr": 5,
+                }
+            ],
+        ),
+        "machines",
+        2,
+        "kind",
+        "turbine",
+        "one of induction_motor, synchronous_motor, generator",
+    ),
+    (
+        "half a zero-sequence pair",
+        drop_cell("cables", 0, "x0_ohm_per_kft"),
+        "cables",
+        2,
+        "x0_ohm_per_kft",
+        None,
+        "required here because r0_ohm_per_kft",
+    ),
+    (
         "missing buses sheet",
         lambda s: s.pop("buses"),
         "buses",

@@ -21,13 +21,7 @@ def result_dict(result: StudyResult) -> dict[str, Any]:
     """The JSON document as Python objects."""
     b = result.basis
     s = b.settings
-    buses = []
-    for row in result.buses.itertuples(index=False):
-        entry = {}
-        for name in BUS_COLUMNS:
-            value = getattr(row, name)
-            entry[name] = value if isinstance(value, str) else _number(float(value))
-        buses.append(entry)
+    buses = _records(result.buses[list(BUS_COLUMNS)])
     return {
         "tool": {"name": b.tool_name, "version": b.tool_version},
         "study": {
@@ -43,7 +37,21 @@ def result_dict(result: StudyResult) -> dict[str, Any]:
         "buses": buses,
         "warnings": list(result.warnings),
         "cautions": list(result.cautions),
+        **(
+            {"contributions": _records(result.contributions)}
+            if result.contributions is not None
+            else {}
+        ),
     }
+
+
+def _records(table) -> list[dict[str, Any]]:
+    out = []
+    for row in table.itertuples(index=False):
+        out.append(
+            {k: (v if isinstance(v, str) else _number(float(v))) for k, v in row._asdict().items()}
+        )
+    return out
 
 
 def write_json_to(result: StudyResult, path: Path) -> None:

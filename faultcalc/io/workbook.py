@@ -55,7 +55,7 @@ def _table(ws, cols: list[Col], rows, *, freeze_columns: int = 1) -> None:
         if col.note:
             cell.comment = Comment(col.note, "faultcalc", width=320, height=120)
         ws.column_dimensions[get_column_letter(j)].width = col.width
-    ws.row_dimensions[1].height = 45
+    ws.row_dimensions[1].height = 62
     for i, values in enumerate(rows, start=2):
         for j, (col, value) in enumerate(zip(cols, values, strict=True), start=1):
             cell = ws.cell(row=i, column=j, value=_finite(value))
@@ -73,7 +73,9 @@ def _page_setup(ws, result: StudyResult) -> None:
     ws.sheet_properties.pageSetUpPr.fitToPage = True
     title = result.basis.settings.title or "Short-circuit study"
     ws.oddHeader.left.text = title[:120]
-    ws.oddHeader.right.text = f"calculated {result.basis.calculated_at}"
+    ws.oddHeader.right.text = f"calculated {result.basis.calculated_at[:10]}"
+    ws.oddHeader.right.size = 8
+    ws.oddHeader.left.size = 8
     ws.oddFooter.left.text = SHORT_CAUTION
     ws.oddFooter.left.size = 7
     ws.oddFooter.right.text = "page &P of &N"
@@ -102,30 +104,31 @@ def _ka_or_note(value):
 def _fault_sheet(ws, result: StudyResult) -> None:
     cols = [
         Col("Bus", 14, note="Bus name as on the input 'buses' sheet."),
-        Col("Description", 40),
+        Col("Description", 30),
         Col("Nominal kV (line-line)", 10, KV, "Nominal line-to-line voltage; the bus's base kV."),
         Col(
-            "3-phase fault, kA sym",
+            "3-phase fault, kA",
             11,
             KA,
             "Initial symmetrical RMS current of a three-phase fault at the bus: prefault voltage / "
             "|Z1 + Zf|, converted with the bus base current.",
         ),
         Col(
-            "Line-to-ground fault, kA sym",
+            "Line-to-ground fault, kA",
             11,
             KA,
             "3 I0 = 3 E / |Z1 + Z2 + Z0 + 3 Zf|. 'no path': no zero-sequence path to ground.",
         ),
-        Col("Line-to-line fault, kA sym", 11, KA, "sqrt(3) E / |Z1 + Z2 + Zf|."),
+        Col("Line-to-line fault, kA", 11, KA, "sqrt(3) E / |Z1 + Z2 + Zf|."),
         Col(
-            "Double line-to-ground fault, kA sym (larger phase)",
+            "Double line-to-ground fault, kA",
             13,
             KA,
-            "The larger of the two faulted phase currents of a double line-to-ground fault.",
+            "The larger of the two faulted phase currents of a double line-to-ground fault "
+            "(symmetrical RMS).",
         ),
         Col(
-            "Double line-to-ground, ground current 3I0, kA",
+            "Double line-to-ground, 3I0 to ground, kA",
             13,
             KA,
             "Current into ground of the double line-to-ground fault.",
@@ -154,7 +157,7 @@ def _fault_sheet(ws, result: StudyResult) -> None:
             18,
             note="Buses joined to this one by closed ties; they share its results.",
         ),
-        Col("Ground-fault note", 50),
+        Col("Ground-fault note", 40),
     ]
     b = result.buses
     rows = [
@@ -189,7 +192,10 @@ def _fault_sheet(ws, result: StudyResult) -> None:
         for j in (5, 8, 15, 16):
             if ws.cell(row=i, column=j).value == NO_PATH:
                 ws.cell(row=i, column=j).alignment = Alignment(horizontal="right")
-    _note_below(ws, "Bold: the largest fault current at the bus. " + SHORT_CAUTION)
+    _note_below(
+        ws,
+        "All currents are initial symmetrical RMS. Bold: the largest at the bus. " + SHORT_CAUTION,
+    )
 
 
 def _contribution_sheet(ws, result: StudyResult) -> None:
@@ -217,7 +223,14 @@ def _contribution_sheet(ws, result: StudyResult) -> None:
             "0.0",
             "Relative to the prefault phase-a voltage at the faulted bus.",
         ),
-        Col("Phase", 7),
+        Col("Phase", 7, note="The phase carrying the current in the column before."),
+        Col(
+            "Residual 3I0, kA",
+            11,
+            KA,
+            "Zero-sequence (ground or neutral) current of the element: 0 for sources seen "
+            "through a delta winding.",
+        ),
     ]
     rows = [
         (
@@ -229,6 +242,7 @@ def _contribution_sheet(ws, result: StudyResult) -> None:
             r.i_ka,
             r.angle_deg,
             r.phase,
+            r.ig_ka,
         )
         for r in result.contributions.itertuples(index=False)
     ]
@@ -238,7 +252,7 @@ def _contribution_sheet(ws, result: StudyResult) -> None:
 def _element_sheet(ws, result: StudyResult) -> None:
     cols = [
         Col("Element", 14),
-        Col("Kind", 12),
+        Col("Kind", 17),
         Col("From bus (HV side)", 14),
         Col("To bus (LV side)", 14),
         Col("As entered", 78, note="The input restated, so a reviewer can check what was read."),
@@ -265,7 +279,7 @@ def _element_sheet(ws, result: StudyResult) -> None:
             "grounding, given or assumed values).",
         ),
     ]
-    rows = [tuple(r) for r in result.elements.itertuples(index=False)]
+    rows = [(r[0], r[1].replace("_", " "), *r[2:]) for r in result.elements.itertuples(index=False)]
     _table(ws, cols, rows)
 
 
