@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import json
 import os
 import sys
 import traceback
@@ -9,9 +10,18 @@ from pathlib import Path
 
 import click
 
-from . import SAMPLES, InputError, OutputError, __version__, read_system, run_study, sample_path
+from . import (
+    SAMPLES,
+    InputError,
+    OutputError,
+    __version__,
+    cablecheck,
+    read_system,
+    run_study,
+    sample_path,
+)
 from .io.files import same_file, staged
-from .io.jsonout import write_json_to
+from .io.jsonout import cable_check_dict, write_json_to
 from .io.template import write_template
 from .io.workbook import write_workbook_to
 
@@ -143,6 +153,64 @@ def study(
     Exit status: 0 done, 2 bad input (every problem listed, nothing written), 1 other failure.
     """
     _guarded(lambda: _run(input_path, output, json_path, contributions))
+
+
+@main.command("check-cables")
+@click.argument("input_path", metavar="INPUT", type=click.Path(path_type=Path))
+@click.option(
+    "--json",
+    "json_path",
+    type=click.Path(path_type=Path),
+    metavar="PATH",
+    help="Also write the findings as JSON.",
+)
+@click.option(
+    "--tolerance",
+    "tolerance_pct",
+    type=click.FloatRange(0.1, 100.0),
+    default=cablecheck.DEFAULT_TOLERANCE_PCT,
+    show_default=True,
+    metavar="PCT",
+    help="Flag typed R or X further than this from the table row, percent.",
+)
+def check_cables_command(input_path: Path, json_path: Path | None, tolerance_pct: float) -> None:
+    """Compare the cable R and X typed in INPUT with NFPA 70 Table 9 / IEC 60228 rows.
+
+    Each cable whose R and X were typed is compared with the table row of its size, material
+    and raceway; one beyond the tolerance is flagged with the likely mistake (per-km typed as
+    per-1000-ft, copper against aluminium, parallel sets, magnetic raceway, impossible for the
+    area). Exit status 0 whether or not anything is flagged; 2 on bad input.
+
+    \b
+    Example:
+      faultcalc check-cables plant.xlsx --json cable-check.json --tolerance 15
+    """
+
+    def action():
+        if json_path is not None and same_file(json_path, input_path):
+            raise OutputError(f"refusing to write {json_path}: it is the input")
+        system = read_system(input_path)
+        checks = cablecheck.check_cables(system, tolerance_pct)
+        if json_path is not None:
+            with staged(json_path) as (temp,):
+                doc = cable_check_dict(
+                    checks, tolerance_pct, system.input_name, system.input_sha256
+                )
+                temp.write_text(json.dumps(doc, indent=2, allow_nan=False) + "\n", encoding="utf-8")
+        flagged = [c for c in checks if c.flagged]
+        for c in checks:
+            mark = (
+                "FLAG" if c.flagged else ("ok  " if c.table_r_ohm_per_kft is not None else "n/a ")
+            )
+            click.echo(f"{mark} {c.cable} (cables row {c.row}): {c.reason}")
+        click.echo(
+            f"{len(checks)} cable(s) with typed R and X checked at {tolerance_pct:g} %; "
+            f"{len(flagged)} flagged."
+        )
+        if json_path is not None:
+            click.echo(f"findings JSON: {json_path.resolve()}")
+
+    _guarded(action)
 
 
 @main.command()

@@ -20,6 +20,7 @@ class Settings:
     base_mva: float = 100.0
     frequency_hz: int = 60
     prefault_pu: float = 1.0
+    conductor_temp_c: float = 75.0
     fault_ohm: float = 0.0
 
 
@@ -108,6 +109,7 @@ class Cable:
     x0_ohm_per_kft: float | None = None
     r0_ohm_per_km: float | None = None
     x0_ohm_per_km: float | None = None
+    impedance_source: str = ""  # "" = R and X typed by the user; else the table row used
     row: int | None = None
 
     @property

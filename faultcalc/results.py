@@ -74,3 +74,4 @@ class StudyResult:
     cautions: tuple[str, ...]
     basis: Basis
     contributions: pd.DataFrame | None = None  # CONTRIBUTION_COLUMNS, when asked for
+    cable_checks: pd.DataFrame | None = None  # cablecheck.CHECK_COLUMNS, typed cables only

@@ -9,7 +9,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from . import faults, perunit
+from . import cablecheck, faults, perunit
 from ._version import __version__
 from .cautions import CAUTIONS
 from .contributions import Phasors, as_table, contribution_phasors
@@ -28,7 +28,8 @@ METHOD = (
     "symmetrical components; negative sequence equal to positive (machines at subtransient "
     "reactance in both); utility sources as impedances reproducing their stated available fault "
     "current; motors and generators as sources behind their subtransient impedance; "
-    "transformers at their rated ratio, zero sequence by winding connection; load currents and "
+    "transformers at their rated ratio, zero sequence by winding connection; cable resistances "
+    "from the tables at {conductor_temp_c:g} C (typed values as typed); load currents and "
     "capacitance neglected."
 )
 
@@ -67,13 +68,14 @@ def _input_text(system: System) -> dict[str, str]:
     for c in system.cables:
         length = f"{c.length_ft:g} ft" if c.length_ft is not None else f"{c.length_m:g} m"
         if c.r_ohm_per_kft is not None:
-            z = f"{c.r_ohm_per_kft:g} + j{c.x_ohm_per_kft:g} ohm/1000 ft"
+            z = f"{c.r_ohm_per_kft:.4g} + j{c.x_ohm_per_kft:.4g} ohm/1000 ft"
         else:
             z = f"{c.r_ohm_per_km:g} + j{c.x_ohm_per_km:g} ohm/km"
         what = " ".join(
             x for x in (c.size, c.material or "", "in " + c.raceway if c.raceway else "") if x
         )
-        text[c.cable] = f"{length}, {c.sets} set(s), {z} per conductor" + (
+        origin = f" (from {c.impedance_source})" if c.impedance_source else " (as typed)"
+        text[c.cable] = f"{length}, {c.sets} set(s), {z} per conductor{origin}" + (
             f", {what}" if what else ""
         )
     for e in system.impedances:
@@ -295,7 +297,11 @@ def run_study(
         contribution_table = as_table(contributions_of(a, wanted))
 
     stamp = (calculated_at or _dt.datetime.now().astimezone()).isoformat(timespec="seconds")
-    method = METHOD.format(prefault=settings.prefault_pu, fault_ohm=settings.fault_ohm)
+    method = METHOD.format(
+        prefault=settings.prefault_pu,
+        fault_ohm=settings.fault_ohm,
+        conductor_temp_c=settings.conductor_temp_c,
+    )
     basis = Basis(
         settings, method, system.input_name, system.input_sha256, stamp, TOOL_NAME, __version__
     )
@@ -308,4 +314,5 @@ def run_study(
         cautions=CAUTIONS,
         basis=basis,
         contributions=contribution_table,
+        cable_checks=cablecheck.as_table(cablecheck.check_cables(system)),
     )

@@ -185,13 +185,67 @@ CASES = [
         "not more than one",
     ),
     (
-        "neither impedance pair",
+        "neither impedance pair nor a size to look it up",
         lambda s: [s["cables"][0].pop(k) for k in ("r_ohm_per_kft", "x_ohm_per_kft")],
         "cables",
         2,
-        "r_ohm_per_kft, x_ohm_per_kft, r_ohm_per_km, x_ohm_per_km",
+        "size",
         None,
-        "give r_ohm_per_kft + x_ohm_per_kft or r_ohm_per_km + x_ohm_per_km",
+        "needed to take R and X from the conductor tables",
+    ),
+    (
+        "unknown conductor size",
+        lambda s: s["cables"][0].update(
+            {
+                "r_ohm_per_kft": None,
+                "x_ohm_per_kft": None,
+                "size": "5/0",
+                "material": "cu",
+                "raceway": "pvc",
+            }
+        ),
+        "cables",
+        2,
+        "size",
+        "5/0",
+        "expected an AWG size",
+    ),
+    (
+        "metric size without its unit",
+        lambda s: s["cables"][0].update(
+            {
+                "r_ohm_per_kft": None,
+                "x_ohm_per_kft": None,
+                "size": "95",
+                "material": "cu",
+                "raceway": "pvc",
+            }
+        ),
+        "cables",
+        2,
+        "size",
+        "95",
+        "write mm2",
+    ),
+    (
+        "raceway missing for a table lookup",
+        lambda s: s["cables"][0].update(
+            {"r_ohm_per_kft": None, "x_ohm_per_kft": None, "size": "4/0", "material": "cu"}
+        ),
+        "cables",
+        2,
+        "raceway",
+        None,
+        "needed to take R and X",
+    ),
+    (
+        "unknown raceway",
+        set_cell("cables", 0, "raceway", "cable tray"),
+        "cables",
+        2,
+        "raceway",
+        "cable tray",
+        "one of pvc, aluminum, steel",
     ),
     (
         "half an impedance pair",

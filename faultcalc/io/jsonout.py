@@ -29,6 +29,8 @@ def result_dict(result: StudyResult) -> dict[str, Any]:
             "base_mva": s.base_mva,
             "frequency_hz": s.frequency_hz,
             "prefault_pu": s.prefault_pu,
+            "conductor_temp_c": s.conductor_temp_c,
+            "fault_ohm": s.fault_ohm,
             "method": b.method,
             "input": b.input_name,
             "input_sha256": b.input_sha256,
@@ -52,6 +54,30 @@ def _records(table) -> list[dict[str, Any]]:
             {k: (v if isinstance(v, str) else _number(float(v))) for k, v in row._asdict().items()}
         )
     return out
+
+
+def cable_check_dict(checks, tolerance_pct: float, input_name: str, sha256: str) -> dict:
+    """The JSON document of ``faultcalc check-cables``."""
+    from .. import __version__
+    from ..cautions import CAUTIONS
+
+    fields = (
+        "cable",
+        "flagged",
+        "reason",
+        "given_r_ohm_per_kft",
+        "given_x_ohm_per_kft",
+        "table_r_ohm_per_kft",
+        "table_x_ohm_per_kft",
+    )
+    return {
+        "tool": {"name": "faultcalc", "version": __version__},
+        "input": input_name,
+        "input_sha256": sha256,
+        "tolerance_pct": tolerance_pct,
+        "cables": [{f: getattr(c, f) for f in fields} for c in checks],
+        "cautions": list(CAUTIONS),
+    }
 
 
 def write_json_to(result: StudyResult, path: Path) -> None:

@@ -6,7 +6,7 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
-from .. import model
+from .. import conductors, model
 from ..errors import InputError, Problem
 from . import cells, schema
 from .tables import RawInput, RawSheet, load_input
@@ -169,11 +169,20 @@ def _read_settings(raw: RawSheet | None, out: _Collector) -> model.Settings:
             values[name] = cells.parse(raw_value, spec)
         except cells.CellError as exc:
             out.problem("study", record.row, "value", raw_value, f"{name}: {exc}")
+    if not -60.0 <= float(values["conductor_temp_c"]) <= 250.0:
+        out.problem(
+            "study",
+            seen.get("conductor_temp_c"),
+            "value",
+            values["conductor_temp_c"],
+            "conductor_temp_c: expected a conductor temperature from -60 to 250 C",
+        )
     return model.Settings(
         title=str(values["title"] or ""),
         base_mva=float(values["base_mva"]),
         frequency_hz=int(values["frequency_hz"]),
         prefault_pu=float(values["prefault_pu"]),
+        conductor_temp_c=float(values["conductor_temp_c"]),
         fault_ohm=float(values["fault_ohm"]),
     )
 
@@ -278,6 +287,73 @@ def _check_transformers(records: list[Record], bus_kv: dict[str, float], out: _C
                     f"(differs by {100 * (rated / nominal - 1):+.1f}%); modelled as an "
                     "off-nominal ratio; check the nameplate and the bus voltage",
                 )
+
+
+def _check_cable_impedance(records: list[Record], out: _Collector) -> None:
+    for record in records:
+        v = record.values
+        pairs = (("r_ohm_per_kft", "x_ohm_per_kft"), ("r_ohm_per_km", "x_ohm_per_km"))
+        for r, x in pairs:
+            if record.ok and v.get(r) is not None and v[r] == 0 and v.get(x) == 0:
+                out.problem(
+                    "cables",
+                    record.row,
+                    r,
+                    0,
+                    "R and X are both 0; a cable has impedance (use the 'impedances' sheet "
+                    "with r_ohm = x_ohm = 0 for a closed tie)",
+                )
+                record.ok = False
+
+
+def _fill_cables_from_tables(
+    records: list[Record], settings, bus_kv: dict[str, float], out: _Collector
+) -> None:
+    """R and X from the conductor tables where the user left both blank."""
+    for record in records:
+        v = record.values
+        if not record.ok or v.get("r_ohm_per_kft") is not None or v.get("r_ohm_per_km") is not None:
+            continue
+        kv = bus_kv[v["from_bus"]]
+        if kv > conductors.MAX_TABLE_KV:
+            out.problem(
+                "cables",
+                record.row,
+                "r_ohm_per_kft",
+                None,
+                f"the conductor tables are for cables of 1 kV and below; this cable is at "
+                f"{kv:g} kV: give r_ohm_per_kft + x_ohm_per_kft (or per km) from its data sheet",
+            )
+            record.ok = False
+            continue
+        missing = [c for c in ("size", "material", "raceway") if not v.get(c)]
+        for column in missing:
+            out.problem(
+                "cables",
+                record.row,
+                column,
+                None,
+                "needed to take R and X from the conductor tables; or give r_ohm_per_kft + "
+                "x_ohm_per_kft (or the per-km pair)",
+            )
+        if missing:
+            record.ok = False
+            continue
+        try:
+            value = conductors.lookup(
+                v["size"],
+                v["material"],
+                v["raceway"],
+                settings.conductor_temp_c,
+                settings.frequency_hz,
+            )
+        except conductors.SizeError as exc:
+            out.problem("cables", record.row, "size", v["size"], str(exc))
+            record.ok = False
+            continue
+        v["r_ohm_per_kft"] = value.r_ohm_per_kft
+        v["x_ohm_per_kft"] = value.x_ohm_per_kft
+        v["impedance_source"] = value.source
 
 
 def _check_machines(records: list[Record], bus_kv: dict[str, float], out: _Collector) -> None:
@@ -386,23 +462,8 @@ def read_tables(raw: RawInput) -> model.System:
     _check_same_kv("impedances", recs["impedances"], bus_kv, out)
     _check_transformers(recs["transformers"], bus_kv, out)
     _check_clock(recs["transformers"], out)
-    for record in recs["cables"]:
-        v = record.values
-        if (
-            record.ok
-            and (v.get("r_ohm_per_kft") or v.get("r_ohm_per_km") or 0) == 0
-            and (v.get("x_ohm_per_kft") or v.get("x_ohm_per_km") or 0) == 0
-        ):
-            column = "r_ohm_per_kft" if v.get("r_ohm_per_kft") is not None else "r_ohm_per_km"
-            out.problem(
-                "cables",
-                record.row,
-                column,
-                0,
-                "R and X are both 0; a cable has impedance (use the 'impedances' sheet "
-                "with r_ohm = x_ohm = 0 for a closed tie)",
-            )
-            record.ok = False
+    _check_cable_impedance(recs["cables"], out)
+    _fill_cables_from_tables(recs["cables"], settings, bus_kv, out)
     _check_refs("machines", ("bus",), recs["machines"], bus_kv, out)
     _check_machines(recs["machines"], bus_kv, out)
     _check_sources(recs["sources"], raw.sheets.get("sources"), out)

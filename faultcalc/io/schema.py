@@ -112,6 +112,15 @@ SETTINGS: tuple[Column, ...] = (
         bound=POSITIVE,
     ),
     Column(
+        "conductor_temp_c",
+        NUMBER,
+        "Conductor temperature for cable resistances taken from the tables (75 C as printed). "
+        "Lower temperature, lower R, higher fault current: use 20 or 25 for maximum duty. "
+        "Resistances typed by the user are used as typed.",
+        unit="C",
+        default=75.0,
+    ),
+    Column(
         "fault_ohm",
         NUMBER,
         "Fault impedance (arc or contact resistance) in every fault, ohms; 0 = bolted. "
@@ -325,7 +334,8 @@ TRANSFORMERS = Sheet(
 CABLES = Sheet(
     "cables",
     "Cables and feeders: length and impedance of one conductor per phase; the tool divides by "
-    "'sets' for parallel conductors.",
+    "'sets' for parallel conductors. Leave R and X blank to take them from NFPA 70 Chapter 9 "
+    "Table 9 (AWG, kcmil) or IEC 60228 (mm2) by size, material and raceway.",
     (
         Column("cable", ID, "Unique name of the cable.", required=True),
         Column("from_bus", BUS_REF, "Bus at one end.", required=True),
@@ -333,7 +343,12 @@ CABLES = Sheet(
         Column("length_ft", NUMBER, "Route length.", unit="ft", bound=POSITIVE),
         Column("length_m", NUMBER, "Route length.", unit="m", bound=POSITIVE),
         Column("sets", INTEGER, "Parallel conductors per phase.", default=1, bound=AT_LEAST_ONE),
-        Column("size", TEXT, "Conductor size, e.g. 4/0, 500 (kcmil), 240 (mm2)."),
+        Column(
+            "size",
+            TEXT,
+            "Conductor size: AWG 14 to 4/0 (e.g. 12, 4/0), kcmil 250 to 1000 (e.g. 500), or "
+            "metric with mm2 (e.g. 240 mm2). Needed when R and X are blank.",
+        ),
         Column(
             "material", CHOICE, "Conductor material: cu copper, al aluminium.", choices=("cu", "al")
         ),
@@ -346,26 +361,30 @@ CABLES = Sheet(
         Column(
             "r_ohm_per_kft",
             NUMBER,
-            "AC resistance of one conductor.",
+            "AC resistance of one conductor; blank: from the table.",
             unit="ohm/1000 ft",
             bound=NON_NEGATIVE,
         ),
         Column(
             "x_ohm_per_kft",
             NUMBER,
-            "Reactance of one conductor.",
+            "Reactance of one conductor; blank: from the table.",
             unit="ohm/1000 ft",
             bound=NON_NEGATIVE,
         ),
         Column(
             "r_ohm_per_km",
             NUMBER,
-            "AC resistance of one conductor.",
+            "AC resistance of one conductor; blank: from the table.",
             unit="ohm/km",
             bound=NON_NEGATIVE,
         ),
         Column(
-            "x_ohm_per_km", NUMBER, "Reactance of one conductor.", unit="ohm/km", bound=NON_NEGATIVE
+            "x_ohm_per_km",
+            NUMBER,
+            "Reactance of one conductor; blank: from the table.",
+            unit="ohm/km",
+            bound=NON_NEGATIVE,
         ),
         *(
             Column(
@@ -383,7 +402,10 @@ CABLES = Sheet(
     ),
     alternatives=(
         Alternative((("length_ft",), ("length_m",))),
-        Alternative((("r_ohm_per_kft", "x_ohm_per_kft"), ("r_ohm_per_km", "x_ohm_per_km"))),
+        Alternative(
+            (("r_ohm_per_kft", "x_ohm_per_kft"), ("r_ohm_per_km", "x_ohm_per_km")),
+            required=False,
+        ),
         Alternative(
             (("r0_ohm_per_kft", "x0_ohm_per_kft"), ("r0_ohm_per_km", "x0_ohm_per_km")),
             required=False,

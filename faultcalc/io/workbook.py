@@ -17,6 +17,7 @@ from .files import staged
 
 HEADER_FILL = PatternFill("solid", fgColor="DCE6F0")
 CAUTION_FILL = PatternFill("solid", fgColor="FFF4CE")
+FLAG_FILL = PatternFill("solid", fgColor="F9D3CF")
 BOLD = Font(bold=True)
 TITLE = Font(bold=True, size=14)
 THIN = Side(style="thin", color="8EA9C1")
@@ -283,6 +284,49 @@ def _element_sheet(ws, result: StudyResult) -> None:
     _table(ws, cols, rows)
 
 
+def _cable_check_sheet(ws, result: StudyResult) -> None:
+    cols = [
+        Col("Cable", 14),
+        Col("Flagged", 9, note="yes: the typed R or X is beyond the tolerance from the table."),
+        Col("Finding", 90),
+        Col("Typed R, ohm/1000 ft", 12, "0.0000", "Per conductor, converted to ohm/1000 ft."),
+        Col("Typed X, ohm/1000 ft", 12, "0.0000"),
+        Col("Table R, ohm/1000 ft", 12, "0.0000", "The table row as printed (75 C)."),
+        Col("Table X, ohm/1000 ft", 12, "0.0000"),
+        Col("Table row", 60),
+    ]
+    table = result.cable_checks
+    rows = [
+        (
+            r.cable,
+            "yes" if r.flagged else "no",
+            r.reason,
+            r.given_r_ohm_per_kft,
+            r.given_x_ohm_per_kft,
+            r.table_r_ohm_per_kft,
+            r.table_x_ohm_per_kft,
+            r.table_row,
+        )
+        for r in table.itertuples(index=False)
+    ] or [
+        (
+            "",
+            "",
+            "No cable has typed R and X: every cable took them from the tables.",
+            None,
+            None,
+            None,
+            None,
+            "",
+        )
+    ]
+    _table(ws, cols, rows)
+    for i, r in enumerate(table.itertuples(index=False), start=2):
+        if r.flagged:
+            for j in range(1, len(cols) + 1):
+                ws.cell(row=i, column=j).fill = FLAG_FILL
+
+
 def _warning_sheet(ws, result: StudyResult) -> None:
     cols = [Col("No.", 6), Col("Warning (doubtful input or assumption made)", 120)]
     rows = [(i, w) for i, w in enumerate(result.warnings, start=1)] or [("", "No warnings.")]
@@ -320,6 +364,15 @@ def _basis_sheet(ws, result: StudyResult) -> None:
         ("MVA base", f"{s.base_mva:g} MVA"),
         ("Frequency", f"{s.frequency_hz} Hz"),
         ("Prefault voltage", f"{s.prefault_pu:g} per-unit of each bus's nominal kV"),
+        (
+            "Fault impedance",
+            f"{s.fault_ohm:g} ohm" + (" (bolted faults)" if not s.fault_ohm else ""),
+        ),
+        (
+            "Conductor temperature",
+            f"{s.conductor_temp_c:g} C for cable resistances taken from "
+            "the tables; typed resistances used as typed",
+        ),
         ("Method", b.method),
         ("Warnings", f"{len(result.warnings)} (see sheet 'Warnings')"),
     ]
@@ -346,6 +399,7 @@ def build_workbook(result: StudyResult) -> Workbook:
     for title, fill in (
         *extra,
         ("Element impedances", _element_sheet),
+        ("Cable check", _cable_check_sheet),
         ("Warnings", _warning_sheet),
         ("Basis and cautions", _basis_sheet),
     ):

@@ -27,6 +27,7 @@ def test_sheets(book):
     assert book.sheetnames == [
         "Fault currents",
         "Element impedances",
+        "Cable check",
         "Warnings",
         "Basis and cautions",
     ]

@@ -1,0 +1,207 @@
+"""Check the cable impedances the user typed against the tables and against physics.
+
+For each cable whose R and X were typed, the values per conductor per 1000 ft are compared with
+the NFPA 70 Table 9 row (or IEC 60228 row) of its size, material and raceway, as printed (75 C).
+A cable beyond the tolerance is flagged, and the likely mistake is named when the ratio fits one.
+
+Default tolerance 10 %: the table is printed to two significant figures (rounding up to about
+3 %), values for 90 C conductors run about 5 % above the 75 C table, while the smallest common
+mistake to catch, magnetic against non-magnetic raceway, moves X by about 25 %.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import pandas as pd
+
+from . import conductors
+from .model import Cable, System
+
+DEFAULT_TOLERANCE_PCT = 10.0
+KM_PER_KFT = 0.3048
+# Physical floor for a typed resistance: 90 % of the DC resistance of a solid rod of the
+# conductor's area at 20 C (nothing at a plausible temperature conducts better).
+R_FLOOR_FRACTION = 0.9
+X_FLOOR_FRACTION = 0.95  # of the reactance of bare round conductors touching each other
+
+CHECK_COLUMNS = (
+    "cable",
+    "flagged",
+    "reason",
+    "given_r_ohm_per_kft",
+    "given_x_ohm_per_kft",
+    "table_r_ohm_per_kft",
+    "table_x_ohm_per_kft",
+    "table_row",
+)
+
+
+@dataclass(frozen=True)
+class CableCheck:
+    cable: str
+    flagged: bool
+    reason: str
+    given_r_ohm_per_kft: float
+    given_x_ohm_per_kft: float
+    table_r_ohm_per_kft: float | None
+    table_x_ohm_per_kft: float | None
+    table_row: str
+    row: int | None = None
+
+
+def _near(ratio: float, target: float, tol: float) -> bool:
+    return abs(ratio / target - 1.0) <= tol
+
+
+def _other(value: str, choices: tuple[str, ...]) -> list[str]:
+    return [c for c in choices if c != value]
+
+
+def _causes(
+    c: Cable, rr: float, rx: float, given: complex, table, f_hz: float, tol: float
+) -> list[str]:
+    causes = []
+    size = conductors.parse_size(c.size)
+    r_floor = R_FLOOR_FRACTION * conductors.dc_resistance_ohm_per_kft(
+        size.area_mm2, c.material, 20.0, stranded=False
+    )
+    d_mm = 2 * math.sqrt(size.area_mm2 / math.pi)
+    x_floor = X_FLOOR_FRACTION * conductors.reactance_ohm_per_kft(d_mm, d_mm, f_hz)
+    if given.real < r_floor:
+        causes.append(
+            f"not physically possible for {size} {c.material}: R is below the DC "
+            f"resistance of that area at 20 C ({r_floor / R_FLOOR_FRACTION:.4g} "
+            "ohm/1000 ft)"
+        )
+    if given.imag < x_floor:
+        causes.append(
+            f"not physically possible: X is below that of bare conductors touching "
+            f"each other ({x_floor / X_FLOOR_FRACTION:.4g} ohm/1000 ft)"
+        )
+    if causes:
+        return causes
+    k = 1.0 / KM_PER_KFT
+    if _near(rr, k, tol) and _near(rx, k, tol):
+        causes.append("about 3.28 times the table: ohms per kilometre typed as ohms per 1000 ft?")
+    if _near(rr, 1 / k, tol) and _near(rx, 1 / k, tol):
+        causes.append("about 1/3.28 of the table: ohms per 1000 ft typed as ohms per km?")
+    for material in _other(c.material, conductors.MATERIALS):
+        try:
+            alt = conductors.table_as_printed(c.size, material, c.raceway, f_hz)
+        except conductors.SizeError:
+            continue
+        if _near(given.real, alt.r_ohm_per_kft, tol) and _near(rx, 1.0, tol):
+            name = {"cu": "copper", "al": "aluminium"}
+            factor = alt.r_ohm_per_kft / table.r_ohm_per_kft
+            causes.append(
+                f"R matches {name[material]} (R about {factor:.2f} times the "
+                f"{name[c.material]} value): {name[material]} values for a "
+                f"{name[c.material]} cable?"
+            )
+    if c.sets > 1 and _near(rr, 1 / c.sets, tol) and _near(rx, 1 / c.sets, tol):
+        causes.append(
+            f"about 1/{c.sets} of the table: already divided by the {c.sets} sets? "
+            "The tool divides by 'sets' itself, so it would be divided twice"
+        )
+    if c.sets > 1 and _near(rr, c.sets, tol) and _near(rx, c.sets, tol):
+        causes.append(
+            f"about {c.sets} times the table: multiplied by the {c.sets} sets instead "
+            "of entered per conductor?"
+        )
+    magnetic = c.raceway == "steel"
+    for raceway in _other(c.raceway, conductors.RACEWAYS):
+        if (raceway == "steel") == magnetic:
+            continue
+        alt = conductors.table_as_printed(c.size, c.material, raceway, f_hz)
+        if _near(given.imag, alt.x_ohm_per_kft, tol) and _near(given.real, alt.r_ohm_per_kft, tol):
+            kind = "magnetic (steel)" if raceway == "steel" else "non-magnetic"
+            causes.append(
+                f"X matches {kind} conduit (X about "
+                f"{alt.x_ohm_per_kft / table.x_ohm_per_kft:.2f} times): values for "
+                f"{raceway} conduit on a cable in {c.raceway}?"
+            )
+            break
+    return causes
+
+
+def check_cable(
+    c: Cable,
+    tolerance_pct: float = DEFAULT_TOLERANCE_PCT,
+    frequency_hz: float = 60.0,
+    bus_kv: float = 0.48,
+) -> CableCheck | None:
+    """Compare one cable's typed R and X with its table row; None if it took them from a table."""
+    if c.impedance_source:
+        return None
+    given = c.z_ohm_per_kft
+    tol = tolerance_pct / 100.0
+
+    def result(flagged, reason, table=None, row=""):
+        return CableCheck(
+            c.cable,
+            flagged,
+            reason,
+            given.real,
+            given.imag,
+            table.r_ohm_per_kft if table else None,
+            table.x_ohm_per_kft if table else None,
+            row,
+            c.row,
+        )
+
+    if bus_kv > conductors.MAX_TABLE_KV:
+        return result(
+            False,
+            f"not compared: the tables are for cables of 1 kV and below "
+            f"(this one is at {bus_kv:g} kV)",
+        )
+    missing = [name for name in ("size", "material", "raceway") if not getattr(c, name)]
+    if missing:
+        return result(False, f"not compared: {', '.join(missing)} not given, so no table row")
+    try:
+        table = conductors.table_as_printed(c.size, c.material, c.raceway, frequency_hz)
+    except conductors.SizeError as exc:
+        return result(False, f"not compared: size {c.size!r}: {exc}")
+    rr = given.real / table.r_ohm_per_kft
+    rx = given.imag / table.x_ohm_per_kft if table.x_ohm_per_kft else float("inf")
+    if abs(rr - 1) <= tol and abs(rx - 1) <= tol:
+        note = (
+            " (the table's X for this metric size is itself an assumption)"
+            if table.assumed_x
+            else ""
+        )
+        return result(
+            False, f"agrees with the table within {tolerance_pct:g} %{note}", table, table.source
+        )
+    causes = _causes(c, rr, rx, given, table, frequency_hz, tol)
+    if not causes:
+        causes = [
+            f"R is {rr:.2f} and X {rx:.2f} times the table row and no common mistake "
+            "fits: check the source of the data"
+        ]
+    return result(True, "; or ".join(causes), table, table.source)
+
+
+def check_cables(system: System, tolerance_pct: float = DEFAULT_TOLERANCE_PCT) -> list[CableCheck]:
+    """Every cable whose R and X the user typed, compared with the tables.
+
+    Examples
+    --------
+    >>> from faultcalc import read_system, sample_path
+    >>> [c.flagged for c in check_cables(read_system(sample_path("plant_480v")))]
+    [False, False, False]
+    """
+    kv = system.bus_kv()
+    checks = (
+        check_cable(c, tolerance_pct, system.settings.frequency_hz, kv[c.from_bus])
+        for c in system.cables
+    )
+    return [c for c in checks if c is not None]
+
+
+def as_table(checks: list[CableCheck]) -> pd.DataFrame:
+    return pd.DataFrame(
+        [[getattr(c, k) for k in CHECK_COLUMNS] for c in checks], columns=list(CHECK_COLUMNS)
+    )
