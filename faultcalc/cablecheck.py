@@ -59,29 +59,35 @@ def _other(value: str, choices: tuple[str, ...]) -> list[str]:
     return [c for c in choices if c != value]
 
 
+def _physics(c: Cable, given: complex, f_hz: float) -> list[str]:
+    """Reasons the typed values cannot be those of any conductor of this size."""
+    size = conductors.parse_size(c.size)
+    r_rod = conductors.dc_resistance_ohm_per_kft(size.area_mm2, c.material, 20.0, stranded=False)
+    d_mm = 2 * math.sqrt(size.area_mm2 / math.pi)
+    x_touch = conductors.reactance_ohm_per_kft(d_mm, d_mm, f_hz)
+    found = []
+    if given.real < R_FLOOR_FRACTION * r_rod:
+        found.append(
+            f"not physically possible for {size} {c.material}: R is below the DC "
+            f"resistance of that area at 20 C ({r_rod:.4g} ohm/1000 ft)"
+        )
+    if given.imag < X_FLOOR_FRACTION * x_touch:
+        found.append(
+            "not physically possible: X is below that of bare conductors touching each "
+            f"other ({x_touch:.4g} ohm/1000 ft)"
+        )
+    return found
+
+
+NAMES = {"cu": "copper", "al": "aluminium"}
+ARTICLE = {"cu": "a", "al": "an"}
+
+
 def _causes(
     c: Cable, rr: float, rx: float, given: complex, table, f_hz: float, tol: float
 ) -> list[str]:
+    """The common mistakes whose ratio fits; the physics verdict when none does."""
     causes = []
-    size = conductors.parse_size(c.size)
-    r_floor = R_FLOOR_FRACTION * conductors.dc_resistance_ohm_per_kft(
-        size.area_mm2, c.material, 20.0, stranded=False
-    )
-    d_mm = 2 * math.sqrt(size.area_mm2 / math.pi)
-    x_floor = X_FLOOR_FRACTION * conductors.reactance_ohm_per_kft(d_mm, d_mm, f_hz)
-    if given.real < r_floor:
-        causes.append(
-            f"not physically possible for {size} {c.material}: R is below the DC "
-            f"resistance of that area at 20 C ({r_floor / R_FLOOR_FRACTION:.4g} "
-            "ohm/1000 ft)"
-        )
-    if given.imag < x_floor:
-        causes.append(
-            f"not physically possible: X is below that of bare conductors touching "
-            f"each other ({x_floor / X_FLOOR_FRACTION:.4g} ohm/1000 ft)"
-        )
-    if causes:
-        return causes
     k = 1.0 / KM_PER_KFT
     if _near(rr, k, tol) and _near(rx, k, tol):
         causes.append("about 3.28 times the table: ohms per kilometre typed as ohms per 1000 ft?")
@@ -93,12 +99,11 @@ def _causes(
         except conductors.SizeError:
             continue
         if _near(given.real, alt.r_ohm_per_kft, tol) and _near(rx, 1.0, tol):
-            name = {"cu": "copper", "al": "aluminium"}
             factor = alt.r_ohm_per_kft / table.r_ohm_per_kft
             causes.append(
-                f"R matches {name[material]} (R about {factor:.2f} times the "
-                f"{name[c.material]} value): {name[material]} values for a "
-                f"{name[c.material]} cable?"
+                f"R matches {NAMES[material]} (about {factor:.2f} times the "
+                f"{NAMES[c.material]} value): {NAMES[material]} values for "
+                f"{ARTICLE[c.material]} {NAMES[c.material]} cable?"
             )
     if c.sets > 1 and _near(rr, 1 / c.sets, tol) and _near(rx, 1 / c.sets, tol):
         causes.append(
@@ -118,12 +123,12 @@ def _causes(
         if _near(given.imag, alt.x_ohm_per_kft, tol) and _near(given.real, alt.r_ohm_per_kft, tol):
             kind = "magnetic (steel)" if raceway == "steel" else "non-magnetic"
             causes.append(
-                f"X matches {kind} conduit (X about "
+                f"X matches {kind} conduit (about "
                 f"{alt.x_ohm_per_kft / table.x_ohm_per_kft:.2f} times): values for "
                 f"{raceway} conduit on a cable in {c.raceway}?"
             )
             break
-    return causes
+    return causes or _physics(c, given, f_hz)
 
 
 def check_cable(
