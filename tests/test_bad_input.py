@@ -5,6 +5,7 @@ from __future__ import annotations
 import copy
 
 import pytest
+from builders import transformer
 from click.testing import CliRunner
 
 from faultcalc import InputError, read_system, run_study
@@ -13,20 +14,7 @@ from faultcalc.cli import main
 GOOD = {
     "buses": [{"bus": "HV", "kv": 12.47}, {"bus": "LV", "kv": 0.48}, {"bus": "PNL", "kv": 0.48}],
     "sources": [{"source": "U", "bus": "HV", "sc_mva": 200, "xr": 8, "slg_ka": 7}],
-    "transformers": [
-        {
-            "transformer": "T",
-            "hv_bus": "HV",
-            "lv_bus": "LV",
-            "kva": 1000,
-            "hv_kv": 12.47,
-            "lv_kv": 0.48,
-            "z_pct": 5.75,
-            "xr": 5,
-            "hv_winding": "D",
-            "lv_winding": "YN",
-        }
-    ],
+    "transformers": [transformer()],
     "cables": [
         {
             "cable": "C",

@@ -7,6 +7,7 @@ from __future__ import annotations
 import json
 
 import pytest
+from builders import transformer
 from click.testing import CliRunner
 
 from faultcalc import conductors, read_system, run_study
@@ -143,20 +144,7 @@ def _system(make_input, cables):
             "buses": [{"bus": "HV", "kv": 12.47}, {"bus": "LV", "kv": 0.48}]
             + [{"bus": b, "kv": 0.48} for b in ("P1", "P2") if b in used],
             "sources": [{"source": "U", "bus": "HV", "sc_mva": 300, "xr": 10, "slg_ka": 12}],
-            "transformers": [
-                {
-                    "transformer": "T",
-                    "hv_bus": "HV",
-                    "lv_bus": "LV",
-                    "kva": 1000,
-                    "hv_kv": 12.47,
-                    "lv_kv": 0.48,
-                    "z_pct": 5.75,
-                    "xr": 5,
-                    "hv_winding": "D",
-                    "lv_winding": "YN",
-                }
-            ],
+            "transformers": [transformer()],
             "cables": cables,
         }
     )

@@ -7,28 +7,12 @@ import math
 
 import numpy as np
 import pytest
+from builders import transformer
 from click.testing import CliRunner
 
 from faultcalc import read_system, run_study
 from faultcalc.cli import main
 from faultcalc.study import analyse, contributions_of
-
-
-def transformer(**kw):
-    row = {
-        "transformer": "T",
-        "hv_bus": "HV",
-        "lv_bus": "LV",
-        "kva": 1500,
-        "hv_kv": 12.47,
-        "lv_kv": 0.48,
-        "z_pct": 5.75,
-        "xr": 6,
-        "hv_winding": "D",
-        "lv_winding": "YN",
-    }
-    row.update(kw)
-    return row
 
 
 def two_bus(source=None, machines=None, **tx):
@@ -38,7 +22,7 @@ def two_bus(source=None, machines=None, **tx):
             source
             or {"source": "U", "bus": "HV", "sc_mva": 500, "xr": 10, "slg_ka": 20, "slg_xr": 10}
         ],
-        "transformers": [transformer(**tx)],
+        "transformers": [transformer(kva=1500, xr=6, **tx)],
     }
     if machines:
         sheets["machines"] = machines

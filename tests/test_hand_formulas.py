@@ -5,6 +5,7 @@ from __future__ import annotations
 import math
 
 import pytest
+from builders import transformer
 
 from faultcalc import read_system, run_study
 
@@ -22,20 +23,7 @@ def test_transformer_on_infinite_bus_1000kva_480v(make_input):
         {
             "buses": [{"bus": "HV", "kv": 12.47}, {"bus": "LV", "kv": 0.48}],
             "sources": [{"source": "U", "bus": "HV", "sc_mva": INFINITE_MVA, "xr": 10}],
-            "transformers": [
-                {
-                    "transformer": "T",
-                    "hv_bus": "HV",
-                    "lv_bus": "LV",
-                    "kva": 1000,
-                    "hv_kv": 12.47,
-                    "lv_kv": 0.48,
-                    "z_pct": 5.75,
-                    "xr": 5,
-                    "hv_winding": "D",
-                    "lv_winding": "YN",
-                }
-            ],
+            "transformers": [transformer()],
         }
     )
     lv = buses_of(run_study(read_system(path))).loc["LV"]

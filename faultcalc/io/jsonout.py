@@ -61,15 +61,9 @@ def cable_check_dict(checks, tolerance_pct: float, input_name: str, sha256: str)
     from .. import __version__
     from ..cautions import CAUTIONS
 
-    fields = (
-        "cable",
-        "flagged",
-        "reason",
-        "given_r_ohm_per_kft",
-        "given_x_ohm_per_kft",
-        "table_r_ohm_per_kft",
-        "table_x_ohm_per_kft",
-    )
+    from ..cablecheck import CHECK_COLUMNS
+
+    fields = [f for f in CHECK_COLUMNS if f != "table_row"]
     return {
         "tool": {"name": "faultcalc", "version": __version__},
         "input": input_name,

@@ -4,25 +4,14 @@ from __future__ import annotations
 
 import copy
 
+from builders import transformer
+
 from faultcalc import read_system
 
 BASE = {
     "buses": [{"bus": "HV", "kv": 12.47}, {"bus": "LV", "kv": 0.48}],
     "sources": [{"source": "U", "bus": "HV", "sc_mva": 200, "xr": 8}],
-    "transformers": [
-        {
-            "transformer": "T",
-            "hv_bus": "HV",
-            "lv_bus": "LV",
-            "kva": 1000,
-            "hv_kv": 12.47,
-            "lv_kv": 0.48,
-            "z_pct": 5.75,
-            "xr": 5,
-            "hv_winding": "d",
-            "lv_winding": "yn",
-        }
-    ],
+    "transformers": [transformer(hv_winding="d", lv_winding="yn")],
 }
 
 
