@@ -59,9 +59,8 @@ def _records(table) -> list[dict[str, Any]]:
 def cable_check_dict(checks, tolerance_pct: float, input_name: str, sha256: str) -> dict:
     """The JSON document of ``faultcalc check-cables``."""
     from .. import __version__
-    from ..cautions import CAUTIONS
-
     from ..cablecheck import CHECK_COLUMNS
+    from ..cautions import CAUTIONS
 
     fields = [f for f in CHECK_COLUMNS if f != "table_row"]
     return {
