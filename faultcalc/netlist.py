@@ -1,0 +1,363 @@
+"""A SPICE netlist of the whole network in the phase domain, for an independent cross-check.
+
+Three phase nodes and one return node per bus, in volts, amperes and ohms:
+
+* Utility sources and machines: a star of three voltage sources (the prefault phase voltage, at
+  the phase displacement of their zone) behind the positive-sequence impedance in each phase;
+  the star point reaches the bus's return node through ``(Z0 - Z1) / 3`` (and the neutral
+  impedance), so the zero-sequence impedance is honoured; an ungrounded machine's star floats.
+* Cables and impedances: ``Z1`` in each phase, and ``(Z0 - Z1) / 3`` in the return path between
+  the two buses' return nodes, which reproduces ``Z0`` for zero-sequence current.
+* Transformers: three single-phase ideal transformers (a voltage-controlled voltage source and a
+  current-controlled current source each) connected as the real windings (D, Y, YN, with the
+  phase displacement of the clock number), the leakage impedance in series with each
+  low-voltage winding, neutral impedances from YN star points to the return node.
+* The fault: zero-volt sources (current meters) from the faulted phases to the return node,
+  through ``fault_ohm`` where it is not zero.
+
+Impedances are realised at the system frequency: a negative resistance where ``Z0 < Z1`` makes
+``(Z0 - Z1) / 3`` negative, and a capacitor for a negative reactance. That is exact for an AC
+analysis; transient netlists refuse them.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from collections import deque
+from dataclasses import dataclass, field
+
+from .model import System
+
+PHASES = "abc"
+FAULTS = ("3ph", "slg", "ll", "llg")
+SQRT3 = math.sqrt(3.0)
+
+
+class NetlistError(ValueError):
+    """The system or request cannot be written as a netlist."""
+
+
+@dataclass
+class _Writer:
+    omega: float
+    transient: bool
+    lines: list[str] = field(default_factory=list)
+    count: int = 0
+
+    def name(self, prefix: str) -> str:
+        self.count += 1
+        return f"{prefix}{self.count}"
+
+    def add(self, line: str) -> None:
+        self.lines.append(line)
+
+    def impedance(self, a: str, b: str, z: complex, label: str) -> None:
+        """R + jX between nodes a and b (a zero-volt link when z is 0)."""
+        r, x = z.real, z.imag
+        if self.transient and (r < 0 or x < 0):
+            raise NetlistError(
+                f"{label}: negative R or X ({z:.6g} ohm) has no transient "
+                "model; give zero-sequence data with Z0 >= Z1"
+            )
+        if abs(r) < 1e-15 and abs(x) < 1e-15:
+            self.add(f"{self.name('VZ')} {a} {b} 0")
+            return
+        mid = a
+        if abs(r) >= 1e-15:
+            mid = f"{a}_{self.count + 1}m" if abs(x) >= 1e-15 else b
+            self.add(f"{self.name('R')} {a} {mid} {r:.12g}")
+        if abs(x) >= 1e-15:
+            if x > 0:
+                self.add(f"{self.name('L')} {mid} {b} {x / self.omega:.12g}")
+            else:
+                self.add(f"{self.name('C')} {mid} {b} {-1.0 / (self.omega * x):.12g}")
+
+
+def _safe(name: str) -> str:
+    """A SPICE-safe form of a name (letters, digits, underscores)."""
+    return re.sub(r"\W", "_", name)
+
+
+def _split(z_abs: float, xr: float) -> complex:
+    r = z_abs / math.sqrt(1.0 + xr * xr)
+    return complex(r, r * xr)
+
+
+def _groups(system: System) -> dict[str, str]:
+    """Bus -> representative bus: closed ties make one node of several buses."""
+    parent = {b.bus: b.bus for b in system.buses}
+
+    def root(n):
+        while parent[n] != n:
+            parent[n] = parent[parent[n]]
+            n = parent[n]
+        return n
+
+    for e in system.impedances:
+        if e.is_tie:
+            parent[root(e.to_bus)] = root(e.from_bus)
+    return {b: root(b) for b in parent}
+
+
+def _zone_angles(system: System, group: dict[str, str]) -> dict[str, float]:
+    """Phase displacement of each bus group, degrees (LV lags HV by 30 per clock hour)."""
+    links: dict[str, list[tuple[str, float]]] = {g: [] for g in set(group.values())}
+    for t in system.transformers:
+        a, b = group[t.hv_bus], group[t.lv_bus]
+        links[a].append((b, -30.0 * t.phase_shift_clock))
+        links[b].append((a, 30.0 * t.phase_shift_clock))
+    for e in (*system.cables, *[i for i in system.impedances if not i.is_tie]):
+        a, b = group[e.from_bus], group[e.to_bus]
+        links[a].append((b, 0.0))
+        links[b].append((a, 0.0))
+    angle: dict[str, float] = {}
+    order = list(dict.fromkeys(group[b.bus] for b in system.buses))
+    for start in order:
+        if start in angle:
+            continue
+        angle[start] = 0.0
+        queue = deque([start])
+        while queue:
+            a = queue.popleft()
+            for b, shift in links[a]:
+                if b not in angle:
+                    angle[b] = angle[a] + shift
+                    queue.append(b)
+    return angle
+
+
+def _connection(clock: int, hv: str, lv: str) -> tuple[int, bool]:
+    """Phase relabelling r and polarity reversal giving this clock number.
+
+    Base connections give clock 1 for mixed D/Y pairs and 0 otherwise; reversing the LV winding
+    adds 6 hours, coupling HV winding k with LV phase k + r adds 8 r hours (mod 12).
+    """
+    base = 1 if (hv == "D") != (lv == "D") else 0
+    for r in range(3):
+        for reverse in (False, True):
+            if (base + 8 * r + 6 * reverse) % 12 == clock % 12:
+                return r, reverse
+    raise NetlistError(f"no winding arrangement gives clock number {clock} for {hv}-{lv}")
+
+
+def build_netlist(
+    system: System,
+    bus: str | None,
+    fault: str | None,
+    *,
+    transient: bool = False,
+    close_s: float = 0.0,
+    stop_s: float = 0.05,
+    step_s: float = 1e-5,
+) -> str:
+    """The netlist text; ``fault`` None writes the unfaulted network (open-circuit voltages).
+
+    With ``transient`` the fault closes at ``close_s`` (a switch, 1 micro-ohm closed) and the
+    analysis runs to ``stop_s``; otherwise it is an AC analysis at the system frequency.
+    """
+    if fault is not None and fault not in FAULTS:
+        raise NetlistError(f"fault must be one of {', '.join(FAULTS)}")
+    settings = system.settings
+    f_hz = float(settings.frequency_hz)
+    w = _Writer(2 * math.pi * f_hz, transient)
+    kv = system.bus_kv()
+    group = _groups(system)
+    names = sorted(set(group.values()), key=[b.bus for b in system.buses].index)
+    node_id = {g: f"b{i + 1}" for i, g in enumerate(names)}
+    angle = _zone_angles(system, group)
+    if bus is not None and bus not in kv:
+        raise NetlistError(f"no bus named {bus!r}")
+
+    def ph(b: str, k: int) -> str:
+        return f"{node_id[group[b]]}{PHASES[k % 3]}"
+
+    def ret(b: str) -> str:
+        return "0"  # the return path is ideal ground; series Z0 sits in the phases
+
+    title = settings.title or "faultcalc network"
+    w.add(f"* {title}")
+    w.add(
+        "* Phase-domain netlist written by faultcalc for an independent check; volts, "
+        "amperes, ohms, henries, farads."
+    )
+    w.add(
+        f"* Frequency {f_hz:g} Hz; prefault {settings.prefault_pu:g} pu; fault "
+        f"{fault or 'none'} at {bus or '-'}; fault impedance {settings.fault_ohm:g} ohm."
+    )
+    w.add("* Nodes: <bus>a, <bus>b, <bus>c are the phases of each bus; 0 is ground, the return "
+          "path. A series element's zero-sequence impedance is in its phases: Z1 in each phase "
+          "plus a common drop (Z0 - Z1)/3 x (Ia + Ib + Ic) from controlled sources.")
+    for g in names:
+        members = [b for b in group if group[b] == g]
+        w.add(
+            f"*   {node_id[g]} = bus {', '.join(members)} ({kv[g]:g} kV nominal, zone "
+            f"angle {angle[g]:g} deg)"
+        )
+    def star_source(label, b, e_kv_ln, z1, z0):
+        star = f"s_{label}"
+        theta = angle[group[b]]
+        w.add(f"* {label}: source behind its impedance at bus {b}")
+        for k in range(3):
+            phase_deg = theta - 120.0 * k
+            internal = f"{star}{PHASES[k]}"
+            volts = e_kv_ln * 1000.0
+            if transient:
+                # v(t) = sqrt(2) V sin(w t + phase): the AC phasor V at that phase (sine ref).
+                w.add(
+                    f"V_{label}_{PHASES[k]} {internal} {star} SIN(0 {volts * math.sqrt(2):.12g} "
+                    f"{f_hz:g} 0 0 {phase_deg:.12g})"
+                )
+            else:
+                w.add(f"V_{label}_{PHASES[k]} {internal} {star} AC {volts:.12g} {phase_deg:.12g}")
+            w.impedance(internal, ph(b, k), z1, label)
+        if z0 is not None:
+            w.impedance(star, ret(b), (z0 - z1) / 3.0, label)
+
+    for i, s in enumerate(system.sources):
+        v_ln = kv[s.bus] / SQRT3
+        z1 = _split(settings.prefault_pu * kv[s.bus] ** 2 / s.available_mva(kv[s.bus]), s.xr)
+        if s.slg_ka is not None:
+            loop = _split(3 * settings.prefault_pu * v_ln / s.slg_ka, s.slg_xr)
+            z0 = loop - 2 * z1
+        elif s.r0_ohm is not None:
+            z0 = complex(s.r0_ohm, s.x0_ohm)
+        else:
+            z0 = z1
+        label = f"src{i + 1}_{_safe(s.source)}"
+        star_source(label, s.bus, settings.prefault_pu * v_ln, z1, z0)
+    for i, m in enumerate(system.machines):
+        scale = m.kv**2 / (m.rated_kva / 1000.0) / m.count
+        z1 = _split(m.xd_pct / 100.0, m.xr) * scale
+        z0 = None
+        if m.grounded:
+            x0 = m.x0_pct if m.x0_pct is not None else m.xd_pct
+            z0 = _split(x0 / 100.0, m.xr) * scale + 3 * m.neutral_ohm / m.count
+        label = f"mach{i + 1}_{_safe(m.machine)}"
+        star_source(label, m.bus, settings.prefault_pu * kv[m.bus] / SQRT3, z1, z0)
+    for c in system.cables:
+        z1 = c.z_ohm
+        z0 = (c.z0_ohm_per_kft * c.length_kft / c.sets) if c.z0_given else 3.0 * z1
+        w.add(f"* cable {c.cable}: {c.from_bus} - {c.to_bus}")
+        for k in range(3):
+            w.impedance(ph(c.from_bus, k), ph(c.to_bus, k), z1, c.cable)
+        w.impedance(ret(c.from_bus), ret(c.to_bus), (z0 - z1) / 3.0, c.cable)
+    for e in system.impedances:
+        if e.is_tie:
+            w.add(f"* closed tie {e.element}: {e.from_bus} and {e.to_bus} share their nodes")
+            continue
+        w.add(f"* impedance {e.element}: {e.from_bus} - {e.to_bus}")
+        for k in range(3):
+            w.impedance(ph(e.from_bus, k), ph(e.to_bus, k), e.z_ohm, e.element)
+        w.impedance(ret(e.from_bus), ret(e.to_bus), (e.z0_ohm - e.z_ohm) / 3.0, e.element)
+    for t in system.transformers:
+        _transformer(w, t, ph, ret)
+    if fault is not None:
+        _fault(w, bus, fault, settings.fault_ohm, ph, ret, transient, close_s)
+    w.add(".options rshunt=1e12")
+    w.add(".control")
+    w.add("set numdgt=12")
+    if transient:
+        w.add(f"tran {step_s:g} {stop_s:g} 0 {step_s:g} uic")
+        w.add(f"meas tran ipeak_a max i(vf_a) from={close_s:g} to={stop_s:g}")
+        w.add(f"meas tran imin_a min i(vf_a) from={close_s:g} to={stop_s:g}")
+    else:
+        w.add(f"ac lin 1 {f_hz:g} {f_hz:g}")
+        if fault is not None:
+            for meter in _meters(fault):
+                w.add(f"let {meter} = i({meter})")
+                w.add(f"print {meter}")
+        for g in names:
+            w.add(f"let u_{node_id[g]} = v({node_id[g]}a,{node_id[g]}g)")
+            w.add(f"print u_{node_id[g]}")
+    w.add(".endc")
+    w.add(".end")
+    return "\n".join(w.lines) + "\n"
+
+
+def _meters(fault: str) -> list[str]:
+    return {
+        "3ph": ["vf_a", "vf_b", "vf_c"],
+        "slg": ["vf_a"],
+        "ll": ["vf_b"],
+        "llg": ["vf_b", "vf_c", "vf_g"],
+    }[fault]
+
+
+def _fault(w, bus, fault, fault_ohm, ph, ret, transient, close_s):
+    w.add(f"* fault {fault} at bus {bus}; current meters vf_*")
+    point = "fpt"
+    if transient:
+        if fault != "3ph":
+            raise NetlistError("the transient netlist writes three-phase faults only")
+        w.add(".model fsw sw(vt=0.5 vh=0.1 ron=1e-6 roff=1e12)")
+        w.add(f"VCTL fctl 0 PWL(0 0 {close_s:.12g} 0 {close_s + 1e-9:.12g} 1)")
+        for k in range(3):
+            w.add(f"vf_{PHASES[k]} {ph(bus, k)} fsw{k} 0")
+            w.add(f"SWF{k} fsw{k} {point} fctl 0 fsw")
+        w.add(f"RFG {point} {ret(bus)} 1e-6")
+        return
+    zf = complex(fault_ohm, 0.0)
+    if fault == "3ph":
+        for k in range(3):
+            w.add(f"vf_{PHASES[k]} {ph(bus, k)} f{k} 0")
+            w.impedance(f"f{k}", point, zf, "fault")
+        w.add(f"VFG {point} {ret(bus)} 0")
+    elif fault == "slg":
+        w.add(f"vf_a {ph(bus, 0)} f0 0")
+        w.impedance("f0", ret(bus), zf, "fault")
+    elif fault == "ll":
+        w.add(f"vf_b {ph(bus, 1)} f1 0")
+        w.impedance("f1", ph(bus, 2), zf, "fault")
+    else:
+        w.add(f"vf_b {ph(bus, 1)} {point} 0")
+        w.add(f"vf_c {ph(bus, 2)} {point} 0")
+        w.add(f"vf_g {point} fg 0")
+        w.impedance("fg", ret(bus), zf, "fault")
+
+
+def _transformer(w: _Writer, t, ph, ret) -> None:
+    r, reverse = _connection(t.phase_shift_clock, t.hv_winding, t.lv_winding)
+    mva = t.kva / 1000.0
+    z1_lv = _split(t.z_pct / 100.0, t.xr) * t.lv_kv**2 / mva  # ohms, LV line-to-neutral basis
+    z0_lv = _split(t.z0_pct / 100.0, t.xr0) * t.lv_kv**2 / mva
+    z0_hv = _split(t.z0_pct / 100.0, t.xr0) * t.hv_kv**2 / mva
+    z1_hv = _split(t.z_pct / 100.0, t.xr) * t.hv_kv**2 / mva
+    v_hv = t.hv_kv * (1.0 if t.hv_winding == "D" else 1.0 / SQRT3)
+    v_lv = t.lv_kv * (1.0 if t.lv_winding == "D" else 1.0 / SQRT3)
+    ratio = v_hv / v_lv
+    label = f"x{w.count + 1}"
+    w.add(
+        f"* transformer {t.transformer}: {t.hv_bus} ({t.hv_winding}) / {t.lv_bus} "
+        f"({t.lv_winding}), clock {t.phase_shift_clock}, winding ratio {ratio:.9g}"
+    )
+    hstar, lstar = f"{label}_hn", f"{label}_ln"
+    for k in range(3):
+        # HV winding k.
+        if t.hv_winding == "D":
+            h1, h2 = ph(t.hv_bus, k), ph(t.hv_bus, k - 1)
+        else:
+            h1, h2 = ph(t.hv_bus, k), hstar
+        # LV winding coupled with it: on LV phase k + r, leakage impedance in series.
+        j = k + r
+        if t.lv_winding == "D":
+            other = j - 1 if t.hv_winding == "D" else j + 1
+            l1, l2 = f"{label}_w{k}", ph(t.lv_bus, other)
+            zw = 3.0 * z1_lv
+        else:
+            l1, l2 = f"{label}_w{k}", lstar
+            zw = z1_lv
+        w.impedance(ph(t.lv_bus, j), l1, zw, t.transformer)
+        s1, s2 = (l2, l1) if reverse else (l1, l2)
+        sense = f"{label}_s{k}"
+        w.add(f"E{label}_{k} {s1} {sense} {h1} {h2} {1.0 / ratio:.12g}")
+        w.add(f"V{label}_{k} {sense} {s2} 0")
+        w.add(f"F{label}_{k} {h2} {h1} V{label}_{k} {1.0 / ratio:.12g}")
+    # Neutrals: the zero-sequence impedance beyond Z1 goes in the grounded neutral.
+    pair = (t.hv_winding, t.lv_winding)
+    if t.lv_winding == "YN":
+        extra = (z0_lv - z1_lv) / 3.0
+        w.impedance(lstar, ret(t.lv_bus), t.lv_neutral_ohm + extra, t.transformer)
+    if t.hv_winding == "YN":
+        extra = (z0_hv - z1_hv) / 3.0 if pair == ("YN", "D") else 0j
+        w.impedance(hstar, ret(t.hv_bus), t.hv_neutral_ohm + extra, t.transformer)
