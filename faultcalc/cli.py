@@ -24,6 +24,7 @@ from .io.files import same_file, staged
 from .io.jsonout import cable_check_dict, write_json_to
 from .io.template import write_template
 from .io.workbook import write_workbook_to
+from .netlist import FAULTS, build_netlist
 
 EXIT_BAD_INPUT = 2
 EXIT_FAILURE = 1
@@ -209,6 +210,53 @@ def check_cables_command(input_path: Path, json_path: Path | None, tolerance_pct
         )
         if json_path is not None:
             click.echo(f"findings JSON: {json_path.resolve()}")
+
+    _guarded(action)
+
+
+@main.command()
+@click.argument("input_path", metavar="INPUT", type=click.Path(path_type=Path))
+@click.option("--bus", required=True, help="The faulted bus.")
+@click.option(
+    "--fault",
+    type=click.Choice(FAULTS),
+    required=True,
+    help="3ph, slg (a to ground), ll (b to c) or llg (b and c to ground).",
+)
+@click.option(
+    "-o",
+    "--output",
+    required=True,
+    type=click.Path(path_type=Path),
+    metavar="FILE.cir",
+    help="Netlist to write.",
+)
+def netlist(input_path: Path, bus: str, fault: str, output: Path) -> None:
+    """Write a phase-domain SPICE netlist of INPUT with a fault at BUS, for a reviewer.
+
+    Every bus becomes three phase nodes and a return node, every transformer three ideal
+    single-phase transformers connected as its windings, every source a three-phase voltage
+    source behind its sequence impedances. Comments map every node back to its bus. Run it
+    with any SPICE simulator (ngspice -b FILE.cir prints the fault currents vf_*).
+
+    \b
+    Example:
+      faultcalc netlist plant.xlsx --bus SWBD-1 --fault slg -o swbd1-slg.cir
+    """
+
+    def action():
+        if same_file(output, input_path):
+            raise OutputError(f"refusing to write {output}: it is the input")
+        system = read_system(input_path)
+        if bus not in {b.bus for b in system.buses}:
+            raise click.BadParameter(f"no bus named {bus} in {input_path.name}", param_hint="--bus")
+        text = build_netlist(system, bus, fault)
+        with staged(output) as (temp,):
+            temp.write_text(text, encoding="utf-8")
+        click.echo(
+            f"netlist: {output.resolve()} ({text.count(chr(10))} lines); run it with: "
+            f"ngspice -b {output}"
+        )
 
     _guarded(action)
 

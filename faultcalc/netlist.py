@@ -185,15 +185,18 @@ def build_netlist(
         f"* Frequency {f_hz:g} Hz; prefault {settings.prefault_pu:g} pu; fault "
         f"{fault or 'none'} at {bus or '-'}; fault impedance {settings.fault_ohm:g} ohm."
     )
-    w.add("* Nodes: <bus>a, <bus>b, <bus>c are the phases of each bus; 0 is ground, the return "
-          "path. A series element's zero-sequence impedance is in its phases: Z1 in each phase "
-          "plus a common drop (Z0 - Z1)/3 x (Ia + Ib + Ic) from controlled sources.")
+    w.add(
+        "* Nodes: <bus>a, <bus>b, <bus>c are the phases of each bus; 0 is ground, the return "
+        "path. A series element's zero-sequence impedance is in its phases: Z1 in each phase "
+        "plus a common drop (Z0 - Z1)/3 x (Ia + Ib + Ic) from controlled sources."
+    )
     for g in names:
         members = [b for b in group if group[b] == g]
         w.add(
             f"*   {node_id[g]} = bus {', '.join(members)} ({kv[g]:g} kV nominal, zone "
             f"angle {angle[g]:g} deg)"
         )
+
     def star_source(label, b, e_kv_ln, z1, z0):
         star = f"s_{label}"
         theta = angle[group[b]]
@@ -239,17 +242,27 @@ def build_netlist(
         z1 = c.z_ohm
         z0 = (c.z0_ohm_per_kft * c.length_kft / c.sets) if c.z0_given else 3.0 * z1
         w.add(f"* cable {c.cable}: {c.from_bus} - {c.to_bus}")
-        for k in range(3):
-            w.impedance(ph(c.from_bus, k), ph(c.to_bus, k), z1, c.cable)
-        w.impedance(ret(c.from_bus), ret(c.to_bus), (z0 - z1) / 3.0, c.cable)
+        _series(
+            w,
+            [ph(c.from_bus, k) for k in range(3)],
+            [ph(c.to_bus, k) for k in range(3)],
+            z1,
+            z0,
+            c.cable,
+        )
     for e in system.impedances:
         if e.is_tie:
             w.add(f"* closed tie {e.element}: {e.from_bus} and {e.to_bus} share their nodes")
             continue
         w.add(f"* impedance {e.element}: {e.from_bus} - {e.to_bus}")
-        for k in range(3):
-            w.impedance(ph(e.from_bus, k), ph(e.to_bus, k), e.z_ohm, e.element)
-        w.impedance(ret(e.from_bus), ret(e.to_bus), (e.z0_ohm - e.z_ohm) / 3.0, e.element)
+        _series(
+            w,
+            [ph(e.from_bus, k) for k in range(3)],
+            [ph(e.to_bus, k) for k in range(3)],
+            e.z_ohm,
+            e.z0_ohm,
+            e.element,
+        )
     for t in system.transformers:
         _transformer(w, t, ph, ret)
     if fault is not None:
@@ -268,11 +281,31 @@ def build_netlist(
                 w.add(f"let {meter} = i({meter})")
                 w.add(f"print {meter}")
         for g in names:
-            w.add(f"let u_{node_id[g]} = v({node_id[g]}a,{node_id[g]}g)")
+            w.add(f"let u_{node_id[g]} = v({node_id[g]}a)")
             w.add(f"print u_{node_id[g]}")
     w.add(".endc")
     w.add(".end")
     return "\n".join(w.lines) + "\n"
+
+
+def _series(w: _Writer, a: list[str], b: list[str], z1: complex, z0: complex, label: str):
+    """Z1 in each phase; when Z0 differs, each phase also drops (Z0 - Z1)/3 x (Ia + Ib + Ic):
+    a zero-volt meter per phase, current sources summing the three currents into the
+    impedance (Z0 - Z1)/3 at a node of its own, and a voltage source copying that node's
+    voltage into each phase."""
+    coupled = abs(z0 - z1) > 1e-12 * max(abs(z1), 1e-30)
+    tag = w.name("zs")
+    for k in range(3):
+        if not coupled:
+            w.impedance(a[k], b[k], z1, label)
+            continue
+        meter, drop = f"{tag}_{PHASES[k]}i", f"{tag}_{PHASES[k]}d"
+        w.add(f"V{tag}{PHASES[k]} {a[k]} {meter} 0")
+        w.add(f"F{tag}{PHASES[k]} 0 {tag} V{tag}{PHASES[k]} 1")
+        w.add(f"E{tag}{PHASES[k]} {meter} {drop} {tag} 0 1")
+        w.impedance(drop, b[k], z1, label)
+    if coupled:
+        w.impedance(tag, "0", (z0 - z1) / 3.0, label)
 
 
 def _meters(fault: str) -> list[str]:
