@@ -281,8 +281,9 @@ def build_netlist(
                 w.add(f"let {meter} = i({meter})")
                 w.add(f"print {meter}")
         for g in names:
-            w.add(f"let u_{node_id[g]} = v({node_id[g]}a)")
-            w.add(f"print u_{node_id[g]}")
+            for k in PHASES:
+                w.add(f"let u_{node_id[g]}{k} = v({node_id[g]}{k})")
+                w.add(f"print u_{node_id[g]}{k}")
     w.add(".endc")
     w.add(".end")
     return "\n".join(w.lines) + "\n"

@@ -190,7 +190,7 @@ def _check_fed(pu, node_of_bus, n, seq1: Stamps, bus_rows):
 
 
 def zone_angles_deg(
-    pu: PerUnitSystem, network: Network, transformer_rows: dict[str, int] | None = None
+    pu: PerUnitSystem, network: Network, where: dict[str, tuple[str, int | None]] | None = None
 ) -> np.ndarray:
     """Phase displacement of every node's positive-sequence quantities, degrees.
 
@@ -225,29 +225,20 @@ def zone_angles_deg(
                     queue.append(b)
                 elif abs((angle[b] - want + 180.0) % 360.0 - 180.0) > 1e-6:
                     element = pu.series[k]
-                    if element.kind == "transformer":
-                        problems.append(
-                            Problem(
-                                "transformers",
-                                (transformer_rows or {}).get(element.element),
-                                "clock_number",
-                                element.clock,
-                                f"transformer {element.element} closes a loop whose phase "
-                                "displacements do not add up; transformers in parallel need "
-                                "matching vector groups",
-                            )
+                    sheet, row = (where or {}).get(element.element, (element.kind + "s", None))
+                    column = "clock_number" if element.kind == "transformer" else None
+                    problems.append(
+                        Problem(
+                            sheet,
+                            row,
+                            column,
+                            element.element,
+                            "closes a loop whose phase displacements do not add up (a loop "
+                            "through transformers of different vector groups would circulate "
+                            "current): check the transformers' winding connections and "
+                            "clock_number",
                         )
-                    else:
-                        problems.append(
-                            Problem(
-                                element.kind + "s",
-                                None,
-                                None,
-                                element.element,
-                                "closes a loop between transformers of different phase "
-                                "displacement; check the vector groups (clock_number)",
-                            )
-                        )
+                    )
     if problems:
         unique = list({(p.sheet, p.row, p.value): p for p in problems}.values())
         raise InputError(unique)

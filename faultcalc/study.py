@@ -187,6 +187,7 @@ class Analysis:
     factor0: SymmetricFactor
     z1_node: np.ndarray  # positive- (= negative-) sequence Thevenin impedance per node, pu
     z0_node: np.ndarray  # zero-sequence, NaN where no path to ground
+    angle_deg: np.ndarray  # phase displacement of each node's zone (positive sequence)
 
 
 def analyse(system: System) -> Analysis:
@@ -197,17 +198,25 @@ def analyse(system: System) -> Analysis:
     factor0 = SymmetricFactor(network.y0)
     z1_node = factor1.diagonal()
     z0_node = np.where(network.grounded, factor0.diagonal(), complex(np.nan, np.nan))
-    return Analysis(system, pu, network, factor1, factor0, z1_node, z0_node)
+    angles = zone_angles_deg(pu, network, element_locations(system))
+    return Analysis(system, pu, network, factor1, factor0, z1_node, z0_node, angles)
+
+
+def element_locations(system: System) -> dict[str, tuple[str, int | None]]:
+    """Element name -> (sheet, spreadsheet row), for locating problems found after reading."""
+    where = {}
+    for sheet in ("sources", "transformers", "cables", "impedances", "machines"):
+        for e in getattr(system, sheet):
+            where[e.name] = (sheet, e.row)
+    return where
 
 
 def contributions_of(a: Analysis, buses: list[int]) -> list[Phasors]:
     """Complex contributions to faults at the buses with these input indices."""
     kv = np.array(a.pu.bus_kv)
     zf_pu = a.system.settings.fault_ohm / (kv**2 / a.pu.base_mva)
-    rows = {t.transformer: t.row for t in a.system.transformers}
-    angles = zone_angles_deg(a.pu, a.network, rows)
     return contribution_phasors(
-        a.pu, a.network, a.factor1, a.factor0, a.z1_node, a.z0_node, buses, zf_pu, angles
+        a.pu, a.network, a.factor1, a.factor0, a.z1_node, a.z0_node, buses, zf_pu, a.angle_deg
     )
 
 

@@ -29,13 +29,16 @@ def random_sheets(
     off_nominal: bool = False,
     zero_sequence: bool = False,
     machines: int = 0,
+    clocks: bool = False,
 ) -> dict[str, list[dict]]:
     """A 13.8 kV network with 480 V networks hung under it through transformers.
 
     MV buses form a random tree (plus ``loops`` extra cables); every LV bus hangs from an MV bus
     through a transformer or from an LV bus through a cable or impedance. With
     ``zero_sequence`` the sources, cables and transformers get zero-sequence data and random
-    winding connections; ``machines`` adds motors and generators.
+    winding connections; ``machines`` adds motors and generators; ``clocks`` draws the
+    transformers' IEC 60076 clock numbers. Closed ties join only buses of one phase
+    displacement, so every loop is consistent.
     """
     rng = np.random.default_rng(seed)
     buses = [{"bus": f"M{i}", "kv": MV_KV} for i in range(n_mv)]
@@ -92,6 +95,7 @@ def random_sheets(
         a, b = rng.choice(n_mv, 2, replace=False)
         cable(f"M{a}", f"M{b}", MV_KV)
     lv_fed = []
+    angle: dict[str, int] = {}  # phase displacement of each LV bus, degrees
     for i in range(n_lv):
         name = f"L{i}"
         if not lv_fed or rng.random() < 0.4:
@@ -121,13 +125,21 @@ def random_sheets(
                         "hv_neutral_ohm": float(rng.choice([0, 0, 5.0])),
                     }
                 )
+            mixed = (row["hv_winding"] == "D") != (row["lv_winding"] == "D")
+            if clocks:
+                row["clock_number"] = int(rng.choice([1, 5, 7, 11] if mixed else [0, 4, 6, 8]))
+            angle[name] = -30 * row.get("clock_number", 1 if mixed else 0) % 360
             transformers.append(row)
         elif rng.random() < 0.8:
-            cable(lv_fed[rng.integers(len(lv_fed))], name, LV_KV)
+            parent = lv_fed[rng.integers(len(lv_fed))]
+            angle[name] = angle[parent]
+            cable(parent, name, LV_KV)
         else:
+            parent = lv_fed[rng.integers(len(lv_fed))]
+            angle[name] = angle[parent]
             row = {
                 "element": f"Z{len(impedances)}",
-                "from_bus": lv_fed[rng.integers(len(lv_fed))],
+                "from_bus": parent,
                 "to_bus": name,
                 "r_ohm": float(rng.uniform(0, 0.003)),
                 "x_ohm": float(rng.uniform(0.0005, 0.004)),
@@ -138,7 +150,11 @@ def random_sheets(
             impedances.append(row)
         lv_fed.append(name)
     for _ in range(ties):
-        a, b = rng.choice(n_lv, 2, replace=False)
+        a = int(rng.integers(n_lv))
+        mates = [j for j in range(n_lv) if j != a and angle[f"L{j}"] == angle[f"L{a}"]]
+        if not mates:
+            continue
+        b = mates[int(rng.integers(len(mates)))]
         impedances.append(
             {
                 "element": f"Z{len(impedances)}",

@@ -20,15 +20,17 @@ def ngspice_path() -> str:
     path = shutil.which("ngspice")
     if path is None:
         if os.environ.get(REQUIRE_ENV):
-            pytest.fail(f"ngspice is not installed but {REQUIRE_ENV} is set "
-                        "(apt-get install -y ngspice)")
+            pytest.fail(
+                f"ngspice is not installed but {REQUIRE_ENV} is set (apt-get install -y ngspice)"
+            )
         pytest.skip("ngspice not installed (apt-get install ngspice) - cross-check skipped")
     return path
 
 
 def ngspice_version() -> str:
-    out = subprocess.run([ngspice_path(), "--version"], capture_output=True, text=True,
-                         check=False).stdout
+    out = subprocess.run(
+        [ngspice_path(), "--version"], capture_output=True, text=True, check=False
+    ).stdout
     match = re.search(r"ngspice-(\S+)", out)
     return f"ngspice-{match.group(1)}" if match else out.strip().splitlines()[0]
 
@@ -38,16 +40,25 @@ def run(netlist: str) -> dict[str, complex]:
     with tempfile.TemporaryDirectory() as folder:
         path = Path(folder) / "net.cir"
         path.write_text(netlist)
-        proc = subprocess.run([ngspice_path(), "-b", str(path)], capture_output=True, text=True,
-                              timeout=120, check=False)
+        proc = subprocess.run(
+            [ngspice_path(), "-b", str(path)],
+            capture_output=True,
+            text=True,
+            timeout=120,
+            check=False,
+        )
     values = {}
     for line in proc.stdout.splitlines():
         m = _VALUE.match(line)
         if m:
             values[m.group(1).lower()] = complex(float(m.group(2)), float(m.group(3) or 0.0))
-    errors = [line for line in (proc.stdout + proc.stderr).splitlines()
-              if line.lower().startswith(("error", "fatal")) or "singular matrix" in line.lower()]
+    errors = [
+        line
+        for line in (proc.stdout + proc.stderr).splitlines()
+        if line.lower().startswith(("error", "fatal")) or "singular matrix" in line.lower()
+    ]
     if errors or not values:
-        raise RuntimeError(f"ngspice failed ({proc.returncode}):\n{proc.stdout[-3000:]}\n"
-                           f"{proc.stderr[-3000:]}")
+        raise RuntimeError(
+            f"ngspice failed ({proc.returncode}):\n{proc.stdout[-3000:]}\n{proc.stderr[-3000:]}"
+        )
     return values
