@@ -197,6 +197,8 @@ def build_netlist(
             f"angle {angle[g]:g} deg)"
         )
 
+    source_labels: list[str] = []  # each source's and machine's currents are printed
+
     def star_source(label, b, e_kv_ln, z1, z0):
         star = f"s_{label}"
         theta = angle[group[b]]
@@ -214,6 +216,7 @@ def build_netlist(
             else:
                 w.add(f"V_{label}_{PHASES[k]} {internal} {star} AC {volts:.12g} {phase_deg:.12g}")
             w.impedance(internal, ph(b, k), z1, label)
+        source_labels.append(label)
         if z0 is not None:
             w.impedance(star, ret(b), (z0 - z1) / 3.0, label)
 
@@ -280,6 +283,10 @@ def build_netlist(
             for meter in _meters(fault):
                 w.add(f"let {meter} = i({meter})")
                 w.add(f"print {meter}")
+            for label in source_labels:  # current delivered = -i(source), per phase
+                for k in PHASES:
+                    w.add(f"let is_{label}_{k} = -i(V_{label}_{k})")
+                    w.add(f"print is_{label}_{k}")
         for g in names:
             for k in PHASES:
                 w.add(f"let u_{node_id[g]}{k} = v({node_id[g]}{k})")

@@ -58,3 +58,19 @@ def make_input(tmp_path):
         return write_csv_folder(tmp_path / name, sheets)
 
     return make
+
+
+def pytest_report_header(config):
+    """Name the circuit simulator used by tests/crosscheck, and its version."""
+    import shutil
+    import subprocess
+
+    path = shutil.which("ngspice")
+    if path is None:
+        return "cross-check simulator: ngspice not found (tests/crosscheck skip, or fail on CI)"
+    out = subprocess.run([path, "--version"], capture_output=True, text=True, check=False)
+    version = next(
+        (line.strip("* ").strip() for line in out.stdout.splitlines() if "ngspice-" in line),
+        "version unknown",
+    )
+    return f"cross-check simulator: {version} ({path})"

@@ -365,6 +365,42 @@ CASES = [
         "required here because r0_ohm_per_kft",
     ),
     (
+        "parallel transformers of different vector groups",
+        lambda s: (
+            s["transformers"].append(transformer(transformer="T2", clock_number=11)),
+            s["transformers"][0].update({"clock_number": 1}),
+        ),
+        "transformers",
+        3,
+        "clock_number",
+        "T2",
+        "phase displacements do not add up",
+    ),
+    (
+        "tie between zones of different displacement",
+        lambda s: (
+            s["buses"].append({"bus": "LV2", "kv": 0.48}),
+            s["transformers"].append(transformer(transformer="T2", lv_bus="LV2", hv_winding="YN")),
+            s.__setitem__(
+                "impedances",
+                [
+                    {
+                        "element": "TIE",
+                        "from_bus": "LV",
+                        "to_bus": "LV2",
+                        "r_ohm": 0.001,
+                        "x_ohm": 0.001,
+                    }
+                ],
+            ),
+        ),
+        "impedances",
+        2,
+        None,
+        "TIE",
+        "phase displacements do not add up",
+    ),
+    (
         "missing buses sheet",
         lambda s: s.pop("buses"),
         "buses",

@@ -12,7 +12,10 @@ from pathlib import Path
 import pytest
 
 REQUIRE_ENV = "FAULTCALC_REQUIRE_NGSPICE"
-_VALUE = re.compile(r"^\s*([A-Za-z_][\w]*)\s*=\s*([-+0-9.eE]+)(?:\s*,\s*([-+0-9.eE]+))?\s*$")
+# "name = re" or "name = re,im" (print), or "name = value at= time" (meas)
+_VALUE = re.compile(
+    r"^\s*([A-Za-z_]\w*)\s*=\s*([-+0-9.eE]+)(?:\s*,\s*([-+0-9.eE]+))?(?:\s+at=.*)?\s*$"
+)
 
 
 def ngspice_path() -> str:
@@ -62,3 +65,37 @@ def run(netlist: str) -> dict[str, complex]:
             f"ngspice failed ({proc.returncode}):\n{proc.stdout[-3000:]}\n{proc.stderr[-3000:]}"
         )
     return values
+
+
+A = complex(-0.5, 3**0.5 / 2)
+
+
+def fault_current_ka(system, bus: str, fault: str) -> float:
+    """The simulated current of one fault, as the tool reports it: the faulted phase for 3ph
+    and slg, phase b for ll, the larger of b and c for llg; kA."""
+    from faultcalc.netlist import build_netlist
+
+    v = run(build_netlist(system, bus, fault))
+    if fault in ("3ph", "slg"):
+        amps = abs(v["vf_a"])
+    elif fault == "ll":
+        amps = abs(v["vf_b"])
+    else:
+        amps = max(abs(v["vf_b"]), abs(v["vf_c"]))
+    return amps / 1000.0
+
+
+def open_circuit_pu(system) -> dict[str, float]:
+    """Positive-sequence prefault voltage of every bus in the simulation, per-unit of nominal."""
+    from faultcalc.netlist import _groups, build_netlist
+
+    v = run(build_netlist(system, None, None))
+    group = _groups(system)
+    names = list(dict.fromkeys(group[b.bus] for b in system.buses))
+    node = {g: f"b{i + 1}" for i, g in enumerate(names)}
+    out = {}
+    for b in system.buses:
+        n = node[group[b.bus]]
+        v1 = (v[f"u_{n}a"] + A * v[f"u_{n}b"] + A * A * v[f"u_{n}c"]) / 3
+        out[b.bus] = abs(v1) / (b.kv * 1000 / 3**0.5)
+    return out
