@@ -1,24 +1,29 @@
 """A SPICE netlist of the whole network in the phase domain, for an independent cross-check.
 
-Three phase nodes and one return node per bus, in volts, amperes and ohms:
+Three phase nodes per bus, ground (node 0) as the return path, in volts, amperes and ohms:
 
 * Utility sources and machines: a star of three voltage sources (the prefault phase voltage, at
   the phase displacement of their zone) behind the positive-sequence impedance in each phase;
-  the star point reaches the bus's return node through ``(Z0 - Z1) / 3`` (and the neutral
-  impedance), so the zero-sequence impedance is honoured; an ungrounded machine's star floats.
-* Cables and impedances: ``Z1`` in each phase, and ``(Z0 - Z1) / 3`` in the return path between
-  the two buses' return nodes, which reproduces ``Z0`` for zero-sequence current.
+  the star point reaches ground through ``(Z0 - Z1) / 3`` (and the neutral impedance), so the
+  zero-sequence impedance is honoured; an ungrounded machine's star floats.
+* Cables and impedances: ``Z1`` in each phase plus a common drop ``(Z0 - Z1) / 3 x (Ia + Ib +
+  Ic)`` in each phase, from controlled sources: the exact phase-domain form of a symmetrical
+  element with self impedance ``(Z0 + 2 Z1) / 3`` and mutual impedance ``(Z0 - Z1) / 3``, which
+  holds in meshed networks too.
 * Transformers: three single-phase ideal transformers (a voltage-controlled voltage source and a
   current-controlled current source each) connected as the real windings (D, Y, YN, with the
   phase displacement of the clock number), the leakage impedance in series with each
-  low-voltage winding, neutral impedances from YN star points to the return node.
-* The fault: zero-volt sources (current meters) from the faulted phases to the return node,
-  through ``fault_ohm`` where it is not zero.
+  low-voltage winding, neutral impedances from YN star points to ground, and the zero-sequence
+  impedance beyond Z1 in the grounded neutral.
+* The fault: zero-volt sources (current meters ``vf_a`` ...) from the faulted phases to ground
+  (or between phases), through ``fault_ohm`` where it is not zero.
 
 Impedances are realised at the system frequency: a negative resistance where ``Z0 < Z1`` makes
 ``(Z0 - Z1) / 3`` negative, and a capacitor for a negative reactance. That is exact for an AC
-analysis; transient netlists refuse them.
+analysis; transient netlists refuse them. Every node gets 1e12 ohm to ground (``rshunt``) so
+that floating stars and deltas have a DC path; it changes currents by about 1e-12.
 """
+
 
 from __future__ import annotations
 
