@@ -90,7 +90,7 @@ def contribution_phasors(
             if fault == "slg" and not grounded:
                 continue
             z0 = z0_node[n] if grounded else np.nan
-            seq = sequence_currents(fault, z1_node[n], z1_node[n], z0, prefault, zf_pu[b])
+            seq = sequence_currents(fault, z1_node[n], z1_node[n], z0, prefault[b], zf_pu[b])
             if1, if2, if0 = complex(seq.i1), complex(seq.i2), complex(seq.i0)
             dv1 = -z1_cols[:, col[n]] * if1
             dv2 = -z1_cols[:, col[n]] * if2

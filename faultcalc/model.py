@@ -21,6 +21,10 @@ class Settings:
     frequency_hz: int = 60
     prefault_pu: float = 1.0
     conductor_temp_c: float = 75.0
+    method: str = "thevenin"
+    xr_method: str = "complex"
+    lv_tolerance_pct: int = 10
+    end_of_fault_temp_c: float = 160.0
     fault_ohm: float = 0.0
 
 
@@ -29,7 +33,15 @@ class Bus:
     bus: str
     kv: float
     description: str = ""
+    device: str | None = None
+    rating_ka: float | None = None
+    rating_xr: float | None = None
+    service: str = "no"
     row: int | None = None
+
+    @property
+    def name(self) -> str:
+        return self.bus
 
 
 @dataclass(frozen=True)
@@ -202,6 +214,7 @@ class Machine:
     hp: float | None = None
     count: int = 1
     neutral_ohm: float | None = None
+    rpm: float | None = None
     x0_pct: float | None = None
     row: int | None = None
 
@@ -232,6 +245,7 @@ class System:
     cables: tuple[Cable, ...] = ()
     impedances: tuple[Impedance, ...] = ()
     machines: tuple[Machine, ...] = ()
+    cases: tuple[tuple[str, System], ...] = ()  # named variations, each a whole System
     input_name: str = ""
     input_sha256: str = ""
     warnings: tuple[str, ...] = field(default=())

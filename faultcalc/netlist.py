@@ -24,7 +24,6 @@ analysis; transient netlists refuse them. Every node gets 1e12 ohm to ground (``
 that floating stars and deltas have a DC path; it changes currents by about 1e-12.
 """
 
-
 from __future__ import annotations
 
 import math

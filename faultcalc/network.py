@@ -243,3 +243,30 @@ def zone_angles_deg(
         unique = list({(p.sheet, p.row, p.value): p for p in problems}.values())
         raise InputError(unique)
     return angle
+
+
+def positive_matrix_variant(pu: PerUnitSystem, network: Network, transform) -> sp.csc_matrix:
+    """The positive-sequence matrix with every impedance z replaced by ``transform(z)``.
+
+    For the X/R conventions (R-only and X-only reductions) and the IEC 60909-0
+    equivalent-frequency impedance; same nodes, taps and elements as ``network.y1``.
+    """
+    s = network.seq1
+    series_y = np.array(
+        [1.0 / transform(pu.series[k].z1_pu) for k in s.series_elem.tolist()], dtype=complex
+    )
+    shunt_y = np.array(
+        [1.0 / transform(pu.shunts[k].z1_pu) for k in s.shunt_source.tolist()], dtype=complex
+    )
+    stamps = Stamps(
+        s.series_elem,
+        s.series_from,
+        s.series_to,
+        series_y,
+        s.series_tap,
+        s.shunt_elem,
+        s.shunt_source,
+        s.shunt_node,
+        shunt_y,
+    )
+    return stamps.matrix(network.n_nodes)

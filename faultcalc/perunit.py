@@ -94,7 +94,7 @@ class ShuntPU:
 @dataclass(frozen=True)
 class PerUnitSystem:
     base_mva: float
-    prefault_pu: float
+    prefault_pu: tuple[float, ...]  # per bus, input order
     bus_names: tuple[str, ...]
     bus_kv: tuple[float, ...]
     series: tuple[SeriesPU, ...]
@@ -209,17 +209,28 @@ def _names(items: list[str]) -> str:
     return shown + (f" and {len(items) - 10} more" if len(items) > 10 else "")
 
 
-def to_per_unit(system: System, base_mva: float | None = None) -> PerUnitSystem:
+def to_per_unit(
+    system: System,
+    base_mva: float | None = None,
+    prefault_pu: tuple[float, ...] | None = None,
+) -> PerUnitSystem:
     """Convert a System to per-unit on ``base_mva`` (default: the study setting).
+
+    ``prefault_pu`` gives each bus's prefault voltage (default: the study setting at every bus);
+    a source's impedance uses the value at its own bus.
 
     Raises InputError when source data imply a non-physical zero-sequence impedance.
     """
     base_mva = system.settings.base_mva if base_mva is None else base_mva
-    prefault = system.settings.prefault_pu
+    if prefault_pu is None:
+        prefault_pu = tuple(system.settings.prefault_pu for _ in system.buses)
+    prefault_of = {b.bus: e for b, e in zip(system.buses, prefault_pu, strict=True)}
     kv = system.bus_kv()
     problems: list[Problem] = []
     notes: list[str] = []
-    shunts = [_source(s, kv[s.bus], base_mva, prefault, problems, notes) for s in system.sources]
+    shunts = [
+        _source(s, kv[s.bus], base_mva, prefault_of[s.bus], problems, notes) for s in system.sources
+    ]
     shunts += [_machine(m, kv[m.bus], base_mva) for m in system.machines]
     series = [_transformer(t, kv, base_mva) for t in system.transformers]
     cables_assumed = []
@@ -297,7 +308,7 @@ def to_per_unit(system: System, base_mva: float | None = None) -> PerUnitSystem:
         raise InputError(problems)
     return PerUnitSystem(
         base_mva=base_mva,
-        prefault_pu=prefault,
+        prefault_pu=tuple(prefault_pu),
         bus_names=tuple(b.bus for b in system.buses),
         bus_kv=tuple(b.kv for b in system.buses),
         series=tuple(series),

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import pandas as pd
 
@@ -28,6 +28,24 @@ BUS_COLUMNS = (
     "ig_llg_ka",
     "max_fault",
     "ground_note",
+    "prefault_pu",
+    "xr_fault",
+    "kappa",
+    "ip_ka",
+    "iasym_ka",
+    "tau_dc_ms",
+    "xr_slg",
+    "device",
+    "rating_ka",
+    "test_xr",
+    "mf",
+    "duty_ka",
+    "duty_pct",
+    "duty_status",
+    "i3ph_min_ka",
+    "islg_min_ka",
+    "ill_min_ka",
+    "illg_min_ka",
 )
 
 # Columns of StudyResult.elements, the echo of every element on the common base.
@@ -75,3 +93,6 @@ class StudyResult:
     basis: Basis
     contributions: pd.DataFrame | None = None  # CONTRIBUTION_COLUMNS, when asked for
     cable_checks: pd.DataFrame | None = None  # cablecheck.CHECK_COLUMNS, typed cables only
+    cases: dict[str, pd.DataFrame] = field(default_factory=dict)  # case -> bus table
+    envelope: pd.DataFrame | None = None  # worst value per bus over base and cases
+    service_buses: tuple[str, ...] = ()  # buses marked service = yes (label sheets)

@@ -9,12 +9,13 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from . import cablecheck, faults, perunit
+from . import asymmetry, cablecheck, duty, faults, methods, perunit, standards
 from ._version import __version__
 from .cautions import CAUTIONS
 from .contributions import Phasors, as_table, contribution_phasors
+from .errors import InputError, Problem
 from .model import System
-from .network import Network, build_network, zone_angles_deg
+from .network import Network, build_network, positive_matrix_variant, zone_angles_deg
 from .results import BUS_COLUMNS, ELEMENT_COLUMNS, Basis, StudyResult
 from .thevenin import SymmetricFactor
 
@@ -23,15 +24,22 @@ TOOL_NAME = "faultcalc"
 METHOD = (
     "Thevenin equivalent at every bus in each sequence: the diagonal of the inverse of the "
     "sparse sequence nodal admittance matrices (per-unit, one MVA base, each bus's nominal kV as "
-    "its base kV); prefault voltage {prefault:g} pu behind it; fault impedance {fault_ohm:g} "
-    "ohm; three-phase, line-to-ground, line-to-line and double-line-to-ground faults by "
+    "its base kV); {method}; fault impedance {fault_ohm:g} ohm; three-phase, line-to-ground, "
+    "line-to-line and double-line-to-ground faults by "
     "symmetrical components; negative sequence equal to positive (machines at subtransient "
     "reactance in both); utility sources as impedances reproducing their stated available fault "
     "current; motors and generators as sources behind their subtransient impedance; "
     "transformers at their rated ratio, zero sequence by winding connection; cable resistances "
     "from the tables at {conductor_temp_c:g} C (typed values as typed); load currents and "
-    "capacitance neglected."
+    "capacitance neglected. X/R at the fault for asymmetry and duty from the {xr_method} "
+    "reduction; peak current ip = kappa sqrt(2) I3ph with kappa = 1.02 + 0.98 exp(-3 R/X), R/X "
+    "by the IEC 60909-0 equivalent-frequency method; half-cycle asymmetrical RMS "
+    "I sqrt(1 + 2 exp(-2 pi / (X/R)))."
 )
+
+EPS = 1e-6  # relative floor for an element's R (or X) in the R-only (X-only) reduction
+MIN_COLUMNS = ("i3ph_min_ka", "islg_min_ka", "ill_min_ka", "illg_min_ka")
+ENVELOPE_COLUMNS = ("i3ph_ka", "islg_ka", "ill_ka", "illg_ka", "ip_ka", "iasym_ka", "duty_pct")
 
 GROUND_NOTE = (
     "no zero-sequence path to ground here (ungrounded or delta-fed without grounding): the "
@@ -190,9 +198,9 @@ class Analysis:
     angle_deg: np.ndarray  # phase displacement of each node's zone (positive sequence)
 
 
-def analyse(system: System) -> Analysis:
+def analyse(system: System, prefault_pu: tuple[float, ...] | None = None) -> Analysis:
     """Per-unit conversion, sequence networks, one factorization each, all-bus diagonals."""
-    pu = perunit.to_per_unit(system)
+    pu = perunit.to_per_unit(system, prefault_pu=prefault_pu)
     network = build_network(pu, {b.bus: b.row for b in system.buses})
     factor1 = SymmetricFactor(network.y1)
     factor0 = SymmetricFactor(network.y0)
@@ -220,13 +228,180 @@ def contributions_of(a: Analysis, buses: list[int]) -> list[Phasors]:
     )
 
 
+def _diagonal_variant(a: Analysis, transform) -> np.ndarray:
+    y = positive_matrix_variant(a.pu, a.network, transform)
+    return SymmetricFactor(y).diagonal()[a.network.node_of_bus]
+
+
+def _r_only(z: complex) -> complex:
+    return complex(max(z.real, EPS * abs(z)), 0.0)
+
+
+def _x_only(z: complex) -> complex:
+    return complex(0.0, max(z.imag, EPS * abs(z)))
+
+
+def fault_table(a: Analysis) -> pd.DataFrame:
+    """Every fault type, asymmetry and duty at every bus of one analysed system."""
+    settings = a.system.settings
+    pu, network = a.pu, a.network
+    z1 = a.z1_node[network.node_of_bus]
+    z0 = a.z0_node[network.node_of_bus]
+    kv = np.array(pu.bus_kv)
+    e = np.array(pu.prefault_pu)
+    z_base = kv**2 / pu.base_mva
+    i_base = pu.base_mva / (np.sqrt(3.0) * kv)
+    zf_pu = settings.fault_ohm / z_base
+    f = faults.all_faults(z1, z1, z0, e, zf_pu)
+    table = np.vstack([f.i3ph, f.islg, f.ill, f.illg])
+    largest = np.argmax(np.where(np.isnan(table), -np.inf, table), axis=0)
+    grounded = ~np.isnan(z0)
+    i3_ka = f.i3ph * i_base
+    islg_ka = f.islg * i_base
+    # X/R at the fault by the chosen convention, and the IEC 60909-0 peak factor by the
+    # equivalent-frequency method (4.3.1.2 c).
+    xr_complex = _xr(z1 + zf_pu)
+    if settings.xr_method == "separate":
+        r_sep = _diagonal_variant(a, _r_only).real
+        x_sep = _diagonal_variant(a, _x_only).imag
+        xr_fault = np.where(r_sep > 0, x_sep / np.where(r_sep > 0, r_sep, 1.0), np.inf)
+    else:
+        xr_fault = xr_complex
+    fc = standards.EQUIVALENT_FREQUENCY_HZ[settings.frequency_hz]
+    ratio = fc / settings.frequency_hz
+    zc = _diagonal_variant(a, lambda z: complex(z.real, z.imag * ratio)) + zf_pu
+    r_over_x = zc.real / zc.imag * ratio
+    kappa = asymmetry.kappa(r_over_x)
+    loop = 2 * z1 + z0 + 3 * zf_pu
+    xr_slg = np.where(grounded, _xr(np.where(grounded, loop, 1.0)), np.nan)
+    rows = dict(
+        bus=list(pu.bus_names),
+        kv=kv,
+        r1_ohm=z1.real * z_base,
+        x1_ohm=z1.imag * z_base,
+        z1_pu=np.abs(z1),
+        xr=_xr(z1),
+        i3ph_ka=i3_ka,
+        s3ph_mva=np.sqrt(3.0) * kv * i3_ka,
+        r2_ohm=z1.real * z_base,
+        x2_ohm=z1.imag * z_base,
+        r0_ohm=z0.real * z_base,
+        x0_ohm=z0.imag * z_base,
+        islg_ka=islg_ka,
+        ill_ka=f.ill * i_base,
+        illg_ka=f.illg * i_base,
+        ig_llg_ka=f.ig_llg * i_base,
+        max_fault=[faults.FAULT_TYPES[k] for k in largest],
+        ground_note=np.where(grounded, "", GROUND_NOTE),
+        prefault_pu=e,
+        xr_fault=xr_fault,
+        kappa=kappa,
+        ip_ka=kappa * np.sqrt(2.0) * i3_ka,
+        iasym_ka=i3_ka * asymmetry.half_cycle_factor(xr_fault),
+        tau_dc_ms=asymmetry.dc_time_constant_ms(xr_fault, settings.frequency_hz),
+        xr_slg=xr_slg,
+    )
+    rows.update(_duty(a.system, i3_ka, islg_ka, xr_fault, xr_slg))
+    return pd.DataFrame(rows, columns=list(BUS_COLUMNS))
+
+
+def _duty(system: System, i3_ka, islg_ka, xr_fault, xr_slg) -> dict[str, list]:
+    out = {
+        k: []
+        for k in ("device", "rating_ka", "test_xr", "mf", "duty_ka", "duty_pct", "duty_status")
+    }
+    for k, b in enumerate(system.buses):
+        if b.device is None:
+            for key, value in (
+                ("device", ""),
+                ("rating_ka", np.nan),
+                ("test_xr", np.nan),
+                ("mf", np.nan),
+                ("duty_ka", np.nan),
+                ("duty_pct", np.nan),
+                ("duty_status", duty.STATUS_NONE),
+            ):
+                out[key].append(value)
+            continue
+        xr_test = b.rating_xr if b.rating_xr is not None else duty.test_xr(b.device, b.rating_ka)
+        mf3 = duty.multiplying_factor(b.device, float(xr_fault[k]), xr_test)
+        candidates = [(mf3 * i3_ka[k], mf3)]
+        if not np.isnan(islg_ka[k]):
+            mfg = duty.multiplying_factor(b.device, float(xr_slg[k]), xr_test)
+            candidates.append((mfg * islg_ka[k], mfg))
+        duty_ka, mf = max(candidates)
+        pct = 100.0 * duty_ka / b.rating_ka
+        for key, value in (
+            ("device", b.device),
+            ("rating_ka", b.rating_ka),
+            ("test_xr", xr_test),
+            ("mf", mf),
+            ("duty_ka", duty_ka),
+            ("duty_pct", pct),
+            ("duty_status", duty.status(pct)),
+        ):
+            out[key].append(value)
+    return out
+
+
+def _envelope(tables: dict[str, pd.DataFrame]) -> pd.DataFrame:
+    """Worst value per bus over the base and every case, with the case that gave it."""
+    names = list(tables)
+    base = tables[names[0]]
+    out = {"bus": base.bus.tolist()}
+    for column in ENVELOPE_COLUMNS:
+        stack = np.vstack([tables[n][column].to_numpy(dtype=float) for n in names])
+        filled = np.where(np.isnan(stack), -np.inf, stack)
+        worst = np.argmax(filled, axis=0)
+        value = filled[worst, np.arange(stack.shape[1])]
+        out[column] = np.where(np.isinf(value), np.nan, value)
+        out[column.replace("_ka", "").replace("_pct", "") + "_case"] = [
+            names[w] if np.isfinite(v) else "" for w, v in zip(worst, value, strict=True)
+        ]
+    return pd.DataFrame(out)
+
+
+def _bus_indices(system: System, contributions) -> list[int]:
+    names = [b.bus for b in system.buses]
+    if contributions is None:
+        return []
+    if isinstance(contributions, str):
+        if contributions.strip().lower() == "all":
+            return list(range(len(names)))
+        contributions = [c for c in contributions.split(",") if c.strip()]
+    index = {n: i for i, n in enumerate(names)}
+    unknown = [c for c in contributions if c.strip() not in index]
+    if unknown:
+        raise ValueError(
+            f"no bus named {', '.join(repr(u) for u in unknown)}; buses are "
+            + ", ".join(names[:20])
+            + (" ..." if len(names) > 20 else "")
+        )
+    return [index[c.strip()] for c in contributions]
+
+
+def _solve(system: System) -> tuple[Analysis, pd.DataFrame]:
+    """The study's method on one system: the maximum analysis and its table, with the minimum
+    currents of iec60909 added as *_min_ka columns."""
+    found = methods.variants(system)
+    first = analyse(found[0].system, found[0].prefault_pu)
+    table = fault_table(first)
+    for column in MIN_COLUMNS:
+        table[column] = np.nan
+    if len(found) > 1:
+        low = fault_table(analyse(found[1].system, found[1].prefault_pu))
+        for column in MIN_COLUMNS:
+            table[column] = low[column.replace("_min", "")].to_numpy()
+    return first, table
+
+
 def run_study(
     system: System,
     *,
     contributions: str | Iterable[str] | None = None,
     calculated_at: _dt.datetime | None = None,
 ) -> StudyResult:
-    """Sequence Thevenin impedances and all four fault types at every bus.
+    """Sequence Thevenin impedances, all four fault types, asymmetry and duty at every bus.
 
     Parameters
     ----------
@@ -242,6 +417,7 @@ def run_study(
     StudyResult
         ``.buses`` holds one row per bus in input order with the columns of
         ``faultcalc.results.BUS_COLUMNS``; NaN where a value does not exist (no ground path).
+        ``.cases`` and ``.envelope`` when the input has a cases sheet.
 
     Raises
     ------
@@ -259,42 +435,8 @@ def run_study(
     """
     settings = system.settings
     wanted = _bus_indices(system, contributions)
-    a = analyse(system)
-    pu, network, z1_node, z0_node = a.pu, a.network, a.z1_node, a.z0_node
-    z1 = z1_node[network.node_of_bus]
-    z0 = z0_node[network.node_of_bus]
-    kv = np.array(pu.bus_kv)
-    z_base = kv**2 / pu.base_mva
-    i_base = pu.base_mva / (np.sqrt(3.0) * kv)
-    zf_pu = settings.fault_ohm / z_base
-    f = faults.all_faults(z1, z1, z0, settings.prefault_pu, zf_pu)
-    table = np.vstack([f.i3ph, f.islg, f.ill, f.illg])
-    largest = np.argmax(np.where(np.isnan(table), -np.inf, table), axis=0)
-    grounded = ~np.isnan(z0)
-    buses = pd.DataFrame(
-        {
-            "bus": list(pu.bus_names),
-            "kv": kv,
-            "r1_ohm": z1.real * z_base,
-            "x1_ohm": z1.imag * z_base,
-            "z1_pu": np.abs(z1),
-            "xr": _xr(z1),
-            "i3ph_ka": f.i3ph * i_base,
-            "s3ph_mva": np.sqrt(3.0) * kv * f.i3ph * i_base,
-            "r2_ohm": z1.real * z_base,
-            "x2_ohm": z1.imag * z_base,
-            "r0_ohm": z0.real * z_base,
-            "x0_ohm": z0.imag * z_base,
-            "islg_ka": f.islg * i_base,
-            "ill_ka": f.ill * i_base,
-            "illg_ka": f.illg * i_base,
-            "ig_llg_ka": f.ig_llg * i_base,
-            "max_fault": [faults.FAULT_TYPES[k] for k in largest],
-            "ground_note": np.where(grounded, "", GROUND_NOTE),
-        },
-        columns=list(BUS_COLUMNS),
-    )
-
+    a, buses = _solve(system)
+    pu, network = a.pu, a.network
     groups = []
     node = network.node_of_bus
     for i in range(len(pu.bus_names)):
@@ -305,11 +447,25 @@ def run_study(
     if wanted:
         contribution_table = as_table(contributions_of(a, wanted))
 
+    case_tables: dict[str, pd.DataFrame] = {}
+    for name, case_system in system.cases:
+        try:
+            case_tables[name] = _solve(case_system)[1]
+        except InputError as exc:
+            raise InputError(
+                [
+                    Problem(p.sheet, p.row, p.column, p.value, f"in case '{name}': {p.message}")
+                    for p in exc.problems
+                ]
+            ) from None
+    envelope = _envelope({"base": buses, **case_tables}) if case_tables else None
+
     stamp = (calculated_at or _dt.datetime.now().astimezone()).isoformat(timespec="seconds")
     method = METHOD.format(
-        prefault=settings.prefault_pu,
+        method=methods.describe(system),
         fault_ohm=settings.fault_ohm,
         conductor_temp_c=settings.conductor_temp_c,
+        xr_method=settings.xr_method,
     )
     basis = Basis(
         settings, method, system.input_name, system.input_sha256, stamp, TOOL_NAME, __version__
@@ -324,4 +480,7 @@ def run_study(
         basis=basis,
         contributions=contribution_table,
         cable_checks=cablecheck.as_table(cablecheck.check_cables(system)),
+        cases=case_tables,
+        envelope=envelope,
+        service_buses=tuple(b.bus for b in system.buses if b.service == "yes"),
     )

@@ -31,7 +31,11 @@ def result_dict(result: StudyResult) -> dict[str, Any]:
             "prefault_pu": s.prefault_pu,
             "conductor_temp_c": s.conductor_temp_c,
             "fault_ohm": s.fault_ohm,
-            "method": b.method,
+            "method": s.method,
+            "xr_method": s.xr_method,
+            "lv_tolerance_pct": s.lv_tolerance_pct,
+            "end_of_fault_temp_c": s.end_of_fault_temp_c,
+            "basis": b.method,
             "input": b.input_name,
             "input_sha256": b.input_sha256,
             "calculated_at": b.calculated_at,
@@ -39,6 +43,17 @@ def result_dict(result: StudyResult) -> dict[str, Any]:
         "buses": buses,
         "warnings": list(result.warnings),
         "cautions": list(result.cautions),
+        **(
+            {
+                "cases": [
+                    {"case": name, "buses": _records(table[list(BUS_COLUMNS)])}
+                    for name, table in result.cases.items()
+                ],
+                "envelope": _records(result.envelope),
+            }
+            if result.envelope is not None
+            else {}
+        ),
         **(
             {"contributions": _records(result.contributions)}
             if result.contributions is not None

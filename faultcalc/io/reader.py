@@ -9,6 +9,7 @@ from typing import Any
 from .. import conductors, model
 from ..errors import InputError, Problem
 from . import cells, schema
+from .cases import read_cases
 from .tables import RawInput, RawSheet, load_input
 
 # Rated winding kV against bus kV: beyond this the off-nominal ratio is worth a warning.
@@ -183,6 +184,10 @@ def _read_settings(raw: RawSheet | None, out: _Collector) -> model.Settings:
         frequency_hz=int(values["frequency_hz"]),
         prefault_pu=float(values["prefault_pu"]),
         conductor_temp_c=float(values["conductor_temp_c"]),
+        method=values["method"],
+        xr_method=values["xr_method"] or ("separate" if values["method"] == "ieee" else "complex"),
+        lv_tolerance_pct=int(values["lv_tolerance_pct"]),
+        end_of_fault_temp_c=float(values["end_of_fault_temp_c"]),
         fault_ohm=float(values["fault_ohm"]),
     )
 
@@ -287,6 +292,31 @@ def _check_transformers(records: list[Record], bus_kv: dict[str, float], out: _C
                     f"(differs by {100 * (rated / nominal - 1):+.1f}%); modelled as an "
                     "off-nominal ratio; check the nameplate and the bus voltage",
                 )
+
+
+def _check_devices(records: list[Record], out: _Collector) -> None:
+    """A device rating check needs both the device and its rating."""
+    for record in records:
+        v = record.values
+        if (v.get("device") is None) != (v.get("rating_ka") is None):
+            missing = "rating_ka" if v.get("device") is not None else "device"
+            out.problem(
+                "buses",
+                record.row,
+                missing,
+                None,
+                "device and rating_ka go together: give both to check the rating, or neither",
+            )
+            record.ok = False
+        elif v.get("rating_xr") is not None and v.get("device") is None:
+            out.problem(
+                "buses",
+                record.row,
+                "device",
+                None,
+                "rating_xr is given but no device: give device and rating_ka",
+            )
+            record.ok = False
 
 
 def _check_cable_impedance(records: list[Record], out: _Collector) -> None:
@@ -426,8 +456,12 @@ def _check_clock(records: list[Record], out: _Collector) -> None:
             record.ok = False
 
 
-def read_tables(raw: RawInput) -> model.System:
-    """Validate raw sheets into a System; raises InputError listing every problem."""
+def read_tables(raw: RawInput, with_cases: bool = True) -> model.System:
+    """Validate raw sheets into a System; raises InputError listing every problem.
+
+    The ``cases`` sheet's overrides are applied to copies of the raw sheets and each case is
+    validated like the base system (``with_cases`` False reads the base only).
+    """
     out = _Collector()
     out.problems.extend(raw.problems)
     known_sheets = {s.name for s in schema.SHEETS} | {schema.GUIDE_SHEET}
@@ -452,8 +486,9 @@ def read_tables(raw: RawInput) -> model.System:
         if r.values.get("bus") is not None and r.values.get("kv") is not None
     }
     element_taken: dict[str, tuple[str, int]] = {}
-    for sheet in schema.SHEETS[2:]:
+    for sheet in schema.ELEMENT_SHEETS:
         _unique_ids(sheet.name, sheet.columns[0].name, recs[sheet.name], out, element_taken)
+    _check_devices(recs["buses"], out)
     _check_refs("sources", ("bus",), recs["sources"], bus_kv, out)
     _check_refs("transformers", ("hv_bus", "lv_bus"), recs["transformers"], bus_kv, out)
     _check_refs("cables", ("from_bus", "to_bus"), recs["cables"], bus_kv, out)
@@ -491,6 +526,7 @@ def read_tables(raw: RawInput) -> model.System:
         cables=build(model.Cable, "cables"),
         impedances=build(model.Impedance, "impedances"),
         machines=build(model.Machine, "machines"),
+        cases=read_cases(raw, recs["cases"], read_tables) if with_cases else (),
         input_name=raw.display_name,
         input_sha256=raw.sha256,
         warnings=tuple(out.warnings),

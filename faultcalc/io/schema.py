@@ -121,6 +121,41 @@ SETTINGS: tuple[Column, ...] = (
         default=75.0,
     ),
     Column(
+        "method",
+        CHOICE,
+        "Calculation method: thevenin (prefault voltage behind the Thevenin impedance, machines "
+        "at subtransient), iec60909 (IEC 60909-0 maximum and minimum currents: voltage factor "
+        "c, transformer correction K_T, conductor temperatures), ieee (IEEE first-cycle: machine "
+        "multipliers of IEEE Std 551-2006 Table 9-1, X/R from separate R and X networks).",
+        default="thevenin",
+        choices=("thevenin", "iec60909", "ieee"),
+    ),
+    Column(
+        "xr_method",
+        CHOICE,
+        "X/R at the fault for asymmetry and duty: complex (X1/R1 of the complex Thevenin "
+        "impedance) or separate (X from an X-only and R from an R-only reduction, the IEEE/ANSI "
+        "practice). Blank: separate with method ieee, complex otherwise.",
+        choices=("complex", "separate"),
+    ),
+    Column(
+        "lv_tolerance_pct",
+        CHOICE,
+        "Method iec60909: voltage tolerance of low-voltage systems, which sets cmax (6: 1.05, "
+        "10: 1.10; IEC 60909-0 Table 1).",
+        unit="%",
+        default="10",
+        choices=("6", "10"),
+    ),
+    Column(
+        "end_of_fault_temp_c",
+        NUMBER,
+        "Method iec60909: conductor temperature at the end of the fault for minimum currents "
+        "(e.g. 160 for PVC, 250 for XLPE insulation).",
+        unit="C",
+        default=160.0,
+    ),
+    Column(
         "fault_ohm",
         NUMBER,
         "Fault impedance (arc or contact resistance) in every fault, ohms; 0 = bolted. "
@@ -162,6 +197,35 @@ BUSES = Sheet(
             bound=POSITIVE,
         ),
         Column("description", TEXT, "Free text, e.g. equipment and location."),
+        Column(
+            "device",
+            CHOICE,
+            "Protective device whose rating is checked at this bus: lvpcb (LV power breaker, "
+            "unfused), lvpcb_fused, mccb (molded case), iccb (insulated case), fuse.",
+            choices=("lvpcb", "lvpcb_fused", "mccb", "iccb", "fuse"),
+        ),
+        Column(
+            "rating_ka",
+            NUMBER,
+            "Interrupting or short-circuit current rating of the device (symmetrical RMS).",
+            unit="kA",
+            bound=POSITIVE,
+        ),
+        Column(
+            "rating_xr",
+            NUMBER,
+            "Test X/R of the rating, when the manufacturer states one; blank: by device "
+            "(see the README).",
+            bound=POSITIVE,
+        ),
+        Column(
+            "service",
+            CHOICE,
+            "yes: service equipment, which gets a printable label sheet with the maximum "
+            "available fault current (NFPA 70 110.24).",
+            default="no",
+            choices=("yes", "no"),
+        ),
     ),
     required=True,
 )
@@ -515,6 +579,13 @@ MACHINES = Sheet(
             bound=NON_NEGATIVE,
         ),
         Column(
+            "rpm",
+            NUMBER,
+            "Rated speed, r/min; method ieee uses it for induction motors above 250 hp.",
+            unit="r/min",
+            bound=POSITIVE,
+        ),
+        Column(
             "x0_pct",
             NUMBER,
             "Zero-sequence reactance on the machine's own rating, used when the neutral is "
@@ -526,6 +597,24 @@ MACHINES = Sheet(
     alternatives=(Alternative((("kva",), ("hp",))),),
 )
 
+CASES = Sheet(
+    "cases",
+    "Named variations of the system, each studied on its own after the base case: one "
+    "override per row. 'column' is a column of the element's sheet, or in_service (yes/no) to "
+    "take the element out (a tie opened, a generator off).",
+    (
+        Column("case", TEXT, "Name of the case, e.g. utility minimum.", required=True),
+        Column(
+            "element",
+            TEXT,
+            "Name of the element (or bus) the override applies to.",
+            required=True,
+        ),
+        Column("column", TEXT, "Column to override, or in_service.", required=True),
+        Column("value", TEXT, "The value in that case; blank clears the cell."),
+    ),
+)
+
 SHEETS: tuple[Sheet, ...] = (
     STUDY,
     BUSES,
@@ -534,7 +623,11 @@ SHEETS: tuple[Sheet, ...] = (
     CABLES,
     IMPEDANCES,
     MACHINES,
+    CASES,
 )
+
+# Sheets of elements (after buses): their first column is the element's name.
+ELEMENT_SHEETS: tuple[Sheet, ...] = (SOURCES, TRANSFORMERS, CABLES, IMPEDANCES, MACHINES)
 
 # Sheets the template writes for people; the reader passes over them without a warning.
 GUIDE_SHEET = "guide"

@@ -1,0 +1,119 @@
+"""The `cases` sheet: named variations of the system, each validated as a whole System.
+
+Each case starts from the base input's raw sheets and applies its overrides (one row each:
+element, column, value; ``in_service`` = no takes the element out). The result is read by the
+same validation as the base, so a case's bad value is reported like any other, with the case
+named and the cases row that caused it.
+"""
+
+from __future__ import annotations
+
+import copy
+from typing import Any
+
+from ..errors import InputError, Problem
+from . import cells, schema
+from .tables import RawInput
+
+IN_SERVICE = "in_service"
+
+
+def _find(raw: RawInput, name: str):
+    """(sheet name, index in its rows) of the element or bus called ``name``."""
+    for sheet in (schema.BUSES, *schema.ELEMENT_SHEETS):
+        table = raw.sheets.get(sheet.name)
+        if table is None:
+            continue
+        key = sheet.columns[0].name
+        for i, (_, values) in enumerate(table.rows):
+            if not cells.is_blank(values.get(key)) and cells.as_text(values[key]) == name:
+                return sheet, i
+    return None, None
+
+
+def read_cases(raw: RawInput, records, read_tables) -> tuple[tuple[str, Any], ...]:
+    """Every case as (name, System), in order of first appearance on the cases sheet."""
+    if not records:
+        return ()
+    problems: list[Problem] = []
+    order: list[str] = []
+    overrides: dict[str, list] = {}
+    for record in records:
+        if not record.ok:
+            continue
+        name = record.values["case"].strip()
+        if name.lower() == "base":
+            problems.append(
+                Problem(
+                    "cases",
+                    record.row,
+                    "case",
+                    name,
+                    "'base' names the system as entered; choose another name",
+                )
+            )
+            continue
+        if name not in overrides:
+            order.append(name)
+            overrides[name] = []
+        overrides[name].append(record)
+    systems = []
+    for name in order:
+        case_raw = copy.deepcopy(raw)
+        case_raw.sheets.pop("cases", None)
+        case_raw.problems = []
+        removed = []
+        for record in overrides[name]:
+            element = record.values["element"].strip()
+            column = record.values["column"].strip().lower()
+            value = record.values.get("value")
+            sheet, index = _find(case_raw, element)
+            if sheet is None:
+                problems.append(
+                    Problem(
+                        "cases", record.row, "element", element, "no bus or element of that name"
+                    )
+                )
+                continue
+            if column == IN_SERVICE:
+                text = (value or "").strip().lower()
+                if text not in ("yes", "no"):
+                    problems.append(
+                        Problem("cases", record.row, "value", value, "in_service takes yes or no")
+                    )
+                elif text == "no":
+                    removed.append((sheet.name, index))
+                continue
+            if column not in sheet.names or column == sheet.columns[0].name:
+                problems.append(
+                    Problem(
+                        "cases",
+                        record.row,
+                        "column",
+                        column,
+                        f"not a column of the '{sheet.name}' sheet that a case can change; "
+                        f"columns are {', '.join(sheet.names[1:])}, or {IN_SERVICE}",
+                    )
+                )
+                continue
+            table = case_raw.sheets[sheet.name]
+            number, values = table.rows[index]
+            values = dict(values)
+            values[column] = value
+            table.rows[index] = (number, values)
+            if column not in table.headers:
+                table.headers.append(column)
+        for sheet_name, index in sorted(removed, reverse=True):
+            del case_raw.sheets[sheet_name].rows[index]
+        try:
+            system = read_tables(case_raw, with_cases=False)
+        except InputError as exc:
+            for p in exc.problems:
+                problems.append(
+                    Problem(p.sheet, p.row, p.column, p.value, f"in case '{name}': {p.message}")
+                )
+            continue
+        systems.append((name, system))
+    if problems:
+        raise InputError(problems)
+    return tuple(systems)
