@@ -15,7 +15,16 @@ from openpyxl import Workbook
 ROOT = Path(__file__).resolve().parents[1]
 SOURCE = ROOT / "faultcalc" / "samples"
 TARGET = ROOT / "sample_systems"
-SHEET_ORDER = ("study", "buses", "sources", "transformers", "cables", "impedances", "machines")
+SHEET_ORDER = (
+    "study",
+    "buses",
+    "sources",
+    "transformers",
+    "cables",
+    "impedances",
+    "machines",
+    "cases",
+)
 
 
 def _cell(text: str):

@@ -11,6 +11,7 @@ from openpyxl.comments import Comment
 from openpyxl.styles import Alignment, Border, Font, PatternFill, Side
 from openpyxl.utils import get_column_letter
 
+from .. import duty
 from ..cautions import SHORT_CAUTION
 from ..results import StudyResult
 from .files import staged
@@ -159,6 +160,34 @@ def _fault_sheet(ws, result: StudyResult) -> None:
             note="Buses joined to this one by closed ties; they share its results.",
         ),
         Col("Ground-fault note", 40),
+        Col(
+            "Peak current ip, kA",
+            11,
+            KA,
+            "kappa x sqrt(2) x three-phase current; kappa by IEC "
+            "60909-0 with R/X by its equivalent-frequency method.",
+        ),
+        Col("kappa", 8, "0.000", "IEC 60909-0 peak factor 1.02 + 0.98 exp(-3 R/X)."),
+        Col(
+            "Half-cycle asymmetrical RMS, kA",
+            12,
+            KA,
+            "Three-phase current x sqrt(1 + 2 exp(-2 pi / (X/R))), X/R of the next column.",
+        ),
+        Col(
+            "X/R for asymmetry and duty",
+            11,
+            XR,
+            "By the study's X/R convention (complex Thevenin impedance or separate R and X "
+            "reductions).",
+        ),
+        Col("DC time constant, ms", 10, "0.00", "(X/R) / (2 pi f)."),
+        Col(
+            "Prefault / voltage factor c, pu",
+            10,
+            "0.000",
+            "The voltage behind the Thevenin impedance at this bus (c with method iec60909).",
+        ),
     ]
     b = result.buses
     rows = [
@@ -181,11 +210,34 @@ def _fault_sheet(ws, result: StudyResult) -> None:
             _ka_or_note(r.x0_ohm),
             g,
             r.ground_note,
+            r.ip_ka,
+            r.kappa,
+            r.iasym_ka,
+            r.xr_fault,
+            r.tau_dc_ms,
+            r.prefault_pu,
         )
         for r, d, g in zip(
             b.itertuples(index=False), result.descriptions, result.node_groups, strict=True
         )
     ]
+    if result.basis.settings.method == "iec60909":
+        cols += [
+            Col(
+                "Minimum 3-phase, kA (IEC cmin)",
+                11,
+                KA,
+                "IEC 60909-0 minimum: cmin, motors "
+                "excluded, conductors at the end-of-fault temperature.",
+            ),
+            Col("Minimum line-to-ground, kA", 11, KA),
+            Col("Minimum line-to-line, kA", 11, KA),
+            Col("Minimum double line-to-ground, kA", 11, KA),
+        ]
+        rows = [
+            (*row, r.i3ph_min_ka, _ka_or_note(r.islg_min_ka), r.ill_min_ka, r.illg_min_ka)
+            for row, r in zip(rows, b.itertuples(index=False), strict=True)
+        ]
     _table(ws, cols, rows)
     column_of = {"3ph": 4, "slg": 5, "ll": 6, "llg": 7}
     for i, r in enumerate(b.itertuples(index=False), start=2):
@@ -197,6 +249,218 @@ def _fault_sheet(ws, result: StudyResult) -> None:
         ws,
         "All currents are initial symmetrical RMS. Bold: the largest at the bus. " + SHORT_CAUTION,
     )
+
+
+STATUS_FILL = {
+    duty.STATUS_OVER: PatternFill("solid", fgColor="F4B6B0"),
+    duty.STATUS_NEAR: PatternFill("solid", fgColor="FCE4A8"),
+}
+
+
+def _duty_sheet(ws, result: StudyResult) -> None:
+    cols = [
+        Col("Bus", 14),
+        Col("Description", 30),
+        Col("Device", 34),
+        Col("Rating, kA", 9, KA, "Interrupting or short-circuit current rating as entered."),
+        Col("Test X/R", 8, XR, "X/R of the rating test: entered, or by device (README)."),
+        Col("X/R at the bus", 9, XR),
+        Col("Multiplying factor", 10, "0.000", "Never below 1; see the README."),
+        Col(
+            "Duty, kA",
+            9,
+            KA,
+            "Multiplying factor x the larger of the three-phase and "
+            "line-to-ground currents (each with its own X/R).",
+        ),
+        Col("Duty, % of rating", 10, "0.0"),
+        Col(
+            "Status",
+            20,
+            note="Compared with the rating only; this is not a statement that "
+            "the equipment is adequate or safe.",
+        ),
+    ]
+    rows = []
+    for r, d in zip(result.buses.itertuples(index=False), result.descriptions, strict=True):
+        if r.device:
+            rows.append(
+                (
+                    r.bus,
+                    d,
+                    duty.DEVICE_NAMES[r.device],
+                    r.rating_ka,
+                    r.test_xr,
+                    r.xr_fault,
+                    r.mf,
+                    r.duty_ka,
+                    r.duty_pct,
+                    r.duty_status,
+                )
+            )
+    if not rows:
+        rows = [
+            (
+                "",
+                "No bus has a device and rating_ka on the buses sheet.",
+                "",
+                None,
+                None,
+                None,
+                None,
+                None,
+                None,
+                "",
+            )
+        ]
+    _table(ws, cols, rows)
+    for i, row in enumerate(rows, start=2):
+        fill = STATUS_FILL.get(row[-1])
+        if fill:
+            for j in range(1, len(cols) + 1):
+                ws.cell(row=i, column=j).fill = fill
+    _note_below(
+        ws,
+        "Red: duty exceeds the rating. Amber: within 10 % of it. Duty checks compare "
+        "numbers only; equipment suitability is for the engineer of record. " + SHORT_CAUTION,
+    )
+
+
+def _case_sheet(ws, result: StudyResult) -> None:
+    cols = [
+        Col("Case", 18),
+        Col("Bus", 14),
+        Col("Nominal kV", 9, KV),
+        Col("3-phase, kA", 10, KA),
+        Col("Line-to-ground, kA", 10, KA),
+        Col("Line-to-line, kA", 10, KA),
+        Col("Double line-to-ground, kA", 11, KA),
+        Col("Peak ip, kA", 10, KA),
+        Col("Half-cycle asym., kA", 10, KA),
+        Col("Duty, % of rating", 10, "0.0"),
+        Col("Duty status", 20),
+    ]
+    rows = []
+    for name, table in {"base": result.buses, **result.cases}.items():
+        for r in table.itertuples(index=False):
+            rows.append(
+                (
+                    name,
+                    r.bus,
+                    r.kv,
+                    r.i3ph_ka,
+                    _ka_or_note(r.islg_ka),
+                    r.ill_ka,
+                    r.illg_ka,
+                    r.ip_ka,
+                    r.iasym_ka,
+                    r.duty_pct,
+                    r.duty_status if r.device else "",
+                )
+            )
+    _table(ws, cols, rows, freeze_columns=2)
+
+
+def _envelope_sheet(ws, result: StudyResult) -> None:
+    cols = [Col("Bus", 14)]
+    labels = {
+        "i3ph_ka": "3-phase, kA",
+        "islg_ka": "Line-to-ground, kA",
+        "ill_ka": "Line-to-line, kA",
+        "illg_ka": "Double line-to-ground, kA",
+        "ip_ka": "Peak ip, kA",
+        "iasym_ka": "Half-cycle asym., kA",
+        "duty_pct": "Duty, % of rating",
+    }
+    env = result.envelope
+    keys = []
+    for column, label in labels.items():
+        case = column.replace("_ka", "").replace("_pct", "") + "_case"
+        cols += [
+            Col(f"Worst {label}", 11, "0.0" if column == "duty_pct" else KA),
+            Col("in case", 14),
+        ]
+        keys += [column, case]
+    rows = [(r["bus"], *[r[k] for k in keys]) for _, r in env.iterrows()]
+    _table(ws, cols, rows)
+    _note_below(
+        ws,
+        "The worst value at each bus over the base case and every case on the "
+        "cases sheet, and the case that gives it. " + SHORT_CAUTION,
+    )
+
+
+def _label_sheet(ws, result: StudyResult, bus: str) -> None:
+    """A printable marking for service equipment (NFPA 70 110.24): our own layout."""
+    table = result.envelope if result.envelope is not None else result.buses
+    row = table[table.bus == bus].iloc[0]
+    base = result.buses[result.buses.bus == bus].iloc[0]
+    index = list(result.buses.bus).index(bus)
+    values = [
+        row[c]
+        for c in ("i3ph_ka", "islg_ka", "ill_ka", "illg_ka")
+        if not (isinstance(row[c], float) and math.isnan(row[c]))
+    ]
+    worst = max(values)
+    b = result.basis
+    ws.column_dimensions["A"].width = 4
+    ws.column_dimensions["B"].width = 80
+    lines = [
+        ("SERVICE EQUIPMENT", Font(bold=True, size=16)),
+        ("Maximum available fault current", Font(bold=True, size=14)),
+        (f"{worst:.1f} kA", Font(bold=True, size=40)),
+        (
+            "symmetrical RMS, the largest of three-phase, line-to-ground, line-to-line and double "
+            "line-to-ground faults"
+            + (" over all study cases" if result.envelope is not None else ""),
+            Font(size=10),
+        ),
+        ("", None),
+        (f"Equipment: {bus}  {result.descriptions[index]}", Font(size=12)),
+        (f"Nominal voltage: {base.kv * 1000:g} V", Font(size=12)),
+        (f"Date of calculation: {b.calculated_at[:10]}", Font(bold=True, size=12)),
+        (f"Study: {b.settings.title or 'short-circuit study'}", Font(size=10)),
+        (
+            f"Calculated with {b.tool_name} {b.tool_version} from {b.input_name} (SHA-256 "
+            f"{b.input_sha256[:16]}...)",
+            Font(size=9),
+        ),
+        ("", None),
+        (
+            "Re-mark this equipment whenever a modification of the electrical system changes the "
+            "available fault current (NFPA 70, 110.24(B)).",
+            Font(bold=True, size=11),
+        ),
+        (
+            "Confirm the source data with the serving utility. For review by a qualified "
+            "engineer; the local code and the authority having jurisdiction govern.",
+            Font(size=9),
+        ),
+        ("", None),
+        ("Checked by: ______________________   Date: ____________", Font(size=11)),
+    ]
+    for i, (text, font) in enumerate(lines, start=2):
+        cell = ws.cell(row=i, column=2, value=text)
+        cell.alignment = Alignment(wrap_text=True, vertical="center")
+        size = font.size if font else 11
+        if font:
+            cell.font = font
+        wraps = max(1, math.ceil(len(text) * size / (11 * 85)))  # about 85 characters at 11 pt
+        ws.row_dimensions[i].height = 1.5 * size * wraps + 4
+    border = Side(style="thick", color="000000")
+    for i in range(2, len(lines) + 2):
+        c = ws.cell(row=i, column=2)
+        c.border = Border(
+            left=border,
+            right=border,
+            top=border if i == 2 else None,
+            bottom=border if i == len(lines) + 1 else None,
+        )
+    ws.page_setup.orientation = "portrait"
+    ws.page_setup.fitToWidth = 1
+    ws.page_setup.fitToHeight = 1
+    ws.sheet_properties.pageSetUpPr.fitToPage = True
+    ws.print_area = f"A1:B{len(lines) + 2}"
 
 
 def _contribution_sheet(ws, result: StudyResult) -> None:
@@ -396,7 +660,10 @@ def build_workbook(result: StudyResult) -> Workbook:
     extra = []
     if result.contributions is not None:
         extra = [("Contributions", _contribution_sheet)]
+    if result.envelope is not None:
+        extra += [("Cases", _case_sheet), ("Envelope", _envelope_sheet)]
     for title, fill in (
+        ("Equipment duty", _duty_sheet),
         *extra,
         ("Element impedances", _element_sheet),
         ("Cable check", _cable_check_sheet),
@@ -408,6 +675,11 @@ def build_workbook(result: StudyResult) -> Workbook:
         sheets.append(ws)
     for ws in sheets:
         _page_setup(ws, result)
+    for bus in result.service_buses:
+        title = ("Label " + "".join(ch for ch in bus if ch not in "[]:*?/\\"))[:31]
+        label = book.create_sheet(title)
+        _page_setup(label, result)
+        _label_sheet(label, result, bus)
     return book
 
 

@@ -26,10 +26,15 @@ def book(result, tmp_path):
 def test_sheets(book):
     assert book.sheetnames == [
         "Fault currents",
+        "Equipment duty",
+        "Cases",
+        "Envelope",
         "Element impedances",
         "Cable check",
         "Warnings",
         "Basis and cautions",
+        "Label SUB-A",
+        "Label SUB-B",
     ]
 
 
