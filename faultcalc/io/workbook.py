@@ -103,152 +103,202 @@ def _ka_or_note(value):
     return NO_PATH if isinstance(value, float) and math.isnan(value) else value
 
 
-def _fault_sheet(ws, result: StudyResult) -> None:
-    cols = [
-        Col("Bus", 14, note="Bus name as on the input 'buses' sheet."),
-        Col("Description", 30),
-        Col("Nominal kV (line-line)", 10, KV, "Nominal line-to-line voltage; the bus's base kV."),
-        Col(
-            "3-phase fault, kA",
-            11,
-            KA,
-            "Initial symmetrical RMS current of a three-phase fault at the bus: prefault voltage / "
-            "|Z1 + Zf|, converted with the bus base current.",
-        ),
-        Col(
-            "Line-to-ground fault, kA",
-            11,
-            KA,
-            "3 I0 = 3 E / |Z1 + Z2 + Z0 + 3 Zf|. 'no path': no zero-sequence path to ground.",
-        ),
-        Col("Line-to-line fault, kA", 11, KA, "sqrt(3) E / |Z1 + Z2 + Zf|."),
-        Col(
-            "Double line-to-ground fault, kA",
-            13,
-            KA,
-            "The larger of the two faulted phase currents of a double line-to-ground fault "
-            "(symmetrical RMS).",
-        ),
-        Col(
-            "Double line-to-ground, 3I0 to ground, kA",
-            13,
-            KA,
-            "Current into ground of the double line-to-ground fault.",
-        ),
-        Col("Largest current from", 14, note="The fault type giving the largest phase current."),
-        Col("3-phase fault MVA", 10, MVA, "sqrt(3) x nominal kV x three-phase fault current."),
-        Col(
-            "Thevenin R1, ohm",
-            12,
-            OHM,
-            "Resistance of the positive-sequence Thevenin impedance, ohms at the bus's nominal kV. "
-            "The negative-sequence impedance equals it (machines at subtransient in both).",
-        ),
-        Col("Thevenin X1, ohm", 12, OHM, "Reactance of the positive-sequence Thevenin impedance."),
-        Col(
-            "|Z1|, per-unit",
-            11,
-            PU,
-            "Magnitude of the Thevenin impedance on the study MVA base and the bus's base kV.",
-        ),
-        Col("X/R at the fault", 9, XR, "X1/R1 of the complex Thevenin impedance."),
-        Col("Thevenin R0, ohm", 12, OHM, "Resistance of the zero-sequence Thevenin impedance."),
-        Col("Thevenin X0, ohm", 12, OHM, "Reactance of the zero-sequence Thevenin impedance."),
-        Col(
-            "Same node as (closed ties)",
-            18,
-            note="Buses joined to this one by closed ties; they share its results.",
-        ),
-        Col("Ground-fault note", 40),
-        Col(
-            "Peak current ip, kA",
-            11,
-            KA,
-            "kappa x sqrt(2) x three-phase current; kappa by IEC "
-            "60909-0 with R/X by its equivalent-frequency method.",
-        ),
-        Col("kappa", 8, "0.000", "IEC 60909-0 peak factor 1.02 + 0.98 exp(-3 R/X)."),
-        Col(
-            "Half-cycle asymmetrical RMS, kA",
-            12,
-            KA,
-            "Three-phase current x sqrt(1 + 2 exp(-2 pi / (X/R))), X/R of the next column.",
-        ),
-        Col(
-            "X/R for asymmetry and duty",
-            11,
-            XR,
-            "By the study's X/R convention (complex Thevenin impedance or separate R and X "
-            "reductions).",
-        ),
-        Col("DC time constant, ms", 10, "0.00", "(X/R) / (2 pi f)."),
-        Col(
-            "Prefault / voltage factor c, pu",
-            10,
-            "0.000",
-            "The voltage behind the Thevenin impedance at this bus (c with method iec60909).",
-        ),
-    ]
-    b = result.buses
-    rows = [
+def _fault_columns(result: StudyResult) -> list[tuple[Col, object]]:
+    """(column, value of a bus row) in sheet order; values are field names or functions."""
+    cols: list[tuple[Col, object]] = [
+        (Col("Bus", 14, note="Bus name as on the input 'buses' sheet."), "bus"),
+        (Col("Description", 30), "description"),
         (
-            r.bus,
-            d,
-            r.kv,
-            r.i3ph_ka,
-            _ka_or_note(r.islg_ka),
-            r.ill_ka,
-            r.illg_ka,
-            _ka_or_note(r.ig_llg_ka),
-            FAULT_WORDS[r.max_fault],
-            r.s3ph_mva,
-            r.r1_ohm,
-            r.x1_ohm,
-            r.z1_pu,
-            r.xr,
-            _ka_or_note(r.r0_ohm),
-            _ka_or_note(r.x0_ohm),
-            g,
-            r.ground_note,
-            r.ip_ka,
-            r.kappa,
-            r.iasym_ka,
-            r.xr_fault,
-            r.tau_dc_ms,
-            r.prefault_pu,
-        )
-        for r, d, g in zip(
-            b.itertuples(index=False), result.descriptions, result.node_groups, strict=True
-        )
+            Col(
+                "Nominal kV (line-line)", 10, KV, "Nominal line-to-line voltage; the bus's base kV."
+            ),
+            "kv",
+        ),
+        (
+            Col(
+                "3-phase fault, kA",
+                10,
+                KA,
+                "Initial symmetrical RMS current of a three-phase "
+                "fault at the bus: prefault voltage / |Z1 + Zf|, converted with the bus base "
+                "current.",
+            ),
+            "i3ph_ka",
+        ),
+        (
+            Col(
+                "Line-to-ground fault, kA",
+                10,
+                KA,
+                "3 I0 = 3 E / |Z1 + Z2 + Z0 + 3 Zf|. 'no path': no zero-sequence path to ground.",
+            ),
+            "islg_ka",
+        ),
+        (Col("Line-to-line fault, kA", 10, KA, "sqrt(3) E / |Z1 + Z2 + Zf|."), "ill_ka"),
+        (
+            Col(
+                "Double line-to-ground fault, kA",
+                11,
+                KA,
+                "The larger of the two faulted phase "
+                "currents of a double line-to-ground fault (symmetrical RMS).",
+            ),
+            "illg_ka",
+        ),
+        (
+            Col(
+                "Double line-to-ground, 3I0 to ground, kA",
+                11,
+                KA,
+                "Current into ground of the double line-to-ground fault.",
+            ),
+            "ig_llg_ka",
+        ),
+        (
+            Col(
+                "Largest current from", 13, note="The fault type giving the largest phase current."
+            ),
+            lambda r: FAULT_WORDS[r.max_fault],
+        ),
+        (
+            Col(
+                "Peak current ip, kA",
+                10,
+                KA,
+                "kappa x sqrt(2) x three-phase current; kappa by IEC "
+                "60909-0 with R/X by its equivalent-frequency method.",
+            ),
+            "ip_ka",
+        ),
+        (Col("kappa", 7, "0.000", "IEC 60909-0 peak factor 1.02 + 0.98 exp(-3 R/X)."), "kappa"),
+        (
+            Col(
+                "Half-cycle asymmetrical RMS, kA",
+                11,
+                KA,
+                "Three-phase current x sqrt(1 + 2 exp(-2 pi / (X/R))), X/R of the next column.",
+            ),
+            "iasym_ka",
+        ),
+        (
+            Col(
+                "X/R for asymmetry and duty",
+                10,
+                XR,
+                "By the study's X/R convention (complex "
+                "Thevenin impedance or separate R and X reductions).",
+            ),
+            "xr_fault",
+        ),
+        (Col("DC time constant, ms", 9, "0.00", "(X/R) / (2 pi f)."), "tau_dc_ms"),
+        (
+            Col("3-phase fault MVA", 9, MVA, "sqrt(3) x nominal kV x three-phase fault current."),
+            "s3ph_mva",
+        ),
+        (
+            Col(
+                "Thevenin R1, ohm",
+                11,
+                OHM,
+                "Resistance of the positive-sequence Thevenin "
+                "impedance, ohms at the bus's nominal kV. The negative-sequence impedance "
+                "equals it (machines at subtransient in both).",
+            ),
+            "r1_ohm",
+        ),
+        (
+            Col(
+                "Thevenin X1, ohm",
+                11,
+                OHM,
+                "Reactance of the positive-sequence Thevenin impedance.",
+            ),
+            "x1_ohm",
+        ),
+        (
+            Col(
+                "|Z1|, per-unit",
+                10,
+                PU,
+                "Magnitude of the Thevenin impedance on the study MVA base and the bus's base kV.",
+            ),
+            "z1_pu",
+        ),
+        (Col("X/R of Z1", 8, XR, "X1/R1 of the complex Thevenin impedance."), "xr"),
+        (
+            Col("Thevenin R0, ohm", 11, OHM, "Resistance of the zero-sequence Thevenin impedance."),
+            "r0_ohm",
+        ),
+        (
+            Col("Thevenin X0, ohm", 11, OHM, "Reactance of the zero-sequence Thevenin impedance."),
+            "x0_ohm",
+        ),
+        (
+            Col(
+                "Prefault / voltage factor c, pu",
+                9,
+                "0.000",
+                "The voltage behind the Thevenin impedance at this bus (c with method iec60909).",
+            ),
+            "prefault_pu",
+        ),
+        (
+            Col(
+                "Same node as (closed ties)",
+                16,
+                note="Buses joined to this one by closed ties; they share its results.",
+            ),
+            "ties",
+        ),
+        (Col("Ground-fault note", 40), "ground_note"),
     ]
     if result.basis.settings.method == "iec60909":
         cols += [
-            Col(
-                "Minimum 3-phase, kA (IEC cmin)",
-                11,
-                KA,
-                "IEC 60909-0 minimum: cmin, motors "
-                "excluded, conductors at the end-of-fault temperature.",
+            (
+                Col(
+                    "Minimum 3-phase, kA (IEC cmin)",
+                    11,
+                    KA,
+                    "IEC 60909-0 minimum: cmin, motors "
+                    "excluded, conductors at the end-of-fault temperature.",
+                ),
+                "i3ph_min_ka",
             ),
-            Col("Minimum line-to-ground, kA", 11, KA),
-            Col("Minimum line-to-line, kA", 11, KA),
-            Col("Minimum double line-to-ground, kA", 11, KA),
+            (Col("Minimum line-to-ground, kA", 11, KA), "islg_min_ka"),
+            (Col("Minimum line-to-line, kA", 11, KA), "ill_min_ka"),
+            (Col("Minimum double line-to-ground, kA", 11, KA), "illg_min_ka"),
         ]
-        rows = [
-            (*row, r.i3ph_min_ka, _ka_or_note(r.islg_min_ka), r.ill_min_ka, r.illg_min_ka)
-            for row, r in zip(rows, b.itertuples(index=False), strict=True)
-        ]
-    _table(ws, cols, rows)
-    column_of = {"3ph": 4, "slg": 5, "ll": 6, "llg": 7}
+    return cols
+
+
+NO_PATH_FIELDS = ("islg_ka", "ig_llg_ka", "r0_ohm", "x0_ohm", "islg_min_ka")
+
+
+def _fault_sheet(ws, result: StudyResult) -> None:
+    spec = _fault_columns(result)
+    b = result.buses.assign(description=list(result.descriptions), ties=list(result.node_groups))
+    rows = []
+    for r in b.itertuples(index=False):
+        row = []
+        for _, get in spec:
+            value = get(r) if callable(get) else getattr(r, get)
+            row.append(_ka_or_note(value) if get in NO_PATH_FIELDS else value)
+        rows.append(tuple(row))
+    _table(ws, [c for c, _ in spec], rows)
+    fields = [get for _, get in spec]
     for i, r in enumerate(b.itertuples(index=False), start=2):
-        ws.cell(row=i, column=column_of[r.max_fault]).font = BOLD
-        for j in (5, 8, 15, 16):
-            if ws.cell(row=i, column=j).value == NO_PATH:
+        ws.cell(row=i, column=fields.index(FIELD_OF[r.max_fault]) + 1).font = BOLD
+        for j, field in enumerate(fields, start=1):
+            if field in NO_PATH_FIELDS and ws.cell(row=i, column=j).value == NO_PATH:
                 ws.cell(row=i, column=j).alignment = Alignment(horizontal="right")
     _note_below(
         ws,
-        "All currents are initial symmetrical RMS. Bold: the largest at the bus. " + SHORT_CAUTION,
+        "Fault currents are initial symmetrical RMS; the peak and half-cycle "
+        "columns include the DC offset. Bold: the largest at the bus. " + SHORT_CAUTION,
     )
+
+
+FIELD_OF = {"3ph": "i3ph_ka", "slg": "islg_ka", "ll": "ill_ka", "llg": "illg_ka"}
 
 
 STATUS_FILL = {
