@@ -57,7 +57,7 @@ def _table(ws, cols: list[Col], rows, *, freeze_columns: int = 1) -> None:
         if col.note:
             cell.comment = Comment(col.note, "faultcalc", width=320, height=120)
         ws.column_dimensions[get_column_letter(j)].width = col.width
-    ws.row_dimensions[1].height = 62
+    ws.row_dimensions[1].height = 76
     for i, values in enumerate(rows, start=2):
         for j, (col, value) in enumerate(zip(cols, values, strict=True), start=1):
             cell = ws.cell(row=i, column=j, value=_finite(value))
