@@ -13,7 +13,12 @@ Bad input raises :class:`InputError`, whose ``problems`` each carry ``sheet``, `
 
 from __future__ import annotations
 
+import os
 from pathlib import Path
+
+# openpyxl parses with the hardened defusedxml parser when it is installed (a dependency), and
+# with lxml, which it does not harden, when that is installed: keep it off for reading.
+os.environ.setdefault("OPENPYXL_LXML", "False")
 
 from ._version import __version__
 from .errors import InputError, OutputError, Problem

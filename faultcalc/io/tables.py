@@ -9,13 +9,30 @@ from __future__ import annotations
 import csv
 import hashlib
 import zipfile
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
 from ..errors import InputError, Problem
 
 WORKBOOK_SUFFIXES = (".xlsx", ".xlsm")
+
+# Bounds on what is read (a clear message past them, never an exhausted machine).
+MAX_FILE_BYTES = 1 << 30  # one workbook or CSV file
+MAX_UNCOMPRESSED_BYTES = 4 << 30  # all parts of a workbook, unpacked
+MAX_COMPRESSION_RATIO = 400  # a larger ratio on a large part is a decompression bomb
+# Workbooks up to this size are read in full, which finds merged and hidden cells and formulas
+# without a saved value; larger ones are streamed.
+SMALL_WORKBOOK_BYTES = 20 << 20
+
+
+class PercentCell(float):
+    """A number from a cell formatted as a percentage (0.0575 shown as 5.75%)."""
+
+
+class FormulaCell(str):
+    """A formula cell whose value was never saved (the file was written by a program that does
+    not calculate): its text is the formula."""
 
 
 @dataclass
@@ -34,6 +51,7 @@ class RawInput:
     display_name: str
     sha256: str
     problems: list[Problem]
+    notes: list[str] = field(default_factory=list)  # warnings found while loading
 
 
 def _is_blank(value: Any) -> bool:
@@ -89,26 +107,102 @@ def _sheet_from_rows(name: str, rows: list[tuple[int, list[Any]]], problems: lis
     return RawSheet(name, [h for h in headers if h], data, sorted(blank_header_columns))
 
 
-def _load_workbook(path: Path, problems: list[Problem]) -> dict[str, RawSheet]:
+def _refuse(path: Path, message: str) -> InputError:
+    return InputError([Problem(path.name, None, None, None, message)])
+
+
+def _check_workbook_bounds(path: Path) -> None:
+    try:
+        with zipfile.ZipFile(path) as archive:
+            parts = archive.infolist()
+    except (zipfile.BadZipFile, OSError) as exc:
+        raise _refuse(path, f"cannot be read as an .xlsx workbook ({exc})") from None
+    total = sum(p.file_size for p in parts)
+    if total > MAX_UNCOMPRESSED_BYTES:
+        raise _refuse(
+            path,
+            f"unpacks to {total / 2**30:.1f} GiB, more than the "
+            f"{MAX_UNCOMPRESSED_BYTES / 2**30:.0f} GiB this tool reads; split the "
+            "workbook or use CSV files",
+        )
+    for p in parts:
+        if (
+            p.file_size > (10 << 20)
+            and p.compress_size
+            and p.file_size / p.compress_size > MAX_COMPRESSION_RATIO
+        ):
+            raise _refuse(
+                path,
+                f"part {p.filename} unpacks {p.file_size / p.compress_size:.0f} "
+                "times larger than it is stored, which no real workbook does; refused "
+                "as a decompression bomb",
+            )
+
+
+def _load_workbook(path: Path, problems: list[Problem], notes: list[str]) -> dict[str, RawSheet]:
     import openpyxl
 
+    if not openpyxl.DEFUSEDXML or openpyxl.LXML:
+        raise _refuse(
+            path,
+            "the hardened XML parser is not in use (install defusedxml and do not "
+            "set OPENPYXL_DEFUSEDXML=False or OPENPYXL_LXML=True); the workbook was "
+            "not opened",
+        )
+    _check_workbook_bounds(path)
+    small = path.stat().st_size <= SMALL_WORKBOOK_BYTES
     try:
-        book = openpyxl.load_workbook(path, read_only=True, data_only=True)
-    except (zipfile.BadZipFile, OSError, KeyError, ValueError) as exc:
-        raise InputError(
-            [Problem(path.name, None, None, None, f"cannot be read as an .xlsx workbook ({exc})")]
+        book = openpyxl.load_workbook(path, read_only=not small, data_only=True)
+        formulas = openpyxl.load_workbook(path, read_only=False, data_only=False) if small else None
+    except Exception as exc:  # noqa: BLE001 - any failure to parse is a located input error
+        raise _refuse(
+            path, f"cannot be read as an .xlsx workbook ({type(exc).__name__}: {exc})"
         ) from None
     sheets: dict[str, RawSheet] = {}
     try:
         for ws in book.worksheets:
             name = ws.title.strip().lower()
-            rows = [
-                (number, list(values))
-                for number, values in enumerate(ws.iter_rows(values_only=True), start=1)
-            ]
+            fws = formulas[ws.title] if formulas is not None else None
+            rows = []
+            for number, row in enumerate(ws.iter_rows(), start=1):
+                values = []
+                for position, cell in enumerate(row, start=1):
+                    value = cell.value
+                    if (
+                        isinstance(value, (int, float))
+                        and not isinstance(value, bool)
+                        and "%" in (getattr(cell, "number_format", "") or "")
+                    ):
+                        value = PercentCell(value)
+                    if value is None and fws is not None:
+                        text = fws.cell(row=number, column=position).value
+                        if isinstance(text, str) and text.startswith("="):
+                            value = FormulaCell(text)
+                    values.append(value)
+                rows.append((number, values))
+            if not small:
+                sheets[name] = _sheet_from_rows(name, rows, problems)
+                continue
+            if ws.sheet_state != "visible":
+                notes.append(f"sheet '{name}' is hidden in the workbook; it is read like any other")
+            for merged in ws.merged_cells.ranges:
+                notes.append(
+                    f"sheet '{name}': cells {merged.coord} are merged; only the first "
+                    "holds a value and the others read as blank: unmerge them and fill "
+                    "each cell"
+                )
+            hidden_rows = [r for r, d in ws.row_dimensions.items() if d.hidden]
+            hidden_cols = [c for c, d in ws.column_dimensions.items() if d.hidden]
+            if hidden_rows or hidden_cols:
+                what = ", ".join(
+                    [f"row {r}" for r in hidden_rows[:5]] + [f"column {c}" for c in hidden_cols[:5]]
+                )
+                notes.append(f"sheet '{name}': hidden {what}; hidden cells are read like any other")
             sheets[name] = _sheet_from_rows(name, rows, problems)
     finally:
         book.close()
+        if formulas is not None:
+            formulas.close()
     return sheets
 
 
@@ -156,6 +250,15 @@ def load_input(path: str | Path) -> RawInput:
     problems: list[Problem] = []
     if not path.exists():
         raise InputError([Problem(path.name, None, None, str(path), "no such file or folder")])
+    files = sorted(path.glob("*.csv")) if path.is_dir() else [path]
+    for file in files:
+        if file.stat().st_size > MAX_FILE_BYTES:
+            raise _refuse(
+                file,
+                f"is {file.stat().st_size / 2**30:.1f} GiB, more than the "
+                f"{MAX_FILE_BYTES / 2**30:.0f} GiB this tool reads",
+            )
+    notes: list[str] = []
     if path.is_dir():
         if not any(path.glob("*.csv")):
             raise InputError(
@@ -163,7 +266,7 @@ def load_input(path: str | Path) -> RawInput:
             )
         sheets = _load_csv_folder(path, problems)
     elif path.suffix.lower() in WORKBOOK_SUFFIXES:
-        sheets = _load_workbook(path, problems)
+        sheets = _load_workbook(path, problems, notes)
     else:
         raise InputError(
             [
@@ -176,4 +279,4 @@ def load_input(path: str | Path) -> RawInput:
                 )
             ]
         )
-    return RawInput(sheets, path.name, input_sha256(path), problems)
+    return RawInput(sheets, path.name, input_sha256(path), problems, notes)
