@@ -18,7 +18,7 @@ $(VENV)/.installed-test: pyproject.toml | $(BIN)/python
 	touch $(VENV)/.installed $@
 
 demo: $(VENV)/.installed
-	$(BIN)/faultcalc demo -o faultcalc-demo-results.xlsx
+	$(BIN)/faultcalc demo -o faultcalc-demo-results.xlsx --overwrite
 
 test: $(VENV)/.installed-test
 	$(BIN)/python -m pytest

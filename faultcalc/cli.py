@@ -47,6 +47,11 @@ def _guarded(action):
         _fail("\n".join(lines), EXIT_BAD_INPUT)
     except OutputError as exc:
         _fail(f"error: {exc}", EXIT_FAILURE)
+    except OSError as exc:  # a locked, read-only or full target
+        name = f" {exc.filename}" if getattr(exc, "filename", None) else ""
+        _fail(
+            f"error: cannot write{name}: {exc.strerror or exc}; nothing was written", EXIT_FAILURE
+        )
     except Exception as exc:  # noqa: BLE001 - a tool for engineers never shows a bare traceback
         if os.environ.get("FAULTCALC_DEBUG"):
             traceback.print_exc()
@@ -67,9 +72,36 @@ def _summary(result) -> str:
     )
 
 
+OVERWRITE = click.option(
+    "--overwrite", is_flag=True, help="Replace output files that exist already."
+)
+
+
+def _check_targets(input_path: Path, targets: list[Path], overwrite: bool) -> None:
+    """Refuse the input as an output, and existing files unless --overwrite."""
+    for target in targets:
+        if same_file(target, input_path) or (
+            input_path.is_dir()
+            and same_file(target.parent, input_path)
+            and target.suffix.lower() == ".csv"
+        ):
+            raise OutputError(f"refusing to write {target}: it is the input")
+        if target.exists() and not overwrite:
+            raise OutputError(
+                f"{target} exists already; add --overwrite to replace it, or choose another name"
+            )
+        if target.exists() and target.is_dir():
+            raise OutputError(f"{target} is a folder; give a file name")
+
+
 def _run(
-    input_path: Path, output: Path, json_path: Path | None, contributions: str | None = None
+    input_path: Path,
+    output: Path,
+    json_path: Path | None,
+    contributions: str | None = None,
+    overwrite: bool = False,
 ) -> None:
+    _check_targets(input_path, [t for t in (output, json_path) if t], overwrite)
     for target in filter(None, (output, json_path)):
         if same_file(target, input_path) or (
             input_path.is_dir()
@@ -141,8 +173,13 @@ def main() -> None:
     help="Add the current from every source, machine and branch for three-phase and "
     "line-to-ground faults at these buses (or all).",
 )
+@OVERWRITE
 def study(
-    input_path: Path, output: Path, json_path: Path | None, contributions: str | None
+    input_path: Path,
+    output: Path,
+    json_path: Path | None,
+    contributions: str | None,
+    overwrite: bool,
 ) -> None:
     """Study INPUT (an .xlsx workbook or a folder of <sheet>.csv files).
 
@@ -153,7 +190,7 @@ def study(
 
     Exit status: 0 done, 2 bad input (every problem listed, nothing written), 1 other failure.
     """
-    _guarded(lambda: _run(input_path, output, json_path, contributions))
+    _guarded(lambda: _run(input_path, output, json_path, contributions, overwrite))
 
 
 @main.command("check-cables")
@@ -174,7 +211,10 @@ def study(
     metavar="PCT",
     help="Flag typed R or X further than this from the table row, percent.",
 )
-def check_cables_command(input_path: Path, json_path: Path | None, tolerance_pct: float) -> None:
+@OVERWRITE
+def check_cables_command(
+    input_path: Path, json_path: Path | None, tolerance_pct: float, overwrite: bool
+) -> None:
     """Compare the cable R and X typed in INPUT with NFPA 70 Table 9 / IEC 60228 rows.
 
     Each cable whose R and X were typed is compared with the table row of its size, material
@@ -188,8 +228,8 @@ def check_cables_command(input_path: Path, json_path: Path | None, tolerance_pct
     """
 
     def action():
-        if json_path is not None and same_file(json_path, input_path):
-            raise OutputError(f"refusing to write {json_path}: it is the input")
+        if json_path is not None:
+            _check_targets(input_path, [json_path], overwrite)
         system = read_system(input_path)
         checks = cablecheck.check_cables(system, tolerance_pct)
         if json_path is not None:
@@ -231,7 +271,8 @@ def check_cables_command(input_path: Path, json_path: Path | None, tolerance_pct
     metavar="FILE.cir",
     help="Netlist to write.",
 )
-def netlist(input_path: Path, bus: str, fault: str, output: Path) -> None:
+@OVERWRITE
+def netlist(input_path: Path, bus: str, fault: str, output: Path, overwrite: bool) -> None:
     """Write a phase-domain SPICE netlist of INPUT with a fault at BUS, for a reviewer.
 
     Every bus becomes three phase nodes and a return node, every transformer three ideal
@@ -245,8 +286,7 @@ def netlist(input_path: Path, bus: str, fault: str, output: Path) -> None:
     """
 
     def action():
-        if same_file(output, input_path):
-            raise OutputError(f"refusing to write {output}: it is the input")
+        _check_targets(input_path, [output], overwrite)
         system = read_system(input_path)
         if bus not in {b.bus for b in system.buses}:
             raise click.BadParameter(f"no bus named {bus} in {input_path.name}", param_hint="--bus")
@@ -300,7 +340,8 @@ def template(path: Path) -> None:
     show_default=True,
     help="Which bundled sample system (invented scenarios) to study.",
 )
-def demo(output: Path, sample: str) -> None:
+@OVERWRITE
+def demo(output: Path, sample: str, overwrite: bool) -> None:
     """Study a bundled sample system (an invented scenario) and write its results.
 
     \b
@@ -311,7 +352,7 @@ def demo(output: Path, sample: str) -> None:
         f"Sample system '{sample}' (invented for demonstration; not a real site): "
         f"{sample_path(sample)}"
     )
-    _guarded(lambda: _run(sample_path(sample), output, None))
+    _guarded(lambda: _run(sample_path(sample), output, None, None, overwrite))
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -2,13 +2,14 @@
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
 from .. import conductors, model
 from ..errors import InputError, Problem
-from . import cells, schema
+from . import cells, plausibility, schema
 from .cases import read_cases
 from .tables import RawInput, RawSheet, load_input
 
@@ -89,7 +90,10 @@ def _read_sheet(spec: schema.Sheet, raw: RawSheet | None, out: _Collector) -> li
                 values[column.name] = column.default
                 continue
             try:
-                values[column.name] = cells.parse(cell, column)
+                notes: list[str] = []
+                values[column.name] = cells.parse(cell, column, notes)
+                for note in notes:
+                    out.warn(spec.name, number, column.name, cell, note)
             except cells.CellError as exc:
                 out.problem(spec.name, number, column.name, cell, str(exc))
                 values[column.name] = None
@@ -197,25 +201,27 @@ def _unique_ids(
     id_column: str,
     records: list[Record],
     out: _Collector,
-    taken: dict[str, tuple[str, int]],
+    taken: dict[str, tuple[str, int, str]],
 ) -> None:
     for record in records:
         name = record.values.get(id_column)
         if name is None:
             continue
-        if name in taken:
-            where_sheet, where_row = taken[name]
+        key = name.casefold()
+        if key in taken:
+            where_sheet, where_row, first = taken[key]
+            same = "" if first == name else f" as {first!r} (names are matched ignoring case)"
             out.problem(
                 sheet,
                 record.row,
                 id_column,
                 name,
-                f"the name is already used on sheet '{where_sheet}' row {where_row}; "
+                f"the name is already used on sheet '{where_sheet}' row {where_row}{same}; "
                 "names must be unique",
             )
             record.ok = False
         else:
-            taken[name] = (sheet, record.row)
+            taken[key] = (sheet, record.row, name)
 
 
 def _check_refs(
@@ -225,14 +231,24 @@ def _check_refs(
     bus_kv: dict[str, float],
     out: _Collector,
 ) -> None:
+    folded = {name.casefold(): name for name in bus_kv}
     for record in records:
         for column in columns:
             name = record.values.get(column)
-            if name is not None and name not in bus_kv:
-                out.problem(
-                    sheet, record.row, column, name, "no bus of that name on the 'buses' sheet"
+            if name is None or name in bus_kv:
+                continue
+            if name.casefold() in folded:
+                record.values[column] = folded[name.casefold()]
+                out.warn(
+                    sheet,
+                    record.row,
+                    column,
+                    name,
+                    f"matched bus {folded[name.casefold()]!r} ignoring case",
                 )
-                record.ok = False
+                continue
+            out.problem(sheet, record.row, column, name, "no bus of that name on the 'buses' sheet")
+            record.ok = False
         if len(columns) == 2:
             a, b = (record.values.get(c) for c in columns)
             if a is not None and a == b:
@@ -464,6 +480,7 @@ def read_tables(raw: RawInput, with_cases: bool = True) -> model.System:
     """
     out = _Collector()
     out.problems.extend(raw.problems)
+    out.warnings.extend(raw.notes)
     known_sheets = {s.name for s in schema.SHEETS} | {schema.GUIDE_SHEET}
     for name in raw.sheets:
         if name not in known_sheets:
@@ -478,14 +495,14 @@ def read_tables(raw: RawInput, with_cases: bool = True) -> model.System:
     settings = _read_settings(raw.sheets.get("study"), out)
     recs = {s.name: _read_sheet(s, raw.sheets.get(s.name), out) for s in schema.SHEETS[1:]}
 
-    bus_taken: dict[str, tuple[str, int]] = {}
+    bus_taken: dict[str, tuple[str, int, str]] = {}
     _unique_ids("buses", "bus", recs["buses"], out, bus_taken)
     bus_kv = {
         r.values["bus"]: r.values["kv"]
         for r in recs["buses"]
         if r.values.get("bus") is not None and r.values.get("kv") is not None
     }
-    element_taken: dict[str, tuple[str, int]] = {}
+    element_taken: dict[str, tuple[str, int, str]] = {}
     for sheet in schema.ELEMENT_SHEETS:
         _unique_ids(sheet.name, sheet.columns[0].name, recs[sheet.name], out, element_taken)
     _check_devices(recs["buses"], out)
@@ -518,7 +535,7 @@ def read_tables(raw: RawInput, with_cases: bool = True) -> model.System:
             rows.append(cls(**kwargs, row=r.row))
         return tuple(rows)
 
-    return model.System(
+    system = model.System(
         settings=settings,
         buses=build(model.Bus, "buses"),
         sources=build(model.Source, "sources"),
@@ -530,6 +547,10 @@ def read_tables(raw: RawInput, with_cases: bool = True) -> model.System:
         input_name=raw.display_name,
         input_sha256=raw.sha256,
         warnings=tuple(out.warnings),
+    )
+    doubts = plausibility.warnings(system)
+    return (
+        dataclasses.replace(system, warnings=system.warnings + tuple(doubts)) if doubts else system
     )
 
 

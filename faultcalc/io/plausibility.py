@@ -1,0 +1,101 @@
+"""Doubtful but usable input: warnings, each with its basis. Nothing here stops a study."""
+
+from __future__ import annotations
+
+from ..model import System
+
+# Voltages commonly written in volts; a kv cell holding one of them was probably typed in volts.
+COMMON_VOLTS = {
+    120,
+    208,
+    220,
+    230,
+    240,
+    277,
+    347,
+    380,
+    400,
+    415,
+    440,
+    460,
+    480,
+    575,
+    600,
+    690,
+    1000,
+    2400,
+    3300,
+    4160,
+    4800,
+    6600,
+    6900,
+    11000,
+    12000,
+    12470,
+    13200,
+    13800,
+    22000,
+    24940,
+    33000,
+    34500,
+}
+XR_RANGE = (0.1, 100.0)
+# Transformer %Z usual for distribution and substation transformers (common practice, no
+# source): 1.5 to 10 % up to 10 MVA, 4 to 20 % above.
+Z_RANGE_SMALL = (1.5, 10.0)
+Z_RANGE_LARGE = (4.0, 20.0)
+# Longest cables the voltage level carries in practice before the voltage drop (NFPA 70
+# informational notes suggest 5 % in all) or the fault current itself becomes unworkable
+# (common practice, no source).
+LV_MAX_FT = 2000.0
+MV_MAX_FT = 30 * 3280.84
+
+
+def _where(sheet: str, row: int | None, column: str) -> str:
+    return f"sheet '{sheet}'" + (f", row {row}" if row else "") + f", column '{column}'"
+
+
+def warnings(system: System) -> list[str]:
+    out = []
+    for b in system.buses:
+        if b.kv in COMMON_VOLTS:
+            out.append(
+                f"{_where('buses', b.row, 'kv')}: {b.kv:g} kV looks like a voltage in "
+                f"volts; kv is in kilovolts ({b.kv / 1000:g} for {b.kv:g} V) (found "
+                f"{b.kv:g})"
+            )
+    for t in system.transformers:
+        low, high = Z_RANGE_SMALL if t.kva <= 10_000 else Z_RANGE_LARGE
+        if not low <= t.z_pct <= high:
+            out.append(
+                f"{_where('transformers', t.row, 'z_pct')}: {t.z_pct:g} % is outside "
+                f"the {low:g} to {high:g} % usual for a {t.kva:g} kVA transformer "
+                "(common practice, no source); check the nameplate"
+            )
+        for column in ("hv_kv", "lv_kv"):
+            value = getattr(t, column)
+            if value in COMMON_VOLTS:
+                out.append(
+                    f"{_where('transformers', t.row, column)}: {value:g} kV looks like "
+                    "volts; the column is in kilovolts"
+                )
+    for sheet in ("sources", "transformers", "machines"):
+        for e in getattr(system, sheet):
+            if not XR_RANGE[0] <= e.xr <= XR_RANGE[1]:
+                out.append(
+                    f"{_where(sheet, e.row, 'xr')}: X/R {e.xr:g} is outside "
+                    f"{XR_RANGE[0]:g} to {XR_RANGE[1]:g}, where real equipment lies "
+                    "(common practice, no source)"
+                )
+    kv = system.bus_kv()
+    for c in system.cables:
+        length_ft = c.length_kft * 1000.0
+        limit = LV_MAX_FT if kv[c.from_bus] <= 1.0 else MV_MAX_FT
+        if length_ft > limit:
+            column = "length_ft" if c.length_ft is not None else "length_m"
+            out.append(
+                f"{_where('cables', c.row, column)}: {length_ft:,.0f} ft is longer than "
+                f"a {kv[c.from_bus]:g} kV circuit is run in practice ({limit:,.0f} ft; "
+                "common practice, no source); check the length and its unit"
+            )
+    return out
