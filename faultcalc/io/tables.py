@@ -151,13 +151,22 @@ def _load_workbook(path: Path, problems: list[Problem], notes: list[str]) -> dic
         )
     _check_workbook_bounds(path)
     small = path.stat().st_size <= SMALL_WORKBOOK_BYTES
-    try:
-        book = openpyxl.load_workbook(path, read_only=not small, data_only=True)
-        formulas = openpyxl.load_workbook(path, read_only=False, data_only=False) if small else None
-    except Exception as exc:  # noqa: BLE001 - any failure to parse is a located input error
-        raise _refuse(
-            path, f"cannot be read as an .xlsx workbook ({type(exc).__name__}: {exc})"
-        ) from None
+    with path.open("rb") as handle, path.open("rb") as formula_handle:
+        try:
+            book = openpyxl.load_workbook(handle, read_only=not small, data_only=True)
+            formulas = (
+                openpyxl.load_workbook(formula_handle, read_only=False, data_only=False)
+                if small
+                else None
+            )
+        except Exception as exc:  # noqa: BLE001 - any failure to parse is a located input error
+            raise _refuse(
+                path, f"cannot be read as an .xlsx workbook ({type(exc).__name__}: {exc})"
+            ) from None
+        return _read_book(book, formulas, small, problems, notes)
+
+
+def _read_book(book, formulas, small, problems, notes) -> dict[str, RawSheet]:
     sheets: dict[str, RawSheet] = {}
     try:
         for ws in book.worksheets:
