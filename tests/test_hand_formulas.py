@@ -9,7 +9,7 @@ from builders import transformer
 
 from faultcalc import read_system, run_study
 
-INFINITE_MVA = 1e12  # a source this strong is an infinite bus to 1e-8 relative
+INFINITE_MVA = 1e9  # a source this strong is an infinite bus to about 1e-8 relative
 
 
 def buses_of(result):

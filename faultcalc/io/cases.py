@@ -103,7 +103,7 @@ def read_cases(raw: RawInput, records, read_tables) -> tuple[tuple[str, Any], ..
             table.rows[index] = (number, values)
             if column not in table.headers:
                 table.headers.append(column)
-        for sheet_name, index in sorted(removed, reverse=True):
+        for sheet_name, index in sorted(set(removed), reverse=True):
             del case_raw.sheets[sheet_name].rows[index]
         try:
             system = read_tables(case_raw, with_cases=False)

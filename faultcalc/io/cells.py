@@ -41,6 +41,9 @@ UNIT_WORDS = {
 }
 _NUMBER = re.compile(r"^([+-]?(?:\d[\d,]*\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)\s*(.*)$")
 _THOUSANDS = re.compile(r"^[+-]?\d{1,3}(?:,\d{3})+(?:\.\d+)?$")
+# No input of a short-circuit study is this large or this small (other than exactly 0).
+MAX_MAGNITUDE = 1e9
+MIN_MAGNITUDE = 1e-9
 FORMULA_MESSAGE = (
     "the cell holds a formula whose value was never saved; open the file in a "
     "spreadsheet program and save it, so that the values are stored"
@@ -134,6 +137,11 @@ def as_number(value: Any, column: schema.Column, notes: list[str] | None = None)
         number = _text_number(str(value), column, notes)
     if not math.isfinite(number):
         raise CellError(f"expected {expected}, a finite value")
+    if abs(number) > MAX_MAGNITUDE or 0 < abs(number) < MIN_MAGNITUDE:
+        raise CellError(
+            f"expected {expected}; {number:g} is outside {MIN_MAGNITUDE:g} to "
+            f"{MAX_MAGNITUDE:g}, where every real value of this tool's inputs lies"
+        )
     if column.kind == schema.INTEGER and not number.is_integer():
         raise CellError(f"expected {expected}")
     bound = column.bound
