@@ -16,10 +16,12 @@ from . import (
     OutputError,
     __version__,
     cablecheck,
+    progress,
     read_system,
     run_study,
     sample_path,
 )
+from .io.csvout import BIG_OUTPUT_BUSES, write_bus_csv_to
 from .io.files import same_file, staged
 from .io.jsonout import cable_check_dict, write_json_to
 from .io.template import write_template
@@ -111,7 +113,8 @@ def _run(
             raise OutputError(f"refusing to write {target}: it is the input")
     if json_path is not None and same_file(output, json_path):
         raise OutputError("the results workbook and the JSON file must be different files")
-    system = read_system(input_path)
+    with progress.phase("reading the input"):
+        system = read_system(input_path)
     if contributions is not None:
         names = {b.bus for b in system.buses}
         wanted = [c.strip() for c in contributions.split(",") if c.strip()]
@@ -123,16 +126,29 @@ def _run(
                 else "give bus names separated by commas, or all",
                 param_hint="--contributions",
             )
-    result = run_study(system, contributions=contributions)
+    with progress.phase("solving"):
+        result = run_study(system, contributions=contributions)
+    big = len(result.buses) > BIG_OUTPUT_BUSES
     targets = [output] + ([json_path] if json_path else [])
-    with staged(*targets) as temps:
-        write_workbook_to(result, temps[0])
+    csv_path = output.with_name(output.stem + "-buses.csv")
+    if big:
+        _check_targets(input_path, [csv_path], overwrite)
+        targets.append(csv_path)
+    with progress.phase("writing the results"), staged(*targets) as temps:
+        write_workbook_to(result, temps[0], summary_of=csv_path.name if big else None)
         if json_path:
             write_json_to(result, temps[1])
+        if big:
+            write_bus_csv_to(result, temps[-1])
     for w in result.warnings:
         click.echo(f"warning: {w}", err=True)
     click.echo(_summary(result))
-    click.echo(f"results workbook: {output.resolve()}")
+    click.echo(
+        f"results workbook: {output.resolve()}"
+        + (f" (a summary: more than {BIG_OUTPUT_BUSES:,} buses)" if big else "")
+    )
+    if big:
+        click.echo(f"bus results (every bus): {csv_path.resolve()}")
     if json_path:
         click.echo(f"results JSON: {json_path.resolve()}")
     click.echo("Caution: for review by a qualified engineer; see the 'Basis and cautions' sheet.")

@@ -189,9 +189,7 @@ def _check_fed(pu, node_of_bus, n, seq1: Stamps, bus_rows):
     raise InputError(problems)
 
 
-def zone_angles_deg(
-    pu: PerUnitSystem, network: Network, where: dict[str, tuple[str, int | None]] | None = None
-) -> np.ndarray:
+def zone_angles_deg(pu: PerUnitSystem, network: Network, where=None) -> np.ndarray:
     """Phase displacement of every node's positive-sequence quantities, degrees.
 
     Each transformer's low-voltage side lags its high-voltage side by 30 degrees per clock hour;
@@ -225,7 +223,8 @@ def zone_angles_deg(
                     queue.append(b)
                 elif abs((angle[b] - want + 180.0) % 360.0 - 180.0) > 1e-6:
                     element = pu.series[k]
-                    sheet, row = (where or {}).get(element.element, (element.kind + "s", None))
+                    located = where() if callable(where) else (where or {})
+                    sheet, row = located.get(element.element, (element.kind + "s", None))
                     column = "clock_number" if element.kind == "transformer" else None
                     problems.append(
                         Problem(

@@ -165,6 +165,19 @@ def _xr(z: np.ndarray) -> np.ndarray:
         return np.where(z.real > 0, z.imag / np.where(z.real > 0, z.real, 1.0), np.inf)
 
 
+def _tie_groups(names, node_of_bus: np.ndarray) -> list[str]:
+    """Per bus, the other buses sharing its node through closed ties (linear time)."""
+    groups = [""] * len(names)
+    _, inverse, counts = np.unique(node_of_bus, return_inverse=True, return_counts=True)
+    members: dict[int, list[int]] = {}
+    for i in np.flatnonzero(counts[inverse] > 1).tolist():
+        members.setdefault(int(inverse[i]), []).append(i)
+    for group in members.values():
+        for i in group:
+            groups[i] = ", ".join(names[j] for j in group if j != i)
+    return groups
+
+
 def _bus_indices(system: System, contributions) -> list[int]:
     names = [b.bus for b in system.buses]
     if contributions is None:
@@ -206,7 +219,7 @@ def analyse(system: System, prefault_pu: tuple[float, ...] | None = None) -> Ana
     factor0 = SymmetricFactor(network.y0)
     z1_node = factor1.diagonal()
     z0_node = np.where(network.grounded, factor0.diagonal(), complex(np.nan, np.nan))
-    angles = zone_angles_deg(pu, network, element_locations(system))
+    angles = zone_angles_deg(pu, network, lambda: element_locations(system))
     return Analysis(system, pu, network, factor1, factor0, z1_node, z0_node, angles)
 
 
@@ -437,11 +450,7 @@ def run_study(
     wanted = _bus_indices(system, contributions)
     a, buses = _solve(system)
     pu, network = a.pu, a.network
-    groups = []
-    node = network.node_of_bus
-    for i in range(len(pu.bus_names)):
-        mates = [pu.bus_names[j] for j in np.flatnonzero(node == node[i]) if j != i]
-        groups.append(", ".join(mates))
+    groups = _tie_groups(pu.bus_names, network.node_of_bus)
 
     contribution_table = None
     if wanted:

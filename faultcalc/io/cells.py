@@ -51,9 +51,11 @@ FORMULA_MESSAGE = (
 
 
 def is_blank(value: Any) -> bool:
-    if isinstance(value, FormulaCell):
-        return False
-    return value is None or (isinstance(value, str) and value.strip() == "")
+    if value is None:
+        return True
+    if type(value) is str:
+        return not value or value.isspace()
+    return False
 
 
 def as_text(value: Any, notes: list[str] | None = None) -> str:
@@ -112,7 +114,35 @@ def _text_number(text: str, column: schema.Column, notes: list[str] | None) -> f
         raise CellError(f"expected {expected}") from None
 
 
+def _plain(value: Any, column: schema.Column) -> float | None:
+    """The fast path: a plain finite number within bounds, or None to take the careful one."""
+    if type(value) is str:
+        try:
+            number = float(value)
+        except ValueError:
+            return None
+    elif type(value) in (int, float):
+        number = float(value)
+    else:
+        return None
+    if not (MIN_MAGNITUDE <= abs(number) <= MAX_MAGNITUDE or number == 0.0):
+        return None  # includes nan and inf
+    bound = column.bound
+    if (
+        (bound == schema.POSITIVE and number <= 0)
+        or (bound == schema.NON_NEGATIVE and number < 0)
+        or (bound == schema.AT_LEAST_ONE and number < 1)
+    ):
+        return None
+    if column.kind == schema.INTEGER and not number.is_integer():
+        return None
+    return number
+
+
 def as_number(value: Any, column: schema.Column, notes: list[str] | None = None) -> float:
+    number = _plain(value, column)
+    if number is not None:
+        return number
     expected = column.expected()
     if isinstance(value, FormulaCell):
         raise CellError(FORMULA_MESSAGE)

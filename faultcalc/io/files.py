@@ -41,6 +41,10 @@ def staged(*paths: str | Path) -> Iterator[list[Path]]:
             os.close(handle)
             temps.append(Path(name))
         yield temps
+        umask = os.umask(0)
+        os.umask(umask)
+        for temp in temps:
+            os.chmod(temp, 0o666 & ~umask)  # mkstemp makes 0600; results are ordinary files
         for temp, target in zip(temps, targets, strict=True):
             try:
                 os.replace(temp, target)

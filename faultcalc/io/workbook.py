@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from dataclasses import dataclass
 from pathlib import Path
@@ -14,6 +15,7 @@ from openpyxl.utils import get_column_letter
 from .. import duty
 from ..cautions import SHORT_CAUTION
 from ..results import StudyResult
+from .csvout import SUMMARY_BUSES
 from .files import staged
 
 HEADER_FILL = PatternFill("solid", fgColor="DCE6F0")
@@ -733,8 +735,52 @@ def build_workbook(result: StudyResult) -> Workbook:
     return book
 
 
-def write_workbook_to(result: StudyResult, path: Path) -> None:
-    build_workbook(result).save(path)
+def _summary(result: StudyResult, csv_name: str) -> tuple[StudyResult, str]:
+    """The result cut to the buses a reviewer reads first, and the note that says so."""
+    b = result.buses
+    largest = b[["i3ph_ka", "islg_ka", "ill_ka", "illg_ka"]].max(axis=1, skipna=True)
+    worst = set(largest.nlargest(SUMMARY_BUSES).index)
+    worst |= set(b.index[b.duty_status.isin([duty.STATUS_OVER, duty.STATUS_NEAR])])
+    keep = sorted(worst, key=lambda i: -largest[i])
+    names = set(b.bus.iloc[keep])
+    cut = dataclasses.replace(
+        result,
+        buses=b.iloc[keep].reset_index(drop=True),
+        descriptions=tuple(result.descriptions[i] for i in keep),
+        node_groups=tuple(result.node_groups[i] for i in keep),
+        elements=result.elements.iloc[0:0],
+        cable_checks=(
+            result.cable_checks[result.cable_checks.flagged]
+            if result.cable_checks is not None
+            else None
+        ),
+        cases={k: v[v.bus.isin(names)] for k, v in result.cases.items()},
+        envelope=(
+            result.envelope[result.envelope.bus.isin(names)]
+            if result.envelope is not None
+            else None
+        ),
+    )
+    note = (
+        f"Summary of a study of {len(b):,} buses: the {len(keep)} buses with the largest fault "
+        f"currents and every duty finding, largest first. Every bus is in {csv_name}; the "
+        "element echo is left out of this workbook."
+    )
+    return cut, note
+
+
+def write_workbook_to(result: StudyResult, path: Path, summary_of: str | None = None) -> None:
+    """Write the workbook; ``summary_of`` names the CSV holding every bus of a large study,
+    and the workbook then holds the summary."""
+    note = None
+    if summary_of is not None:
+        result, note = _summary(result, summary_of)
+    book = build_workbook(result)
+    if note:
+        for ws in book.worksheets:
+            if ws.title in ("Fault currents", "Element impedances", "Cases", "Envelope"):
+                _note_below(ws, note)
+    book.save(path)
 
 
 def write_workbook(result: StudyResult, path: str | Path) -> None:
