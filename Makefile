@@ -4,7 +4,7 @@ PYTHON ?= python3
 VENV := .venv
 BIN := $(VENV)/bin
 
-.PHONY: demo test lint samples readme clean
+.PHONY: demo test lint samples readme bench clean
 
 $(BIN)/python:
 	$(PYTHON) -m venv $(VENV)
@@ -26,6 +26,10 @@ test: $(VENV)/.installed-test
 lint: $(VENV)/.installed-test
 	$(BIN)/python -m pip install --quiet ruff
 	$(BIN)/ruff check faultcalc tests scripts benchmarks
+
+bench: $(VENV)/.installed
+	$(BIN)/python benchmarks/scale.py
+	$(BIN)/python benchmarks/engine.py
 
 samples: $(VENV)/.installed
 	$(BIN)/python scripts/make_samples.py

@@ -47,8 +47,10 @@ def main() -> None:
         y = radial_admittance(n, loops)
         t_lu = best_of(lambda y=y: sla.splu(y))
         t_all = best_of(lambda y=y: diagonal_of_inverse(y))
-        print(f"{n:>9} {loops:>6} {t_lu:>8.3f} {t_all:>10.3f} {t_all / t_lu:>6.2f} "
-              f"{1e6 * t_all / n:>7.2f}")
+        print(
+            f"{n:>9} {loops:>6} {t_lu:>8.3f} {t_all:>10.3f} {t_all / t_lu:>6.2f} "
+            f"{1e6 * t_all / n:>7.2f}"
+        )
 
 
 if __name__ == "__main__":

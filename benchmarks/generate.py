@@ -31,8 +31,12 @@ def generate(n_buses: int, folder: Path, meshed: bool = False, seed: int = 1) ->
     with (folder / "study.csv").open("w", newline="") as f:
         w = csv.writer(f)
         w.writerow(["setting", "value"])
-        w.writerow(["title", f"Invented benchmark network, {n} buses"
-                    + (", meshed" if meshed else ", radial")])
+        w.writerow(
+            [
+                "title",
+                f"Invented benchmark network, {n} buses" + (", meshed" if meshed else ", radial"),
+            ]
+        )
         w.writerow(["frequency_hz", 60])
     with (folder / "buses.csv").open("w", newline="") as f:
         w = csv.writer(f)
@@ -57,20 +61,48 @@ def generate(n_buses: int, folder: Path, meshed: bool = False, seed: int = 1) ->
         x = np.concatenate([x, rng.uniform(0.08, 0.15, k)])
     with (folder / "cables.csv").open("w", newline="") as f:
         w = csv.writer(f)
-        w.writerow(["cable", "from_bus", "to_bus", "length_m", "r_ohm_per_km", "x_ohm_per_km",
-                    "r0_ohm_per_km", "x0_ohm_per_km"])
+        w.writerow(
+            [
+                "cable",
+                "from_bus",
+                "to_bus",
+                "length_m",
+                "r_ohm_per_km",
+                "x_ohm_per_km",
+                "r0_ohm_per_km",
+                "x0_ohm_per_km",
+            ]
+        )
         ids = np.char.add("C", np.arange(len(frm)).astype(str))
-        w.writerows(zip(ids.tolist(), names[frm].tolist(), names[to].tolist(),
-                        np.round(length, 1).tolist(), np.round(r, 4).tolist(),
-                        np.round(x, 4).tolist(), np.round(3 * r, 4).tolist(),
-                        np.round(3 * x, 4).tolist(), strict=True))
+        w.writerows(
+            zip(
+                ids.tolist(),
+                names[frm].tolist(),
+                names[to].tolist(),
+                np.round(length, 1).tolist(),
+                np.round(r, 4).tolist(),
+                np.round(x, 4).tolist(),
+                np.round(3 * r, 4).tolist(),
+                np.round(3 * x, 4).tolist(),
+                strict=True,
+            )
+        )
     motors = np.flatnonzero(rng.random(n) < 0.1)
     with (folder / "machines.csv").open("w", newline="") as f:
         w = csv.writer(f)
         w.writerow(["machine", "bus", "kind", "kva", "kv", "xd_pct", "xr"])
         for i, bus in enumerate(motors.tolist()):
-            w.writerow([f"M{i}", names[bus], "induction_motor",
-                        int(rng.choice([200, 500, 1000, 2000])), 13.2, 16.7, 10])
+            w.writerow(
+                [
+                    f"M{i}",
+                    names[bus],
+                    "induction_motor",
+                    int(rng.choice([200, 500, 1000, 2000])),
+                    13.2,
+                    16.7,
+                    10,
+                ]
+            )
     return folder
 
 
