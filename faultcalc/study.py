@@ -178,25 +178,6 @@ def _tie_groups(names, node_of_bus: np.ndarray) -> list[str]:
     return groups
 
 
-def _bus_indices(system: System, contributions) -> list[int]:
-    names = [b.bus for b in system.buses]
-    if contributions is None:
-        return []
-    if isinstance(contributions, str):
-        if contributions.strip().lower() == "all":
-            return list(range(len(names)))
-        contributions = [c for c in contributions.split(",") if c.strip()]
-    index = {n: i for i, n in enumerate(names)}
-    unknown = [c for c in contributions if c.strip() not in index]
-    if unknown:
-        raise ValueError(
-            f"no bus named {', '.join(repr(u) for u in unknown)}; buses are "
-            + ", ".join(names[:20])
-            + (" ..." if len(names) > 20 else "")
-        )
-    return [index[c.strip()] for c in contributions]
-
-
 @dataclass(frozen=True)
 class Analysis:
     """The reduced network of one system: what every result is computed from."""
