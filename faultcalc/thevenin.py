@@ -19,6 +19,7 @@ import bisect
 import numpy as np
 import scipy.sparse as sp
 import scipy.sparse.linalg as sla
+from scipy.sparse.csgraph import breadth_first_order, connected_components
 
 
 class FactorizationError(RuntimeError):
@@ -35,24 +36,73 @@ class SymmetricFactor:
     def __init__(self, y: sp.spmatrix):
         self.n = y.shape[0]
         self._lu = None
-        if self.n:
-            self._lu = sla.splu(
-                sp.csc_matrix(y),
-                permc_spec="MMD_AT_PLUS_A",
-                diag_pivot_thresh=0.0,
-                options={"SymmetricMode": True},
-            )
-            if not np.array_equal(self._lu.perm_r, self._lu.perm_c):
-                raise FactorizationError("the factorization needed off-diagonal pivots")
+        self._tree = None  # (postorder, parent position of each position) for a forest
+        if not self.n:
+            return
+        y = sp.csc_matrix(y)
+        order = _forest_postorder(y)
+        if order is not None:
+            post, parent_pos = order
+            self._tree = (post, parent_pos)
+            position = np.empty(self.n, dtype=np.int64)
+            position[post] = np.arange(self.n)
+            c = y.tocoo()
+            y = sp.csc_matrix((c.data, (position[c.row], position[c.col])), shape=y.shape)
+            spec = "NATURAL"  # children before parents: no fill at all
+        else:
+            spec = "MMD_AT_PLUS_A"
+        self._lu = sla.splu(
+            y, permc_spec=spec, diag_pivot_thresh=0.0, options={"SymmetricMode": True}
+        )
+        if not np.array_equal(self._lu.perm_r, self._lu.perm_c):
+            raise FactorizationError("the factorization needed off-diagonal pivots")
 
     def columns(self, nodes) -> np.ndarray:
         """Columns of ``Y^-1`` at ``nodes``: an array of shape (n, len(nodes))."""
         nodes = np.atleast_1d(np.asarray(nodes, dtype=np.int64))
         rhs = np.zeros((self.n, len(nodes)), dtype=complex)
         rhs[nodes, np.arange(len(nodes))] = 1.0
-        return self._lu.solve(rhs) if self.n else rhs
+        if not self.n:
+            return rhs
+        if self._tree is None:
+            return self._lu.solve(rhs)
+        post = self._tree[0]
+        out = np.empty_like(rhs)
+        out[post] = self._lu.solve(rhs[post])
+        return out
 
     def diagonal(self) -> np.ndarray:
+        if self._tree is not None:
+            return self._forest_diagonal()
+        return self._general_diagonal()
+
+    def _forest_diagonal(self) -> np.ndarray:
+        """Radial networks: ``Z_jj = 1/d_j + l_pj^2 Z_pp`` from the root down, evaluated for
+        all buses at once by pointer jumping (log2 of the depth steps of whole-array work)."""
+        post, parent_pos = self._tree
+        n = self.n
+        low = self._lu.L.tocoo()
+        below = low.row != low.col
+        l_pj = np.zeros(n, dtype=complex)
+        l_pj[low.col[below]] = low.data[below]
+        a = 1.0 / self._lu.U.diagonal()
+        m = l_pj * l_pj
+        up = parent_pos.copy()
+        root = up < 0
+        up[root] = np.flatnonzero(root)
+        m[root] = 0.0
+        while True:
+            a = a + m * a[up]
+            m = m * m[up]
+            nxt = up[up]
+            if np.array_equal(nxt, up):
+                break
+            up = nxt
+        z = np.empty(n, dtype=complex)
+        z[post] = a
+        return z
+
+    def _general_diagonal(self) -> np.ndarray:
         """Diagonal of ``Y^-1`` by the selected-inverse recurrence on the pattern of ``L``."""
         n = self.n
         if n == 0:
@@ -97,6 +147,31 @@ class SymmetricFactor:
             z_diag[j] = acc
         # The factored matrix is y[q][:, q] with q = argsort(perm_c).
         return np.asarray(z_diag, dtype=complex)[lu.perm_c]
+
+
+def _forest_postorder(y: sp.csc_matrix):
+    """For a matrix whose graph is a forest: a postorder (children before parents) and, per
+    position, the position of its parent (-1 for roots); None when the graph has a loop."""
+    n = y.shape[0]
+    upper = sp.triu(y, k=1, format="coo")  # duplicates are summed in csc: one entry an edge
+    edges = np.stack([upper.row, upper.col])
+    pattern = sp.coo_matrix((np.ones(len(upper.row)), (upper.row, upper.col)), shape=(n, n))
+    count, labels = connected_components(pattern, directed=False)
+    if edges.shape[1] != n - count:
+        return None  # a loop somewhere: the general path
+    # One breadth-first search from a virtual root joined to the first node of every tree.
+    _, first = np.unique(labels, return_index=True)
+    a = np.concatenate([edges[0], np.full(count, n)])
+    b = np.concatenate([edges[1], first])
+    graph = sp.coo_matrix((np.ones(len(a)), (a, b)), shape=(n + 1, n + 1)).tocsr()
+    order, pred = breadth_first_order(graph, n, directed=False, return_predecessors=True)
+    order = order[1:]  # drop the virtual root
+    post = order[::-1]
+    position = np.empty(n, dtype=np.int64)
+    position[post] = np.arange(n)
+    parents = pred[post]
+    parent_pos = np.where(parents == n, -1, position[np.where(parents == n, 0, parents)])
+    return post, parent_pos
 
 
 def diagonal_of_inverse(y: sp.spmatrix) -> np.ndarray:
