@@ -81,66 +81,79 @@ def _merge_ties(pu: PerUnitSystem) -> np.ndarray:
     return renumber[labels]
 
 
-def _stamps(series, shunts) -> Stamps:
-    def arr(values, dtype):
-        return np.array(values, dtype=dtype)
-
-    se, sf, st, sy, stap = zip(*series, strict=True) if series else ((),) * 5
-    he, hs, hn, hy = zip(*shunts, strict=True) if shunts else ((),) * 4
-    return Stamps(
-        arr(se, np.int64),
-        arr(sf, np.int64),
-        arr(st, np.int64),
-        arr(sy, complex),
-        arr(stap, float),
-        arr(he, np.int64),
-        arr(hs, np.int64),
-        arr(hn, np.int64),
-        arr(hy, complex),
-    )
-
-
 def build_network(pu: PerUnitSystem, bus_rows: dict[str, int] | None = None) -> Network:
-    """Assemble the sequence admittance matrices.
+    """Assemble the sequence admittance matrices (whole-array work, one pass over elements).
 
     Raises InputError listing every bus that has no path to a source.
     """
     index = {name: i for i, name in enumerate(pu.bus_names)}
     node_of_bus = _merge_ties(pu)
     n = int(node_of_bus.max()) + 1 if len(node_of_bus) else 0
-    warnings = []
-    used = []
-    series1, series0, shunts1, shunts0 = [], [], [], []
-    for k, s in enumerate(pu.series):
-        if s.kind == "tie":
-            continue
-        a, b = node_of_bus[index[s.from_bus]], node_of_bus[index[s.to_bus]]
-        if a == b:
-            warnings.append(
-                f"{s.kind} {s.element}: both ends ({s.from_bus}, {s.to_bus}) are "
-                "joined by closed ties, so it carries no fault current; left out"
-            )
-            continue
-        used.append(k)
-        series1.append((k, a, b, 1.0 / s.z1_pu, s.tap))
-        if s.z0_mode == pu_.Z0_SERIES:
-            series0.append((k, a, b, 1.0 / s.z0_pu, s.tap))
-        elif s.z0_mode == pu_.Z0_SHUNT_FROM:
-            shunts0.append((k, -1, a, 1.0 / s.z0_pu))
-        elif s.z0_mode == pu_.Z0_SHUNT_TO:
-            shunts0.append((k, -1, b, 1.0 / s.z0_pu))
-    for k, h in enumerate(pu.shunts):
-        node = node_of_bus[index[h.bus]]
-        shunts1.append((-1, k, node, 1.0 / h.z1_pu))
-        if h.z0_pu is not None:
-            shunts0.append((-1, k, node, 1.0 / h.z0_pu))
-    seq1, seq0 = _stamps(series1, shunts1), _stamps(series0, shunts0)
+    series = pu.series
+    k_all = np.arange(len(series), dtype=np.int64)
+    tie = np.array([s.kind == "tie" for s in series], dtype=bool)
+    a = node_of_bus[np.array([index[s.from_bus] for s in series], dtype=np.int64)]
+    b = node_of_bus[np.array([index[s.to_bus] for s in series], dtype=np.int64)]
+    z1 = np.array([s.z1_pu for s in series], dtype=complex)
+    z0 = np.array([0j if s.z0_pu is None else s.z0_pu for s in series], dtype=complex)
+    tap = np.array([s.tap for s in series], dtype=float)
+    mode = np.array([s.z0_mode for s in series], dtype=object)
+    shorted = ~tie & (a == b)
+    warnings = [
+        f"{series[k].kind} {series[k].element}: both ends ({series[k].from_bus}, "
+        f"{series[k].to_bus}) are joined by closed ties, so it carries no fault current; "
+        "left out"
+        for k in np.flatnonzero(shorted)
+    ]
+    used = ~tie & ~shorted
+    u = np.flatnonzero(used)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        y1_series = 1.0 / z1[u]
+    s0 = np.flatnonzero(used & (mode == pu_.Z0_SERIES))
+    sf = np.flatnonzero(used & (mode == pu_.Z0_SHUNT_FROM))
+    st = np.flatnonzero(used & (mode == pu_.Z0_SHUNT_TO))
+    shunt_node = node_of_bus[np.array([index[h.bus] for h in pu.shunts], dtype=np.int64)]
+    h_z1 = np.array([h.z1_pu for h in pu.shunts], dtype=complex)
+    h_has0 = np.array([h.z0_pu is not None for h in pu.shunts], dtype=bool)
+    h_z0 = np.array([h.z0_pu for h in pu.shunts if h.z0_pu is not None], dtype=complex)
+    h_idx = np.arange(len(pu.shunts), dtype=np.int64)
+    seq1 = Stamps(
+        k_all[u],
+        a[u],
+        b[u],
+        y1_series,
+        tap[u],
+        np.full(len(h_idx), -1, np.int64),
+        h_idx,
+        shunt_node,
+        1.0 / h_z1,
+    )
+    t_shunt = np.concatenate([sf, st])
+    seq0 = Stamps(
+        k_all[s0],
+        a[s0],
+        b[s0],
+        1.0 / z0[s0],
+        tap[s0],
+        np.concatenate([t_shunt, np.full(int(h_has0.sum()), -1, np.int64)]),
+        np.concatenate([np.full(len(t_shunt), -1, np.int64), h_idx[h_has0]]),
+        np.concatenate([a[sf], b[st], shunt_node[h_has0]]),
+        np.concatenate([1.0 / z0[sf], 1.0 / z0[st], 1.0 / h_z0]),
+    )
     y1 = seq1.matrix(n)
     _check_fed(pu, node_of_bus, n, seq1, bus_rows or {})
     grounded = _reaches_shunt(n, seq0)
     y0 = seq0.matrix(n) + sp.diags((~grounded).astype(float), format="csc")
     return Network(
-        node_of_bus, n, y1, y0.tocsc(), grounded, seq1, seq0, tuple(used), tuple(warnings)
+        node_of_bus,
+        n,
+        y1,
+        y0.tocsc(),
+        grounded,
+        seq1,
+        seq0,
+        tuple(k_all[u].tolist()),
+        tuple(warnings),
     )
 
 

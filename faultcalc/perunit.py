@@ -27,8 +27,10 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
+import numpy as np
+
 from .errors import InputError, Problem
-from .model import Machine, Source, System, Transformer
+from .model import FT_PER_KFT, M_PER_FT, Machine, Source, System, Transformer
 
 SQRT3 = math.sqrt(3.0)
 
@@ -58,7 +60,7 @@ def split_by_xr(z_abs: float, xr: float) -> complex:
     return complex(r, r * xr)
 
 
-@dataclass(frozen=True)
+@dataclass(slots=True)  # not frozen: a study builds one per element, and frozen costs 3x
 class SeriesPU:
     """A series element between two buses; ``tap`` is an ideal ratio at the from-bus side."""
 
@@ -77,7 +79,7 @@ class SeriesPU:
     z0_note: str = ""
 
 
-@dataclass(frozen=True)
+@dataclass(slots=True)
 class ShuntPU:
     """A source or machine seen from its bus: an impedance to the prefault voltage."""
 
@@ -204,6 +206,42 @@ def _machine(m: Machine, kv_bus: float, base_mva: float) -> ShuntPU:
     )
 
 
+def _cable_impedances_ohm(system: System) -> tuple[np.ndarray, np.ndarray]:
+    """Total Z1 and Z0 of every cable in ohms (the same arithmetic as model.Cable.z_ohm, on
+    whole arrays): per conductor per 1000 ft x length in kft / sets; Z0 as given or 3 x Z1."""
+    cables = system.cables
+    if not cables:
+        return np.zeros(0, complex), np.zeros(0, complex)
+    km_to_kft = FT_PER_KFT * M_PER_FT / 1000.0
+
+    def per_kft(r_kft, x_kft, r_km, x_km):
+        r = np.array([np.nan if v is None else v for v in r_kft], dtype=float)
+        x = np.array([np.nan if v is None else v for v in x_kft], dtype=float)
+        rk = np.array([np.nan if v is None else v for v in r_km], dtype=float) * km_to_kft
+        xk = np.array([np.nan if v is None else v for v in x_km], dtype=float) * km_to_kft
+        return np.where(np.isnan(r), rk, r) + 1j * np.where(np.isnan(x), xk, x)
+
+    z1 = per_kft(
+        [c.r_ohm_per_kft for c in cables],
+        [c.x_ohm_per_kft for c in cables],
+        [c.r_ohm_per_km for c in cables],
+        [c.x_ohm_per_km for c in cables],
+    )
+    z0 = per_kft(
+        [c.r0_ohm_per_kft for c in cables],
+        [c.x0_ohm_per_kft for c in cables],
+        [c.r0_ohm_per_km for c in cables],
+        [c.x0_ohm_per_km for c in cables],
+    )
+    ft = np.array([np.nan if c.length_ft is None else c.length_ft for c in cables], dtype=float)
+    m = np.array([np.nan if c.length_m is None else c.length_m for c in cables], dtype=float)
+    kft = np.where(np.isnan(ft), m / M_PER_FT, ft) / FT_PER_KFT
+    sets = np.array([c.sets for c in cables], dtype=float)
+    z1_total = z1 * kft / sets
+    z0_total = np.where(np.isnan(z0.real), CABLE_Z0_FACTOR * z1_total, z0 * kft / sets)
+    return z1_total, z0_total
+
+
 def _names(items: list[str]) -> str:
     shown = ", ".join(items[:10])
     return shown + (f" and {len(items) - 10} more" if len(items) > 10 else "")
@@ -234,12 +272,14 @@ def to_per_unit(
     shunts += [_machine(m, kv[m.bus], base_mva) for m in system.machines]
     series = [_transformer(t, kv, base_mva) for t in system.transformers]
     cables_assumed = []
-    for c in system.cables:
-        z_base = z_base_ohm(kv[c.from_bus], base_mva)
+    z1_cables, z0_cables = _cable_impedances_ohm(system)
+    for c, z_ohm, z0_ohm in zip(system.cables, z1_cables.tolist(), z0_cables.tolist(), strict=True):
+        kv_bus = kv[c.from_bus]
+        z_base = kv_bus * kv_bus / base_mva
         if c.z0_given:
-            z0_ohm, note = c.z0_ohm_per_kft * c.length_kft / c.sets, "zero sequence as given"
+            note = "zero sequence as given"
         else:
-            z0_ohm, note = CABLE_Z0_FACTOR * c.z_ohm, "zero sequence assumed 3 x Z1"
+            note = "zero sequence assumed 3 x Z1"
             cables_assumed.append(c.cable)
         series.append(
             SeriesPU(
@@ -247,12 +287,15 @@ def to_per_unit(
                 "cable",
                 c.from_bus,
                 c.to_bus,
-                c.z_ohm / z_base,
-                c.z_ohm,
+                z_ohm / z_base,
+                z_ohm,
                 c.from_bus,
-                kv[c.from_bus],
-                z0_pu=z0_ohm / z_base,
-                z0_note=note,
+                kv_bus,
+                1.0,
+                Z0_SERIES,
+                z0_ohm / z_base,
+                0,
+                note,
             )
         )
     impedances_assumed = []
