@@ -380,7 +380,7 @@ def _duty_sheet(ws, result: StudyResult) -> None:
 
 def _case_sheet(ws, result: StudyResult) -> None:
     cols = [
-        Col("Case", 18),
+        Col("Case", 34),
         Col("Bus", 14),
         Col("Nominal kV", 9, KV),
         Col("3-phase, kA", 10, KA),
@@ -689,6 +689,7 @@ def _basis_sheet(ws, result: StudyResult) -> None:
             f"{s.conductor_temp_c:g} C for cable resistances taken from "
             "the tables; typed resistances used as typed",
         ),
+        ("Calculation method", f"{s.method} (X/R for asymmetry and duty: {s.xr_method})"),
         ("Method", b.method),
         ("Warnings", f"{len(result.warnings)} (see sheet 'Warnings')"),
     ]
@@ -698,8 +699,8 @@ def _basis_sheet(ws, result: StudyResult) -> None:
         label_cell.alignment = Alignment(vertical="top")
         cell = ws.cell(row=row, column=2, value=value)
         cell.alignment = WRAP
-        if label == "Method":
-            ws.row_dimensions[row].height = 60
+        if len(str(value)) > 100:  # wrapped text: about 100 characters a line at this width
+            ws.row_dimensions[row].height = 13.5 * math.ceil(len(str(value)) / 100) + 3
         row += 1
 
 
