@@ -113,7 +113,7 @@ def _run(
             raise OutputError(f"refusing to write {target}: it is the input")
     if json_path is not None and same_file(output, json_path):
         raise OutputError("the results workbook and the JSON file must be different files")
-    with progress.phase("reading the input"):
+    with progress.phase("reading the input"), progress.without_gc():
         system = read_system(input_path)
     if contributions is not None:
         names = {b.bus for b in system.buses}
@@ -126,7 +126,7 @@ def _run(
                 else "give bus names separated by commas, or all",
                 param_hint="--contributions",
             )
-    with progress.phase("solving"):
+    with progress.phase("solving"), progress.without_gc():
         result = run_study(system, contributions=contributions)
     big = len(result.buses) > BIG_OUTPUT_BUSES
     targets = [output] + ([json_path] if json_path else [])

@@ -44,3 +44,18 @@ def phase(name: str, stream=None) -> Iterator[None]:
         if shown.is_set():
             stream.write(f"\r  {name}: {time.perf_counter() - start:.1f} s{' ' * 10}\n")
             stream.flush()
+
+
+@contextlib.contextmanager
+def without_gc() -> Iterator[None]:
+    """Pause Python's cyclic garbage collector for a phase that builds millions of small
+    objects (it found no cycles to free there and cost about a quarter of the reading time)."""
+    import gc
+
+    was = gc.isenabled()
+    gc.disable()
+    try:
+        yield
+    finally:
+        if was:
+            gc.enable()
