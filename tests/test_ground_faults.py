@@ -10,7 +10,7 @@ import pytest
 from builders import transformer
 from click.testing import CliRunner
 
-from faultcalc import read_system, run_study
+from faultcalc import InputError, read_system, run_study
 from faultcalc.cli import main
 from faultcalc.study import analyse, contributions_of
 
@@ -199,3 +199,42 @@ def test_contribution_option_and_sheet(tmp_path):
         main, ["study", str(sample_path()), "-o", str(out) + "x", "--contributions", "NOPE"]
     )
     assert bad.exit_code == 2 and "NOPE" in bad.output
+
+
+def test_generator_only_system_and_a_utility_outage_case(make_input):
+    # A standby generator alone: I = rated current / X"d at its terminals (common practice, no
+    # source); a case taking the utility out leaves the generator feeding the fault.
+    gen = {
+        "machine": "G",
+        "bus": "LV",
+        "kind": "generator",
+        "kva": 500,
+        "kv": 0.48,
+        "xd_pct": 12.5,
+        "xr": 20,
+        "neutral_ohm": 0,
+        "x0_pct": 5,
+    }
+    alone = make_input({"buses": [{"bus": "LV", "kv": 0.48}], "machines": [gen]})
+    lv = buses(run_study(read_system(alone))).loc["LV"]
+    rated_ka = 500 / (math.sqrt(3) * 0.48) / 1000
+    assert lv.i3ph_ka == pytest.approx(rated_ka / 0.125, rel=1e-9)
+    assert lv.islg_ka > lv.i3ph_ka  # X0 below X"d, solidly grounded
+    sheets = two_bus(machines=[gen])
+    sheets["cases"] = [
+        {"case": "utility out", "element": "U", "column": "in_service", "value": "no"}
+    ]
+    result = run_study(read_system(make_input(sheets)))
+    out = result.cases["utility out"].set_index("bus")
+    assert out.loc["LV", "i3ph_ka"] == pytest.approx(rated_ka / 0.125, rel=1e-9)
+    assert out.loc["LV", "i3ph_ka"] < buses(result).loc["LV", "i3ph_ka"]
+    with pytest.raises(InputError) as info:
+        read_system(
+            make_input(
+                {
+                    "buses": [{"bus": "LV", "kv": 0.48}],
+                    "machines": [dict(gen, kind="induction_motor")],
+                }
+            )
+        )
+    assert "no utility source" in info.value.problems[0].message

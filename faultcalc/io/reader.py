@@ -519,8 +519,11 @@ def read_tables(raw: RawInput, with_cases: bool = True) -> model.System:
     _check_refs("machines", ("bus",), recs["machines"], bus_kv, out)
     _check_machines(recs["machines"], bus_kv, out)
     _check_sources(recs["sources"], raw.sheets.get("sources"), out)
-    if not any(True for r in recs["sources"]) and "sources" in raw.sheets:
-        out.problem("sources", None, None, None, "no source given; at least one is needed")
+    generators = [r for r in recs["machines"] if r.values.get("kind") == "generator"]
+    if not recs["sources"] and not generators and not out.problems:
+        out.problem("sources", None, None, None,
+                    "no utility source (sources sheet) and no generator (machines sheet): at "
+                    "least one is needed to feed a fault")
     if out.problems:
         raise InputError(out.problems)
 

@@ -233,7 +233,7 @@ BUSES = Sheet(
 SOURCES = Sheet(
     "sources",
     "Utility supply points: the available three-phase short-circuit at the point of delivery, as "
-    "stated by the serving utility.",
+    "stated by the serving utility. A system fed only by generators (machines sheet) needs none.",
     (
         Column("source", ID, "Unique name of the source.", required=True),
         Column("bus", BUS_REF, "Bus the source feeds.", required=True),
@@ -288,7 +288,6 @@ SOURCES = Sheet(
             bound=NON_NEGATIVE,
         ),
     ),
-    required=True,
     alternatives=(
         Alternative((("sc_mva",), ("sc_ka",))),
         Alternative((("slg_ka",), ("r0_ohm", "x0_ohm")), required=False),
