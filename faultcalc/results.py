@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import functools
+from collections.abc import Callable
 from dataclasses import dataclass, field
 
 import pandas as pd
@@ -85,7 +87,7 @@ class Basis:
 @dataclass(frozen=True)
 class StudyResult:
     buses: pd.DataFrame  # one row per bus, input order, columns BUS_COLUMNS (NaN = none)
-    elements: pd.DataFrame  # one row per element, columns ELEMENT_COLUMNS
+    element_table: Callable[[], pd.DataFrame]  # builds `elements` when first asked for
     descriptions: tuple[str, ...]  # bus descriptions, aligned with `buses`
     node_groups: tuple[str, ...]  # per bus: the other buses sharing its node through ties
     warnings: tuple[str, ...]
@@ -96,3 +98,9 @@ class StudyResult:
     cases: dict[str, pd.DataFrame] = field(default_factory=dict)  # case -> bus table
     envelope: pd.DataFrame | None = None  # worst value per bus over base and cases
     service_buses: tuple[str, ...] = ()  # buses marked service = yes (label sheets)
+
+    @functools.cached_property
+    def elements(self) -> pd.DataFrame:
+        """One row per element, columns ELEMENT_COLUMNS: the input restated on the common base.
+        Built on first use (a large study that writes only a summary never needs it)."""
+        return self.element_table()

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import datetime as _dt
+import functools
 from collections.abc import Iterable
 from dataclasses import dataclass
 
@@ -462,7 +463,7 @@ def run_study(
     )
     return StudyResult(
         buses=buses,
-        elements=_element_table(system, pu, set(network.series_used)),
+        element_table=functools.partial(_element_table, system, pu, set(network.series_used)),
         descriptions=tuple(b.description for b in system.buses),
         node_groups=tuple(groups),
         warnings=tuple(system.warnings) + pu.warnings + network.warnings,

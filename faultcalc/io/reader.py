@@ -521,9 +521,14 @@ def read_tables(raw: RawInput, with_cases: bool = True) -> model.System:
     _check_sources(recs["sources"], raw.sheets.get("sources"), out)
     generators = [r for r in recs["machines"] if r.values.get("kind") == "generator"]
     if not recs["sources"] and not generators and not out.problems:
-        out.problem("sources", None, None, None,
-                    "no utility source (sources sheet) and no generator (machines sheet): at "
-                    "least one is needed to feed a fault")
+        out.problem(
+            "sources",
+            None,
+            None,
+            None,
+            "no utility source (sources sheet) and no generator (machines sheet): at "
+            "least one is needed to feed a fault",
+        )
     if out.problems:
         raise InputError(out.problems)
 

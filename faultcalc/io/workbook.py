@@ -7,6 +7,7 @@ import math
 from dataclasses import dataclass
 from pathlib import Path
 
+import pandas as pd
 from openpyxl import Workbook
 from openpyxl.comments import Comment
 from openpyxl.styles import Alignment, Border, Font, PatternFill, Side
@@ -14,7 +15,7 @@ from openpyxl.utils import get_column_letter
 
 from .. import duty
 from ..cautions import SHORT_CAUTION
-from ..results import StudyResult
+from ..results import ELEMENT_COLUMNS, StudyResult
 from .csvout import SUMMARY_BUSES
 from .files import staged
 
@@ -749,7 +750,7 @@ def _summary(result: StudyResult, csv_name: str) -> tuple[StudyResult, str]:
         buses=b.iloc[keep].reset_index(drop=True),
         descriptions=tuple(result.descriptions[i] for i in keep),
         node_groups=tuple(result.node_groups[i] for i in keep),
-        elements=result.elements.iloc[0:0],
+        element_table=lambda: pd.DataFrame(columns=list(ELEMENT_COLUMNS)),
         cable_checks=(
             result.cable_checks[result.cable_checks.flagged]
             if result.cable_checks is not None
