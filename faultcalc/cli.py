@@ -27,6 +27,7 @@ from .io.jsonout import cable_check_dict, write_json_to
 from .io.template import write_template
 from .io.workbook import write_workbook_to
 from .netlist import FAULTS, build_netlist
+from .study import contribution_buses
 
 EXIT_BAD_INPUT = 2
 EXIT_FAILURE = 1
@@ -116,15 +117,15 @@ def _run(
     with progress.phase("reading the input"), progress.without_gc():
         system = read_system(input_path)
     if contributions is not None:
-        names = {b.bus for b in system.buses}
-        wanted = [c.strip() for c in contributions.split(",") if c.strip()]
-        unknown = [c for c in wanted if c not in names and c.lower() != "all"]
-        if unknown or not wanted:
+        try:
+            wanted = contribution_buses(system, contributions)
+        except ValueError as exc:
             raise click.BadParameter(
-                f"no bus named {', '.join(unknown)} in {input_path.name}"
-                if unknown
-                else "give bus names separated by commas, or all",
-                param_hint="--contributions",
+                f"{exc} (in {input_path.name})", param_hint="--contributions"
+            ) from None
+        if not wanted:
+            raise click.BadParameter(
+                "give bus names separated by commas, or all", param_hint="--contributions"
             )
     with progress.phase("solving"), progress.without_gc():
         result = run_study(system, contributions=contributions)

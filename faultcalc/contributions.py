@@ -19,7 +19,7 @@ import pandas as pd
 
 from .faults import phase_currents, sequence_currents
 from .network import Network
-from .perunit import PerUnitSystem
+from .perunit import PerUnitSystem, i_base_ka
 
 
 @dataclass(frozen=True)
@@ -71,12 +71,11 @@ def contribution_phasors(
     buses: list[int],
     zf_pu: np.ndarray,
     angle_deg: np.ndarray,
-) -> pd.DataFrame:
+) -> list[Phasors]:
     """Contributions to faults at the buses with indices ``buses`` (input order)."""
     rows = []
     prefault = pu.prefault_pu
-    kv = np.asarray(pu.bus_kv)
-    i_base = pu.base_mva / (np.sqrt(3.0) * kv)
+    i_base = i_base_ka(np.asarray(pu.bus_kv), pu.base_mva)
     bus_index = {name: i for i, name in enumerate(pu.bus_names)}
     nodes = network.node_of_bus[buses]
     unique_nodes = sorted(set(nodes.tolist()))
@@ -84,6 +83,7 @@ def contribution_phasors(
     z1_cols = factor1.columns(unique_nodes)
     z0_cols = factor0.columns(unique_nodes)
     s1, s0 = network.seq1, network.seq0
+    incident = (_incident(s1), _incident(s0))
     for b, n in zip(buses, nodes.tolist(), strict=True):
         grounded = bool(network.grounded[n])
         for fault in CONTRIBUTION_FAULTS:
@@ -123,17 +123,14 @@ def contribution_phasors(
                     far = e.from_bus if network.node_of_bus[bus_index[e.to_bus]] == n else e.to_bus
                     add(("series", e_idx), far, i_base[b], 2, -dv0[node] * y)
             # Branches meeting the faulted node: current flowing from the branch into it.
-            for stamps, dvs, seq_indices in ((s1, (dv1, dv2), (0, 1)), (s0, (dv0,), (2,))):
-                for e_idx, f, t, y, tap in zip(
-                    stamps.series_elem.tolist(),
-                    stamps.series_from.tolist(),
-                    stamps.series_to.tolist(),
-                    stamps.series_y.tolist(),
-                    stamps.series_tap.tolist(),
-                    strict=True,
-                ):
-                    if n not in (f, t):
-                        continue
+            for stamps, at_node, dvs, seq_indices in (
+                (s1, incident[0], (dv1, dv2), (0, 1)),
+                (s0, incident[1], (dv0,), (2,)),
+            ):
+                for j in at_node.get(n, ()):
+                    e_idx = int(stamps.series_elem[j])
+                    f, t = int(stamps.series_from[j]), int(stamps.series_to[j])
+                    y, tap = complex(stamps.series_y[j]), float(stamps.series_tap[j])
                     e = pu.series[e_idx]
                     far = e.to_bus if f == n else e.from_bus
                     for dv, k in zip(dvs, seq_indices, strict=True):
@@ -160,6 +157,17 @@ def contribution_phasors(
                     )
                 )
     return rows
+
+
+def _incident(stamps) -> dict[int, list[int]]:
+    """Node -> positions of the series stamps that end at it (built once per call)."""
+    at_node: dict[int, list[int]] = {}
+    for j, (f, t) in enumerate(
+        zip(stamps.series_from.tolist(), stamps.series_to.tolist(), strict=True)
+    ):
+        at_node.setdefault(f, []).append(j)
+        at_node.setdefault(t, []).append(j)
+    return at_node
 
 
 def as_table(phasors: list[Phasors]) -> pd.DataFrame:

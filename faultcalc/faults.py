@@ -95,8 +95,3 @@ def all_faults(z1, z2, z0, prefault_pu: float, zf=0.0) -> BusFaults:
         illg=np.maximum(np.abs(p_llg[1]), np.abs(p_llg[2])),
         ig_llg=np.where(grounded, np.abs(3 * llg.i0), nan),
     )
-
-
-def three_phase_pu(z1_pu: np.ndarray, prefault_pu: float, fault_z_pu: complex = 0j) -> np.ndarray:
-    """Three-phase fault current magnitude, per-unit: ``E / |Z1 + Zf|``."""
-    return prefault_pu / np.abs(np.asarray(z1_pu) + fault_z_pu)

@@ -12,6 +12,9 @@ from dataclasses import dataclass, field
 
 FT_PER_KFT = 1000.0
 M_PER_FT = 0.3048
+# Cable zero-sequence impedance when not given: 3 x Z1 (common practice, no source; the true
+# value depends on the return path: conduit, grounding conductor, sheath, earth).
+CABLE_Z0_FACTOR = 3.0
 
 
 @dataclass(frozen=True)
@@ -159,6 +162,13 @@ class Cable:
         if self.r0_ohm_per_km is not None:
             return complex(self.r0_ohm_per_km, self.x0_ohm_per_km) * (FT_PER_KFT * M_PER_FT / 1000)
         return None
+
+    @property
+    def z0_ohm(self) -> complex:
+        """Total zero-sequence impedance: as given per set, or CABLE_Z0_FACTOR x Z1."""
+        if self.z0_given:
+            return self.z0_ohm_per_kft * self.length_kft / self.sets
+        return CABLE_Z0_FACTOR * self.z_ohm
 
 
 @dataclass(frozen=True)

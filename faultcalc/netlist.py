@@ -246,8 +246,7 @@ def build_netlist(
         label = f"mach{i + 1}_{_safe(m.machine)}"
         star_source(label, m.bus, settings.prefault_pu * kv[m.bus] / SQRT3, z1, z0)
     for c in system.cables:
-        z1 = c.z_ohm
-        z0 = (c.z0_ohm_per_kft * c.length_kft / c.sets) if c.z0_given else 3.0 * z1
+        z1, z0 = c.z_ohm, c.z0_ohm
         w.add(f"* cable {c.cable}: {c.from_bus} - {c.to_bus}")
         _series(
             w,

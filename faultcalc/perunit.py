@@ -30,13 +30,10 @@ from dataclasses import dataclass
 import numpy as np
 
 from .errors import InputError, Problem
-from .model import FT_PER_KFT, M_PER_FT, Machine, Source, System, Transformer
+from .model import CABLE_Z0_FACTOR, FT_PER_KFT, M_PER_FT, Machine, Source, System, Transformer
 
 SQRT3 = math.sqrt(3.0)
 
-# Cable zero-sequence impedance when not given: 3 x Z1 (common practice, no source; the true
-# value depends on the return path: conduit, grounding conductor, sheath, earth).
-CABLE_Z0_FACTOR = 3.0
 
 # Zero-sequence models of a series element.
 Z0_SERIES = "series"  # between the two buses, with the element's tap
@@ -207,8 +204,9 @@ def _machine(m: Machine, kv_bus: float, base_mva: float) -> ShuntPU:
 
 
 def _cable_impedances_ohm(system: System) -> tuple[np.ndarray, np.ndarray]:
-    """Total Z1 and Z0 of every cable in ohms (the same arithmetic as model.Cable.z_ohm, on
-    whole arrays): per conductor per 1000 ft x length in kft / sets; Z0 as given or 3 x Z1."""
+    """Total Z1 and Z0 of every cable in ohms: model.Cable.z_ohm and z0_ohm on whole arrays
+    (per conductor per 1000 ft x length in kft / sets; Z0 as given or CABLE_Z0_FACTOR x Z1).
+    The netlist uses the properties, so the circuit-simulator cross-check compares the two."""
     cables = system.cables
     if not cables:
         return np.zeros(0, complex), np.zeros(0, complex)

@@ -216,8 +216,7 @@ def element_locations(system: System) -> dict[str, tuple[str, int | None]]:
 
 def contributions_of(a: Analysis, buses: list[int]) -> list[Phasors]:
     """Complex contributions to faults at the buses with these input indices."""
-    kv = np.array(a.pu.bus_kv)
-    zf_pu = a.system.settings.fault_ohm / (kv**2 / a.pu.base_mva)
+    zf_pu = a.system.settings.fault_ohm / perunit.z_base_ohm(np.array(a.pu.bus_kv), a.pu.base_mva)
     return contribution_phasors(
         a.pu, a.network, a.factor1, a.factor0, a.z1_node, a.z0_node, buses, zf_pu, a.angle_deg
     )
@@ -244,8 +243,8 @@ def fault_table(a: Analysis) -> pd.DataFrame:
     z0 = a.z0_node[network.node_of_bus]
     kv = np.array(pu.bus_kv)
     e = np.array(pu.prefault_pu)
-    z_base = kv**2 / pu.base_mva
-    i_base = pu.base_mva / (np.sqrt(3.0) * kv)
+    z_base = perunit.z_base_ohm(kv, pu.base_mva)
+    i_base = perunit.i_base_ka(kv, pu.base_mva)
     zf_pu = settings.fault_ohm / z_base
     f = faults.all_faults(z1, z1, z0, e, zf_pu)
     table = np.vstack([f.i3ph, f.islg, f.ill, f.illg])
@@ -356,14 +355,18 @@ def _envelope(tables: dict[str, pd.DataFrame]) -> pd.DataFrame:
     return pd.DataFrame(out)
 
 
-def _bus_indices(system: System, contributions) -> list[int]:
+def contribution_buses(system: System, contributions) -> list[int]:
+    """Input indices of the buses named by ``contributions`` ("all", "A,B" or a list of names).
+
+    Raises ValueError naming every bus that does not exist.
+    """
     names = [b.bus for b in system.buses]
     if contributions is None:
         return []
     if isinstance(contributions, str):
-        if contributions.strip().lower() == "all":
-            return list(range(len(names)))
         contributions = [c for c in contributions.split(",") if c.strip()]
+    if any(c.strip().lower() == "all" for c in contributions):
+        return list(range(len(names)))
     index = {n: i for i, n in enumerate(names)}
     unknown = [c for c in contributions if c.strip() not in index]
     if unknown:
@@ -429,7 +432,7 @@ def run_study(
     True
     """
     settings = system.settings
-    wanted = _bus_indices(system, contributions)
+    wanted = contribution_buses(system, contributions)
     a, buses = _solve(system)
     pu, network = a.pu, a.network
     groups = _tie_groups(pu.bus_names, network.node_of_bus)

@@ -22,20 +22,7 @@ def cable(size="4/0", material="cu", raceway="pvc", r=None, x=None, sets=1, per_
     table = conductors.table_as_printed(size, material, raceway)
     r = table.r_ohm_per_kft if r is None else r
     x = table.x_ohm_per_kft if x is None else x
-    if per_km:
-        return Cable(
-            "C1",
-            "A",
-            "B",
-            length_ft=100,
-            sets=sets,
-            size=size,
-            material=material,
-            raceway=raceway,
-            r_ohm_per_km=r,
-            x_ohm_per_km=x,
-            row=2,
-        )
+    unit = "km" if per_km else "kft"
     return Cable(
         "C1",
         "A",
@@ -45,9 +32,8 @@ def cable(size="4/0", material="cu", raceway="pvc", r=None, x=None, sets=1, per_
         size=size,
         material=material,
         raceway=raceway,
-        r_ohm_per_kft=r,
-        x_ohm_per_kft=x,
         row=2,
+        **{f"r_ohm_per_{unit}": r, f"x_ohm_per_{unit}": x},
     )
 
 

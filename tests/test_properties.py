@@ -53,6 +53,13 @@ def study(tmp_path, sheets):
     return run_study(read_system(write_csv_folder(fresh(tmp_path), sheets))).buses.set_index("bus")
 
 
+def lengthen(sheets, which, factor):
+    """Make one cable (chosen by ``which``) ``factor`` times longer."""
+    cable = sheets["cables"][which % len(sheets["cables"])]
+    key = "length_ft" if "length_ft" in cable else "length_m"
+    cable[key] *= factor
+
+
 def one_angle(sheets, xr):
     """The same network with every impedance at one X/R."""
     s = copy.deepcopy(sheets)
@@ -79,9 +86,7 @@ def one_angle(sheets, xr):
 def test_more_series_impedance_never_raises_a_current(tmp_path, net, which, factor, xr):
     sheets = one_angle(random_sheets(**net), xr)
     before = study(tmp_path, sheets)
-    cable = sheets["cables"][which % len(sheets["cables"])]
-    key = "length_ft" if "length_ft" in cable else "length_m"
-    cable[key] *= factor
+    lengthen(sheets, which, factor)
     after = study(tmp_path, sheets)
     assert (after.i3ph_ka <= before.i3ph_ka * (1 + 1e-9)).all()
 
@@ -117,9 +122,7 @@ def test_another_machine_never_lowers_a_current(tmp_path, net, which, kva, xr):
 def test_radial_single_source_any_angles(tmp_path, seed, n_lv, factor, which):
     sheets = random_sheets(seed=seed, n_mv=3, n_lv=n_lv, loops=0, sources=1)
     before = study(tmp_path, sheets)
-    cable = sheets["cables"][which % len(sheets["cables"])]
-    key = "length_ft" if "length_ft" in cable else "length_m"
-    cable[key] *= factor
+    lengthen(sheets, which, factor)
     after = study(tmp_path, sheets)
     assert (after.i3ph_ka <= before.i3ph_ka * (1 + 1e-9)).all()
 

@@ -14,7 +14,7 @@ import re
 from typing import Any
 
 from . import schema
-from .tables import FormulaCell, PercentCell
+from .tables import FormulaCell, PercentCell, is_blank  # noqa: F401 - is_blank used as cells.is_blank
 
 
 class CellError(ValueError):
@@ -48,14 +48,6 @@ FORMULA_MESSAGE = (
     "the cell holds a formula whose value was never saved; open the file in a "
     "spreadsheet program and save it, so that the values are stored"
 )
-
-
-def is_blank(value: Any) -> bool:
-    if value is None:
-        return True
-    if type(value) is str:
-        return not value or value.isspace()
-    return False
 
 
 def as_text(value: Any, notes: list[str] | None = None) -> str:

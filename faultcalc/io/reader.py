@@ -439,9 +439,10 @@ def _check_machines(records: list[Record], bus_kv: dict[str, float], out: _Colle
 
 
 def _check_sources(records: list[Record], raw: RawSheet | None, out: _Collector) -> None:
+    raw_rows = dict(raw.rows) if raw else {}
     for record in records:
         v = record.values
-        raw_values = dict(raw.rows).get(record.row, {}) if raw else {}
+        raw_values = raw_rows.get(record.row, {})
         if v.get("slg_ka") is None and not cells.is_blank(raw_values.get("slg_xr")):
             out.warn(
                 "sources",

@@ -630,17 +630,3 @@ ELEMENT_SHEETS: tuple[Sheet, ...] = (SOURCES, TRANSFORMERS, CABLES, IMPEDANCES, 
 
 # Sheets the template writes for people; the reader passes over them without a warning.
 GUIDE_SHEET = "guide"
-
-
-def sheet(name: str) -> Sheet:
-    for s in SHEETS:
-        if s.name == name:
-            return s
-    raise KeyError(name)
-
-
-def setting(name: str) -> Column:
-    for s in SETTINGS:
-        if s.name == name:
-            return s
-    raise KeyError(name)

@@ -54,8 +54,13 @@ class RawInput:
     notes: list[str] = field(default_factory=list)  # warnings found while loading
 
 
-def _is_blank(value: Any) -> bool:
-    return value is None or (isinstance(value, str) and value.strip() == "")
+def is_blank(value: Any) -> bool:
+    """An empty cell: None or only white space (a formula without a saved value is not)."""
+    if value is None:
+        return True
+    if type(value) is str:
+        return not value or value.isspace()
+    return False
 
 
 def _column_letter(index: int) -> str:
@@ -74,7 +79,7 @@ def _sheet_from_rows(name: str, rows: list[tuple[int, list[Any]]], problems: lis
     headers: list[str] = []
     seen: dict[str, int] = {}
     for position, cell in enumerate(header_cells, start=1):
-        text = "" if _is_blank(cell) else str(cell).strip().lower()
+        text = "" if is_blank(cell) else str(cell).strip().lower()
         if text and text in seen:
             problems.append(
                 Problem(
@@ -92,13 +97,13 @@ def _sheet_from_rows(name: str, rows: list[tuple[int, list[Any]]], problems: lis
     data: list[tuple[int, dict[str, Any]]] = []
     blank_header_columns: set[int] = set()
     for number, cells in rows[1:]:
-        if all(_is_blank(c) for c in cells):
+        if all(is_blank(c) for c in cells):
             continue
         record: dict[str, Any] = {}
         for position, cell in enumerate(cells, start=1):
             header = headers[position - 1] if position <= len(headers) else ""
             if not header:
-                if not _is_blank(cell):
+                if not is_blank(cell):
                     blank_header_columns.add(position)
                 continue
             if header not in record:

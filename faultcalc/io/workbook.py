@@ -71,6 +71,11 @@ def _table(ws, cols: list[Col], rows, *, freeze_columns: int = 1) -> None:
     ws.print_title_rows = "1:1"
 
 
+def _only_row(cols: list[Col], position: int, text: str) -> tuple:
+    """The one row of an empty table: ``text`` in column ``position`` (0-based), blank else."""
+    return tuple(text if j == position else None for j in range(len(cols)))
+
+
 def _page_setup(ws, result: StudyResult) -> None:
     ws.page_setup.orientation = "landscape"
     ws.page_setup.fitToWidth = 1
@@ -351,21 +356,7 @@ def _duty_sheet(ws, result: StudyResult) -> None:
                     r.duty_status,
                 )
             )
-    if not rows:
-        rows = [
-            (
-                "",
-                "No bus has a device and rating_ka on the buses sheet.",
-                "",
-                None,
-                None,
-                None,
-                None,
-                None,
-                None,
-                "",
-            )
-        ]
+    rows = rows or [_only_row(cols, 1, "No bus has a device and rating_ka on the buses sheet.")]
     _table(ws, cols, rows)
     for i, row in enumerate(rows, start=2):
         fill = STATUS_FILL.get(row[-1])
@@ -625,18 +616,7 @@ def _cable_check_sheet(ws, result: StudyResult) -> None:
             r.table_row,
         )
         for r in table.itertuples(index=False)
-    ] or [
-        (
-            "",
-            "",
-            "No cable has typed R and X: every cable took them from the tables.",
-            None,
-            None,
-            None,
-            None,
-            "",
-        )
-    ]
+    ] or [_only_row(cols, 2, "No cable has typed R and X: every cable took them from the tables.")]
     _table(ws, cols, rows)
     for i, r in enumerate(table.itertuples(index=False), start=2):
         if r.flagged:
