@@ -10,6 +10,8 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 
+from .records import Records
+
 FT_PER_KFT = 1000.0
 M_PER_FT = 0.3048
 # Cable zero-sequence impedance when not given: 3 x Z1 (common practice, no source; the true
@@ -246,19 +248,37 @@ class Machine:
 
 @dataclass(frozen=True)
 class System:
-    """Everything read from one input: settings, buses and elements, plus reader warnings."""
+    """Everything read from one input: settings, buses and elements, plus reader warnings.
+
+    Element collections may be given as tuples of objects or as column ``Records``; they are
+    always held as Records (a read-only sequence of the objects, with ``column``/``array``).
+    """
 
     settings: Settings
-    buses: tuple[Bus, ...]
-    sources: tuple[Source, ...] = ()
-    transformers: tuple[Transformer, ...] = ()
-    cables: tuple[Cable, ...] = ()
-    impedances: tuple[Impedance, ...] = ()
-    machines: tuple[Machine, ...] = ()
+    buses: Records[Bus]
+    sources: Records[Source] = ()
+    transformers: Records[Transformer] = ()
+    cables: Records[Cable] = ()
+    impedances: Records[Impedance] = ()
+    machines: Records[Machine] = ()
     cases: tuple[tuple[str, System], ...] = ()  # named variations, each a whole System
     input_name: str = ""
     input_sha256: str = ""
     warnings: tuple[str, ...] = field(default=())
 
+    def __post_init__(self) -> None:
+        for name, kind in ELEMENT_KINDS.items():
+            object.__setattr__(self, name, Records.of(kind, getattr(self, name)))
+
     def bus_kv(self) -> dict[str, float]:
-        return {b.bus: b.kv for b in self.buses}
+        return dict(zip(self.buses.column("bus"), self.buses.column("kv"), strict=True))
+
+
+ELEMENT_KINDS = {
+    "buses": Bus,
+    "sources": Source,
+    "transformers": Transformer,
+    "cables": Cable,
+    "impedances": Impedance,
+    "machines": Machine,
+}

@@ -1,0 +1,135 @@
+"""Rows of one element type kept column by column, with the element objects made on first use.
+
+A study of a million buses must not build a million Python objects per element type to read,
+convert and solve them: the reader hands over whole columns and the per-unit conversion and
+matrix assembly work on arrays. Code that wants elements one at a time (the element echo, the
+netlist, a small study's checks, the tests) iterates or indexes as with a tuple and gets the
+usual frozen dataclasses, built once and kept.
+
+Columns are Python lists or numpy arrays. In a float or complex array NaN stands for None (no
+input value is NaN: the reader refuses non-finite numbers), so an optional field reads back as
+None; a field annotated ``int`` reads back as int.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+from collections.abc import Iterator, Sequence
+from typing import Any, Generic, TypeVar
+
+import numpy as np
+
+T = TypeVar("T")
+
+
+def _int_fields(cls) -> frozenset[str]:
+    return frozenset(
+        f.name for f in dataclasses.fields(cls) if str(f.type).split("|")[0].strip() == "int"
+    )
+
+
+def _plain(column: Any, integer: bool) -> list:
+    """A column as a list of Python values (NaN -> None, integral floats -> int if asked)."""
+    if isinstance(column, np.ndarray):
+        values = column.tolist()
+        if column.dtype.kind in "fc":
+            values = [None if v != v else v for v in values]  # v != v: NaN
+    else:
+        values = list(column)
+    if integer:
+        values = [None if v is None else int(v) for v in values]
+    return values
+
+
+class Records(Sequence, Generic[T]):
+    """A read-only sequence of ``cls`` objects stored as columns (see the module docstring)."""
+
+    __slots__ = ("cls", "_n", "_columns", "_objects")
+
+    def __init__(self, cls: type[T], columns: dict[str, Any], n: int | None = None):
+        fields = [f.name for f in dataclasses.fields(cls)]
+        lengths = {len(v) for v in columns.values()}
+        if n is None:
+            n = lengths.pop() if lengths else 0
+        if lengths - {n}:
+            raise ValueError(f"columns of {cls.__name__} differ in length: {sorted(lengths)}")
+        unknown = set(columns) - set(fields)
+        if unknown:
+            raise ValueError(f"{cls.__name__} has no field {sorted(unknown)}")
+        self.cls = cls
+        self._n = n
+        self._columns = dict(columns)
+        self._objects: tuple[T, ...] | None = None
+
+    @classmethod
+    def of(cls, kind: type[T], items: Sequence[T]) -> Records[T]:
+        """Records holding existing objects (their columns are gathered when first asked)."""
+        if isinstance(items, Records):
+            return items
+        out = cls(kind, {}, len(items))
+        out._objects = tuple(items)
+        return out
+
+    def column(self, name: str) -> Any:
+        """The field ``name`` of every row, as stored (a list or an array)."""
+        if name not in self._columns:
+            if self._objects is not None:
+                self._columns[name] = [getattr(o, name) for o in self._objects]
+            else:
+                field = {f.name: f for f in dataclasses.fields(self.cls)}[name]
+                if field.default is dataclasses.MISSING:
+                    raise KeyError(f"{self.cls.__name__}.{name} was not given")
+                self._columns[name] = [field.default] * self._n
+        return self._columns[name]
+
+    def array(self, name: str, dtype=float) -> np.ndarray:
+        """The field as a numpy array; for float and complex, None becomes NaN."""
+        values = self.column(name)
+        if isinstance(values, np.ndarray):
+            return values.astype(dtype, copy=False)
+        if np.dtype(dtype).kind in "fc":
+            nan = math.nan
+            return np.array([nan if v is None else v for v in values], dtype=dtype)
+        return np.array(values, dtype=dtype)
+
+    def objects(self) -> tuple[T, ...]:
+        if self._objects is None:
+            ints = _int_fields(self.cls)
+            names = [f.name for f in dataclasses.fields(self.cls) if f.name in self._columns]
+            lists = [_plain(self._columns[name], name in ints) for name in names]
+            make = self.cls
+            self._objects = (
+                tuple(
+                    make(**dict(zip(names, row, strict=True))) for row in zip(*lists, strict=True)
+                )
+                if names
+                else tuple(make() for _ in range(self._n))
+            )
+        return self._objects
+
+    def __len__(self) -> int:
+        return self._n
+
+    def __getitem__(self, index):
+        return self.objects()[index]
+
+    def __iter__(self) -> Iterator[T]:
+        return iter(self.objects())
+
+    def __bool__(self) -> bool:
+        return self._n > 0
+
+    def __eq__(self, other: object) -> bool:
+        if isinstance(other, (Records, tuple, list)):
+            return len(self) == len(other) and tuple(self) == tuple(other)
+        return NotImplemented
+
+    def __hash__(self) -> int:
+        return hash(self.objects())
+
+    def __add__(self, other):
+        return tuple(self) + tuple(other)
+
+    def __repr__(self) -> str:
+        return f"Records({self.cls.__name__}, {self._n} rows)"
