@@ -24,9 +24,8 @@ def test_round_significant_matches_python_formatting():
     x = 10 ** rng.uniform(-12, 12, 20_000) * rng.choice([-1.0, 1.0], 20_000)
     x = np.concatenate([x, [0.0, math.nan, math.inf, 1.0, 0.5, 2.675, 1e-7]])
     rounded = csvout.round_significant(x)
-    expected = [float("%.10g" % v) for v in x.tolist()]
-    same = [(a == b) or (a != a and b != b) for a, b in zip(rounded.tolist(), expected)]
-    assert all(same)
+    expected = np.array([float(f"{v:.10g}") for v in x.tolist()])
+    assert np.array_equal(rounded, expected, equal_nan=True)
 
 
 def _study(make_input, monkeypatch, tmp_path, sheets):
