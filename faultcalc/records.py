@@ -74,6 +74,8 @@ class Records(Sequence, Generic[T]):
     def column(self, name: str) -> Any:
         """The field ``name`` of every row, as stored (a list or an array)."""
         if name not in self._columns:
+            if self._n == 0:
+                return []
             if self._objects is not None:
                 self._columns[name] = [getattr(o, name) for o in self._objects]
             else:
@@ -92,6 +94,28 @@ class Records(Sequence, Generic[T]):
             nan = math.nan
             return np.array([nan if v is None else v for v in values], dtype=dtype)
         return np.array(values, dtype=dtype)
+
+    def take(self, indices) -> list[T]:
+        """The objects at ``indices`` (made one by one: no need to make them all)."""
+        indices = [int(i) for i in indices]
+        if self._objects is not None or not indices:
+            return [self.objects()[i] for i in indices]
+        ints = _int_fields(self.cls)
+        names = [f.name for f in dataclasses.fields(self.cls) if f.name in self._columns]
+        out = []
+        for i in indices:
+            row = {}
+            for name in names:
+                value = self._columns[name][i]
+                if isinstance(value, np.generic):
+                    value = value.item()
+                if isinstance(value, float | complex) and value != value:
+                    value = None
+                if name in ints and value is not None:
+                    value = int(value)
+                row[name] = value
+            out.append(self.cls(**row))
+        return out
 
     def objects(self) -> tuple[T, ...]:
         if self._objects is None:

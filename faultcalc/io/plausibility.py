@@ -2,7 +2,9 @@
 
 from __future__ import annotations
 
-from ..model import System
+import numpy as np
+
+from ..model import FT_PER_KFT, M_PER_FT, System
 
 # Voltages commonly written in volts; a kv cell holding one of them was probably typed in volts.
 COMMON_VOLTS = {
@@ -56,8 +58,12 @@ def _where(sheet: str, row: int | None, column: str) -> str:
 
 
 def warnings(system: System) -> list[str]:
+    """The warnings, in sheet and row order (whole columns checked; objects made for the rows
+    flagged only)."""
     out = []
-    for b in system.buses:
+    buses = system.buses
+    volts = np.isin(buses.array("kv"), sorted(COMMON_VOLTS))
+    for b in buses.take(np.flatnonzero(volts)):
         if b.kv in COMMON_VOLTS:
             out.append(
                 f"{_where('buses', b.row, 'kv')}: {b.kv:g} kV looks like a voltage in "
@@ -80,7 +86,10 @@ def warnings(system: System) -> list[str]:
                     "volts; the column is in kilovolts"
                 )
     for sheet in ("sources", "transformers", "machines"):
-        for e in getattr(system, sheet):
+        items = getattr(system, sheet)
+        xr = items.array("xr")
+        outside = ~((xr >= XR_RANGE[0]) & (xr <= XR_RANGE[1]))
+        for e in items.take(np.flatnonzero(outside)):
             if not XR_RANGE[0] <= e.xr <= XR_RANGE[1]:
                 out.append(
                     f"{_where(sheet, e.row, 'xr')}: X/R {e.xr:g} is outside "
@@ -88,8 +97,15 @@ def warnings(system: System) -> list[str]:
                     "(common practice, no source)"
                 )
     kv = system.bus_kv()
-    for c in system.cables:
-        length_ft = c.length_kft * 1000.0
+    cables = system.cables
+    if not cables:
+        return out
+    ft = cables.array("length_ft")
+    feet = np.where(np.isnan(ft), cables.array("length_m") / M_PER_FT, ft)
+    kv_from = np.array([kv[b] for b in cables.column("from_bus")])
+    long = feet > np.where(kv_from <= 1.0, LV_MAX_FT, MV_MAX_FT) * 0.999
+    for c in cables.take(np.flatnonzero(long)):
+        length_ft = c.length_kft * FT_PER_KFT
         limit = LV_MAX_FT if kv[c.from_bus] <= 1.0 else MV_MAX_FT
         if length_ft > limit:
             column = "length_ft" if c.length_ft is not None else "length_m"

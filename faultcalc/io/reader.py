@@ -38,6 +38,27 @@ class _Collector:
         self.warnings.append(str(Problem(sheet, row, column, value, message)))
 
 
+def _check_headers(spec: schema.Sheet, headers, blank_header_columns, out: _Collector) -> bool:
+    """Warn of unknown and unnamed columns; False (with a problem each) when required ones
+    are missing."""
+    known = set(spec.names)
+    for header in headers:
+        if header not in known:
+            out.warn(
+                spec.name,
+                1,
+                header,
+                None,
+                "unknown column, ignored; known columns are " + ", ".join(spec.names),
+            )
+    for position in blank_header_columns:
+        out.warn(spec.name, 1, None, None, f"column {position} has values but no header; ignored")
+    missing = [c.name for c in spec.columns if c.required and c.name not in headers]
+    for name in missing:
+        out.problem(spec.name, 1, name, None, "required column is missing from the header row")
+    return not missing
+
+
 def _read_sheet(spec: schema.Sheet, raw: RawSheet | None, out: _Collector) -> list[Record]:
     if raw is None:
         if spec.required:
@@ -50,22 +71,7 @@ def _read_sheet(spec: schema.Sheet, raw: RawSheet | None, out: _Collector) -> li
                 f"(columns: {', '.join(spec.names)})",
             )
         return []
-    known = set(spec.names)
-    for header in raw.headers:
-        if header not in known:
-            out.warn(
-                spec.name,
-                1,
-                header,
-                None,
-                "unknown column, ignored; known columns are " + ", ".join(spec.names),
-            )
-    for position in raw.blank_header_columns:
-        out.warn(spec.name, 1, None, None, f"column {position} has values but no header; ignored")
-    missing = [c.name for c in spec.columns if c.required and c.name not in raw.headers]
-    for name in missing:
-        out.problem(spec.name, 1, name, None, "required column is missing from the header row")
-    if missing:
+    if not _check_headers(spec, raw.headers, raw.blank_header_columns, out):
         return []
     if spec.required and not raw.rows:
         out.problem(
@@ -473,17 +479,9 @@ def _check_clock(records: list[Record], out: _Collector) -> None:
             record.ok = False
 
 
-def read_tables(raw: RawInput, with_cases: bool = True) -> model.System:
-    """Validate raw sheets into a System; raises InputError listing every problem.
-
-    The ``cases`` sheet's overrides are applied to copies of the raw sheets and each case is
-    validated like the base system (``with_cases`` False reads the base only).
-    """
-    out = _Collector()
-    out.problems.extend(raw.problems)
-    out.warnings.extend(raw.notes)
+def _unknown_sheets(names, out: _Collector) -> None:
     known_sheets = {s.name for s in schema.SHEETS} | {schema.GUIDE_SHEET}
-    for name in raw.sheets:
+    for name in names:
         if name not in known_sheets:
             out.warn(
                 name,
@@ -493,6 +491,26 @@ def read_tables(raw: RawInput, with_cases: bool = True) -> model.System:
                 "unknown sheet, ignored; known sheets are "
                 + ", ".join(s.name for s in schema.SHEETS),
             )
+
+
+def with_doubts(system: model.System) -> model.System:
+    """The system with the plausibility warnings added after the reader's own."""
+    doubts = plausibility.warnings(system)
+    return (
+        dataclasses.replace(system, warnings=system.warnings + tuple(doubts)) if doubts else system
+    )
+
+
+def read_tables(raw: RawInput, with_cases: bool = True) -> model.System:
+    """Validate raw sheets into a System; raises InputError listing every problem.
+
+    The ``cases`` sheet's overrides are applied to copies of the raw sheets and each case is
+    validated like the base system (``with_cases`` False reads the base only).
+    """
+    out = _Collector()
+    out.problems.extend(raw.problems)
+    out.warnings.extend(raw.notes)
+    _unknown_sheets(raw.sheets, out)
     settings = _read_settings(raw.sheets.get("study"), out)
     recs = {s.name: _read_sheet(s, raw.sheets.get(s.name), out) for s in schema.SHEETS[1:]}
 
@@ -557,10 +575,7 @@ def read_tables(raw: RawInput, with_cases: bool = True) -> model.System:
         input_sha256=raw.sha256,
         warnings=tuple(out.warnings),
     )
-    doubts = plausibility.warnings(system)
-    return (
-        dataclasses.replace(system, warnings=system.warnings + tuple(doubts)) if doubts else system
-    )
+    return with_doubts(system)
 
 
 def read_system(path: str | Path) -> model.System:
@@ -583,4 +598,11 @@ def read_system(path: str | Path) -> model.System:
     >>> system.buses[0].bus
     'UTIL-12'
     """
+    from .columnar import read_columns  # a CSV folder in order is read column by column
+
+    path = Path(path)
+    if path.is_dir():
+        system = read_columns(path)
+        if system is not None:
+            return system
     return read_tables(load_input(path))
