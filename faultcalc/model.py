@@ -10,6 +10,8 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 
+import numpy as np
+
 from .records import Records
 
 FT_PER_KFT = 1000.0
@@ -269,6 +271,23 @@ class System:
     def __post_init__(self) -> None:
         for name, kind in ELEMENT_KINDS.items():
             object.__setattr__(self, name, Records.of(kind, getattr(self, name)))
+
+    def bus_positions(self, names) -> np.ndarray:
+        """Position of each named bus on the buses sheet (-1 where there is none)."""
+        index = self.__dict__.get("_bus_index")
+        if index is None:
+            import pandas as pd
+
+            index = pd.Index(self.buses.column("bus"))
+            if not index.is_unique:  # only a System built by hand: the reader refuses this
+                last = {name: i for i, name in enumerate(self.buses.column("bus"))}
+                index = pd.Index(list(last)), np.array(list(last.values()))
+            object.__setattr__(self, "_bus_index", index)
+        names = names if isinstance(names, list) else list(names)
+        if isinstance(index, tuple):
+            found = index[0].get_indexer(names)
+            return np.where(found < 0, -1, index[1][found])
+        return index.get_indexer(names)
 
     def bus_kv(self) -> dict[str, float]:
         return dict(zip(self.buses.column("bus"), self.buses.column("kv"), strict=True))

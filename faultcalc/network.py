@@ -66,11 +66,12 @@ class Network:
 
 def _merge_ties(pu: PerUnitSystem) -> np.ndarray:
     n = len(pu.bus_names)
-    index = {name: i for i, name in enumerate(pu.bus_names)}
-    ties = [(index[s.from_bus], index[s.to_bus]) for s in pu.series if s.kind == "tie"]
-    if not ties:
+    kinds = np.asarray(pu.series.column("kind"), dtype=object)
+    ties = np.flatnonzero(kinds == "tie")
+    if not len(ties):
         return np.arange(n)
-    a, b = np.array(ties).T
+    a = bus_positions(pu, [pu.series.column("from_bus")[k] for k in ties.tolist()])
+    b = bus_positions(pu, [pu.series.column("to_bus")[k] for k in ties.tolist()])
     graph = sp.coo_matrix((np.ones(len(a)), (a, b)), shape=(n, n))
     _, labels = connected_components(graph, directed=False)
     # Renumber nodes in order of first appearance so node order follows bus order.
@@ -81,29 +82,42 @@ def _merge_ties(pu: PerUnitSystem) -> np.ndarray:
     return renumber[labels]
 
 
+def bus_positions(pu: PerUnitSystem, names) -> np.ndarray:
+    """Input index of each named bus (every name must be a bus)."""
+    import pandas as pd
+
+    index = pu.__dict__.get("_bus_index")
+    if index is None:
+        index = pd.Index(pu.bus_names)
+        object.__setattr__(pu, "_bus_index", index)
+    found = index.get_indexer(list(names))
+    if (found < 0).any():
+        raise KeyError(f"no bus named {np.asarray(list(names), dtype=object)[found < 0][0]!r}")
+    return found.astype(np.int64)
+
+
 def build_network(pu: PerUnitSystem, bus_rows: dict[str, int] | None = None) -> Network:
     """Assemble the sequence admittance matrices (whole-array work, one pass over elements).
 
     Raises InputError listing every bus that has no path to a source.
     """
-    index = {name: i for i, name in enumerate(pu.bus_names)}
     node_of_bus = _merge_ties(pu)
     n = int(node_of_bus.max()) + 1 if len(node_of_bus) else 0
     series = pu.series
     k_all = np.arange(len(series), dtype=np.int64)
-    tie = np.array([s.kind == "tie" for s in series], dtype=bool)
-    a = node_of_bus[np.array([index[s.from_bus] for s in series], dtype=np.int64)]
-    b = node_of_bus[np.array([index[s.to_bus] for s in series], dtype=np.int64)]
-    z1 = np.array([s.z1_pu for s in series], dtype=complex)
-    z0 = np.array([0j if s.z0_pu is None else s.z0_pu for s in series], dtype=complex)
-    tap = np.array([s.tap for s in series], dtype=float)
-    mode = np.array([s.z0_mode for s in series], dtype=object)
+    tie = np.asarray(series.column("kind"), dtype=object) == "tie"
+    a = node_of_bus[bus_positions(pu, series.column("from_bus"))]
+    b = node_of_bus[bus_positions(pu, series.column("to_bus"))]
+    z1 = series.array("z1_pu", complex)
+    z0 = np.nan_to_num(series.array("z0_pu", complex), nan=0.0)
+    tap = series.array("tap", float)
+    mode = np.asarray(series.column("z0_mode"), dtype=object)
     shorted = ~tie & (a == b)
     warnings = [
-        f"{series[k].kind} {series[k].element}: both ends ({series[k].from_bus}, "
-        f"{series[k].to_bus}) are joined by closed ties, so it carries no fault current; "
+        f"{e.kind} {e.element}: both ends ({e.from_bus}, "
+        f"{e.to_bus}) are joined by closed ties, so it carries no fault current; "
         "left out"
-        for k in np.flatnonzero(shorted)
+        for e in series.take(np.flatnonzero(shorted))
     ]
     used = ~tie & ~shorted
     u = np.flatnonzero(used)
@@ -112,10 +126,11 @@ def build_network(pu: PerUnitSystem, bus_rows: dict[str, int] | None = None) -> 
     s0 = np.flatnonzero(used & (mode == pu_.Z0_SERIES))
     sf = np.flatnonzero(used & (mode == pu_.Z0_SHUNT_FROM))
     st = np.flatnonzero(used & (mode == pu_.Z0_SHUNT_TO))
-    shunt_node = node_of_bus[np.array([index[h.bus] for h in pu.shunts], dtype=np.int64)]
-    h_z1 = np.array([h.z1_pu for h in pu.shunts], dtype=complex)
-    h_has0 = np.array([h.z0_pu is not None for h in pu.shunts], dtype=bool)
-    h_z0 = np.array([h.z0_pu for h in pu.shunts if h.z0_pu is not None], dtype=complex)
+    shunt_node = node_of_bus[bus_positions(pu, pu.shunts.column("bus"))]
+    h_z1 = pu.shunts.array("z1_pu", complex)
+    h_z0_all = pu.shunts.array("z0_pu", complex)
+    h_has0 = ~np.isnan(h_z0_all)
+    h_z0 = h_z0_all[h_has0]
     h_idx = np.arange(len(pu.shunts), dtype=np.int64)
     seq1 = Stamps(
         k_all[u],
@@ -173,7 +188,8 @@ def _reaches_shunt(n: int, stamps: Stamps) -> np.ndarray:
 
 
 def _check_fed(pu, node_of_bus, n, seq1: Stamps, bus_rows):
-    sources = np.array([h.kind == "source" or h.kind == "generator" for h in pu.shunts], bool)
+    kinds = np.asarray(pu.shunts.column("kind"), dtype=object)
+    sources = (kinds == "source") | (kinds == "generator")
     count, labels = _components(n, seq1)
     fed = np.zeros(count, dtype=bool)
     fed[labels[seq1.shunt_node[sources[seq1.shunt_source]]]] = True
@@ -211,13 +227,14 @@ def zone_angles_deg(pu: PerUnitSystem, network: Network, where=None) -> np.ndarr
     """
     n = network.n_nodes
     s = network.seq1
-    if not len(s.series_elem) or all(pu.series[k].clock == 0 for k in s.series_elem):
+    clocks = np.asarray(pu.series.column("clock"), dtype=np.int64)
+    if not len(s.series_elem) or not clocks[s.series_elem].any():
         return np.zeros(n)
     adjacency: list[list[tuple[int, float, int]]] = [[] for _ in range(n)]
     for k, a, b in zip(
         s.series_elem.tolist(), s.series_from.tolist(), s.series_to.tolist(), strict=True
     ):
-        shift = -30.0 * pu.series[k].clock
+        shift = -30.0 * int(clocks[k])
         adjacency[a].append((b, shift, k))
         adjacency[b].append((a, -shift, k))
     angle = np.full(n, np.nan)
@@ -258,18 +275,15 @@ def zone_angles_deg(pu: PerUnitSystem, network: Network, where=None) -> np.ndarr
 
 
 def positive_matrix_variant(pu: PerUnitSystem, network: Network, transform) -> sp.csc_matrix:
-    """The positive-sequence matrix with every impedance z replaced by ``transform(z)``.
+    """The positive-sequence matrix with every impedance z replaced by ``transform(z)``
+    (applied to whole complex arrays).
 
     For the X/R conventions (R-only and X-only reductions) and the IEC 60909-0
     equivalent-frequency impedance; same nodes, taps and elements as ``network.y1``.
     """
     s = network.seq1
-    series_y = np.array(
-        [1.0 / transform(pu.series[k].z1_pu) for k in s.series_elem.tolist()], dtype=complex
-    )
-    shunt_y = np.array(
-        [1.0 / transform(pu.shunts[k].z1_pu) for k in s.shunt_source.tolist()], dtype=complex
-    )
+    series_y = 1.0 / transform(pu.series.array("z1_pu", complex)[s.series_elem])
+    shunt_y = 1.0 / transform(pu.shunts.array("z1_pu", complex)[s.shunt_source])
     stamps = Stamps(
         s.series_elem,
         s.series_from,

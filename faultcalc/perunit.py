@@ -24,13 +24,24 @@ Conventions (stated in the README's method section, with their sources):
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from dataclasses import dataclass
 
 import numpy as np
 
 from .errors import InputError, Problem
-from .model import CABLE_Z0_FACTOR, FT_PER_KFT, M_PER_FT, Machine, Source, System, Transformer
+from .model import (
+    CABLE_Z0_FACTOR,
+    FT_PER_KFT,
+    KVA_PER_HP,
+    M_PER_FT,
+    Machine,
+    Source,
+    System,
+    Transformer,
+)
+from .records import Records
 
 SQRT3 = math.sqrt(3.0)
 
@@ -96,8 +107,8 @@ class PerUnitSystem:
     prefault_pu: tuple[float, ...]  # per bus, input order
     bus_names: tuple[str, ...]
     bus_kv: tuple[float, ...]
-    series: tuple[SeriesPU, ...]
-    shunts: tuple[ShuntPU, ...]
+    series: Records[SeriesPU]  # transformers, cables, impedances, in input order
+    shunts: Records[ShuntPU]  # sources, machines
     warnings: tuple[str, ...] = ()
 
 
@@ -212,32 +223,93 @@ def _cable_impedances_ohm(system: System) -> tuple[np.ndarray, np.ndarray]:
         return np.zeros(0, complex), np.zeros(0, complex)
     km_to_kft = FT_PER_KFT * M_PER_FT / 1000.0
 
-    def per_kft(r_kft, x_kft, r_km, x_km):
-        r = np.array([np.nan if v is None else v for v in r_kft], dtype=float)
-        x = np.array([np.nan if v is None else v for v in x_kft], dtype=float)
-        rk = np.array([np.nan if v is None else v for v in r_km], dtype=float) * km_to_kft
-        xk = np.array([np.nan if v is None else v for v in x_km], dtype=float) * km_to_kft
+    def per_kft(prefix):
+        r, x = cables.array(f"{prefix}_ohm_per_kft"), cables.array(f"x{prefix[1:]}_ohm_per_kft")
+        rk = cables.array(f"{prefix}_ohm_per_km") * km_to_kft
+        xk = cables.array(f"x{prefix[1:]}_ohm_per_km") * km_to_kft
         return np.where(np.isnan(r), rk, r) + 1j * np.where(np.isnan(x), xk, x)
 
-    z1 = per_kft(
-        [c.r_ohm_per_kft for c in cables],
-        [c.x_ohm_per_kft for c in cables],
-        [c.r_ohm_per_km for c in cables],
-        [c.x_ohm_per_km for c in cables],
-    )
-    z0 = per_kft(
-        [c.r0_ohm_per_kft for c in cables],
-        [c.x0_ohm_per_kft for c in cables],
-        [c.r0_ohm_per_km for c in cables],
-        [c.x0_ohm_per_km for c in cables],
-    )
-    ft = np.array([np.nan if c.length_ft is None else c.length_ft for c in cables], dtype=float)
-    m = np.array([np.nan if c.length_m is None else c.length_m for c in cables], dtype=float)
+    z1, z0 = per_kft("r"), per_kft("r0")
+    ft, m = cables.array("length_ft"), cables.array("length_m")
     kft = np.where(np.isnan(ft), m / M_PER_FT, ft) / FT_PER_KFT
-    sets = np.array([c.sets for c in cables], dtype=float)
+    sets = cables.array("sets")
     z1_total = z1 * kft / sets
     z0_total = np.where(np.isnan(z0.real), CABLE_Z0_FACTOR * z1_total, z0 * kft / sets)
     return z1_total, z0_total
+
+
+def _machines(system: System, kv_bus: np.ndarray, base_mva: float) -> dict[str, object]:
+    """ShuntPU columns of every machine: ``_machine`` on whole arrays."""
+    m = system.machines
+    kind = m.column("kind")
+    per_hp = np.array([KVA_PER_HP.get(k, np.nan) for k in kind], dtype=float)
+    kva = m.array("kva")
+    rated_kva = np.where(np.isnan(kva), m.array("hp") * per_hp, kva)
+    count = m.array("count")
+    scale = (base_mva / (rated_kva / 1000.0)) * (m.array("kv") / kv_bus) ** 2 / count
+    xr = m.array("xr")
+    xd = m.array("xd_pct")
+
+    def split(z_abs):
+        r = z_abs / np.sqrt(1.0 + xr * xr)
+        return r + 1j * (r * xr)
+
+    z1 = split(xd / 100.0) * scale
+    neutral = m.array("neutral_ohm")
+    grounded = ~np.isnan(neutral)
+    x0 = m.array("x0_pct")
+    x0 = np.where(np.isnan(x0), xd, x0)
+    zn = neutral / z_base_ohm(kv_bus, base_mva) / count
+    z0 = np.where(grounded, split(x0 / 100.0) * scale + 3 * zn, complex(np.nan, np.nan))
+    notes = ["ungrounded: no zero-sequence path"] * len(m)
+    for i in np.flatnonzero(grounded).tolist():
+        notes[i] = f"grounded neutral ({neutral[i]:g} ohm)"
+    return dict(
+        element=m.column("machine"),
+        kind=kind,
+        bus=m.column("bus"),
+        z1_pu=z1,
+        z1_ohm=z1 * z_base_ohm(kv_bus, base_mva),
+        base_kv=kv_bus,
+        z0_pu=z0,
+        z0_note=notes,
+    )
+
+
+def _joined(cls, parts: list[dict[str, object]]) -> Records:
+    """One Records of ``cls`` from column dicts, in order (lists and arrays concatenated)."""
+    names = [f.name for f in dataclasses.fields(cls)]
+    parts = [p for p in parts if len(next(iter(p.values())))]
+    columns: dict[str, object] = {}
+    for name in names:
+        if not all(name in p for p in parts) or not parts:
+            continue
+        values = [p[name] for p in parts]
+        if all(isinstance(v, np.ndarray) for v in values):
+            columns[name] = np.concatenate(values)
+        else:
+            columns[name] = [
+                x for v in values for x in (v.tolist() if isinstance(v, np.ndarray) else v)
+            ]
+    n = sum(len(next(iter(p.values()))) for p in parts)
+    return Records(cls, columns, n)
+
+
+def _columns_of(cls, objects: list) -> dict[str, object]:
+    """Column dict of a list of dataclass objects (numbers as arrays, None as NaN)."""
+    out: dict[str, object] = {}
+    for f in dataclasses.fields(cls):
+        values = [getattr(o, f.name) for o in objects]
+        if f.name in ("z1_pu", "z1_ohm", "z0_pu"):
+            nan = complex(np.nan, np.nan)
+            out[f.name] = np.array([nan if v is None else v for v in values], complex)
+        elif f.name in ("base_kv", "tap"):
+            out[f.name] = np.array(values, dtype=float)
+        elif f.name == "clock":
+            out[f.name] = np.array(values, dtype=np.int64)
+        else:
+            out[f.name] = values
+    return out
 
 
 def _names(items: list[str]) -> str:
@@ -259,48 +331,56 @@ def to_per_unit(
     """
     base_mva = system.settings.base_mva if base_mva is None else base_mva
     if prefault_pu is None:
-        prefault_pu = tuple(system.settings.prefault_pu for _ in system.buses)
-    prefault_of = {b.bus: e for b, e in zip(system.buses, prefault_pu, strict=True)}
+        prefault_pu = (system.settings.prefault_pu,) * len(system.buses)
+    prefault_of = dict(zip(system.buses.column("bus"), prefault_pu, strict=True))
     kv = system.bus_kv()
     problems: list[Problem] = []
     notes: list[str] = []
     shunts = [
         _source(s, kv[s.bus], base_mva, prefault_of[s.bus], problems, notes) for s in system.sources
     ]
-    shunts += [_machine(m, kv[m.bus], base_mva) for m in system.machines]
+    kv_machines = np.array([kv[b] for b in system.machines.column("bus")], dtype=float)
+    shunt_parts = [_columns_of(ShuntPU, shunts)]
+    if system.machines:
+        shunt_parts.append(_machines(system, kv_machines, base_mva))
     series = [_transformer(t, kv, base_mva) for t in system.transformers]
-    cables_assumed = []
-    z1_cables, z0_cables = _cable_impedances_ohm(system)
-    for c, z_ohm, z0_ohm in zip(system.cables, z1_cables.tolist(), z0_cables.tolist(), strict=True):
-        kv_bus = kv[c.from_bus]
-        z_base = kv_bus * kv_bus / base_mva
-        if c.z0_given:
-            note = "zero sequence as given"
-        else:
-            note = "zero sequence assumed 3 x Z1"
-            cables_assumed.append(c.cable)
-        series.append(
-            SeriesPU(
-                c.cable,
-                "cable",
-                c.from_bus,
-                c.to_bus,
-                z_ohm / z_base,
-                z_ohm,
-                c.from_bus,
-                kv_bus,
-                1.0,
-                Z0_SERIES,
-                z0_ohm / z_base,
-                0,
-                note,
+    series_parts = [_columns_of(SeriesPU, series)]
+    cables = system.cables
+    cables_assumed: list[str] = []
+    if cables:
+        z1_cables, z0_cables = _cable_impedances_ohm(system)
+        names = cables.column("cable")
+        from_bus = cables.column("from_bus")
+        kv_from = np.array([kv[b] for b in from_bus], dtype=float)
+        z_base = kv_from * kv_from / base_mva
+        given = ~np.isnan(cables.array("r0_ohm_per_kft")) | ~np.isnan(cables.array("r0_ohm_per_km"))
+        cables_assumed = [names[i] for i in np.flatnonzero(~given).tolist()]
+        n = len(cables)
+        series_parts.append(
+            dict(
+                element=names,
+                kind=["cable"] * n,
+                from_bus=from_bus,
+                to_bus=cables.column("to_bus"),
+                z1_pu=z1_cables / z_base,
+                z1_ohm=z1_cables,
+                ohm_bus=from_bus,
+                base_kv=kv_from,
+                tap=np.ones(n),
+                z0_mode=[Z0_SERIES] * n,
+                z0_pu=z0_cables / z_base,
+                clock=np.zeros(n, np.int64),
+                z0_note=np.where(
+                    given, "zero sequence as given", "zero sequence assumed 3 x Z1"
+                ).tolist(),
             )
         )
+    impedances = []
     impedances_assumed = []
     for e in system.impedances:
         z_base = z_base_ohm(kv[e.from_bus], base_mva)
         if e.is_tie:
-            series.append(
+            impedances.append(
                 SeriesPU(
                     e.element,
                     "tie",
@@ -318,7 +398,7 @@ def to_per_unit(
         if e.r0_ohm is None:
             impedances_assumed.append(e.element)
         note = "zero sequence as given" if e.r0_ohm is not None else "zero sequence = Z1"
-        series.append(
+        impedances.append(
             SeriesPU(
                 e.element,
                 "impedance",
@@ -332,6 +412,7 @@ def to_per_unit(
                 z0_note=note,
             )
         )
+    series_parts.append(_columns_of(SeriesPU, impedances))
     if cables_assumed:
         notes.append(
             f"cables {_names(cables_assumed)}: no zero-sequence data; Z0 taken as "
@@ -350,9 +431,9 @@ def to_per_unit(
     return PerUnitSystem(
         base_mva=base_mva,
         prefault_pu=tuple(prefault_pu),
-        bus_names=tuple(b.bus for b in system.buses),
-        bus_kv=tuple(b.kv for b in system.buses),
-        series=tuple(series),
-        shunts=tuple(shunts),
+        bus_names=tuple(system.buses.column("bus")),
+        bus_kv=tuple(system.buses.array("kv").tolist()),
+        series=_joined(SeriesPU, series_parts),
+        shunts=_joined(ShuntPU, shunt_parts),
         warnings=tuple(notes),
     )

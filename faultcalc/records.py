@@ -136,6 +136,10 @@ class Records(Sequence, Generic[T]):
         return self._n
 
     def __getitem__(self, index):
+        if self._objects is None and isinstance(index, int | np.integer):
+            if not -self._n <= index < self._n:
+                raise IndexError(index)
+            return self.take([index % self._n])[0]  # one object, not all of them
         return self.objects()[index]
 
     def __iter__(self) -> Iterator[T]:

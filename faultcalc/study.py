@@ -196,7 +196,9 @@ class Analysis:
 def analyse(system: System, prefault_pu: tuple[float, ...] | None = None) -> Analysis:
     """Per-unit conversion, sequence networks, one factorization each, all-bus diagonals."""
     pu = perunit.to_per_unit(system, prefault_pu=prefault_pu)
-    network = build_network(pu, {b.bus: b.row for b in system.buses})
+    network = build_network(
+        pu, dict(zip(system.buses.column("bus"), system.buses.column("row"), strict=True))
+    )
     factor1 = SymmetricFactor(network.y1)
     factor0 = SymmetricFactor(network.y0)
     z1_node = factor1.diagonal()
@@ -227,12 +229,12 @@ def _diagonal_variant(a: Analysis, transform) -> np.ndarray:
     return SymmetricFactor(y).diagonal()[a.network.node_of_bus]
 
 
-def _r_only(z: complex) -> complex:
-    return complex(max(z.real, EPS * abs(z)), 0.0)
+def _r_only(z: np.ndarray) -> np.ndarray:
+    return np.maximum(z.real, EPS * np.abs(z)) + 0j
 
 
-def _x_only(z: complex) -> complex:
-    return complex(0.0, max(z.imag, EPS * abs(z)))
+def _x_only(z: np.ndarray) -> np.ndarray:
+    return 1j * np.maximum(z.imag, EPS * np.abs(z))
 
 
 def fault_table(a: Analysis) -> pd.DataFrame:
@@ -263,7 +265,7 @@ def fault_table(a: Analysis) -> pd.DataFrame:
         xr_fault = xr_complex
     fc = standards.EQUIVALENT_FREQUENCY_HZ[settings.frequency_hz]
     ratio = fc / settings.frequency_hz
-    zc = _diagonal_variant(a, lambda z: complex(z.real, z.imag * ratio)) + zf_pu
+    zc = _diagonal_variant(a, lambda z: z.real + 1j * (z.imag * ratio)) + zf_pu
     r_over_x = zc.real / zc.imag * ratio
     kappa = asymmetry.kappa(r_over_x)
     loop = 2 * z1 + z0 + 3 * zf_pu
@@ -285,7 +287,7 @@ def fault_table(a: Analysis) -> pd.DataFrame:
         ill_ka=f.ill * i_base,
         illg_ka=f.illg * i_base,
         ig_llg_ka=f.ig_llg * i_base,
-        max_fault=[faults.FAULT_TYPES[k] for k in largest],
+        max_fault=np.array(faults.FAULT_TYPES, dtype=object)[largest],
         ground_note=np.where(grounded, "", GROUND_NOTE),
         prefault_pu=e,
         xr_fault=xr_fault,
@@ -299,24 +301,17 @@ def fault_table(a: Analysis) -> pd.DataFrame:
     return pd.DataFrame(rows, columns=list(BUS_COLUMNS))
 
 
-def _duty(system: System, i3_ka, islg_ka, xr_fault, xr_slg) -> dict[str, list]:
-    out = {
-        k: []
-        for k in ("device", "rating_ka", "test_xr", "mf", "duty_ka", "duty_pct", "duty_status")
+def _duty(system: System, i3_ka, islg_ka, xr_fault, xr_slg) -> dict[str, object]:
+    n = len(system.buses)
+    device = system.buses.column("device")
+    out: dict[str, object] = {
+        "device": ["" if d is None else d for d in device],
+        "rating_ka": system.buses.array("rating_ka"),
+        **{k: np.full(n, np.nan) for k in ("test_xr", "mf", "duty_ka", "duty_pct")},
+        "duty_status": [duty.STATUS_NONE] * n,
     }
-    for k, b in enumerate(system.buses):
-        if b.device is None:
-            for key, value in (
-                ("device", ""),
-                ("rating_ka", np.nan),
-                ("test_xr", np.nan),
-                ("mf", np.nan),
-                ("duty_ka", np.nan),
-                ("duty_pct", np.nan),
-                ("duty_status", duty.STATUS_NONE),
-            ):
-                out[key].append(value)
-            continue
+    rated = [k for k, d in enumerate(device) if d is not None]
+    for k, b in zip(rated, system.buses.take(rated), strict=True):
         xr_test = b.rating_xr if b.rating_xr is not None else duty.test_xr(b.device, b.rating_ka)
         mf3 = duty.multiplying_factor(b.device, float(xr_fault[k]), xr_test)
         candidates = [(mf3 * i3_ka[k], mf3)]
@@ -325,16 +320,11 @@ def _duty(system: System, i3_ka, islg_ka, xr_fault, xr_slg) -> dict[str, list]:
             candidates.append((mfg * islg_ka[k], mfg))
         duty_ka, mf = max(candidates)
         pct = 100.0 * duty_ka / b.rating_ka
-        for key, value in (
-            ("device", b.device),
-            ("rating_ka", b.rating_ka),
-            ("test_xr", xr_test),
-            ("mf", mf),
-            ("duty_ka", duty_ka),
-            ("duty_pct", pct),
-            ("duty_status", duty.status(pct)),
-        ):
-            out[key].append(value)
+        out["test_xr"][k] = xr_test
+        out["mf"][k] = mf
+        out["duty_ka"][k] = duty_ka
+        out["duty_pct"][k] = pct
+        out["duty_status"][k] = duty.status(pct)
     return out
 
 

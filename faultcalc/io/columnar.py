@@ -19,7 +19,7 @@ from __future__ import annotations
 import csv
 import io
 import math
-from dataclasses import dataclass, fields
+from dataclasses import dataclass, field, fields
 from pathlib import Path
 from typing import Any
 
@@ -31,6 +31,9 @@ from . import cells, reader, schema
 from .tables import MAX_FILE_BYTES, RawSheet, _sheet_from_rows, input_sha256, is_blank
 
 BOM = b"\xef\xbb\xbf"
+# Control characters other than tab and line ends (str.strip() and Arrow differ on some).
+CONTROL = bytes(range(0, 9)) + b"\x0b\x0c" + bytes(range(0x0E, 0x20)) + b"\x7f"
+NOT_CONTROL = bytes(b for b in range(256) if b not in CONTROL)
 
 
 class _Decline(Exception):
@@ -51,6 +54,7 @@ class _Typed:
     n: int
     values: dict[str, Any]  # column -> numpy array (NaN = blank) or list
     filled: dict[str, np.ndarray]  # column -> the cell was not blank
+    ascii: dict[str, Any] = field(default_factory=dict)  # text column -> Arrow array, if ASCII
 
     @property
     def rows(self) -> range:
@@ -130,8 +134,8 @@ def _load(file: Path, small: bool) -> _Loaded:
     data = file.read_bytes()
     if data.startswith(BOM):
         data = data[len(BOM) :]
-    if data.count(b"\r") != data.count(b"\r\n"):
-        raise _Decline  # a lone carriage return: the careful reader decides what it means
+    if data.count(b"\r") != data.count(b"\r\n") or data.translate(None, NOT_CONTROL):
+        raise _Decline  # a lone carriage return or a control character: left to the careful reader
     end = data.find(b"\n")
     first, body = (data, b"") if end < 0 else (data[:end], data[end + 1 :])
     try:
@@ -220,6 +224,7 @@ def _typed(spec: schema.Sheet, loaded: _Loaded | None, out: reader._Collector) -
             raise _Decline
     values: dict[str, Any] = {}
     filled: dict[str, np.ndarray] = {}
+    ascii_: dict[str, Any] = {}
     for column in spec.columns:
         array = loaded.arrays.get(column.name)
         if array is None or n == 0:
@@ -231,7 +236,9 @@ def _typed(spec: schema.Sheet, loaded: _Loaded | None, out: reader._Collector) -
         elif column.kind == schema.CHOICE:
             values[column.name], filled[column.name] = _choices(column, array)
         else:
-            values[column.name], filled[column.name] = _texts(column, array)
+            values[column.name], filled[column.name], text = _texts(column, array)
+            if text is not None:
+                ascii_[column.name] = text
         if column.required and not filled[column.name].all():
             raise _Decline
     for column in spec.columns:
@@ -239,7 +246,7 @@ def _typed(spec: schema.Sheet, loaded: _Loaded | None, out: reader._Collector) -
             _fill_from(values, column.name, column.default_from)
     for alternative in spec.alternatives:
         _check_alternative(alternative, filled, n)
-    return _Typed(spec, n, values, filled)
+    return _Typed(spec, n, values, filled, ascii_)
 
 
 def _blank_column(column: schema.Column, n: int):
@@ -299,18 +306,28 @@ def _choices(column: schema.Column, array) -> tuple[list, np.ndarray]:
     return table[codes].tolist(), ~np.isin(codes, blank_codes)
 
 
-def _texts(column: schema.Column, array) -> tuple[list, np.ndarray]:
-    texts = array.to_pylist()
-    stripped = [t.strip() for t in texts]
-    filled = np.array([bool(t) for t in stripped], dtype=bool)
-    if stripped != texts:
-        for raw, text in zip(texts, stripped, strict=True):
-            if raw != text and text:
-                raise _Decline  # spaces around a name: the careful reader notes it
+def _texts(column: schema.Column, array) -> tuple[list, np.ndarray, Any]:
+    """Texts (blank -> the default), where filled, and the Arrow array when all ASCII."""
+    import pyarrow.compute as pc
+
+    if pc.all(pc.string_is_ascii(array)).as_py():
+        # ASCII without control characters (see _load): Arrow trims what str.strip() trims.
+        stripped = pc.ascii_trim_whitespace(array)
+        filled = pc.not_equal(stripped, "").to_numpy(zero_copy_only=False)
+        if pc.any(pc.and_(pc.not_equal(stripped, array), filled)).as_py():
+            raise _Decline  # spaces around a name: the careful reader notes it
+        texts = stripped.to_pylist()
+    else:
+        stripped = None
+        raw = array.to_pylist()
+        texts = [t.strip() for t in raw]
+        filled = np.array([bool(t) for t in texts], dtype=bool)
+        if texts != raw and any(r != t and t for r, t in zip(raw, texts, strict=True)):
+            raise _Decline
     if not filled.all():
         default = column.default
-        stripped = [t if t else default for t in stripped]
-    return stripped, filled
+        texts = [t if t else default for t in texts]
+    return texts, filled, stripped
 
 
 def _fill_from(values: dict[str, Any], name: str, source: str) -> None:
@@ -341,17 +358,15 @@ def _check(typed: dict[str, _Typed], settings, loaded, out: reader._Collector) -
     """The careful reader's checks across rows and sheets, in its order, on whole columns."""
     buses = typed["buses"]
     bus_names = buses.values["bus"]
-    if len({b.casefold() for b in bus_names}) != len(bus_names):
+    if not _unique_ignoring_case([(buses, "bus")]):
         raise _Decline
-    element_names = [
-        name for s in schema.ELEMENT_SHEETS for name in typed[s.name].values[s.columns[0].name]
-    ]
-    if len({e.casefold() for e in element_names}) != len(element_names):
+    if not _unique_ignoring_case(
+        [(typed[s.name], s.columns[0].name) for s in schema.ELEMENT_SHEETS]
+    ):
         raise _Decline
     device = np.array([d is not None for d in buses.values["device"]], dtype=bool)
     if (device != buses.filled["rating_ka"]).any() or (buses.filled["rating_xr"] & ~device).any():
         raise _Decline
-    index = {b: i for i, b in enumerate(bus_names)}
     kv = buses.values["kv"]
     ends = {}
     for sheet, columns in (
@@ -361,9 +376,7 @@ def _check(typed: dict[str, _Typed], settings, loaded, out: reader._Collector) -
         ("impedances", ("from_bus", "to_bus")),
         ("machines", ("bus",)),
     ):
-        at = [
-            np.array([index.get(n, -1) for n in typed[sheet].values[c]], np.int64) for c in columns
-        ]
+        at = [_positions(typed[sheet], c, buses) for c in columns]
         if any((a < 0).any() for a in at):
             raise _Decline  # unknown bus, or one matched ignoring case (a warning)
         if len(at) == 2 and (at[0] == at[1]).any():
@@ -373,7 +386,8 @@ def _check(typed: dict[str, _Typed], settings, loaded, out: reader._Collector) -
         a, b = (kv[i] for i in ends[sheet])
         if (np.abs(a - b) > 1e-9 * np.maximum(a, b)).any():
             raise _Decline
-    bus_kv = dict(zip(bus_names, kv.tolist(), strict=True))
+    near = np.concatenate([*ends["transformers"], ends["machines"][0]])
+    bus_kv = {bus_names[i]: kv[i].item() for i in np.unique(near).tolist()}
     transformers = typed["transformers"].records(range(typed["transformers"].n))
     reader._check_transformers(transformers, bus_kv, out)
     reader._check_clock(transformers, out)
@@ -395,6 +409,35 @@ def _check(typed: dict[str, _Typed], settings, loaded, out: reader._Collector) -
     if not sources.n and not generators:
         raise _Decline
     _no_problems(out)
+
+
+def _unique_ignoring_case(columns: list[tuple[_Typed, str]]) -> bool:
+    """No two names alike ignoring case (str.casefold; ASCII lower case when all are ASCII)."""
+    import pyarrow as pa
+    import pyarrow.compute as pc
+
+    total = sum(sheet.n for sheet, _ in columns)
+    arrays = [sheet.ascii.get(name) for sheet, name in columns if sheet.n]
+    if all(a is not None for a in arrays):
+        if not arrays:
+            return True
+        return pc.count_distinct(pc.ascii_lower(pa.concat_arrays(arrays))).as_py() == total
+    names = [n for sheet, name in columns for n in sheet.values[name]]
+    return len({n.casefold() for n in names}) == total
+
+
+def _positions(sheet: _Typed, column: str, buses: _Typed) -> np.ndarray:
+    """Row of the bus each name refers to, by exact name; -1 where none."""
+    import pyarrow.compute as pc
+
+    if not sheet.n:
+        return np.zeros(0, np.int64)
+    refs, names = sheet.ascii.get(column), buses.ascii.get("bus")
+    if refs is not None and names is not None:
+        found = pc.index_in(refs, value_set=names)
+        return pc.fill_null(found, -1).to_numpy(zero_copy_only=False).astype(np.int64)
+    index = {b: i for i, b in enumerate(buses.values["bus"])}
+    return np.array([index.get(n, -1) for n in sheet.values[column]], np.int64)
 
 
 def _raw_row(loaded: _Loaded, i: int) -> dict[str, str]:

@@ -96,22 +96,22 @@ def warnings(system: System) -> list[str]:
                     f"{XR_RANGE[0]:g} to {XR_RANGE[1]:g}, where real equipment lies "
                     "(common practice, no source)"
                 )
-    kv = system.bus_kv()
     cables = system.cables
     if not cables:
         return out
     ft = cables.array("length_ft")
     feet = np.where(np.isnan(ft), cables.array("length_m") / M_PER_FT, ft)
-    kv_from = np.array([kv[b] for b in cables.column("from_bus")])
+    kv_from = buses.array("kv")[system.bus_positions(cables.column("from_bus"))]
     long = feet > np.where(kv_from <= 1.0, LV_MAX_FT, MV_MAX_FT) * 0.999
-    for c in cables.take(np.flatnonzero(long)):
+    flagged = np.flatnonzero(long)
+    for c, kv_bus in zip(cables.take(flagged), kv_from[flagged].tolist(), strict=True):
         length_ft = c.length_kft * FT_PER_KFT
-        limit = LV_MAX_FT if kv[c.from_bus] <= 1.0 else MV_MAX_FT
+        limit = LV_MAX_FT if kv_bus <= 1.0 else MV_MAX_FT
         if length_ft > limit:
             column = "length_ft" if c.length_ft is not None else "length_m"
             out.append(
                 f"{_where('cables', c.row, column)}: {length_ft:,.0f} ft is longer than "
-                f"a {kv[c.from_bus]:g} kV circuit is run in practice ({limit:,.0f} ft; "
+                f"a {kv_bus:g} kV circuit is run in practice ({limit:,.0f} ft; "
                 "common practice, no source); check the length and its unit"
             )
     return out
