@@ -14,6 +14,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
+import numpy as np
 import pandas as pd
 
 from . import conductors
@@ -189,6 +190,68 @@ def check_cable(
     return result(True, "; or ".join(causes), table, table.source)
 
 
+def check_table(system: System, tolerance_pct: float = DEFAULT_TOLERANCE_PCT) -> pd.DataFrame:
+    """``check_cable`` for every cable, as a table (CHECK_COLUMNS and the input ``row``).
+
+    Cables that cannot be compared (above 1 kV, or without size, material or raceway) are
+    answered on whole columns; the others one by one.
+    """
+    cables = system.cables
+    columns = [*CHECK_COLUMNS, "row"]
+    typed = np.array([not s for s in cables.column("impedance_source")], dtype=bool)
+    if not typed.any():
+        return pd.DataFrame(columns=columns)
+    n = len(cables)
+    r, x = cables.array("r_ohm_per_kft"), cables.array("x_ohm_per_kft")
+    per_km = np.isnan(r)
+    given_r = np.where(per_km, cables.array("r_ohm_per_km") * KM_PER_KFT, r)
+    given_x = np.where(per_km, cables.array("x_ohm_per_km") * KM_PER_KFT, x)
+    kv = system.buses.array("kv")[system.bus_positions(cables.column("from_bus"))]
+    out = {
+        "cable": cables.column("cable"),
+        "flagged": np.zeros(n, bool),
+        "reason": np.empty(n, dtype=object),
+        "given_r_ohm_per_kft": given_r,
+        "given_x_ohm_per_kft": given_x,
+        "table_r_ohm_per_kft": np.full(n, np.nan),
+        "table_x_ohm_per_kft": np.full(n, np.nan),
+        "table_row": np.full(n, "", dtype=object),
+        "row": cables.column("row"),
+    }
+    high = typed & (kv > conductors.MAX_TABLE_KV)
+    for level in np.unique(kv[high]).tolist():
+        out["reason"][high & (kv == level)] = (
+            "not compared: the tables are for cables of 1 kV and below "
+            f"(this one is at {level:g} kV)"
+        )
+    absent = {
+        name: np.array([not v for v in cables.column(name)], dtype=bool)
+        for name in ("size", "material", "raceway")
+    }
+    missing = typed & ~high & (absent["size"] | absent["material"] | absent["raceway"])
+    for pattern in {tuple(bool(absent[k][i]) for k in absent) for i in np.flatnonzero(missing)}:
+        where = missing.copy()
+        for name, flag in zip(absent, pattern, strict=True):
+            where &= absent[name] == flag
+        names = ", ".join(k for k, flag in zip(absent, pattern, strict=True) if flag)
+        out["reason"][where] = f"not compared: {names} not given, so no table row"
+    rest = np.flatnonzero(typed & ~high & ~missing)
+    f_hz = system.settings.frequency_hz
+    for i, c in zip(rest.tolist(), cables.take(rest), strict=True):
+        found = check_cable(c, tolerance_pct, f_hz, float(kv[i]))
+        out["flagged"][i] = found.flagged
+        out["reason"][i] = found.reason
+        out["table_r_ohm_per_kft"][i] = (
+            np.nan if found.table_r_ohm_per_kft is None else (found.table_r_ohm_per_kft)
+        )
+        out["table_x_ohm_per_kft"][i] = (
+            np.nan if found.table_x_ohm_per_kft is None else (found.table_x_ohm_per_kft)
+        )
+        out["table_row"][i] = found.table_row
+    table = pd.DataFrame(out, columns=columns)
+    return table[typed].reset_index(drop=True)
+
+
 def check_cables(system: System, tolerance_pct: float = DEFAULT_TOLERANCE_PCT) -> list[CableCheck]:
     """Every cable whose R and X the user typed, compared with the tables.
 
@@ -198,12 +261,15 @@ def check_cables(system: System, tolerance_pct: float = DEFAULT_TOLERANCE_PCT) -
     >>> [c.flagged for c in check_cables(read_system(sample_path("plant_480v")))]
     [False, False, False]
     """
-    kv = system.bus_kv()
-    checks = (
-        check_cable(c, tolerance_pct, system.settings.frequency_hz, kv[c.from_bus])
-        for c in system.cables
-    )
-    return [c for c in checks if c is not None]
+    table = check_table(system, tolerance_pct)
+    checks = []
+    for values in table.itertuples(index=False):
+        row = dict(zip(table.columns, values, strict=True))
+        for name in ("table_r_ohm_per_kft", "table_x_ohm_per_kft"):
+            row[name] = None if row[name] != row[name] else float(row[name])
+        row["flagged"] = bool(row["flagged"])
+        checks.append(CableCheck(**row))
+    return checks
 
 
 def as_table(checks: list[CableCheck]) -> pd.DataFrame:

@@ -463,7 +463,7 @@ def run_study(
         cautions=CAUTIONS,
         basis=basis,
         contributions=contribution_table,
-        cable_checks=cablecheck.as_table(cablecheck.check_cables(system)),
+        cable_checks=cablecheck.check_table(system)[list(cablecheck.CHECK_COLUMNS)],
         cases=case_tables,
         envelope=envelope,
         service_buses=tuple(b.bus for b in system.buses if b.service == "yes"),
