@@ -270,9 +270,3 @@ def check_cables(system: System, tolerance_pct: float = DEFAULT_TOLERANCE_PCT) -
         row["flagged"] = bool(row["flagged"])
         checks.append(CableCheck(**row))
     return checks
-
-
-def as_table(checks: list[CableCheck]) -> pd.DataFrame:
-    return pd.DataFrame(
-        [[getattr(c, k) for k in CHECK_COLUMNS] for c in checks], columns=list(CHECK_COLUMNS)
-    )

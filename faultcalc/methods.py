@@ -20,8 +20,11 @@ from __future__ import annotations
 import dataclasses
 from dataclasses import dataclass
 
+import numpy as np
+
 from . import standards
 from .model import Cable, System
+from .records import Records
 
 MOTOR_KINDS = ("induction_motor", "synchronous_motor")
 
@@ -33,13 +36,16 @@ class Variant:
     prefault_pu: tuple[float, ...]  # per bus, input order
 
 
-def _scale_cable_r(c: Cable, factor: float) -> Cable:
-    changes = {}
-    for name in ("r_ohm_per_kft", "r_ohm_per_km", "r0_ohm_per_kft", "r0_ohm_per_km"):
-        value = getattr(c, name)
-        if value is not None:
-            changes[name] = value * factor
-    return dataclasses.replace(c, **changes)
+def _scale_cable_r(cables: Records[Cable], factor: float) -> Records[Cable]:
+    """Every typed or looked-up resistance times ``factor`` (blank stays blank)."""
+    names = ("r_ohm_per_kft", "r_ohm_per_km", "r0_ohm_per_kft", "r0_ohm_per_km")
+    return cables.replace(**{name: cables.array(name) * factor for name in names})
+
+
+def _per_bus(kv: np.ndarray, value) -> tuple[float, ...]:
+    """``value(kv)`` for every bus, computed once per voltage level."""
+    levels, where = np.unique(kv, return_inverse=True)
+    return tuple(np.array([value(float(v)) for v in levels])[where].tolist())
 
 
 def _iec_transformers(system: System):
@@ -57,38 +63,54 @@ def _iec_transformers(system: System):
 def variants(system: System) -> list[Variant]:
     """The systems to solve for the study's method, maximum first."""
     s = system.settings
+    prefault = (s.prefault_pu,) * len(system.buses)
     if s.method == "thevenin":
-        return [Variant("max", system, tuple(s.prefault_pu for _ in system.buses))]
+        return [Variant("max", system, prefault)]
     if s.method == "ieee":
-        machines = []
-        for m in system.machines:
-            hp = m.hp if m.hp is not None else m.rated_kva  # 1 kVA per hp
-            factor = standards.ieee_first_cycle_multiplier(m.kind, hp, m.rpm)
-            machines.append(dataclasses.replace(m, xd_pct=m.xd_pct * factor))
-        changed = dataclasses.replace(system, machines=tuple(machines))
-        return [Variant("max", changed, tuple(s.prefault_pu for _ in system.buses))]
+        m = system.machines
+        kva, hp = m.array("kva"), m.array("hp")
+        rated = np.where(np.isnan(hp), kva, hp)  # 1 kVA per hp
+        rpm = m.array("rpm")
+        factor = np.array(
+            [
+                standards.ieee_first_cycle_multiplier(k, h, None if r != r else r)
+                for k, h, r in zip(m.column("kind"), rated.tolist(), rpm.tolist(), strict=True)
+            ],
+            dtype=float,
+        )
+        changed = dataclasses.replace(
+            system, machines=m.replace(xd_pct=m.array("xd_pct") * factor) if len(m) else m
+        )
+        return [Variant("max", changed, prefault)]
     if s.method == "iec60909":
+        kv = system.buses.array("kv")
         transformers = _iec_transformers(system)
         to_20 = standards.end_of_fault_factor(s.conductor_temp_c, 20.0)
         to_end = standards.end_of_fault_factor(s.conductor_temp_c, s.end_of_fault_temp_c)
         maximum = dataclasses.replace(
             system,
             transformers=transformers,
-            cables=tuple(_scale_cable_r(c, to_20) for c in system.cables),
+            cables=_scale_cable_r(system.cables, to_20),
         )
         minimum = dataclasses.replace(
             system,
             transformers=transformers,
-            cables=tuple(_scale_cable_r(c, to_end) for c in system.cables),
-            machines=tuple(m for m in system.machines if m.kind not in MOTOR_KINDS),
+            cables=_scale_cable_r(system.cables, to_end),
+            machines=system.machines.subset(
+                [
+                    k
+                    for k, kind in enumerate(system.machines.column("kind"))
+                    if kind not in MOTOR_KINDS
+                ]
+            ),
         )
         return [
             Variant(
                 "max",
                 maximum,
-                tuple(standards.c_max(b.kv, s.lv_tolerance_pct) for b in system.buses),
+                _per_bus(kv, lambda v: standards.c_max(v, s.lv_tolerance_pct)),
             ),
-            Variant("min", minimum, tuple(standards.c_min(b.kv) for b in system.buses)),
+            Variant("min", minimum, _per_bus(kv, standards.c_min)),
         ]
     raise ValueError(f"unknown method {s.method!r}")
 

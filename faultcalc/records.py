@@ -95,6 +95,26 @@ class Records(Sequence, Generic[T]):
             return np.array([nan if v is None else v for v in values], dtype=dtype)
         return np.array(values, dtype=dtype)
 
+    def _all_columns(self) -> dict[str, Any]:
+        return {f.name: self.column(f.name) for f in dataclasses.fields(self.cls)}
+
+    def replace(self, **columns) -> Records[T]:
+        """New Records with these columns replaced (like dataclasses.replace on every row)."""
+        if not self._n:
+            return self
+        return Records(self.cls, {**self._all_columns(), **columns}, self._n)
+
+    def subset(self, indices) -> Records[T]:
+        """New Records of the rows at ``indices``, in that order."""
+        picked = np.asarray(indices, dtype=np.int64)
+        out = {}
+        for name, values in self._all_columns().items():
+            if isinstance(values, np.ndarray):
+                out[name] = values[picked]
+            else:
+                out[name] = [values[i] for i in picked.tolist()]
+        return Records(self.cls, out, len(picked))
+
     def take(self, indices) -> list[T]:
         """The objects at ``indices`` (made one by one: no need to make them all)."""
         indices = [int(i) for i in indices]

@@ -350,7 +350,7 @@ def contribution_buses(system: System, contributions) -> list[int]:
 
     Raises ValueError naming every bus that does not exist.
     """
-    names = [b.bus for b in system.buses]
+    names = system.buses.column("bus")
     if contributions is None:
         return []
     if isinstance(contributions, str):
@@ -457,7 +457,7 @@ def run_study(
     return StudyResult(
         buses=buses,
         element_table=functools.partial(_element_table, system, pu, set(network.series_used)),
-        descriptions=tuple(b.description for b in system.buses),
+        descriptions=tuple(system.buses.column("description")),
         node_groups=tuple(groups),
         warnings=tuple(system.warnings) + pu.warnings + network.warnings,
         cautions=CAUTIONS,
@@ -466,5 +466,9 @@ def run_study(
         cable_checks=cablecheck.check_table(system)[list(cablecheck.CHECK_COLUMNS)],
         cases=case_tables,
         envelope=envelope,
-        service_buses=tuple(b.bus for b in system.buses if b.service == "yes"),
+        service_buses=tuple(
+            b
+            for b, yes in zip(pu.bus_names, system.buses.column("service"), strict=True)
+            if yes == "yes"
+        ),
     )
