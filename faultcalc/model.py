@@ -273,21 +273,36 @@ class System:
             object.__setattr__(self, name, Records.of(kind, getattr(self, name)))
 
     def bus_positions(self, names) -> np.ndarray:
-        """Position of each named bus on the buses sheet (-1 where there is none)."""
+        """Position of each named bus on the buses sheet (-1 where there is none).
+
+        Answers for one list object are kept (a column is looked up by several steps)."""
+        memo = self.__dict__.get("_positions")
+        if memo is None:
+            memo = {}
+            object.__setattr__(self, "_positions", memo)
+        kept = memo.get(id(names))
+        if kept is not None and kept[0] is names:
+            return kept[1]
         index = self.__dict__.get("_bus_index")
         if index is None:
             import pandas as pd
 
-            index = pd.Index(self.buses.column("bus"))
-            if not index.is_unique:  # only a System built by hand: the reader refuses this
-                last = {name: i for i, name in enumerate(self.buses.column("bus"))}
-                index = pd.Index(list(last)), np.array(list(last.values()))
+            buses = self.buses.column("bus")
+            last = {name: i for i, name in enumerate(buses)}  # only a hand-built System repeats
+            index = (
+                pd.Index(np.array(list(last), dtype=object), dtype=object),
+                np.array(list(last.values()), dtype=np.int64),
+            )
             object.__setattr__(self, "_bus_index", index)
-        names = names if isinstance(names, list) else list(names)
-        if isinstance(index, tuple):
-            found = index[0].get_indexer(names)
-            return np.where(found < 0, -1, index[1][found])
-        return index.get_indexer(names)
+        found = index[0].get_indexer(np.array(list(names), dtype=object))
+        positions = np.where(found < 0, -1, index[1][found])
+        self.remember_positions(names, positions)
+        return positions
+
+    def remember_positions(self, names, positions: np.ndarray) -> None:
+        """Record the bus positions of a list of names already looked up (by the reader)."""
+        memo = self.__dict__.setdefault("_positions", {})
+        memo[id(names)] = (names, positions)
 
     def bus_kv(self) -> dict[str, float]:
         return dict(zip(self.buses.column("bus"), self.buses.column("kv"), strict=True))

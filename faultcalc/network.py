@@ -106,8 +106,11 @@ def build_network(pu: PerUnitSystem, bus_rows: dict[str, int] | None = None) -> 
     series = pu.series
     k_all = np.arange(len(series), dtype=np.int64)
     tie = np.asarray(series.column("kind"), dtype=object) == "tie"
-    a = node_of_bus[bus_positions(pu, series.column("from_bus"))]
-    b = node_of_bus[bus_positions(pu, series.column("to_bus"))]
+    if pu.series_ends is not None:
+        a, b = (node_of_bus[e] for e in pu.series_ends)
+    else:
+        a = node_of_bus[bus_positions(pu, series.column("from_bus"))]
+        b = node_of_bus[bus_positions(pu, series.column("to_bus"))]
     z1 = series.array("z1_pu", complex)
     z0 = np.nan_to_num(series.array("z0_pu", complex), nan=0.0)
     tap = series.array("tap", float)
@@ -126,7 +129,9 @@ def build_network(pu: PerUnitSystem, bus_rows: dict[str, int] | None = None) -> 
     s0 = np.flatnonzero(used & (mode == pu_.Z0_SERIES))
     sf = np.flatnonzero(used & (mode == pu_.Z0_SHUNT_FROM))
     st = np.flatnonzero(used & (mode == pu_.Z0_SHUNT_TO))
-    shunt_node = node_of_bus[bus_positions(pu, pu.shunts.column("bus"))]
+    shunt_node = node_of_bus[
+        pu.shunt_buses if pu.shunt_buses is not None else bus_positions(pu, pu.shunts.column("bus"))
+    ]
     h_z1 = pu.shunts.array("z1_pu", complex)
     h_z0_all = pu.shunts.array("z0_pu", complex)
     h_has0 = ~np.isnan(h_z0_all)

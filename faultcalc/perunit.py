@@ -110,6 +110,9 @@ class PerUnitSystem:
     series: Records[SeriesPU]  # transformers, cables, impedances, in input order
     shunts: Records[ShuntPU]  # sources, machines
     warnings: tuple[str, ...] = ()
+    # Input index of each series element's two buses and of each shunt's bus, when known.
+    series_ends: tuple[np.ndarray, np.ndarray] | None = None
+    shunt_buses: np.ndarray | None = None
 
 
 def _source(s: Source, kv: float, base_mva: float, prefault: float, problems, notes):
@@ -276,6 +279,10 @@ def _machines(system: System, kv_bus: np.ndarray, base_mva: float) -> dict[str, 
     )
 
 
+def _at(system: System, objects: list, name: str) -> np.ndarray:
+    return system.bus_positions([getattr(o, name) for o in objects]).astype(np.int64)
+
+
 def _joined(cls, parts: list[dict[str, object]]) -> Records:
     """One Records of ``cls`` from column dicts, in order (lists and arrays concatenated)."""
     names = [f.name for f in dataclasses.fields(cls)]
@@ -332,14 +339,20 @@ def to_per_unit(
     base_mva = system.settings.base_mva if base_mva is None else base_mva
     if prefault_pu is None:
         prefault_pu = (system.settings.prefault_pu,) * len(system.buses)
-    prefault_of = dict(zip(system.buses.column("bus"), prefault_pu, strict=True))
-    kv = system.bus_kv()
+    kv_all = system.buses.array("kv")
+    few = [s.bus for s in system.sources]
+    few += [b for t in system.transformers for b in (t.hv_bus, t.lv_bus)]
+    few += [b for e in system.impedances for b in (e.from_bus, e.to_bus)]
+    few_at = system.bus_positions(few).tolist()
+    kv = {name: float(kv_all[i]) for name, i in zip(few, few_at, strict=True)}
+    prefault_of = {name: prefault_pu[i] for name, i in zip(few, few_at, strict=True)}
     problems: list[Problem] = []
     notes: list[str] = []
     shunts = [
         _source(s, kv[s.bus], base_mva, prefault_of[s.bus], problems, notes) for s in system.sources
     ]
-    kv_machines = np.array([kv[b] for b in system.machines.column("bus")], dtype=float)
+    machine_at = system.bus_positions(system.machines.column("bus"))
+    kv_machines = kv_all[machine_at]
     shunt_parts = [_columns_of(ShuntPU, shunts)]
     if system.machines:
         shunt_parts.append(_machines(system, kv_machines, base_mva))
@@ -347,14 +360,18 @@ def to_per_unit(
     series_parts = [_columns_of(SeriesPU, series)]
     cables = system.cables
     cables_assumed: list[str] = []
+    empty = np.zeros(0, np.int64)
+    cable_at = (empty, empty)
     if cables:
         z1_cables, z0_cables = _cable_impedances_ohm(system)
         names = cables.column("cable")
         from_bus = cables.column("from_bus")
-        kv_from = np.array([kv[b] for b in from_bus], dtype=float)
+        cable_from = system.bus_positions(from_bus)
+        kv_from = kv_all[cable_from]
         z_base = kv_from * kv_from / base_mva
         given = ~np.isnan(cables.array("r0_ohm_per_kft")) | ~np.isnan(cables.array("r0_ohm_per_km"))
         cables_assumed = [names[i] for i in np.flatnonzero(~given).tolist()]
+        cable_at = (cable_from, system.bus_positions(cables.column("to_bus")))
         n = len(cables)
         series_parts.append(
             dict(
@@ -432,6 +449,15 @@ def to_per_unit(
         base_mva=base_mva,
         prefault_pu=tuple(prefault_pu),
         bus_names=tuple(system.buses.column("bus")),
+        series_ends=(
+            np.concatenate(
+                [_at(system, series, "from_bus"), cable_at[0], _at(system, impedances, "from_bus")]
+            ),
+            np.concatenate(
+                [_at(system, series, "to_bus"), cable_at[1], _at(system, impedances, "to_bus")]
+            ),
+        ),
+        shunt_buses=np.concatenate([_at(system, shunts, "bus"), machine_at]),
         bus_kv=tuple(system.buses.array("kv").tolist()),
         series=_joined(SeriesPU, series_parts),
         shunts=_joined(ShuntPU, shunt_parts),

@@ -36,6 +36,16 @@ CONTROL = bytes(range(0, 9)) + b"\x0b\x0c" + bytes(range(0x0E, 0x20)) + b"\x7f"
 NOT_CONTROL = bytes(b for b in range(256) if b not in CONTROL)
 
 
+# The bus references of each sheet, in the careful reader's order.
+REFERENCES = (
+    ("sources", ("bus",)),
+    ("transformers", ("hv_bus", "lv_bus")),
+    ("cables", ("from_bus", "to_bus")),
+    ("impedances", ("from_bus", "to_bus")),
+    ("machines", ("bus",)),
+)
+
+
 class _Decline(Exception):
     """Something in the input that the careful reader must look at."""
 
@@ -106,7 +116,7 @@ def _read(path: Path) -> model.System:
     typed = {s.name: _typed(s, loaded.get(s.name), out) for s in schema.SHEETS[1:]}
     if typed["cases"].n:
         raise _Decline  # cases are applied to the raw cells by the careful reader
-    _check(typed, settings, loaded, out)
+    ends = _check(typed, settings, loaded, out)
     system = model.System(
         settings=settings,
         buses=_records(model.Bus, typed["buses"]),
@@ -119,6 +129,9 @@ def _read(path: Path) -> model.System:
         input_sha256=input_sha256(path),
         warnings=tuple(out.warnings),
     )
+    for sheet, columns in REFERENCES:
+        for column, positions in zip(columns, ends[sheet], strict=True):
+            system.remember_positions(getattr(system, sheet).column(column), positions)
     return reader.with_doubts(system)
 
 
@@ -354,8 +367,9 @@ def _check_alternative(alternative: schema.Alternative, filled, n: int) -> None:
         raise _Decline
 
 
-def _check(typed: dict[str, _Typed], settings, loaded, out: reader._Collector) -> None:
-    """The careful reader's checks across rows and sheets, in its order, on whole columns."""
+def _check(typed: dict[str, _Typed], settings, loaded, out: reader._Collector) -> dict:
+    """The careful reader's checks across rows and sheets, in its order, on whole columns;
+    returns the bus positions of every bus reference (see REFERENCES)."""
     buses = typed["buses"]
     bus_names = buses.values["bus"]
     if not _unique_ignoring_case([(buses, "bus")]):
@@ -368,15 +382,10 @@ def _check(typed: dict[str, _Typed], settings, loaded, out: reader._Collector) -
     if (device != buses.filled["rating_ka"]).any() or (buses.filled["rating_xr"] & ~device).any():
         raise _Decline
     kv = buses.values["kv"]
+    index = {b: i for i, b in enumerate(bus_names)}
     ends = {}
-    for sheet, columns in (
-        ("sources", ("bus",)),
-        ("transformers", ("hv_bus", "lv_bus")),
-        ("cables", ("from_bus", "to_bus")),
-        ("impedances", ("from_bus", "to_bus")),
-        ("machines", ("bus",)),
-    ):
-        at = [_positions(typed[sheet], c, buses) for c in columns]
+    for sheet, columns in REFERENCES:
+        at = [_positions(typed[sheet], c, index) for c in columns]
         if any((a < 0).any() for a in at):
             raise _Decline  # unknown bus, or one matched ignoring case (a warning)
         if len(at) == 2 and (at[0] == at[1]).any():
@@ -409,6 +418,7 @@ def _check(typed: dict[str, _Typed], settings, loaded, out: reader._Collector) -
     if not sources.n and not generators:
         raise _Decline
     _no_problems(out)
+    return ends
 
 
 def _unique_ignoring_case(columns: list[tuple[_Typed, str]]) -> bool:
@@ -421,23 +431,15 @@ def _unique_ignoring_case(columns: list[tuple[_Typed, str]]) -> bool:
     if all(a is not None for a in arrays):
         if not arrays:
             return True
-        return pc.count_distinct(pc.ascii_lower(pa.concat_arrays(arrays))).as_py() == total
+        return len(pc.unique(pc.ascii_lower(pa.concat_arrays(arrays)))) == total
     names = [n for sheet, name in columns for n in sheet.values[name]]
     return len({n.casefold() for n in names}) == total
 
 
-def _positions(sheet: _Typed, column: str, buses: _Typed) -> np.ndarray:
+def _positions(sheet: _Typed, column: str, index: dict[str, int]) -> np.ndarray:
     """Row of the bus each name refers to, by exact name; -1 where none."""
-    import pyarrow.compute as pc
-
-    if not sheet.n:
-        return np.zeros(0, np.int64)
-    refs, names = sheet.ascii.get(column), buses.ascii.get("bus")
-    if refs is not None and names is not None:
-        found = pc.index_in(refs, value_set=names)
-        return pc.fill_null(found, -1).to_numpy(zero_copy_only=False).astype(np.int64)
-    index = {b: i for i, b in enumerate(buses.values["bus"])}
-    return np.array([index.get(n, -1) for n in sheet.values[column]], np.int64)
+    get = index.get
+    return np.fromiter((get(n, -1) for n in sheet.values[column]), np.int64, sheet.n)
 
 
 def _raw_row(loaded: _Loaded, i: int) -> dict[str, str]:
