@@ -13,7 +13,14 @@ fresh Python process measures:
   write    bus results as CSV
   splu     one scipy.sparse.linalg.splu of the same positive-sequence matrix (default options)
   ratio    (engine + faults) / splu
-  peak MB  the process's peak resident memory
+  peak MB  the process's peak resident memory (of that measuring process, which does the
+           work above more than once)
+  e2e s    end to end, as a user runs it: `faultcalc study FOLDER -o results.xlsx` in a fresh
+           process (read, study, write: above 5,000 buses a summary workbook and every bus as
+           CSV), interpreter start and imports included
+  e2e MB   peak resident memory of that process
+  us/bus   e2e s per bus, microseconds (includes about 1.3 s of interpreter start and imports)
+  work us  (read + study + write) per bus, microseconds: the part that grows with the network
 
     python benchmarks/scale.py                  # 1k, 10k, 100k radial and 10k meshed
     python benchmarks/scale.py --sizes 1000000  # add sizes (radial); --meshed for meshed
@@ -25,6 +32,7 @@ import argparse
 import json
 import subprocess
 import sys
+import time
 from pathlib import Path
 
 HERE = Path(__file__).resolve().parent
@@ -60,6 +68,32 @@ print(json.dumps(dict(buses=len(system.buses), read=t1 - t0, assemble=ta - t1, e
 """
 
 
+END_TO_END = r"""
+import resource, sys, time
+start = time.perf_counter()
+from faultcalc.cli import main
+try:
+    main(["study", sys.argv[1], "-o", sys.argv[2], "--overwrite"], standalone_mode=False)
+finally:
+    print("E2E", time.perf_counter() - start,
+          resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024, file=sys.stderr)
+"""
+
+
+def end_to_end(folder: Path) -> tuple[float, float]:
+    """Wall seconds (from interpreter start) and peak MB of one `faultcalc study` run."""
+    begin = time.perf_counter()
+    out = subprocess.run(
+        [sys.executable, "-c", END_TO_END, str(folder), str(OUT / (folder.name + "-results.xlsx"))],
+        capture_output=True,
+        text=True,
+        check=True,
+    )
+    wall = time.perf_counter() - begin
+    line = [x for x in out.stderr.splitlines() if x.startswith("E2E")][-1]
+    return wall, float(line.split()[2])
+
+
 def measure(buses: int, meshed: bool) -> dict:
     sys.path.insert(0, str(HERE))
     from generate import generate
@@ -72,6 +106,7 @@ def measure(buses: int, meshed: bool) -> dict:
     )
     row = json.loads(out.stdout.strip().splitlines()[-1])
     row["kind"] = "meshed" if meshed else "radial"
+    row["e2e"], row["e2e_mb"] = end_to_end(folder)
     return row
 
 
@@ -85,19 +120,20 @@ def main() -> None:
     header = (
         f"{'kind':>7} {'buses':>9} {'read s':>8} {'assem s':>8} {'engine s':>8} "
         f"{'solve s':>8} {'faults s':>8} "
-        f"{'study s':>8} {'write s':>8} {'splu s':>8} {'ratio':>6} {'us/bus':>7} "
-        f"{'peak MB':>8}"
+        f"{'study s':>8} {'write s':>8} {'splu s':>8} {'ratio':>6} "
+        f"{'peak MB':>8} {'e2e s':>7} {'e2e MB':>7} {'us/bus':>7} {'work us':>7}"
     )
     print(header)
     for n, meshed in runs:
         r = measure(n, meshed)
         ratio = (r["engine"] + r["faults"]) / r["splu"]
-        total = r["read"] + r["study"] + r["write"]
         print(
             f"{r['kind']:>7} {r['buses']:>9} {r['read']:>8.2f} {r['assemble']:>8.3f} "
             f"{r['engine']:>8.3f} {r['solve']:>8.3f} "
             f"{r['faults']:>8.3f} {r['study']:>8.2f} {r['write']:>8.2f} {r['splu']:>8.3f} "
-            f"{ratio:>6.1f} {1e6 * total / r['buses']:>7.1f} {r['peak_mb']:>8.0f}",
+            f"{ratio:>6.1f} {r['peak_mb']:>8.0f} {r['e2e']:>7.2f} {r['e2e_mb']:>7.0f} "
+            f"{1e6 * r['e2e'] / r['buses']:>7.1f} "
+            f"{1e6 * (r['read'] + r['study'] + r['write']) / r['buses']:>7.1f}",
             flush=True,
         )
 
