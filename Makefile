@@ -28,7 +28,7 @@ lint: $(VENV)/.installed-test
 	$(BIN)/ruff check faultcalc tests scripts benchmarks
 
 bench: $(VENV)/.installed
-	$(BIN)/python benchmarks/scale.py
+	$(BIN)/python benchmarks/scale.py --sizes 1000000
 	$(BIN)/python benchmarks/engine.py
 
 samples: $(VENV)/.installed

@@ -3,7 +3,7 @@
 Beyond BIG_OUTPUT_BUSES buses the results workbook holds a summary (the buses with the largest
 currents and every duty finding) and every bus goes to ``<results>-buses.csv`` beside it.
 Measured on the 2-core machine this is developed on: a full workbook takes about 1 ms per bus
-to write (10,000 buses: 11 s, most of a study's time), the CSV about 2 microseconds per bus;
+to write (10,000 buses: 11 s, most of a study's time), the CSV about 4 microseconds per bus;
 and nobody reviews thousands of buses by scrolling a workbook.
 
 Numbers are written to SIGNIFICANT_DIGITS significant digits (rounded on whole arrays, then
