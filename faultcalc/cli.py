@@ -136,10 +136,14 @@ def _run(
         _check_targets(input_path, [csv_path], overwrite)
         targets.append(csv_path)
     with progress.phase("writing the results"), staged(*targets) as temps:
+        progress.plan(len(targets))
+        progress.step("workbook" + (" (summary)" if big else ""))
         write_workbook_to(result, temps[0], summary_of=csv_path.name if big else None)
         if json_path:
+            progress.step("JSON")
             write_json_to(result, temps[1])
         if big:
+            progress.step("every bus as CSV")
             write_bus_csv_to(result, temps[-1])
     for w in result.warnings:
         click.echo(f"warning: {w}", err=True)

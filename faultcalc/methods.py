@@ -60,6 +60,11 @@ def _iec_transformers(system: System):
     return tuple(out)
 
 
+def variant_count(method: str) -> int:
+    """How many systems ``variants`` gives for this method."""
+    return 2 if method == "iec60909" else 1
+
+
 def variants(system: System) -> list[Variant]:
     """The systems to solve for the study's method, maximum first."""
     s = system.settings

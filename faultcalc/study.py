@@ -10,7 +10,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from . import asymmetry, cablecheck, duty, faults, methods, perunit, standards
+from . import asymmetry, cablecheck, duty, faults, methods, perunit, progress, standards
 from ._version import __version__
 from .cautions import CAUTIONS
 from .contributions import Phasors, as_table, contribution_phasors
@@ -193,15 +193,23 @@ class Analysis:
     angle_deg: np.ndarray  # phase displacement of each node's zone (positive sequence)
 
 
+# progress.step calls per analyse + fault_table, for the progress bar's plan.
+STEPS_PER_ANALYSIS = 6
+
+
 def analyse(system: System, prefault_pu: tuple[float, ...] | None = None) -> Analysis:
     """Per-unit conversion, sequence networks, one factorization each, all-bus diagonals."""
+    progress.step("per-unit conversion")
     pu = perunit.to_per_unit(system, prefault_pu=prefault_pu)
+    progress.step("admittance matrices")
     network = build_network(
         pu, dict(zip(system.buses.column("bus"), system.buses.column("row"), strict=True))
     )
+    progress.step("Thevenin impedances Z1 = Z2")
     factor1 = SymmetricFactor(network.y1)
-    factor0 = SymmetricFactor(network.y0)
     z1_node = factor1.diagonal()
+    progress.step("Thevenin impedances Z0")
+    factor0 = SymmetricFactor(network.y0)
     z0_node = np.where(network.grounded, factor0.diagonal(), complex(np.nan, np.nan))
     angles = zone_angles_deg(pu, network, lambda: element_locations(system))
     return Analysis(system, pu, network, factor1, factor0, z1_node, z0_node, angles)
@@ -256,6 +264,7 @@ def fault_table(a: Analysis) -> pd.DataFrame:
     islg_ka = f.islg * i_base
     # X/R at the fault by the chosen convention, and the IEC 60909-0 peak factor by the
     # equivalent-frequency method (4.3.1.2 c).
+    progress.step("X/R and peak factor")
     xr_complex = _xr(z1 + zf_pu)
     if settings.xr_method == "separate":
         r_sep = _diagonal_variant(a, _r_only).real
@@ -297,6 +306,7 @@ def fault_table(a: Analysis) -> pd.DataFrame:
         tau_dc_ms=asymmetry.dc_time_constant_ms(xr_fault, settings.frequency_hz),
         xr_slg=xr_slg,
     )
+    progress.step("equipment duty")
     rows.update(_duty(a.system, i3_ka, islg_ka, xr_fault, xr_slg))
     return pd.DataFrame(rows, columns=list(BUS_COLUMNS))
 
@@ -326,6 +336,11 @@ def _duty(system: System, i3_ka, islg_ka, xr_fault, xr_slg) -> dict[str, object]
         out["duty_pct"][k] = pct
         out["duty_status"][k] = duty.status(pct)
     return out
+
+
+def _cable_checks(system: System) -> pd.DataFrame:
+    progress.step("cable check")
+    return cablecheck.check_table(system)[list(cablecheck.CHECK_COLUMNS)]
 
 
 def _envelope(tables: dict[str, pd.DataFrame]) -> pd.DataFrame:
@@ -423,12 +438,15 @@ def run_study(
     """
     settings = system.settings
     wanted = contribution_buses(system, contributions)
+    per_system = STEPS_PER_ANALYSIS * methods.variant_count(settings.method)
+    progress.plan(per_system * (1 + len(system.cases)) + 1 + bool(wanted))
     a, buses = _solve(system)
     pu, network = a.pu, a.network
     groups = _tie_groups(pu.bus_names, network.node_of_bus)
 
     contribution_table = None
     if wanted:
+        progress.step("contributions")
         contribution_table = as_table(contributions_of(a, wanted))
 
     case_tables: dict[str, pd.DataFrame] = {}
@@ -463,7 +481,7 @@ def run_study(
         cautions=CAUTIONS,
         basis=basis,
         contributions=contribution_table,
-        cable_checks=cablecheck.check_table(system)[list(cablecheck.CHECK_COLUMNS)],
+        cable_checks=_cable_checks(system),
         cases=case_tables,
         envelope=envelope,
         service_buses=tuple(

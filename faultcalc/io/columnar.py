@@ -25,7 +25,7 @@ from typing import Any
 
 import numpy as np
 
-from .. import conductors, model
+from .. import conductors, model, progress
 from ..records import Records
 from . import cells, reader, schema
 from .tables import MAX_FILE_BYTES, RawSheet, _sheet_from_rows, input_sha256, is_blank
@@ -101,10 +101,13 @@ def _read(path: Path) -> model.System:
         raise _Decline
     out = reader._Collector()
     loaded = {}
+    progress.plan(len(files) + 2)
     for name, file in zip(names, files, strict=True):
+        progress.step(file.name)
         if file.stat().st_size > MAX_FILE_BYTES:
             raise _Decline
         loaded[name] = _load(file, small=name in ("study", "cases"))
+    progress.step("checking every column")
     reader._unknown_sheets(loaded, out)
     study = loaded.get("study")
     raw_study = None
@@ -117,6 +120,7 @@ def _read(path: Path) -> model.System:
     if typed["cases"].n:
         raise _Decline  # cases are applied to the raw cells by the careful reader
     ends = _check(typed, settings, loaded, out)
+    progress.step("plausibility")
     system = model.System(
         settings=settings,
         buses=_records(model.Bus, typed["buses"]),

@@ -7,7 +7,7 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
-from .. import conductors, model
+from .. import conductors, model, progress
 from ..errors import InputError, Problem
 from . import cells, plausibility, schema
 from .cases import read_cases
@@ -605,4 +605,8 @@ def read_system(path: str | Path) -> model.System:
         system = read_columns(path)
         if system is not None:
             return system
-    return read_tables(load_input(path))
+    progress.plan(2)
+    progress.step("loading every cell")
+    raw = load_input(path)
+    progress.step("checking every row")
+    return read_tables(raw)
