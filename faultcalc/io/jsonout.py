@@ -1,9 +1,16 @@
-"""Results as JSON: the machine-readable twin of the workbook."""
+"""Results as JSON: the machine-readable twin of the workbook.
+
+The file is indented, with one line per bus (and per case bus, envelope row, contribution):
+the lists of rows are written row by row, so a study of a million buses needs no more memory
+for its JSON than for one row at a time.
+"""
 
 from __future__ import annotations
 
 import json
 import math
+import uuid
+from collections.abc import Iterator
 from pathlib import Path
 from typing import Any
 
@@ -12,15 +19,16 @@ from .files import staged
 
 
 def _number(value: Any) -> Any:
-    if isinstance(value, float) and not math.isfinite(value):
+    if value is None or (isinstance(value, float) and not math.isfinite(value)):
         return None
     return value
 
 
-def result_dict(result: StudyResult) -> dict[str, Any]:
-    """The JSON document as Python objects."""
+def result_dict(result: StudyResult, records=None) -> dict[str, Any]:
+    """The JSON document as Python objects (``records`` turns each table into its rows)."""
     b = result.basis
     s = b.settings
+    _records = records or _all_rows
     buses = _records(result.buses[list(BUS_COLUMNS)])
     return {
         "tool": {"name": b.tool_name, "version": b.tool_version},
@@ -62,13 +70,21 @@ def result_dict(result: StudyResult) -> dict[str, Any]:
     }
 
 
-def _records(table) -> list[dict[str, Any]]:
-    out = []
-    for row in table.itertuples(index=False):
-        out.append(
-            {k: (v if isinstance(v, str) else _number(float(v))) for k, v in row._asdict().items()}
+def _rows(table) -> Iterator[dict[str, Any]]:
+    """Each row of a table as a dict: text as text, numbers as float, NaN and inf as None."""
+    names = list(table.columns)
+    columns = []
+    for name in names:
+        values = table[name].to_numpy(dtype=object)
+        columns.append(
+            [v if isinstance(v, str) else _number(None if v is None else float(v)) for v in values]
         )
-    return out
+    for row in zip(*columns, strict=True):
+        yield dict(zip(names, row, strict=True))
+
+
+def _all_rows(table) -> list[dict[str, Any]]:
+    return list(_rows(table))
 
 
 def cable_check_dict(checks, tolerance_pct: float, input_name: str, sha256: str) -> dict:
@@ -89,8 +105,38 @@ def cable_check_dict(checks, tolerance_pct: float, input_name: str, sha256: str)
 
 
 def write_json_to(result: StudyResult, path: Path) -> None:
-    text = json.dumps(result_dict(result), indent=2, allow_nan=False)
-    path.write_text(text + "\n", encoding="utf-8")
+    tables: list[Any] = []
+    mark = f"rows-{uuid.uuid4().hex}-"  # stands in for a list of rows until written
+
+    def later(table):
+        tables.append(table)
+        return f"{mark}{len(tables) - 1}"
+
+    text = json.dumps(result_dict(result, later), indent=2, allow_nan=False)
+    pieces = text.split(f'"{mark}')
+    with path.open("w", encoding="utf-8") as handle:
+        before = pieces[0]
+        handle.write(before)
+        for piece in pieces[1:]:
+            number, rest = piece.split('"', 1)
+            line = before.rsplit("\n", 1)[-1]
+            _write_rows(handle, tables[int(number)], line[: len(line) - len(line.lstrip())])
+            handle.write(rest)
+            before = rest
+        handle.write("\n")
+
+
+def _write_rows(handle, table, indent: str) -> None:
+    rows = _rows(table)
+    first = next(rows, None)
+    if first is None:
+        handle.write("[]")
+        return
+    inner = indent + "  "
+    handle.write("[\n" + inner + json.dumps(first, allow_nan=False))
+    for row in rows:
+        handle.write(",\n" + inner + json.dumps(row, allow_nan=False))
+    handle.write("\n" + indent + "]")
 
 
 def write_json(result: StudyResult, path: str | Path) -> None:
