@@ -74,3 +74,22 @@ def test_text_with_commas_is_quoted(make_input, monkeypatch, tmp_path):
                     row[key] = new
     _, _, csv_path, _ = _study(make_input, monkeypatch, tmp_path, sheets)
     assert new in [r["bus"] for r in _read_back(csv_path)]
+
+
+def test_json_written_row_by_row_is_the_whole_document(tmp_path):
+    """The streamed file parses to the document built in memory (cases, envelope and
+    contributions included)."""
+    import json
+
+    from faultcalc import sample_path, write_json
+    from faultcalc.io.jsonout import result_dict
+
+    result = run_study(read_system(sample_path("plant_480v")), contributions="all")
+    path = tmp_path / "r.json"
+    write_json(result, path)
+    text = path.read_text(encoding="utf-8")
+    expected = json.loads(json.dumps(result_dict(result), allow_nan=False))
+    assert json.loads(text) == expected
+    assert expected["cases"] and expected["envelope"] and expected["contributions"]
+    lines = text.count('\n    {"bus": ')
+    assert lines == len(result.buses) + len(result.envelope)  # one line per bus and row
