@@ -99,7 +99,7 @@ def _read(path: Path) -> model.System:
     names = [f.stem.strip().lower() for f in files]
     if not files or len(set(names)) != len(names):
         raise _Decline
-    out = reader._Collector()
+    out = reader.Collector()
     loaded = {}
     progress.plan(len(files) + 2)
     for name, file in zip(names, files, strict=True):
@@ -108,13 +108,13 @@ def _read(path: Path) -> model.System:
             raise _Decline
         loaded[name] = _load(file, small=name in ("study", "cases"))
     progress.step("checking every column")
-    reader._unknown_sheets(loaded, out)
+    reader.unknown_sheets(loaded, out)
     study = loaded.get("study")
     raw_study = None
     if study is not None:
         rows = [(1, study.headers)] + [(k + 2, line) for k, line in enumerate(study.lines)]
         raw_study = _sheet_from_rows("study", rows, [])
-    settings = reader._read_settings(raw_study, out)
+    settings = reader.read_settings(raw_study, out)
     _no_problems(out)
     typed = {s.name: _typed(s, loaded.get(s.name), out) for s in schema.SHEETS[1:]}
     if typed["cases"].n:
@@ -139,7 +139,7 @@ def _read(path: Path) -> model.System:
     return reader.with_doubts(system)
 
 
-def _no_problems(out: reader._Collector) -> None:
+def _no_problems(out: reader.Collector) -> None:
     if out.problems:
         raise _Decline
 
@@ -217,14 +217,14 @@ def _same_as_python_csv(body: bytes, arrays: dict[str, Any]) -> None:
             raise _Decline
 
 
-def _typed(spec: schema.Sheet, loaded: _Loaded | None, out: reader._Collector) -> _Typed:
+def _typed(spec: schema.Sheet, loaded: _Loaded | None, out: reader.Collector) -> _Typed:
     import pyarrow.compute as pc
 
     if loaded is None:
         if spec.required:
             raise _Decline
         loaded = _Loaded(list(spec.names), {}, 0)
-    if not reader._check_headers(spec, loaded.headers, [], out):
+    if not reader.check_headers(spec, loaded.headers, [], out):
         raise _Decline
     n = loaded.n
     if spec.required and n == 0:
@@ -371,7 +371,7 @@ def _check_alternative(alternative: schema.Alternative, filled, n: int) -> None:
         raise _Decline
 
 
-def _check(typed: dict[str, _Typed], settings, loaded, out: reader._Collector) -> dict:
+def _check(typed: dict[str, _Typed], settings, loaded, out: reader.Collector) -> dict:
     """The careful reader's checks across rows and sheets, in its order, on whole columns;
     returns the bus positions of every bus reference (see REFERENCES)."""
     buses = typed["buses"]
@@ -402,8 +402,8 @@ def _check(typed: dict[str, _Typed], settings, loaded, out: reader._Collector) -
     near = np.concatenate([*ends["transformers"], ends["machines"][0]])
     bus_kv = {bus_names[i]: kv[i].item() for i in np.unique(near).tolist()}
     transformers = typed["transformers"].records(range(typed["transformers"].n))
-    reader._check_transformers(transformers, bus_kv, out)
-    reader._check_clock(transformers, out)
+    reader.check_transformers(transformers, bus_kv, out)
+    reader.check_clock(transformers, out)
     _no_problems(out)
     cables = typed["cables"]
     for r, x in (("r_ohm_per_kft", "x_ohm_per_kft"), ("r_ohm_per_km", "x_ohm_per_km")):
@@ -411,13 +411,13 @@ def _check(typed: dict[str, _Typed], settings, loaded, out: reader._Collector) -
             raise _Decline
     _fill_from_tables(cables, kv[ends["cables"][0]], settings)
     machines = typed["machines"]
-    _check_machines(machines, kv[ends["machines"][0]], bus_kv, out)
+    check_machines(machines, kv[ends["machines"][0]], bus_kv, out)
     sources = typed["sources"]
     flagged = np.flatnonzero(~sources.filled["slg_ka"] & sources.filled["slg_xr"])
     raw_sources = RawSheet(
         "sources", [], [(int(i) + 2, _raw_row(loaded["sources"], int(i))) for i in flagged], []
     )
-    reader._check_sources(sources.records(flagged), raw_sources, out)
+    reader.check_sources(sources.records(flagged), raw_sources, out)
     generators = sum(1 for k in machines.values["kind"] if k == "generator")
     if not sources.n and not generators:
         raise _Decline
@@ -477,15 +477,15 @@ def _fill_from_tables(cables: _Typed, kv_from: np.ndarray, settings) -> None:
         source[i] = value.source
 
 
-def _check_machines(machines: _Typed, kv_bus: np.ndarray, bus_kv, out) -> None:
-    """reader._check_machines on the rows that can raise something: generators given in hp,
+def check_machines(machines: _Typed, kv_bus: np.ndarray, bus_kv, out) -> None:
+    """reader.check_machines on the rows that can raise something: generators given in hp,
     ratings away from the bus voltage, grounded machines without X0."""
     v, f = machines.values, machines.filled
     generator = np.array([k == "generator" for k in v["kind"]], dtype=bool)
     with np.errstate(invalid="ignore", divide="ignore"):
         off = np.abs(v["kv"] / kv_bus - 1.0) > reader.KV_MISMATCH_WARN * 0.999
     flagged = (generator & f["hp"]) | off | (f["neutral_ohm"] & ~f["x0_pct"])
-    reader._check_machines(machines.records(np.flatnonzero(flagged)), bus_kv, out)
+    reader.check_machines(machines.records(np.flatnonzero(flagged)), bus_kv, out)
     _no_problems(out)
 
 

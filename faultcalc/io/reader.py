@@ -1,4 +1,10 @@
-"""Read and validate an input into a ``System``, collecting every problem before stopping."""
+"""Read and validate an input into a ``System``, collecting every problem before stopping.
+
+This is the careful reader: every cell, every rule, every message. The functions without a
+leading underscore (``Collector``, ``check_headers``, ``read_settings``, ``check_machines``...)
+are also run by the column-wise reader (``io/columnar.py``) on the rows that can need them, so
+both readers say the same things in the same words.
+"""
 
 from __future__ import annotations
 
@@ -26,7 +32,7 @@ class Record:
     ok: bool
 
 
-class _Collector:
+class Collector:
     def __init__(self) -> None:
         self.problems: list[Problem] = []
         self.warnings: list[str] = []
@@ -38,7 +44,7 @@ class _Collector:
         self.warnings.append(str(Problem(sheet, row, column, value, message)))
 
 
-def _check_headers(spec: schema.Sheet, headers, blank_header_columns, out: _Collector) -> bool:
+def check_headers(spec: schema.Sheet, headers, blank_header_columns, out: Collector) -> bool:
     """Warn of unknown and unnamed columns; False (with a problem each) when required ones
     are missing."""
     known = set(spec.names)
@@ -59,7 +65,7 @@ def _check_headers(spec: schema.Sheet, headers, blank_header_columns, out: _Coll
     return not missing
 
 
-def _read_sheet(spec: schema.Sheet, raw: RawSheet | None, out: _Collector) -> list[Record]:
+def _read_sheet(spec: schema.Sheet, raw: RawSheet | None, out: Collector) -> list[Record]:
     if raw is None:
         if spec.required:
             out.problem(
@@ -71,7 +77,7 @@ def _read_sheet(spec: schema.Sheet, raw: RawSheet | None, out: _Collector) -> li
                 f"(columns: {', '.join(spec.names)})",
             )
         return []
-    if not _check_headers(spec, raw.headers, raw.blank_header_columns, out):
+    if not check_headers(spec, raw.headers, raw.blank_header_columns, out):
         return []
     if spec.required and not raw.rows:
         out.problem(
@@ -144,7 +150,7 @@ def _check_alternative(spec, alternative, number, raw_values, out) -> bool:
     return True
 
 
-def _read_settings(raw: RawSheet | None, out: _Collector) -> model.Settings:
+def read_settings(raw: RawSheet | None, out: Collector) -> model.Settings:
     values = {s.name: s.default for s in schema.SETTINGS}
     records = _read_sheet(schema.STUDY, raw, out)
     known = {s.name: s for s in schema.SETTINGS}
@@ -206,7 +212,7 @@ def _unique_ids(
     sheet: str,
     id_column: str,
     records: list[Record],
-    out: _Collector,
+    out: Collector,
     taken: dict[str, tuple[str, int, str]],
 ) -> None:
     for record in records:
@@ -235,7 +241,7 @@ def _check_refs(
     columns: tuple[str, ...],
     records: list[Record],
     bus_kv: dict[str, float],
-    out: _Collector,
+    out: Collector,
 ) -> None:
     folded = {name.casefold(): name for name in bus_kv}
     for record in records:
@@ -268,7 +274,7 @@ def _check_refs(
                 record.ok = False
 
 
-def _check_same_kv(sheet: str, records: list[Record], bus_kv: dict[str, float], out: _Collector):
+def _check_same_kv(sheet: str, records: list[Record], bus_kv: dict[str, float], out: Collector):
     """A cable or impedance joins buses of one voltage; different kVs mean a missing transformer."""
     for record in records:
         if not record.ok:
@@ -286,7 +292,7 @@ def _check_same_kv(sheet: str, records: list[Record], bus_kv: dict[str, float], 
             record.ok = False
 
 
-def _check_transformers(records: list[Record], bus_kv: dict[str, float], out: _Collector):
+def check_transformers(records: list[Record], bus_kv: dict[str, float], out: Collector):
     for record in records:
         if not record.ok:
             continue
@@ -316,7 +322,7 @@ def _check_transformers(records: list[Record], bus_kv: dict[str, float], out: _C
                 )
 
 
-def _check_devices(records: list[Record], out: _Collector) -> None:
+def _check_devices(records: list[Record], out: Collector) -> None:
     """A device rating check needs both the device and its rating."""
     for record in records:
         v = record.values
@@ -341,7 +347,7 @@ def _check_devices(records: list[Record], out: _Collector) -> None:
             record.ok = False
 
 
-def _check_cable_impedance(records: list[Record], out: _Collector) -> None:
+def _check_cable_impedance(records: list[Record], out: Collector) -> None:
     for record in records:
         v = record.values
         pairs = (("r_ohm_per_kft", "x_ohm_per_kft"), ("r_ohm_per_km", "x_ohm_per_km"))
@@ -359,7 +365,7 @@ def _check_cable_impedance(records: list[Record], out: _Collector) -> None:
 
 
 def _fill_cables_from_tables(
-    records: list[Record], settings, bus_kv: dict[str, float], out: _Collector
+    records: list[Record], settings, bus_kv: dict[str, float], out: Collector
 ) -> None:
     """R and X from the conductor tables where the user left both blank."""
     for record in records:
@@ -408,7 +414,7 @@ def _fill_cables_from_tables(
         v["impedance_source"] = value.source
 
 
-def _check_machines(records: list[Record], bus_kv: dict[str, float], out: _Collector) -> None:
+def check_machines(records: list[Record], bus_kv: dict[str, float], out: Collector) -> None:
     for record in records:
         v = record.values
         if v.get("kind") == "generator" and v.get("hp") is not None:
@@ -444,7 +450,7 @@ def _check_machines(records: list[Record], bus_kv: dict[str, float], out: _Colle
             )
 
 
-def _check_sources(records: list[Record], raw: RawSheet | None, out: _Collector) -> None:
+def check_sources(records: list[Record], raw: RawSheet | None, out: Collector) -> None:
     raw_rows = dict(raw.rows) if raw else {}
     for record in records:
         v = record.values
@@ -459,7 +465,7 @@ def _check_sources(records: list[Record], raw: RawSheet | None, out: _Collector)
             )
 
 
-def _check_clock(records: list[Record], out: _Collector) -> None:
+def check_clock(records: list[Record], out: Collector) -> None:
     for record in records:
         v = record.values
         clock = v.get("clock_number")
@@ -479,7 +485,7 @@ def _check_clock(records: list[Record], out: _Collector) -> None:
             record.ok = False
 
 
-def _unknown_sheets(names, out: _Collector) -> None:
+def unknown_sheets(names, out: Collector) -> None:
     known_sheets = {s.name for s in schema.SHEETS} | {schema.GUIDE_SHEET}
     for name in names:
         if name not in known_sheets:
@@ -507,11 +513,11 @@ def read_tables(raw: RawInput, with_cases: bool = True) -> model.System:
     The ``cases`` sheet's overrides are applied to copies of the raw sheets and each case is
     validated like the base system (``with_cases`` False reads the base only).
     """
-    out = _Collector()
+    out = Collector()
     out.problems.extend(raw.problems)
     out.warnings.extend(raw.notes)
-    _unknown_sheets(raw.sheets, out)
-    settings = _read_settings(raw.sheets.get("study"), out)
+    unknown_sheets(raw.sheets, out)
+    settings = read_settings(raw.sheets.get("study"), out)
     recs = {s.name: _read_sheet(s, raw.sheets.get(s.name), out) for s in schema.SHEETS[1:]}
 
     bus_taken: dict[str, tuple[str, int, str]] = {}
@@ -531,13 +537,13 @@ def read_tables(raw: RawInput, with_cases: bool = True) -> model.System:
     _check_refs("impedances", ("from_bus", "to_bus"), recs["impedances"], bus_kv, out)
     _check_same_kv("cables", recs["cables"], bus_kv, out)
     _check_same_kv("impedances", recs["impedances"], bus_kv, out)
-    _check_transformers(recs["transformers"], bus_kv, out)
-    _check_clock(recs["transformers"], out)
+    check_transformers(recs["transformers"], bus_kv, out)
+    check_clock(recs["transformers"], out)
     _check_cable_impedance(recs["cables"], out)
     _fill_cables_from_tables(recs["cables"], settings, bus_kv, out)
     _check_refs("machines", ("bus",), recs["machines"], bus_kv, out)
-    _check_machines(recs["machines"], bus_kv, out)
-    _check_sources(recs["sources"], raw.sheets.get("sources"), out)
+    check_machines(recs["machines"], bus_kv, out)
+    check_sources(recs["sources"], raw.sheets.get("sources"), out)
     generators = [r for r in recs["machines"] if r.values.get("kind") == "generator"]
     if not recs["sources"] and not generators and not out.problems:
         out.problem(
