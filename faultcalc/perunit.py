@@ -36,7 +36,6 @@ from .model import (
     FT_PER_KFT,
     KVA_PER_HP,
     M_PER_FT,
-    Machine,
     Source,
     System,
     Transformer,
@@ -203,20 +202,6 @@ def _transformer(t: Transformer, kv: dict[str, float], base_mva: float) -> Serie
     )
 
 
-def _machine(m: Machine, kv_bus: float, base_mva: float) -> ShuntPU:
-    scale = (base_mva / (m.rated_kva / 1000.0)) * (m.kv / kv_bus) ** 2 / m.count
-    z1 = split_by_xr(m.xd_pct / 100.0, m.xr) * scale
-    z0, note = None, "ungrounded: no zero-sequence path"
-    if m.grounded:
-        x0_pct = m.x0_pct if m.x0_pct is not None else m.xd_pct
-        zn = m.neutral_ohm / z_base_ohm(kv_bus, base_mva) / m.count
-        z0 = split_by_xr(x0_pct / 100.0, m.xr) * scale + 3 * zn
-        note = f"grounded neutral ({m.neutral_ohm:g} ohm)"
-    return ShuntPU(
-        m.machine, m.kind, m.bus, z1, z1 * z_base_ohm(kv_bus, base_mva), kv_bus, z0, note
-    )
-
-
 def _cable_impedances_ohm(system: System) -> tuple[np.ndarray, np.ndarray]:
     """Total Z1 and Z0 of every cable in ohms: model.Cable.z_ohm and z0_ohm on whole arrays
     (per conductor per 1000 ft x length in kft / sets; Z0 as given or CABLE_Z0_FACTOR x Z1).
@@ -242,7 +227,8 @@ def _cable_impedances_ohm(system: System) -> tuple[np.ndarray, np.ndarray]:
 
 
 def _machines(system: System, kv_bus: np.ndarray, base_mva: float) -> dict[str, object]:
-    """ShuntPU columns of every machine: ``_machine`` on whole arrays."""
+    """ShuntPU columns of every machine, on whole arrays: ``z = xd_pct/100 * base_mva /
+    (kva/1000) * (kv/bus_kv)**2 / count`` split by X/R; grounded: ``(z0 + 3 Zn) / count``."""
     m = system.machines
     kind = m.column("kind")
     per_hp = np.array([KVA_PER_HP.get(k, np.nan) for k in kind], dtype=float)
