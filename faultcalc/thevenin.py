@@ -14,8 +14,6 @@ every node, so every leading minor is non-singular and diagonal pivots are safe.
 
 from __future__ import annotations
 
-import bisect
-
 import numpy as np
 import scipy.sparse as sp
 import scipy.sparse.linalg as sla
@@ -103,50 +101,101 @@ class SymmetricFactor:
         return z
 
     def _general_diagonal(self) -> np.ndarray:
-        """Diagonal of ``Y^-1`` by the selected-inverse recurrence on the pattern of ``L``."""
+        """Diagonal of ``Y^-1`` by the selected-inverse recurrence on the pattern of ``L``.
+
+        For column j with below-diagonal rows S_j: ``Z_kj = -sum_{m in S_j} l_mj Z_mk`` for k in
+        S_j, then ``Z_jj = 1/d_j - sum_k l_kj Z_kj``. Every row in S_j is an ancestor of j in
+        the elimination tree, so all columns at one depth of that tree are independent: they
+        are done together, depth by depth from the root, as whole-array work.
+        """
         n = self.n
         if n == 0:
             return np.zeros(0, dtype=complex)
         lu = self._lu
         low = lu.L.tocsc()
         low.sort_indices()
-        inv_d = (1.0 / lu.U.diagonal()).tolist()
-        ptr = low.indptr.tolist()
-        idx = low.indices.tolist()
-        val = low.data.tolist()
-        z_low = [0j] * len(val)  # Z on the pattern of L, strictly below the diagonal
-        z_diag = [0j] * n
-        for j in range(n - 1, -1, -1):
-            start, stop = ptr[j] + 1, ptr[j + 1]  # each column's first entry is its diagonal
-            if start == stop:
-                z_diag[j] = inv_d[j]
-                continue
-            if stop - start == 1:  # one entry below the diagonal: every column of a radial net
-                parent, l_pj = idx[start], val[start]
-                z_pj = -l_pj * z_diag[parent]
-                z_low[start] = z_pj
-                z_diag[j] = inv_d[j] - l_pj * z_pj
-                continue
-            rows = idx[start:stop]
-            ls = val[start:stop]
-            acc = inv_d[j]
-            for a, k in enumerate(rows):
-                total = 0j
-                for b, m in enumerate(rows):
-                    if m == k:
-                        z_mk = z_diag[k]
-                    else:
-                        lo, hi = (k, m) if k < m else (m, k)
-                        pos = bisect.bisect_left(idx, hi, ptr[lo], ptr[lo + 1])
-                        if pos == ptr[lo + 1] or idx[pos] != hi:
-                            raise FactorizationError("the factor's pattern is not closed")
-                        z_mk = z_low[pos]
-                    total += ls[b] * z_mk
-                z_low[start + a] = -total
-                acc -= ls[a] * -total
-            z_diag[j] = acc
+        ptr = low.indptr.astype(np.int64)
+        idx = low.indices.astype(np.int64)
+        val = low.data.astype(complex)
+        if not np.array_equal(idx[ptr[:-1]], np.arange(n)):
+            raise FactorizationError("the factor has a column without its diagonal first")
+        inv_d = 1.0 / lu.U.diagonal()
+        size = np.diff(ptr) - 1  # entries below the diagonal, per column
+        start = ptr[:-1] + 1
+        column = np.repeat(np.arange(n, dtype=np.int64), np.diff(ptr))
+        below = np.flatnonzero(idx != column)  # positions of the entries below the diagonal
+        keys = column[below] * n + idx[below]  # increasing: columns in order, rows sorted
+        parent = np.where(size > 0, idx[np.minimum(start, len(idx) - 1)], -1)
+        depth = _depths(parent)
+        order = np.argsort(depth, kind="stable")
+        bounds = np.searchsorted(depth[order], np.arange(depth.max() + 2))
+        z_low = np.zeros(len(idx), dtype=complex)  # Z on the pattern of L, by position
+        z_diag = inv_d.astype(complex)
+        for level in range(1, len(bounds) - 1):
+            columns = order[bounds[level] : bounds[level + 1]]
+            work = np.cumsum(size[columns] ** 2)
+            cuts = np.searchsorted(
+                work, np.arange(1, int(work[-1] // SELINV_BATCH) + 1) * SELINV_BATCH
+            )
+            for batch in np.split(columns, np.unique(cuts)):
+                if len(batch):
+                    self._selinv_batch(batch, size, start, idx, val, keys, below, n, z_low, z_diag)
         # The factored matrix is y[q][:, q] with q = argsort(perm_c).
-        return np.asarray(z_diag, dtype=complex)[lu.perm_c]
+        return z_diag[lu.perm_c]
+
+    @staticmethod
+    def _selinv_batch(cols, size, start, idx, val, keys, below, n, z_low, z_diag):
+        """The recurrence for independent columns ``cols`` (none is an ancestor of another)."""
+        s = size[cols]
+        pair_col, pair_pos = _segments(cols, start[cols], s)  # (k, j) entries, k in S_j
+        pair_k = idx[pair_pos]
+        pair_s = np.repeat(s, s)  # each pair (k, j) meets every m in S_j
+        pair, m_pos = _segments(np.arange(len(pair_pos)), start[pair_col], pair_s)
+        k = pair_k[pair]
+        m = idx[m_pos]
+        lo, hi = np.minimum(m, k), np.maximum(m, k)
+        found = np.searchsorted(keys, lo * n + hi)
+        found = np.minimum(found, len(keys) - 1)
+        off = m != k
+        if not np.array_equal(keys[found[off]], lo[off] * n + hi[off]):
+            raise FactorizationError("the factor's pattern is not closed")
+        z_mk = np.where(off, z_low[below[found]], z_diag[k])
+        terms = val[m_pos] * z_mk
+        z_kj = -(
+            np.bincount(pair, terms.real, len(pair_pos))
+            + 1j * np.bincount(pair, terms.imag, len(pair_pos))
+        )
+        z_low[pair_pos] = z_kj
+        local = np.repeat(np.arange(len(cols)), s)
+        drop = val[pair_pos] * z_kj
+        z_diag[cols] -= np.bincount(local, drop.real, len(cols)) + 1j * np.bincount(
+            local, drop.imag, len(cols)
+        )
+
+
+# Triplets (column, k, m) done in one whole-array step of the selected inverse, at most.
+SELINV_BATCH = 4_000_000
+
+
+def _segments(owner, first, count):
+    """For segments ``first[i] .. first[i] + count[i] - 1``: each element's owner and value."""
+    total = int(count.sum())
+    offsets = np.arange(total) - np.repeat(np.cumsum(count) - count, count)
+    return np.repeat(owner, count), np.repeat(first, count) + offsets
+
+
+def _depths(parent: np.ndarray) -> np.ndarray:
+    """Depth of every node in the forest given by ``parent`` (-1 at roots), by pointer
+    jumping: log2 of the height in whole-array steps."""
+    n = len(parent)
+    up = np.where(parent < 0, np.arange(n), parent)
+    depth = (parent >= 0).astype(np.int64)  # edges from each node to ``up``
+    while True:
+        nxt = up[up]
+        if np.array_equal(nxt, up):
+            return depth
+        depth = depth + depth[up]
+        up = nxt
 
 
 def _forest_postorder(y: sp.csc_matrix):

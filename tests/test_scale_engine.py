@@ -27,3 +27,20 @@ def test_two_thousand_buses_against_the_dense_inverse(tmp_path, meshed):
         dense = np.diag(np.linalg.inv(y.toarray()))
         np.testing.assert_allclose(z, dense, rtol=1e-9, atol=0)
     assert a.network.n_nodes == 2000
+
+
+@pytest.mark.parametrize("batch", [1, 50, 4_000_000])
+def test_selected_inverse_of_far_loops_in_any_batch_size(monkeypatch, batch):
+    """Loops between distant points of a random tree fill the factor; the selected inverse,
+    done depth by depth of the elimination tree in batches of any size, against numpy's dense
+    inverse (1e-9 relative)."""
+    from engine import radial_admittance
+
+    from faultcalc import thevenin
+
+    monkeypatch.setattr(thevenin, "SELINV_BATCH", batch)
+    y = radial_admittance(1500, loops=60, seed=4)
+    factor = thevenin.SymmetricFactor(y)
+    assert factor._tree is None  # the general path
+    dense = np.diag(np.linalg.inv(y.toarray()))
+    np.testing.assert_allclose(factor.diagonal(), dense, rtol=1e-9, atol=0)
