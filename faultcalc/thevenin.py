@@ -2,10 +2,11 @@
 
 One sparse factorization ``P Y P^T = L D L^T`` (SuperLU with a fill-reducing symmetric
 ordering and diagonal pivots), then the selected-inverse recurrence of Takahashi, Fagan and
-Chen (1973), also given by Erisman and Tinney (1975), walks the columns of ``L`` from the last
-to the first and produces the entries of ``Z = Y^-1`` on the pattern of ``L`` only. For a
-radial network the pattern has one entry below the diagonal per column, so the cost grows
-linearly with the number of buses. No linear solve per bus.
+Chen (1973), also given by Erisman and Tinney (1975), produces the entries of ``Z = Y^-1`` on
+the pattern of ``L`` only, from the root of the elimination tree down (all columns at one depth
+at once). For a radial network the pattern has one entry below the diagonal per column, so the
+cost grows linearly with the number of buses; radial networks take a shorter path still (a
+postorder factorization and pointer jumping). No linear solve per bus.
 
 The admittance matrix of a network of R-L branches and sources is complex symmetric with
 positive semi-definite real and negative semi-definite imaginary parts and a path to ground from
