@@ -284,20 +284,17 @@ class System:
         if kept is not None and kept[0] is names:
             return kept[1]
         index = self.__dict__.get("_bus_index")
-        if index is None:
-            import pandas as pd
-
-            buses = self.buses.column("bus")
-            last = {name: i for i, name in enumerate(buses)}  # only a hand-built System repeats
-            index = (
-                pd.Index(np.array(list(last), dtype=object), dtype=object),
-                np.array(list(last.values()), dtype=np.int64),
-            )
+        if index is None:  # the last row of a name wins (only a hand-built System repeats)
+            index = {name: i for i, name in enumerate(self.buses.column("bus"))}
             object.__setattr__(self, "_bus_index", index)
-        found = index[0].get_indexer(np.array(list(names), dtype=object))
-        positions = np.where(found < 0, -1, index[1][found])
+        get = index.get
+        positions = np.fromiter((get(n, -1) for n in names), np.int64, len(names))
         self.remember_positions(names, positions)
         return positions
+
+    def remember_bus_index(self, index: dict[str, int]) -> None:
+        """Record the map from bus name to position already built (by the reader)."""
+        object.__setattr__(self, "_bus_index", index)
 
     def remember_positions(self, names, positions: np.ndarray) -> None:
         """Record the bus positions of a list of names already looked up (by the reader)."""

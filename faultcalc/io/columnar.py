@@ -119,7 +119,7 @@ def _read(path: Path) -> model.System:
     typed = {s.name: _typed(s, loaded.get(s.name), out) for s in schema.SHEETS[1:]}
     if typed["cases"].n:
         raise _Decline  # cases are applied to the raw cells by the careful reader
-    ends = _check(typed, settings, loaded, out)
+    ends, bus_index = _check(typed, settings, loaded, out)
     progress.step("plausibility")
     system = model.System(
         settings=settings,
@@ -133,6 +133,7 @@ def _read(path: Path) -> model.System:
         input_sha256=input_sha256(path),
         warnings=tuple(out.warnings),
     )
+    system.remember_bus_index(bus_index)
     for sheet, columns in REFERENCES:
         for column, positions in zip(columns, ends[sheet], strict=True):
             system.remember_positions(getattr(system, sheet).column(column), positions)
@@ -191,7 +192,7 @@ def _load(file: Path, small: bool) -> _Loaded:
         raise _Decline from None
     if table.num_rows != lines:
         raise _Decline  # blank lines, which Arrow skips and the row numbers count
-    arrays = {h: table.column(k).combine_chunks() for h, k in zip(headers, keys, strict=True)}
+    arrays = {h: table.column(k) for h, k in zip(headers, keys, strict=True)}  # chunked
     if b'"' in body:
         _same_as_python_csv(body, arrays)
     return _Loaded(headers, arrays, table.num_rows)
@@ -304,7 +305,7 @@ def _numbers(column: schema.Column, array) -> tuple[np.ndarray, np.ndarray]:
 
 
 def _choices(column: schema.Column, array) -> tuple[list, np.ndarray]:
-    encoded = array.dictionary_encode()
+    encoded = array.combine_chunks().dictionary_encode()
     uniques = encoded.dictionary.to_pylist()
     mapped: list[Any] = []
     blank_codes = []
@@ -371,9 +372,10 @@ def _check_alternative(alternative: schema.Alternative, filled, n: int) -> None:
         raise _Decline
 
 
-def _check(typed: dict[str, _Typed], settings, loaded, out: reader.Collector) -> dict:
+def _check(typed: dict[str, _Typed], settings, loaded, out: reader.Collector):
     """The careful reader's checks across rows and sheets, in its order, on whole columns;
-    returns the bus positions of every bus reference (see REFERENCES)."""
+    returns the bus positions of every bus reference (see REFERENCES) and the map from bus
+    name to position."""
     buses = typed["buses"]
     bus_names = buses.values["bus"]
     if not _unique_ignoring_case([(buses, "bus")]):
@@ -422,7 +424,7 @@ def _check(typed: dict[str, _Typed], settings, loaded, out: reader.Collector) ->
     if not sources.n and not generators:
         raise _Decline
     _no_problems(out)
-    return ends
+    return ends, index
 
 
 def _unique_ignoring_case(columns: list[tuple[_Typed, str]]) -> bool:
@@ -435,7 +437,8 @@ def _unique_ignoring_case(columns: list[tuple[_Typed, str]]) -> bool:
     if all(a is not None for a in arrays):
         if not arrays:
             return True
-        return len(pc.unique(pc.ascii_lower(pa.concat_arrays(arrays)))) == total
+        chunks = [c for a in arrays for c in (a.chunks if hasattr(a, "chunks") else [a])]
+        return len(pc.unique(pc.ascii_lower(pa.chunked_array(chunks, pa.string())))) == total
     names = [n for sheet, name in columns for n in sheet.values[name]]
     return len({n.casefold() for n in names}) == total
 

@@ -52,8 +52,8 @@ def write_bus_csv_to(result: StudyResult, path: Path) -> None:
         column = table[name]
         if pd.api.types.is_float_dtype(column.dtype):
             arrays.append(pa.array(round_significant(column.to_numpy()), from_pandas=True))
-        else:
-            arrays.append(pa.array(column.to_numpy(dtype=object), from_pandas=True))
+        else:  # text: Arrow-backed in pandas with pyarrow installed, so no copy
+            arrays.append(pa.array(column, from_pandas=True))
     data = pa.Table.from_arrays(arrays, names=list(BUS_COLUMNS))
     with open(path, "wb") as handle:
         handle.write((",".join(BUS_COLUMNS) + "\n").encode())
