@@ -297,7 +297,7 @@ def fault_table(a: Analysis) -> pd.DataFrame:
         illg_ka=f.illg * i_base,
         ig_llg_ka=f.ig_llg * i_base,
         max_fault=np.array(faults.FAULT_TYPES, dtype=object)[largest],
-        ground_note=np.where(grounded, "", GROUND_NOTE),
+        ground_note=np.where(grounded, "", np.array(GROUND_NOTE, dtype=object)),
         prefault_pu=e,
         xr_fault=xr_fault,
         kappa=kappa,

@@ -39,14 +39,14 @@ class SymmetricFactor:
         if not self.n:
             return
         y = sp.csc_matrix(y)
-        order = _forest_postorder(y)
-        if order is not None:
-            post, parent_pos = order
+        if not y.has_canonical_format:  # sorted indices, no duplicates (on a copy)
+            y = y.copy()
+            y.sum_duplicates()
+        plan = _ordering(y)
+        if plan is not None:
+            post, parent_pos, data_map, indices, indptr = plan
             self._tree = (post, parent_pos)
-            position = np.empty(self.n, dtype=np.int64)
-            position[post] = np.arange(self.n)
-            c = y.tocoo()
-            y = sp.csc_matrix((c.data, (position[c.row], position[c.col])), shape=y.shape)
+            y = sp.csc_matrix((y.data[data_map], indices, indptr), shape=y.shape)
             spec = "NATURAL"  # children before parents: no fill at all
         else:
             spec = "MMD_AT_PLUS_A"
@@ -197,6 +197,37 @@ def _depths(parent: np.ndarray) -> np.ndarray:
             return depth
         depth = depth + depth[up]
         up = nxt
+
+
+_last_ordering: list = []  # [(indptr, indices, plan)] of the last pattern seen
+
+
+def _ordering(y: sp.csc_matrix):
+    """For a forest: (postorder, parent positions, and the postordered matrix's pattern with
+    the map from its entries to ``y.data``); None when the graph has a loop.
+
+    A study factorizes several matrices of one pattern (Z1, Z0, the X/R variants): the last
+    pattern's answer is kept and reused when the next matrix has exactly the same pattern."""
+    if _last_ordering:
+        indptr, indices, plan = _last_ordering[0]
+        if np.array_equal(indptr, y.indptr) and np.array_equal(indices, y.indices):
+            return plan
+    order = _forest_postorder(y)
+    plan = None
+    if order is not None:
+        post, parent_pos = order
+        position = np.empty(y.shape[0], dtype=np.int64)
+        position[post] = np.arange(y.shape[0])
+        c = y.tocoo()
+        carrier = sp.csc_matrix(
+            (np.arange(1, c.nnz + 1, dtype=np.int64), (position[c.row], position[c.col])),
+            shape=y.shape,
+        )
+        carrier.sort_indices()
+        # c.data is y.data in order (a canonical csc matrix lists its entries column by column).
+        plan = (post, parent_pos, carrier.data - 1, carrier.indices, carrier.indptr)
+    _last_ordering[:] = [(y.indptr.copy(), y.indices.copy(), plan)]
+    return plan
 
 
 def _forest_postorder(y: sp.csc_matrix):
