@@ -44,6 +44,7 @@ _THOUSANDS = re.compile(r"^[+-]?\d{1,3}(?:,\d{3})+(?:\.\d+)?$")
 # No input of a short-circuit study is this large or this small (other than exactly 0).
 MAX_MAGNITUDE = 1e9
 MIN_MAGNITUDE = 1e-9
+SPACES_NOTE = "spaces around the text removed"
 FORMULA_MESSAGE = (
     "the cell holds a formula whose value was never saved; open the file in a "
     "spreadsheet program and save it, so that the values are stored"
@@ -59,7 +60,7 @@ def as_text(value: Any, notes: list[str] | None = None) -> str:
     raw = str(value)
     text = raw.strip()
     if notes is not None and text != raw:
-        notes.append("spaces around the text removed")
+        notes.append(SPACES_NOTE)
     return text
 
 

@@ -243,7 +243,8 @@ def _typed(spec: schema.Sheet, loaded: _Loaded | None, out: reader.Collector) ->
     values: dict[str, Any] = {}
     filled: dict[str, np.ndarray] = {}
     ascii_: dict[str, Any] = {}
-    for column in spec.columns:
+    notes: list[tuple[int, int, str, str]] = []  # the careful reader's cell notes, to sort
+    for position, column in enumerate(spec.columns):
         array = loaded.arrays.get(column.name)
         if array is None or n == 0:
             filled[column.name] = np.zeros(n, bool)
@@ -254,11 +255,14 @@ def _typed(spec: schema.Sheet, loaded: _Loaded | None, out: reader.Collector) ->
         elif column.kind == schema.CHOICE:
             values[column.name], filled[column.name] = _choices(column, array)
         else:
-            values[column.name], filled[column.name], text = _texts(column, array)
+            values[column.name], filled[column.name], text, spaced = _texts(column, array)
             if text is not None:
                 ascii_[column.name] = text
+            notes += [(i, position, column.name, cell) for i, cell in spaced]
         if column.required and not filled[column.name].all():
             raise _Decline
+    for i, _, name, cell in sorted(notes, key=lambda note: note[:2]):  # row by row, as it reads
+        out.warn(spec.name, i + 2, name, cell, cells.SPACES_NOTE)
     for column in spec.columns:
         if column.default_from:
             _fill_from(values, column.name, column.default_from)
@@ -324,28 +328,32 @@ def _choices(column: schema.Column, array) -> tuple[list, np.ndarray]:
     return table[codes].tolist(), ~np.isin(codes, blank_codes)
 
 
-def _texts(column: schema.Column, array) -> tuple[list, np.ndarray, Any]:
-    """Texts (blank -> the default), where filled, and the Arrow array when all ASCII."""
+def _texts(column: schema.Column, array) -> tuple[list, np.ndarray, Any, list[tuple[int, str]]]:
+    """Texts (blank -> the default), where filled, the Arrow array when all ASCII, and the
+    (row index, cell) of every text that had spaces around it (the careful reader notes them)."""
     import pyarrow.compute as pc
 
     if pc.all(pc.string_is_ascii(array)).as_py():
         # ASCII without control characters (see _load): Arrow trims what str.strip() trims.
         stripped = pc.ascii_trim_whitespace(array)
         filled = pc.not_equal(stripped, "").to_numpy(zero_copy_only=False)
-        if pc.any(pc.and_(pc.not_equal(stripped, array), filled)).as_py():
-            raise _Decline  # spaces around a name: the careful reader notes it
+        changed = pc.not_equal(stripped, array).to_numpy(zero_copy_only=False) & filled
+        spaced = [(int(i), array[int(i)].as_py()) for i in np.flatnonzero(changed)]
         texts = stripped.to_pylist()
     else:
         stripped = None
         raw = array.to_pylist()
         texts = [t.strip() for t in raw]
         filled = np.array([bool(t) for t in texts], dtype=bool)
-        if texts != raw and any(r != t and t for r, t in zip(raw, texts, strict=True)):
-            raise _Decline
+        spaced = []
+        if texts != raw:
+            spaced = [
+                (i, r) for i, (r, t) in enumerate(zip(raw, texts, strict=True)) if r != t and t
+            ]
     if not filled.all():
         default = column.default
         texts = [t if t else default for t in texts]
-    return texts, filled, stripped
+    return texts, filled, stripped, spaced
 
 
 def _fill_from(values: dict[str, Any], name: str, source: str) -> None:

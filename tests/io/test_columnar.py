@@ -108,7 +108,6 @@ def test_mutated_inputs_read_alike_or_decline(tmp_path):
 @pytest.mark.parametrize(
     "change",
     [
-        lambda t: t.replace("\nM1,", "\n M1 ,"),  # spaces around a name: noted
         lambda t: t.replace("\n", "\n\n", 2),  # a blank line
         lambda t: t.replace("13.8", "13,800", 1),  # a thousands separator
         lambda t: t.replace("13.8", "13.8 kV", 1),  # a unit after the number
@@ -120,6 +119,19 @@ def test_untidy_cells_are_left_to_the_careful_reader(tmp_path, change):
     buses = folder / "buses.csv"
     buses.write_text(change(buses.read_text()))
     assert columnar.read_columns(folder) is None
+
+
+def test_spaces_around_names_are_noted_alike(tmp_path):
+    """The careful reader's note for each name with spaces around it, in its order."""
+    sheets = random_sheets(4, n_mv=5, n_lv=5, machines=2)
+    folder = write_csv_folder(tmp_path / "net", sheets)
+    for name, old, new in (("buses", "\nM1,", "\n M1 ,"), ("cables", ",M1,", ",M1  ,")):
+        path = folder / f"{name}.csv"
+        path.write_text(path.read_text().replace(old, new))
+    fast = columnar.read_columns(folder)
+    careful = read_tables(load_input(folder))
+    assert fast is not None and fast == careful and fast.warnings == careful.warnings
+    assert sum("spaces around the text removed" in w for w in fast.warnings) >= 2
 
 
 def test_quoted_fields_read_alike(tmp_path):
