@@ -421,7 +421,7 @@ def _check(typed: dict[str, _Typed], settings, loaded, out: reader.Collector):
             raise _Decline
     _fill_from_tables(cables, kv[ends["cables"][0]], settings)
     machines = typed["machines"]
-    check_machines(machines, kv[ends["machines"][0]], bus_kv, out)
+    _machine_checks(machines, kv[ends["machines"][0]], bus_kv, out)
     sources = typed["sources"]
     flagged = np.flatnonzero(~sources.filled["slg_ka"] & sources.filled["slg_xr"])
     raw_sources = RawSheet(
@@ -488,7 +488,7 @@ def _fill_from_tables(cables: _Typed, kv_from: np.ndarray, settings) -> None:
         source[i] = value.source
 
 
-def check_machines(machines: _Typed, kv_bus: np.ndarray, bus_kv, out) -> None:
+def _machine_checks(machines: _Typed, kv_bus: np.ndarray, bus_kv, out) -> None:
     """reader.check_machines on the rows that can raise something: generators given in hp,
     ratings away from the bus voltage, grounded machines without X0."""
     v, f = machines.values, machines.filled
