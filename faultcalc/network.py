@@ -70,8 +70,7 @@ def _merge_ties(pu: PerUnitSystem) -> np.ndarray:
     ties = np.flatnonzero(kinds == "tie")
     if not len(ties):
         return np.arange(n)
-    a = bus_positions(pu, [pu.series.column("from_bus")[k] for k in ties.tolist()])
-    b = bus_positions(pu, [pu.series.column("to_bus")[k] for k in ties.tolist()])
+    a, b = (ends[ties] for ends in pu.series_ends)
     graph = sp.coo_matrix((np.ones(len(a)), (a, b)), shape=(n, n))
     _, labels = connected_components(graph, directed=False)
     # Renumber nodes in order of first appearance so node order follows bus order.
@@ -80,20 +79,6 @@ def _merge_ties(pu: PerUnitSystem) -> np.ndarray:
     renumber = np.empty_like(order)
     renumber[order] = np.arange(len(order))
     return renumber[labels]
-
-
-def bus_positions(pu: PerUnitSystem, names) -> np.ndarray:
-    """Input index of each named bus (every name must be a bus)."""
-    import pandas as pd
-
-    index = pu.__dict__.get("_bus_index")
-    if index is None:
-        index = pd.Index(pu.bus_names)
-        object.__setattr__(pu, "_bus_index", index)
-    found = index.get_indexer(list(names))
-    if (found < 0).any():
-        raise KeyError(f"no bus named {np.asarray(list(names), dtype=object)[found < 0][0]!r}")
-    return found.astype(np.int64)
 
 
 def build_network(pu: PerUnitSystem, bus_rows: dict[str, int] | None = None) -> Network:
@@ -106,11 +91,7 @@ def build_network(pu: PerUnitSystem, bus_rows: dict[str, int] | None = None) -> 
     series = pu.series
     k_all = np.arange(len(series), dtype=np.int64)
     tie = np.asarray(series.column("kind"), dtype=object) == "tie"
-    if pu.series_ends is not None:
-        a, b = (node_of_bus[e] for e in pu.series_ends)
-    else:
-        a = node_of_bus[bus_positions(pu, series.column("from_bus"))]
-        b = node_of_bus[bus_positions(pu, series.column("to_bus"))]
+    a, b = (node_of_bus[e] for e in pu.series_ends)
     z1 = series.array("z1_pu", complex)
     z0 = np.nan_to_num(series.array("z0_pu", complex), nan=0.0)
     tap = series.array("tap", float)
@@ -129,9 +110,7 @@ def build_network(pu: PerUnitSystem, bus_rows: dict[str, int] | None = None) -> 
     s0 = np.flatnonzero(used & (mode == pu_.Z0_SERIES))
     sf = np.flatnonzero(used & (mode == pu_.Z0_SHUNT_FROM))
     st = np.flatnonzero(used & (mode == pu_.Z0_SHUNT_TO))
-    shunt_node = node_of_bus[
-        pu.shunt_buses if pu.shunt_buses is not None else bus_positions(pu, pu.shunts.column("bus"))
-    ]
+    shunt_node = node_of_bus[pu.shunt_buses]
     h_z1 = pu.shunts.array("z1_pu", complex)
     h_z0_all = pu.shunts.array("z0_pu", complex)
     h_has0 = ~np.isnan(h_z0_all)

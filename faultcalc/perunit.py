@@ -108,10 +108,9 @@ class PerUnitSystem:
     bus_kv: tuple[float, ...]
     series: Records[SeriesPU]  # transformers, cables, impedances, in input order
     shunts: Records[ShuntPU]  # sources, machines
+    series_ends: tuple[np.ndarray, np.ndarray]  # input index of each series element's buses
+    shunt_buses: np.ndarray  # input index of each shunt's bus
     warnings: tuple[str, ...] = ()
-    # Input index of each series element's two buses and of each shunt's bus, when known.
-    series_ends: tuple[np.ndarray, np.ndarray] | None = None
-    shunt_buses: np.ndarray | None = None
 
 
 def _source(s: Source, kv: float, base_mva: float, prefault: float, problems, notes):
@@ -289,19 +288,20 @@ def _joined(cls, parts: list[dict[str, object]]) -> Records:
 
 
 def _columns_of(cls, objects: list) -> dict[str, object]:
-    """Column dict of a list of dataclass objects (numbers as arrays, None as NaN)."""
+    """Column dict of a list of dataclass objects: complex, float and int fields as arrays
+    (None as NaN), the others as lists."""
+    kinds = {"complex": complex, "float": float, "int": np.int64}
     out: dict[str, object] = {}
     for f in dataclasses.fields(cls):
         values = [getattr(o, f.name) for o in objects]
-        if f.name in ("z1_pu", "z1_ohm", "z0_pu"):
-            nan = complex(np.nan, np.nan)
-            out[f.name] = np.array([nan if v is None else v for v in values], complex)
-        elif f.name in ("base_kv", "tap"):
-            out[f.name] = np.array(values, dtype=float)
-        elif f.name == "clock":
+        kind = kinds.get(str(f.type).split("|")[0].strip())
+        if kind is None:
+            out[f.name] = values
+        elif kind is np.int64:
             out[f.name] = np.array(values, dtype=np.int64)
         else:
-            out[f.name] = values
+            nan = complex(np.nan, np.nan) if kind is complex else np.nan
+            out[f.name] = np.array([nan if v is None else v for v in values], dtype=kind)
     return out
 
 

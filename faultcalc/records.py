@@ -29,8 +29,11 @@ def _int_fields(cls) -> frozenset[str]:
     )
 
 
-def _plain(column: Any, integer: bool) -> list:
-    """A column as a list of Python values (NaN -> None, integral floats -> int if asked)."""
+def plain_values(column: Any, integer: bool = False, indices: list[int] | None = None) -> list:
+    """A column (or its rows at ``indices``) as Python values: NaN -> None, and integral
+    floats -> int if ``integer``."""
+    if indices is not None:
+        column = column[indices] if isinstance(column, np.ndarray) else [column[i] for i in indices]
     if isinstance(column, np.ndarray):
         values = column.tolist()
         if column.dtype.kind in "fc":
@@ -120,36 +123,21 @@ class Records(Sequence, Generic[T]):
         indices = [int(i) for i in indices]
         if self._objects is not None or not indices:
             return [self.objects()[i] for i in indices]
+        return self._make(indices)
+
+    def _make(self, indices: list[int] | None) -> tuple[T, ...]:
+        """Objects of the rows at ``indices`` (all rows for None), from the columns."""
         ints = _int_fields(self.cls)
         names = [f.name for f in dataclasses.fields(self.cls) if f.name in self._columns]
-        out = []
-        for i in indices:
-            row = {}
-            for name in names:
-                value = self._columns[name][i]
-                if isinstance(value, np.generic):
-                    value = value.item()
-                if isinstance(value, float | complex) and value != value:
-                    value = None
-                if name in ints and value is not None:
-                    value = int(value)
-                row[name] = value
-            out.append(self.cls(**row))
-        return out
+        if not names:
+            return tuple(self.cls() for _ in range(self._n if indices is None else len(indices)))
+        lists = [plain_values(self._columns[name], name in ints, indices) for name in names]
+        make = self.cls
+        return tuple(make(**dict(zip(names, row, strict=True))) for row in zip(*lists, strict=True))
 
     def objects(self) -> tuple[T, ...]:
         if self._objects is None:
-            ints = _int_fields(self.cls)
-            names = [f.name for f in dataclasses.fields(self.cls) if f.name in self._columns]
-            lists = [_plain(self._columns[name], name in ints) for name in names]
-            make = self.cls
-            self._objects = (
-                tuple(
-                    make(**dict(zip(names, row, strict=True))) for row in zip(*lists, strict=True)
-                )
-                if names
-                else tuple(make() for _ in range(self._n))
-            )
+            self._objects = self._make(None)
         return self._objects
 
     def __len__(self) -> int:
@@ -175,9 +163,6 @@ class Records(Sequence, Generic[T]):
 
     def __hash__(self) -> int:
         return hash(self.objects())
-
-    def __add__(self, other):
-        return tuple(self) + tuple(other)
 
     def __repr__(self) -> str:
         return f"Records({self.cls.__name__}, {self._n} rows)"

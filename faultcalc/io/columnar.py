@@ -17,6 +17,7 @@ on every input the fast one accepts.
 from __future__ import annotations
 
 import csv
+import hashlib
 import io
 import math
 from dataclasses import dataclass, field, fields
@@ -26,9 +27,15 @@ from typing import Any
 import numpy as np
 
 from .. import conductors, model, progress
-from ..records import Records
+from ..records import Records, plain_values
 from . import cells, reader, schema
-from .tables import MAX_FILE_BYTES, RawSheet, _sheet_from_rows, input_sha256, is_blank
+from .tables import (
+    MAX_FILE_BYTES,
+    RawSheet,
+    _sheet_from_rows,
+    add_file,
+    is_blank,
+)
 
 BOM = b"\xef\xbb\xbf"
 # Control characters other than tab and line ends (str.strip() and Arrow differ on some).
@@ -70,18 +77,17 @@ class _Typed:
     def rows(self) -> range:
         return range(2, self.n + 2)
 
-    def value(self, name: str, i: int) -> Any:
-        v = self.values[name]
-        if isinstance(v, np.ndarray):
-            x = v[i].item()
-            if x != x:  # NaN: blank
-                return None
-            return int(x) if self.spec.column(name).kind == schema.INTEGER else x
-        return v[i]
-
     def records(self, indices) -> list[reader.Record]:
-        names = self.spec.names
-        return [reader.Record(i + 2, {c: self.value(c, i) for c in names}, True) for i in indices]
+        """The careful reader's Records of the rows at ``indices`` (for its checks)."""
+        indices = [int(i) for i in indices]
+        columns = {
+            c.name: plain_values(self.values[c.name], c.kind == schema.INTEGER, indices)
+            for c in self.spec.columns
+        }
+        return [
+            reader.Record(i + 2, {name: v[k] for name, v in columns.items()}, True)
+            for k, i in enumerate(indices)
+        ]
 
 
 def read_columns(path: Path) -> model.System | None:
@@ -101,12 +107,15 @@ def _read(path: Path) -> model.System:
         raise _Decline
     out = reader.Collector()
     loaded = {}
+    digest = hashlib.sha256()  # of the bytes read here, as tables.input_sha256 has it
     progress.plan(len(files) + 2)
     for name, file in zip(names, files, strict=True):
         progress.step(file.name)
         if file.stat().st_size > MAX_FILE_BYTES:
             raise _Decline
-        loaded[name] = _load(file, small=name in ("study", "cases"))
+        data = file.read_bytes()
+        add_file(digest, file.name, data)
+        loaded[name] = _load(data, small=name in ("study", "cases"))
     progress.step("checking every column")
     reader.unknown_sheets(loaded, out)
     study = loaded.get("study")
@@ -130,7 +139,7 @@ def _read(path: Path) -> model.System:
         impedances=_records(model.Impedance, typed["impedances"]),
         machines=_records(model.Machine, typed["machines"]),
         input_name=path.name,
-        input_sha256=input_sha256(path),
+        input_sha256=digest.hexdigest(),
         warnings=tuple(out.warnings),
     )
     system.remember_bus_index(bus_index)
@@ -145,11 +154,10 @@ def _no_problems(out: reader.Collector) -> None:
         raise _Decline
 
 
-def _load(file: Path, small: bool) -> _Loaded:
+def _load(data: bytes, small: bool) -> _Loaded:
     import pyarrow as pa
     import pyarrow.csv as pcsv
 
-    data = file.read_bytes()
     if data.startswith(BOM):
         data = data[len(BOM) :]
     if data.count(b"\r") != data.count(b"\r\n") or data.translate(None, NOT_CONTROL):

@@ -28,8 +28,8 @@ def result_dict(result: StudyResult, records=None) -> dict[str, Any]:
     """The JSON document as Python objects (``records`` turns each table into its rows)."""
     b = result.basis
     s = b.settings
-    _records = records or _all_rows
-    buses = _records(result.buses[list(BUS_COLUMNS)])
+    rows_of = records or _all_rows
+    buses = rows_of(result.buses[list(BUS_COLUMNS)])
     return {
         "tool": {"name": b.tool_name, "version": b.tool_version},
         "study": {
@@ -54,16 +54,16 @@ def result_dict(result: StudyResult, records=None) -> dict[str, Any]:
         **(
             {
                 "cases": [
-                    {"case": name, "buses": _records(table[list(BUS_COLUMNS)])}
+                    {"case": name, "buses": rows_of(table[list(BUS_COLUMNS)])}
                     for name, table in result.cases.items()
                 ],
-                "envelope": _records(result.envelope),
+                "envelope": rows_of(result.envelope),
             }
             if result.envelope is not None
             else {}
         ),
         **(
-            {"contributions": _records(result.contributions)}
+            {"contributions": rows_of(result.contributions)}
             if result.contributions is not None
             else {}
         ),

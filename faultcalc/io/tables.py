@@ -244,14 +244,18 @@ def _load_csv_folder(path: Path, problems: list[Problem]) -> dict[str, RawSheet]
 
 def input_sha256(path: Path) -> str:
     """SHA-256 of a workbook file; for a CSV folder, of each file's name and bytes in name order."""
-    digest = hashlib.sha256()
     if path.is_dir():
+        digest = hashlib.sha256()
         for file in sorted(path.glob("*.csv")):
-            digest.update(file.name.encode() + b"\0")
-            digest.update(file.read_bytes())
-    else:
-        digest.update(path.read_bytes())
-    return digest.hexdigest()
+            add_file(digest, file.name, file.read_bytes())
+        return digest.hexdigest()
+    return hashlib.sha256(path.read_bytes()).hexdigest()
+
+
+def add_file(digest, name: str, data: bytes) -> None:
+    """Add one CSV file of a folder to its SHA-256 (files in name order; see input_sha256)."""
+    digest.update(name.encode() + b"\0")
+    digest.update(data)
 
 
 def load_input(path: str | Path) -> RawInput:
