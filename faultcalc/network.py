@@ -81,10 +81,12 @@ def _merge_ties(pu: PerUnitSystem) -> np.ndarray:
     return renumber[labels]
 
 
-def build_network(pu: PerUnitSystem, bus_rows: dict[str, int] | None = None) -> Network:
+def build_network(pu: PerUnitSystem, bus_rows=None) -> Network:
     """Assemble the sequence admittance matrices (whole-array work, one pass over elements).
 
-    Raises InputError listing every bus that has no path to a source.
+    Raises InputError listing every bus that has no path to a source; ``bus_rows`` gives the
+    spreadsheet row of each bus for that message (a dict, or a function returning one, called
+    only then).
     """
     node_of_bus = _merge_ties(pu)
     n = int(node_of_bus.max()) + 1 if len(node_of_bus) else 0
@@ -140,7 +142,7 @@ def build_network(pu: PerUnitSystem, bus_rows: dict[str, int] | None = None) -> 
         np.concatenate([1.0 / z0[sf], 1.0 / z0[st], 1.0 / h_z0]),
     )
     y1 = seq1.matrix(n)
-    _check_fed(pu, node_of_bus, n, seq1, bus_rows or {})
+    _check_fed(pu, node_of_bus, n, seq1, bus_rows)
     grounded = _reaches_shunt(n, seq0)
     y0 = seq0.matrix(n) + sp.diags((~grounded).astype(float), format="csc")
     return Network(
@@ -181,6 +183,7 @@ def _check_fed(pu, node_of_bus, n, seq1: Stamps, bus_rows):
     if not dead.any():
         return
     problems = []
+    bus_rows = (bus_rows() if callable(bus_rows) else bus_rows) or {}
     bus_labels = labels[node_of_bus]
     for i in np.flatnonzero(dead):
         name = pu.bus_names[i]

@@ -203,7 +203,7 @@ def analyse(system: System, prefault_pu: tuple[float, ...] | None = None) -> Ana
     pu = perunit.to_per_unit(system, prefault_pu=prefault_pu)
     progress.step("admittance matrices")
     network = build_network(
-        pu, dict(zip(system.buses.column("bus"), system.buses.column("row"), strict=True))
+        pu, lambda: dict(zip(system.buses.column("bus"), system.buses.column("row"), strict=True))
     )
     progress.step("Thevenin impedances Z1 = Z2")
     factor1 = SymmetricFactor(network.y1)
