@@ -88,6 +88,11 @@ def _split(z_abs: float, xr: float) -> complex:
     return complex(r, r * xr)
 
 
+def _from_reactance(x: float, xr: float) -> complex:
+    """A machine's impedance from its reactance (X"d as given) and X/R: R = X / (X/R)."""
+    return complex(x / xr, x)
+
+
 def _groups(system: System) -> dict[str, str]:
     """Bus -> representative bus: closed ties make one node of several buses."""
     parent = {b.bus: b.bus for b in system.buses}
@@ -238,11 +243,11 @@ def build_netlist(
         star_source(label, s.bus, settings.prefault_pu * v_ln, z1, z0)
     for i, m in enumerate(system.machines):
         scale = m.kv**2 / (m.rated_kva / 1000.0) / m.count
-        z1 = _split(m.xd_pct / 100.0, m.xr) * scale
+        z1 = _from_reactance(m.xd_pct / 100.0, m.xr) * scale
         z0 = None
         if m.grounded:
             x0 = m.x0_pct if m.x0_pct is not None else m.xd_pct
-            z0 = _split(x0 / 100.0, m.xr) * scale + 3 * m.neutral_ohm / m.count
+            z0 = _from_reactance(x0 / 100.0, m.xr) * scale + 3 * m.neutral_ohm / m.count
         label = f"mach{i + 1}_{_safe(m.machine)}"
         star_source(label, m.bus, settings.prefault_pu * kv[m.bus] / SQRT3, z1, z0)
     for c in system.cables:

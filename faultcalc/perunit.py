@@ -18,8 +18,11 @@ Conventions (stated in the README's method section, with their sources):
   Y (ungrounded) or D-D winding pair blocks it.
 * Cable and impedance: total ohms divided by the bus's base impedance. Cable zero sequence: given,
   or 3 x the positive sequence (warned).
-* Machine: ``z = xd_pct/100 * base_mva/(kva/1000) * (kv/bus_kv)**2 / count`` behind the prefault
-  voltage; zero sequence only when the neutral is grounded: ``(z0 + 3 Zn) / count``.
+* Machine: the reactance is X"d as the trade gives it, ``x = xd_pct/100`` on the machine's own
+  rating and ``r = x / (X/R)``, as machine data are written in the trade (from memory of IEEE
+  Std 551-2006; IEC 60909-0 writes a generator as R_G + jX"d), changed to the common base ``* base_mva/(kva/1000) * (kv/bus_kv)**2 /
+  count`` behind the prefault voltage; zero sequence only when the neutral is grounded:
+  ``(z0 + 3 Zn) / count`` with ``x0 = x0_pct/100`` and the same X/R.
 """
 
 from __future__ import annotations
@@ -226,8 +229,9 @@ def _cable_impedances_ohm(system: System) -> tuple[np.ndarray, np.ndarray]:
 
 
 def _machines(system: System, kv_bus: np.ndarray, base_mva: float) -> dict[str, object]:
-    """ShuntPU columns of every machine, on whole arrays: ``z = xd_pct/100 * base_mva /
-    (kva/1000) * (kv/bus_kv)**2 / count`` split by X/R; grounded: ``(z0 + 3 Zn) / count``."""
+    """ShuntPU columns of every machine, on whole arrays: ``x = xd_pct/100``, ``r = x / (X/R)``,
+    times ``base_mva / (kva/1000) * (kv/bus_kv)**2 / count``; grounded: ``(z0 + 3 Zn) / count``
+    with x0 = x0_pct/100 (xd_pct when blank) and the same X/R."""
     m = system.machines
     kind = m.column("kind")
     per_hp = np.array([KVA_PER_HP.get(k, np.nan) for k in kind], dtype=float)
@@ -238,17 +242,16 @@ def _machines(system: System, kv_bus: np.ndarray, base_mva: float) -> dict[str, 
     xr = m.array("xr")
     xd = m.array("xd_pct")
 
-    def split(z_abs):
-        r = z_abs / np.sqrt(1.0 + xr * xr)
-        return r + 1j * (r * xr)
+    def from_reactance(x):  # X as given, R = X / (X/R)
+        return x / xr + 1j * x
 
-    z1 = split(xd / 100.0) * scale
+    z1 = from_reactance(xd / 100.0) * scale
     neutral = m.array("neutral_ohm")
     grounded = ~np.isnan(neutral)
     x0 = m.array("x0_pct")
     x0 = np.where(np.isnan(x0), xd, x0)
     zn = neutral / z_base_ohm(kv_bus, base_mva) / count
-    z0 = np.where(grounded, split(x0 / 100.0) * scale + 3 * zn, complex(np.nan, np.nan))
+    z0 = np.where(grounded, from_reactance(x0 / 100.0) * scale + 3 * zn, complex(np.nan, np.nan))
     notes = ["ungrounded: no zero-sequence path"] * len(m)
     for i in np.flatnonzero(grounded).tolist():
         notes[i] = f"grounded neutral ({neutral[i]:g} ohm)"

@@ -25,6 +25,11 @@ def _by_xr(z, xr):
     return complex(r, r * xr)
 
 
+def _from_reactance(x, xr):
+    # Machine data give the reactance X"d; R = X / (X/R) (the trade's convention, #12).
+    return complex(x / xr, x)
+
+
 def dense_reference(sheets, base_mva=100.0, prefault=1.0):
     """Thevenin impedances in ohms at every bus, from dense inverses: (z1, z0), NaN = no path."""
     kv = {b["bus"]: b["kv"] for b in sheets["buses"]}
@@ -119,9 +124,9 @@ def dense_reference(sheets, base_mva=100.0, prefault=1.0):
     for m in sheets.get("machines", []):
         kva = m.get("kva", m.get("hp"))  # 1 kVA per hp, the documented convention
         scale = base_mva / (kva / 1000) * (m["kv"] / kv[m["bus"]]) ** 2 / m.get("count", 1)
-        shunt(y1, m["bus"], _by_xr(m["xd_pct"] / 100, m["xr"]) * scale)
+        shunt(y1, m["bus"], _from_reactance(m["xd_pct"] / 100, m["xr"]) * scale)
         if "neutral_ohm" in m:
-            z0 = _by_xr(m.get("x0_pct", m["xd_pct"]) / 100, m["xr"]) * scale
+            z0 = _from_reactance(m.get("x0_pct", m["xd_pct"]) / 100, m["xr"]) * scale
             z0 += 3 * m["neutral_ohm"] / zbase(m["bus"]) / m.get("count", 1)
             shunt(y0, m["bus"], z0)
     # Zero-sequence islands with no path to ground: find them by flooding from grounded nodes.
