@@ -28,7 +28,7 @@ import numpy as np
 
 from .. import conductors, model, progress
 from ..records import Records, plain_values
-from . import cells, reader, schema
+from . import cells, reader, schema, slips
 from .tables import (
     MAX_FILE_BYTES,
     RawSheet,
@@ -44,13 +44,7 @@ NOT_CONTROL = bytes(b for b in range(256) if b not in CONTROL)
 
 
 # The bus references of each sheet, in the careful reader's order.
-REFERENCES = (
-    ("sources", ("bus",)),
-    ("transformers", ("hv_bus", "lv_bus")),
-    ("cables", ("from_bus", "to_bus")),
-    ("impedances", ("from_bus", "to_bus")),
-    ("machines", ("bus",)),
-)
+REFERENCES = reader.BUS_REFERENCES
 
 
 class _Decline(Exception):
@@ -404,6 +398,8 @@ def _check(typed: dict[str, _Typed], settings, loaded, out: reader.Collector):
     if (device != buses.filled["rating_ka"]).any() or (buses.filled["rating_xr"] & ~device).any():
         raise _Decline
     kv = buses.values["kv"]
+    if slips.bus_slips(kv):
+        raise _Decline
     index = {b: i for i, b in enumerate(bus_names)}
     ends = {}
     for sheet, columns in REFERENCES:
@@ -417,7 +413,7 @@ def _check(typed: dict[str, _Typed], settings, loaded, out: reader.Collector):
         a, b = (kv[i] for i in ends[sheet])
         if (np.abs(a - b) > 1e-9 * np.maximum(a, b)).any():
             raise _Decline
-    near = np.concatenate([*ends["transformers"], ends["machines"][0]])
+    near = np.concatenate([*ends["transformers"], ends["machines"][0], ends["sources"][0]])
     bus_kv = {bus_names[i]: kv[i].item() for i in np.unique(near).tolist()}
     transformers = typed["transformers"].records(range(typed["transformers"].n))
     reader.check_transformers(transformers, bus_kv, out)
@@ -429,13 +425,20 @@ def _check(typed: dict[str, _Typed], settings, loaded, out: reader.Collector):
             raise _Decline
     _fill_from_tables(cables, kv[ends["cables"][0]], settings)
     machines = typed["machines"]
-    _machine_checks(machines, kv[ends["machines"][0]], bus_kv, out)
+    machine_kv = kv[ends["machines"][0]]
+    v = machines.values
+    if slips.machine_slips(v["kv"], v["xd_pct"], machine_kv, v["bus"]):
+        raise _Decline
+    _machine_checks(machines, machine_kv, bus_kv, out)
     sources = typed["sources"]
+    v = sources.values
+    if slips.source_slips(v["sc_mva"], v["sc_ka"], v["slg_ka"], kv[ends["sources"][0]]):
+        raise _Decline
     flagged = np.flatnonzero(~sources.filled["slg_ka"] & sources.filled["slg_xr"])
     raw_sources = RawSheet(
         "sources", [], [(int(i) + 2, _raw_row(loaded["sources"], int(i))) for i in flagged], []
     )
-    reader.check_sources(sources.records(flagged), raw_sources, out)
+    reader.check_sources(sources.records(flagged), raw_sources, out, bus_kv)
     generators = sum(1 for k in machines.values["kind"] if k == "generator")
     if not sources.n and not generators:
         raise _Decline

@@ -13,9 +13,11 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
+import numpy as np
+
 from .. import conductors, model, progress
 from ..errors import InputError, Problem
-from . import cells, plausibility, schema
+from . import cells, plausibility, schema, slips
 from .cases import read_cases
 from .tables import RawInput, RawSheet, load_input
 
@@ -186,6 +188,12 @@ def read_settings(raw: RawSheet | None, out: Collector) -> model.Settings:
             values[name] = cells.parse(raw_value, spec)
         except cells.CellError as exc:
             out.problem("study", record.row, "value", raw_value, f"{name}: {exc}")
+    finding = slips.prefault_finding(float(values["prefault_pu"]))
+    if finding is not None:
+        refused, message = finding
+        (out.problem if refused else out.warn)(
+            "study", seen.get("prefault_pu"), "value", values["prefault_pu"], message
+        )
     if not -60.0 <= float(values["conductor_temp_c"]) <= 250.0:
         out.problem(
             "study",
@@ -242,12 +250,20 @@ def _check_refs(
     records: list[Record],
     bus_kv: dict[str, float],
     out: Collector,
+    named: set[str] | None = None,
 ) -> None:
+    """Every bus reference names a bus with a usable kV. ``named`` holds the names of buses
+    whose own row has a problem: a reference to one is not ok, without a second message."""
     folded = {name.casefold(): name for name in bus_kv}
+    named = named or set()
+    known = sorted(set(bus_kv) | named)
     for record in records:
         for column in columns:
             name = record.values.get(column)
             if name is None or name in bus_kv:
+                continue
+            if name in named:
+                record.ok = False
                 continue
             if name.casefold() in folded:
                 record.values[column] = folded[name.casefold()]
@@ -259,7 +275,13 @@ def _check_refs(
                     f"matched bus {folded[name.casefold()]!r} ignoring case",
                 )
                 continue
-            out.problem(sheet, record.row, column, name, "no bus of that name on the 'buses' sheet")
+            out.problem(
+                sheet,
+                record.row,
+                column,
+                name,
+                "no bus of that name on the 'buses' sheet" + _suggestion(name, known),
+            )
             record.ok = False
         if len(columns) == 2:
             a, b = (record.values.get(c) for c in columns)
@@ -272,6 +294,17 @@ def _check_refs(
                     f"both ends are the same bus; {columns[0]} and {columns[1]} must differ",
                 )
                 record.ok = False
+
+
+def _suggestion(name: str, known: list[str]) -> str:
+    """'; did you mean X?' for the nearest known name, or nothing when none is near."""
+    import difflib
+
+    if len(known) > 20_000:  # the nearest of very many names is not worth the time
+        return ""
+    by_fold = {k.casefold(): k for k in known}
+    near = difflib.get_close_matches(name.casefold(), list(by_fold), n=1, cutoff=0.6)
+    return f"; did you mean {by_fold[near[0]]!r}?" if near else ""
 
 
 def _check_same_kv(sheet: str, records: list[Record], bus_kv: dict[str, float], out: Collector):
@@ -292,6 +325,39 @@ def _check_same_kv(sheet: str, records: list[Record], bus_kv: dict[str, float], 
             record.ok = False
 
 
+def _refuse_slips(sheet: str, records: list[Record], found, out: Collector) -> None:
+    """Located problems for the gross mistakes ``slips`` found in ``records``."""
+    for slip in found:
+        record = records[slip.index]
+        out.problem(sheet, record.row, slip.column, slip.value, slip.message)
+        record.ok = False
+
+
+def _columns(records: list[Record], *names: str) -> list[np.ndarray]:
+    """Number columns of ``records`` as float arrays (None as NaN)."""
+    return [
+        np.array([np.nan if r.values.get(n) is None else r.values[n] for r in records], float)
+        for n in names
+    ]
+
+
+# The bus references of each element sheet.
+BUS_REFERENCES = (
+    ("sources", ("bus",)),
+    ("transformers", ("hv_bus", "lv_bus")),
+    ("cables", ("from_bus", "to_bus")),
+    ("impedances", ("from_bus", "to_bus")),
+    ("machines", ("bus",)),
+)
+
+
+def _sheet_readable(spec: schema.Sheet, raw: RawSheet | None) -> bool:
+    """The sheet is there and has its required columns (else one problem said so)."""
+    return raw is not None and all(
+        c.name in raw.headers for c in spec.columns if c.required
+    )
+
+
 def check_transformers(records: list[Record], bus_kv: dict[str, float], out: Collector):
     for record in records:
         if not record.ok:
@@ -307,7 +373,18 @@ def check_transformers(records: list[Record], bus_kv: dict[str, float], out: Col
                 "list the high-voltage winding's bus as hv_bus",
             )
             record.ok = False
+    ok = [r for r in records if r.ok]
+    kva, hv_kv, lv_kv, z_pct = _columns(ok, "kva", "hv_kv", "lv_kv", "z_pct")
+    hv_bus = [r.values["hv_bus"] for r in ok]
+    lv_bus = [r.values["lv_bus"] for r in ok]
+    hv_bus_kv = np.array([bus_kv[b] for b in hv_bus], float)
+    lv_bus_kv = np.array([bus_kv[b] for b in lv_bus], float)
+    found = slips.transformer_slips(kva, hv_kv, lv_kv, z_pct, hv_bus_kv, lv_bus_kv, hv_bus, lv_bus)
+    _refuse_slips("transformers", ok, found, out)
+    for record in ok:
+        if not record.ok:
             continue
+        v = record.values
         for side in ("hv", "lv"):
             rated, nominal = v[f"{side}_kv"], bus_kv[v[f"{side}_bus"]]
             if abs(rated / nominal - 1.0) > KV_MISMATCH_WARN:
@@ -426,6 +503,13 @@ def check_machines(records: list[Record], bus_kv: dict[str, float], out: Collect
                 "a generator is rated in kVA: give kva instead of hp",
             )
             record.ok = False
+    ok = [r for r in records if r.ok]
+    kv, xd_pct = _columns(ok, "kv", "xd_pct")
+    bus = [r.values["bus"] for r in ok]
+    found = slips.machine_slips(kv, xd_pct, np.array([bus_kv[b] for b in bus], float), bus)
+    _refuse_slips("machines", ok, found, out)
+    for record in ok:
+        v = record.values
         if not record.ok:
             continue
         nominal = bus_kv[v["bus"]]
@@ -450,7 +534,13 @@ def check_machines(records: list[Record], bus_kv: dict[str, float], out: Collect
             )
 
 
-def check_sources(records: list[Record], raw: RawSheet | None, out: Collector) -> None:
+def check_sources(
+    records: list[Record], raw: RawSheet | None, out: Collector, bus_kv: dict[str, float]
+) -> None:
+    ok = [r for r in records if r.ok]
+    kv = np.array([bus_kv[r.values["bus"]] for r in ok], float)
+    found = slips.source_slips(*_columns(ok, "sc_mva", "sc_ka", "slg_ka"), kv)
+    _refuse_slips("sources", ok, found, out)
     raw_rows = dict(raw.rows) if raw else {}
     for record in records:
         v = record.values
@@ -522,28 +612,37 @@ def read_tables(raw: RawInput, with_cases: bool = True) -> model.System:
 
     bus_taken: dict[str, tuple[str, int, str]] = {}
     _unique_ids("buses", "bus", recs["buses"], out, bus_taken)
-    bus_kv = {
-        r.values["bus"]: r.values["kv"]
-        for r in recs["buses"]
-        if r.values.get("bus") is not None and r.values.get("kv") is not None
-    }
+    named_buses = [r for r in recs["buses"] if r.values.get("bus") is not None]
+    with_kv = [r for r in named_buses if r.values.get("kv") is not None]
+    _refuse_slips("buses", with_kv, slips.bus_slips(_columns(with_kv, "kv")[0]), out)
+    bus_kv = {r.values["bus"]: r.values["kv"] for r in with_kv if r.ok}
+    unusable = {r.values["bus"] for r in named_buses} - set(bus_kv)
     element_taken: dict[str, tuple[str, int, str]] = {}
     for sheet in schema.ELEMENT_SHEETS:
         _unique_ids(sheet.name, sheet.columns[0].name, recs[sheet.name], out, element_taken)
     _check_devices(recs["buses"], out)
-    _check_refs("sources", ("bus",), recs["sources"], bus_kv, out)
-    _check_refs("transformers", ("hv_bus", "lv_bus"), recs["transformers"], bus_kv, out)
-    _check_refs("cables", ("from_bus", "to_bus"), recs["cables"], bus_kv, out)
-    _check_refs("impedances", ("from_bus", "to_bus"), recs["impedances"], bus_kv, out)
+    buses_read = _sheet_readable(schema.BUSES, raw.sheets.get("buses"))
+    if not buses_read:  # one problem says so already; no second one per reference to it
+        unusable |= {
+            r.values[c]
+            for s, cs in BUS_REFERENCES
+            for r in recs[s]
+            for c in cs
+            if r.values.get(c) is not None
+        }
+    _check_refs("sources", ("bus",), recs["sources"], bus_kv, out, unusable)
+    _check_refs("transformers", ("hv_bus", "lv_bus"), recs["transformers"], bus_kv, out, unusable)
+    _check_refs("cables", ("from_bus", "to_bus"), recs["cables"], bus_kv, out, unusable)
+    _check_refs("impedances", ("from_bus", "to_bus"), recs["impedances"], bus_kv, out, unusable)
     _check_same_kv("cables", recs["cables"], bus_kv, out)
     _check_same_kv("impedances", recs["impedances"], bus_kv, out)
     check_transformers(recs["transformers"], bus_kv, out)
     check_clock(recs["transformers"], out)
     _check_cable_impedance(recs["cables"], out)
     _fill_cables_from_tables(recs["cables"], settings, bus_kv, out)
-    _check_refs("machines", ("bus",), recs["machines"], bus_kv, out)
+    _check_refs("machines", ("bus",), recs["machines"], bus_kv, out, unusable)
     check_machines(recs["machines"], bus_kv, out)
-    check_sources(recs["sources"], raw.sheets.get("sources"), out)
+    check_sources(recs["sources"], raw.sheets.get("sources"), out, bus_kv)
     generators = [r for r in recs["machines"] if r.values.get("kind") == "generator"]
     if not recs["sources"] and not generators and not out.problems:
         out.problem(
