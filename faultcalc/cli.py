@@ -45,7 +45,8 @@ def _guarded(action):
     except click.ClickException:
         raise
     except InputError as exc:
-        lines = [f"error: {len(exc.problems)} problem(s) in the input; nothing was written:"]
+        lines = [f"warning: {w}" for w in getattr(exc, "warnings", ())]
+        lines += [f"error: {len(exc.problems)} problem(s) in the input; nothing was written:"]
         lines += [f"  - {p}" for p in exc.problems]
         _fail("\n".join(lines), EXIT_BAD_INPUT)
     except OutputError as exc:

@@ -38,8 +38,9 @@ class Problem:
 class InputError(Exception):
     """The input cannot be studied. ``problems`` lists every problem found, located."""
 
-    def __init__(self, problems: list[Problem]):
+    def __init__(self, problems: list[Problem], warnings: tuple[str, ...] | list[str] = ()):
         self.problems = list(problems)
+        self.warnings = tuple(warnings)  # doubts found before the problems stopped the reading
         count = len(self.problems)
         head = f"{count} problem{'s' if count != 1 else ''} in the input"
         super().__init__(head + ":\n" + "\n".join(f"  - {p}" for p in self.problems))

@@ -398,6 +398,23 @@ def _solve(system: System) -> tuple[Analysis, pd.DataFrame]:
     return first, table
 
 
+def _keeping_warnings(study):
+    """An InputError found while studying carries the input's warnings too (the CLI prints
+    every warning, also when the study cannot go on)."""
+
+    @functools.wraps(study)
+    def run(system: System, **options) -> StudyResult:
+        try:
+            return study(system, **options)
+        except InputError as exc:
+            if exc.warnings:
+                raise
+            raise InputError(exc.problems, system.warnings) from None
+
+    return run
+
+
+@_keeping_warnings
 def run_study(
     system: System,
     *,

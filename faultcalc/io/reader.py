@@ -575,18 +575,61 @@ def check_clock(records: list[Record], out: Collector) -> None:
             record.ok = False
 
 
+# Other names engineers give a sheet (our own list): an unknown sheet named so is the known one.
+SHEET_SYNONYMS = {
+    "study": ("settings", "setting", "setup", "options"),
+    "buses": ("busses", "nodes", "bus_list"),
+    "sources": ("utility", "utilities", "supply", "supplies", "grid"),
+    "transformers": ("xfmr", "xfmrs", "xfmers", "trafo", "trafos", "tx"),
+    "cables": ("feeders", "feeder", "conductors", "conductor", "lines", "wires"),
+    "impedances": ("reactors", "reactor", "busway", "busways", "ties", "tie"),
+    "machines": ("motors", "motor", "generators", "generator", "gens", "rotating"),
+    "cases": ("scenarios", "scenario", "variants", "variations"),
+}
+
+
+def _meant_sheet(name: str, present) -> str | None:
+    """The known sheet an unknown sheet name was probably meant as (capitals, singular or
+    plural, a small edit, another usual name), unless that sheet is there already."""
+    import difflib
+
+    key = " ".join(name.replace("_", " ").replace("-", " ").split()).replace(" ", "_")
+    known = [s.name for s in schema.SHEETS]
+    meant = None
+    for sheet in known:
+        singular = sheet[:-2] if sheet.endswith("es") else sheet[:-1]
+        forms = {sheet, singular, sheet.rstrip("s"), sheet + "s"} | set(SHEET_SYNONYMS[sheet])
+        if key in forms or key.rstrip("s") in forms:
+            meant = sheet
+    if meant is None:
+        near = difflib.get_close_matches(key, known, n=1, cutoff=0.75)
+        meant = near[0] if near else None
+    return meant if meant is not None and meant not in present else None
+
+
 def unknown_sheets(names, out: Collector) -> None:
     known_sheets = {s.name for s in schema.SHEETS} | {schema.GUIDE_SHEET}
     for name in names:
-        if name not in known_sheets:
-            out.warn(
+        if name in known_sheets:
+            continue
+        meant = _meant_sheet(name, names)
+        if meant is not None:
+            out.problem(
                 name,
                 None,
                 None,
                 None,
-                "unknown sheet, ignored; known sheets are "
-                + ", ".join(s.name for s in schema.SHEETS),
+                f"unknown sheet: did you mean '{meant}'? Rename it '{meant}' (its rows would "
+                "otherwise be left out of the study)",
             )
+            continue
+        out.warn(
+            name,
+            None,
+            None,
+            None,
+            "unknown sheet, ignored; known sheets are " + ", ".join(s.name for s in schema.SHEETS),
+        )
 
 
 def with_doubts(system: model.System) -> model.System:
@@ -654,7 +697,7 @@ def read_tables(raw: RawInput, with_cases: bool = True) -> model.System:
             "least one is needed to feed a fault",
         )
     if out.problems:
-        raise InputError(out.problems)
+        raise InputError(out.problems, out.warnings)
 
     def build(cls, sheet):
         fields = cls.__dataclass_fields__
@@ -667,6 +710,10 @@ def read_tables(raw: RawInput, with_cases: bool = True) -> model.System:
             rows.append(cls(**kwargs, row=r.row))
         return tuple(rows)
 
+    try:
+        cases = read_cases(raw, recs["cases"], read_tables) if with_cases else ()
+    except InputError as exc:
+        raise InputError(exc.problems, out.warnings) from None
     system = model.System(
         settings=settings,
         buses=build(model.Bus, "buses"),
@@ -675,7 +722,7 @@ def read_tables(raw: RawInput, with_cases: bool = True) -> model.System:
         cables=build(model.Cable, "cables"),
         impedances=build(model.Impedance, "impedances"),
         machines=build(model.Machine, "machines"),
-        cases=read_cases(raw, recs["cases"], read_tables) if with_cases else (),
+        cases=cases,
         input_name=raw.display_name,
         input_sha256=raw.sha256,
         warnings=tuple(out.warnings),
