@@ -64,6 +64,7 @@ class Source:
     slg_xr: float | None = None
     r0_ohm: float | None = None
     x0_ohm: float | None = None
+    in_service: str = "yes"  # the System holds only elements in service
     row: int | None = None
 
     @property
@@ -93,6 +94,7 @@ class Transformer:
     z0_pct: float | None = None
     xr0: float | None = None
     clock_number: int | None = None
+    in_service: str = "yes"  # the System holds only elements in service
     row: int | None = None
 
     @property
@@ -129,6 +131,7 @@ class Cable:
     r0_ohm_per_km: float | None = None
     x0_ohm_per_km: float | None = None
     impedance_source: str = ""  # "" = R and X typed by the user; else the table row used
+    in_service: str = "yes"  # the System holds only elements in service
     row: int | None = None
 
     @property
@@ -186,6 +189,7 @@ class Impedance:
     x_ohm: float
     r0_ohm: float | None = None
     x0_ohm: float | None = None
+    in_service: str = "yes"  # the System holds only elements in service
     row: int | None = None
 
     @property
@@ -230,6 +234,7 @@ class Machine:
     neutral_ohm: float | None = None
     rpm: float | None = None
     x0_pct: float | None = None
+    in_service: str = "yes"  # the System holds only elements in service
     row: int | None = None
 
     @property

@@ -1,7 +1,9 @@
 """The `cases` sheet: named variations of the system, each validated as a whole System.
 
 Each case starts from the base input's raw sheets and applies its overrides (one row each:
-element, column, value; ``in_service`` = no takes the element out). The result is read by the
+element, column, value). ``in_service`` on an element sets its ``in_service`` column either way;
+``in_service`` = no on a bus removes the bus and what hangs only on it, after the case is read
+(``service.without_buses``), and says so. The result is read by the
 same validation as the base, so a case's bad value is reported like any other, with the case
 named and the cases row that caused it.
 """
@@ -12,10 +14,9 @@ import copy
 from typing import Any
 
 from ..errors import InputError, Problem
-from . import cells, schema
+from . import cells, schema, service
+from .service import IN_SERVICE
 from .tables import RawInput
-
-IN_SERVICE = "in_service"
 
 
 def _find(raw: RawInput, name: str):
@@ -31,8 +32,12 @@ def _find(raw: RawInput, name: str):
     return None, None
 
 
-def read_cases(raw: RawInput, records, read_tables) -> tuple[tuple[str, Any], ...]:
-    """Every case as (name, System), in order of first appearance on the cases sheet."""
+def read_cases(
+    raw: RawInput, records, read_tables, notes: list[str] | None = None
+) -> tuple[tuple[str, Any], ...]:
+    """Every case as (name, System), in order of first appearance on the cases sheet; what a
+    case removes with a bus out of service is said in ``notes``."""
+    notes = [] if notes is None else notes
     if not records:
         return ()
     problems: list[Problem] = []
@@ -62,7 +67,7 @@ def read_cases(raw: RawInput, records, read_tables) -> tuple[tuple[str, Any], ..
         case_raw = copy.deepcopy(raw)
         case_raw.sheets.pop("cases", None)
         case_raw.problems = []
-        removed = []
+        buses_out: list[str] = []
         for record in overrides[name]:
             element = record.values["element"].strip()
             column = record.values["column"].strip().lower()
@@ -81,9 +86,13 @@ def read_cases(raw: RawInput, records, read_tables) -> tuple[tuple[str, Any], ..
                     problems.append(
                         Problem("cases", record.row, "value", value, "in_service takes yes or no")
                     )
-                elif text == "no":
-                    removed.append((sheet.name, index))
-                continue
+                    continue
+                if sheet.name == schema.BUSES.name:
+                    if text == "no":
+                        bus_row = case_raw.sheets["buses"].rows[index][1]
+                        buses_out.append(cells.as_text(bus_row["bus"]).strip())
+                    continue
+                value = text  # an element: the in_service column, set like any other
             if column not in sheet.names or column == sheet.columns[0].name:
                 problems.append(
                     Problem(
@@ -92,7 +101,8 @@ def read_cases(raw: RawInput, records, read_tables) -> tuple[tuple[str, Any], ..
                         "column",
                         column,
                         f"not a column of the '{sheet.name}' sheet that a case can change; "
-                        f"columns are {', '.join(sheet.names[1:])}, or {IN_SERVICE}",
+                        f"columns are {', '.join(n for n in sheet.names[1:] if n != IN_SERVICE)}"
+                        f", or {IN_SERVICE}",
                     )
                 )
                 continue
@@ -103,8 +113,6 @@ def read_cases(raw: RawInput, records, read_tables) -> tuple[tuple[str, Any], ..
             table.rows[index] = (number, values)
             if column not in table.headers:
                 table.headers.append(column)
-        for sheet_name, index in sorted(set(removed), reverse=True):
-            del case_raw.sheets[sheet_name].rows[index]
         try:
             system = read_tables(case_raw, with_cases=False)
         except InputError as exc:
@@ -113,6 +121,9 @@ def read_cases(raw: RawInput, records, read_tables) -> tuple[tuple[str, Any], ..
                     Problem(p.sheet, p.row, p.column, p.value, f"in case '{name}': {p.message}")
                 )
             continue
+        if buses_out:
+            system, note = service.without_buses(system, sorted(set(buses_out)))
+            notes.append(f"sheet 'cases': in case '{name}': {note}")
         systems.append((name, system))
     if problems:
         raise InputError(problems)

@@ -28,7 +28,7 @@ import numpy as np
 
 from .. import conductors, model, progress
 from ..records import Records, plain_values
-from . import cells, reader, schema, slips
+from . import cells, reader, schema, service, slips
 from .tables import (
     MAX_FILE_BYTES,
     RawSheet,
@@ -67,9 +67,11 @@ class _Typed:
     filled: dict[str, np.ndarray]  # column -> the cell was not blank
     ascii: dict[str, Any] = field(default_factory=dict)  # text column -> Arrow array, if ASCII
 
+    row_numbers: np.ndarray | None = None  # spreadsheet rows when not 2, 3, ... (rows left out)
+
     @property
-    def rows(self) -> range:
-        return range(2, self.n + 2)
+    def rows(self):
+        return range(2, self.n + 2) if self.row_numbers is None else self.row_numbers.tolist()
 
     def records(self, indices) -> list[reader.Record]:
         """The careful reader's Records of the rows at ``indices`` (for its checks)."""
@@ -123,6 +125,8 @@ def _read(path: Path) -> model.System:
     if typed["cases"].n:
         raise _Decline  # cases are applied to the raw cells by the careful reader
     ends, bus_index = _check(typed, settings, loaded, out)
+    for spec in schema.ELEMENT_SHEETS:  # out of service: checked, said, then left out
+        _leave_out_of_service(spec, typed, ends, out)
     progress.step("plausibility")
     system = model.System(
         settings=settings,
@@ -509,6 +513,24 @@ def _machine_checks(machines: _Typed, kv_bus: np.ndarray, bus_kv, out) -> None:
     flagged = (generator & f["hp"]) | off | (f["neutral_ohm"] & ~f["x0_pct"])
     reader.check_machines(machines.records(np.flatnonzero(flagged)), bus_kv, out)
     _no_problems(out)
+
+
+def _leave_out_of_service(spec: schema.Sheet, typed: dict[str, _Typed], ends, out) -> None:
+    """Drop the rows of ``spec`` whose in_service is no, with the careful reader's note."""
+    sheet = typed[spec.name]
+    flags = np.array([f == "no" for f in sheet.values[service.IN_SERVICE]], bool)
+    if not flags.any():
+        return
+    names = sheet.values[spec.columns[0].name]
+    for i in np.flatnonzero(flags).tolist():
+        out.warn(*service.out_of_service_note(spec, i + 2, names[i]))
+    keep = np.flatnonzero(~flags)
+    values = {
+        name: v[keep] if isinstance(v, np.ndarray) else [v[i] for i in keep.tolist()]
+        for name, v in sheet.values.items()
+    }
+    typed[spec.name] = _Typed(spec, len(keep), values, {}, {}, keep + 2)
+    ends[spec.name] = [e[keep] for e in ends[spec.name]]
 
 
 def _records(cls, sheet: _Typed) -> Records:

@@ -17,7 +17,7 @@ import numpy as np
 
 from .. import conductors, model, progress
 from ..errors import InputError, Problem
-from . import cells, plausibility, schema, slips
+from . import cells, plausibility, schema, service, slips
 from .cases import read_cases
 from .tables import RawInput, RawSheet, load_input
 
@@ -698,6 +698,12 @@ def read_tables(raw: RawInput, with_cases: bool = True) -> model.System:
         )
     if out.problems:
         raise InputError(out.problems, out.warnings)
+    for sheet in schema.ELEMENT_SHEETS:
+        off = [r for r in recs[sheet.name] if r.values.get(service.IN_SERVICE) == "no"]
+        for r in off:
+            out.warn(*service.out_of_service_note(sheet, r.row, r.values[sheet.columns[0].name]))
+        if off:
+            recs[sheet.name] = [r for r in recs[sheet.name] if r.values.get("in_service") != "no"]
 
     def build(cls, sheet):
         fields = cls.__dataclass_fields__
@@ -711,7 +717,9 @@ def read_tables(raw: RawInput, with_cases: bool = True) -> model.System:
         return tuple(rows)
 
     try:
-        cases = read_cases(raw, recs["cases"], read_tables) if with_cases else ()
+        case_notes: list[str] = []
+        cases = read_cases(raw, recs["cases"], read_tables, case_notes) if with_cases else ()
+        out.warnings.extend(case_notes)
     except InputError as exc:
         raise InputError(exc.problems, out.warnings) from None
     system = model.System(

@@ -87,6 +87,17 @@ class Sheet:
         return tuple(c.name for c in self.columns)
 
 
+def _in_service(what: str) -> Column:
+    return Column(
+        "in_service",
+        CHOICE,
+        f"no: {what} is out of service in the base case (checked like any row, then left out "
+        "of the study; a case can put it in service). Blank: yes.",
+        default="yes",
+        choices=("yes", "no"),
+    )
+
+
 WINDINGS = ("D", "Y", "YN")
 
 # Settings on the `study` sheet (columns `setting`, `value`), described like columns.
@@ -287,6 +298,7 @@ SOURCES = Sheet(
             unit="ohm",
             bound=NON_NEGATIVE,
         ),
+        _in_service("the source (a utility feed that is off)"),
     ),
     alternatives=(
         Alternative((("sc_mva",), ("sc_ka",))),
@@ -391,6 +403,7 @@ TRANSFORMERS = Sheet(
             "connections (low voltage lagging by 30 degrees), 0 otherwise.",
             bound=NON_NEGATIVE,
         ),
+        _in_service("the transformer"),
     ),
 )
 
@@ -462,6 +475,7 @@ CABLES = Sheet(
             for unit, label in (("kft", "1000 ft"), ("km", "km"))
             for q, what in (("r", "resistance"), ("x", "reactance"))
         ),
+        _in_service("the cable"),
     ),
     alternatives=(
         Alternative((("length_ft",), ("length_m",))),
@@ -515,6 +529,7 @@ IMPEDANCES = Sheet(
             unit="ohm",
             bound=NON_NEGATIVE,
         ),
+        _in_service("the element (a normally-open tie)"),
     ),
     alternatives=(Alternative((("r0_ohm", "x0_ohm"),), required=False),),
 )
@@ -592,6 +607,7 @@ MACHINES = Sheet(
             unit="%",
             bound=POSITIVE,
         ),
+        _in_service("the machine (a standby generator, a motor that does not run)"),
     ),
     alternatives=(Alternative((("kva",), ("hp",))),),
 )
@@ -600,7 +616,8 @@ CASES = Sheet(
     "cases",
     "Named variations of the system, each studied on its own after the base case: one "
     "override per row. 'column' is a column of the element's sheet, or in_service (yes/no) to "
-    "take the element out (a tie opened, a generator off).",
+    "take the element out or put it in (a tie opened or closed, a generator off or on); "
+    "in_service no on a bus takes out the bus and whatever is fed only through it.",
     (
         Column("case", TEXT, "Name of the case, e.g. utility minimum.", required=True),
         Column(
