@@ -3,12 +3,14 @@
 Each case starts from the base input's raw sheets and applies its overrides (one row each:
 element, column, value; ``in_service`` = no takes the element out). The result is read by the
 same validation as the base, so a case's bad value is reported like any other, with the case
-named and the cases row that caused it.
+named and the cases row that caused it. A case whose rows say ``label`` = no is left out of the
+service labels' maximum (``System.in_labels`` False); it is studied all the same.
 """
 
 from __future__ import annotations
 
 import copy
+import dataclasses
 from typing import Any
 
 from ..errors import InputError, Problem
@@ -16,6 +18,30 @@ from . import cells, schema
 from .tables import RawInput
 
 IN_SERVICE = "in_service"
+LABEL = "label"
+
+
+def _in_labels(name: str, records, problems: list[Problem]) -> bool:
+    """Whether the case counts in the service labels: no when a row of it says label = no.
+    Rows that say yes and no disagree: a problem located at the first row that differs."""
+    said = [(r.row, r.values.get(LABEL)) for r in records if r.values.get(LABEL) is not None]
+    if not said:
+        return True
+    first_row, first = said[0]
+    for row, value in said[1:]:
+        if value != first:
+            problems.append(
+                Problem(
+                    "cases",
+                    row,
+                    LABEL,
+                    value,
+                    f"case '{name}' says label = {first} on cases row {first_row}; every row "
+                    "of one case must agree (or be blank)",
+                )
+            )
+            return True
+    return first != "no"
 
 
 def _find(raw: RawInput, name: str):
@@ -59,6 +85,7 @@ def read_cases(raw: RawInput, records, read_tables) -> tuple[tuple[str, Any], ..
         overrides[name].append(record)
     systems = []
     for name in order:
+        in_labels = _in_labels(name, overrides[name], problems)
         case_raw = copy.deepcopy(raw)
         case_raw.sheets.pop("cases", None)
         case_raw.problems = []
@@ -113,6 +140,8 @@ def read_cases(raw: RawInput, records, read_tables) -> tuple[tuple[str, Any], ..
                     Problem(p.sheet, p.row, p.column, p.value, f"in case '{name}': {p.message}")
                 )
             continue
+        if not in_labels:
+            system = dataclasses.replace(system, in_labels=False)
         systems.append((name, system))
     if problems:
         raise InputError(problems)
