@@ -349,11 +349,15 @@ def _aligned(tables: dict[str, pd.DataFrame]) -> dict[str, pd.DataFrame]:
     """The tables with the first (base) table's bus rows, in its order: a bus missing from a
     case's table gets a row of blanks there."""
     base = tables[next(iter(tables))]
-    order = pd.Index(base.bus.to_numpy(dtype=object), name="bus")
     out = {}
     for name, table in tables.items():
-        same = len(table) == len(order) and bool((table.bus.to_numpy(dtype=object) == order).all())
-        out[name] = table if same else table.set_index("bus").reindex(order).reset_index()
+        same = table is base or (
+            len(table) == len(base) and bool((table.bus.array == base.bus.array).all())
+        )
+        if not same:
+            order = pd.Index(base.bus.to_numpy(dtype=object), name="bus")
+            table = table.set_index("bus").reindex(order).reset_index()
+        out[name] = table
     return out
 
 
@@ -371,7 +375,7 @@ def _worst(tables: dict[str, pd.DataFrame], column: str, rows=None) -> tuple[np.
 
 def _pick(tables: dict[str, pd.DataFrame], column: str, worst: np.ndarray, rows) -> np.ndarray:
     """``column`` at ``rows`` taken from the table ``worst`` names for each row."""
-    stack = np.vstack([t[column].to_numpy(dtype=object)[rows] for t in tables.values()])
+    stack = np.vstack([t[column].iloc[rows].to_numpy(dtype=object) for t in tables.values()])
     return stack[worst, np.arange(len(worst))]
 
 
@@ -382,18 +386,21 @@ def _envelope(tables: dict[str, pd.DataFrame]) -> pd.DataFrame:
     names = list(tables)
     base = tables[names[0]]
     out = {"bus": base.bus.tolist()}
+    case_names = np.array(names, dtype=object)
+    worst_of = {}
     for column in ENVELOPE_COLUMNS:
         worst, value = _worst(tables, column)
+        worst_of[column] = worst
         out[column] = value
-        out[column.replace("_ka", "").replace("_pct", "") + "_case"] = [
-            names[w] if np.isfinite(v) else "" for w, v in zip(worst, value, strict=True)
-        ]
-    worst, pct = _worst(tables, "duty_pct")
-    rated = np.isfinite(pct)
-    every = np.arange(len(base))
-    for column in ("duty_fault", "duty_status"):
-        picked = _pick(tables, column, worst, every)
-        out[column] = np.where(rated, picked, "" if column == "duty_fault" else duty.STATUS_NONE)
+        out[column.replace("_ka", "").replace("_pct", "") + "_case"] = np.where(
+            np.isfinite(value), case_names[worst], ""
+        )
+    rated = np.flatnonzero(np.isfinite(out["duty_pct"]))
+    worst = worst_of["duty_pct"][rated]
+    for column, blank in (("duty_fault", ""), ("duty_status", duty.STATUS_NONE)):
+        values = np.full(len(base), blank, dtype=object)
+        values[rated] = _pick(tables, column, worst, rated)
+        out[column] = values
     return pd.DataFrame(out)
 
 
@@ -409,7 +416,7 @@ def _worst_duty(tables: dict[str, pd.DataFrame]) -> pd.DataFrame:
         rated |= np.isfinite(table.duty_pct.to_numpy(dtype=float))
     rows = np.flatnonzero(rated)
     worst, pct = _worst(tables, "duty_pct", rows)
-    out: dict[str, object] = {"bus": base.bus.to_numpy(dtype=object)[rows]}
+    out: dict[str, object] = {"bus": base.bus.iloc[rows].to_numpy(dtype=object)}
     for column in ("device", "rating_ka", "test_xr", "mf", "duty_ka", "duty_status"):
         out[column] = _pick(tables, column, worst, rows)
     out["duty_pct"] = pct
@@ -421,8 +428,8 @@ def _worst_duty(tables: dict[str, pd.DataFrame]) -> pd.DataFrame:
         _pick(tables, "xr_fault", worst, rows).astype(float),
     )
     out["duty_case"] = np.array(names, dtype=object)[worst]
-    out["base_duty_pct"] = base.duty_pct.to_numpy(dtype=float)[rows]
-    out["base_duty_status"] = base.duty_status.to_numpy(dtype=object)[rows]
+    out["base_duty_pct"] = base.duty_pct.iloc[rows].to_numpy(dtype=float)
+    out["base_duty_status"] = base.duty_status.iloc[rows].to_numpy(dtype=object)
     table = pd.DataFrame(out, columns=list(DUTY_COLUMNS))
     for column in ("rating_ka", "test_xr", "mf", "duty_ka"):
         table[column] = table[column].astype(float)
@@ -440,7 +447,7 @@ def _labels(tables: dict[str, pd.DataFrame], rows: list[int], descriptions) -> p
     names = list(tables)
     base = tables[names[0]]
     stack = np.vstack(
-        [t[list(LABEL_FAULTS)].to_numpy(dtype=float)[rows].T for t in tables.values()]
+        [t[list(LABEL_FAULTS)].iloc[rows].to_numpy(dtype=float).T for t in tables.values()]
     )  # table-major: base 3ph, slg, ll, llg, then each case's
     filled = np.where(np.isnan(stack), -np.inf, stack)
     worst = np.argmax(filled, axis=0) if len(rows) else np.zeros(0, dtype=np.int64)
@@ -448,9 +455,9 @@ def _labels(tables: dict[str, pd.DataFrame], rows: list[int], descriptions) -> p
     kinds = len(LABEL_FAULTS)
     return pd.DataFrame(
         {
-            "bus": base.bus.to_numpy(dtype=object)[rows],
+            "bus": base.bus.iloc[rows].to_numpy(dtype=object),
             "description": [descriptions[k] for k in rows],
-            "kv": base.kv.to_numpy(dtype=float)[rows],
+            "kv": base.kv.iloc[rows].to_numpy(dtype=float),
             "label_ka": np.where(np.isinf(value), np.nan, value),
             "label_fault": np.array(faults.FAULT_TYPES, dtype=object)[worst % kinds],
             "label_case": np.array(names, dtype=object)[worst // kinds],
