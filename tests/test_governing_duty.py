@@ -296,3 +296,23 @@ def test_near_rating_in_a_case_is_amber(make_input, tmp_path):
     assert rows["DP-1"]["Status"].value == duty.STATUS_NEAR
     assert rows["DP-1"]["Status in the base case"].value == duty.STATUS_BELOW
     assert fill(rows["DP-1"]["Bus"]) == NEAR_FILL
+
+
+def test_a_bus_missing_from_a_case_table_counts_as_none_there(tie_result):
+    # A case whose table lacks a bus (a bus out of service): the bus's worst comes from the
+    # other tables (common practice (no source): a bus that is not there has no duty).
+    from faultcalc import study
+
+    base = tie_result.buses
+    closed = tie_result.cases["tie closed"]
+    tables = {"base": base, "tie closed": closed[closed.bus != "SUB-A"].iloc[::-1]}
+    worst = study._worst_duty(tables).set_index("bus")
+    assert worst.loc["SUB-A", "duty_case"] == "base"
+    assert worst.loc["SUB-B", "duty_case"] == "tie closed"
+    assert worst.loc["SUB-B", "duty_pct"] == closed.set_index("bus").loc["SUB-B", "duty_pct"]
+    envelope = study._envelope(tables).set_index("bus")
+    assert envelope.loc["SUB-A", "duty_case"] == "base"
+    assert envelope.loc["SUB-B", "duty_status"] == duty.STATUS_OVER
+    labels = study._labels(tables, [3, 4], list(tie_result.descriptions)).set_index("bus")
+    assert labels.loc["SUB-A", "label_case"] == "base"
+    assert labels.loc["SUB-B", "label_case"] == "tie closed"
