@@ -31,6 +31,7 @@ from .study import contribution_buses
 
 EXIT_BAD_INPUT = 2
 EXIT_FAILURE = 1
+EXIT_OVER_RATING = 3
 
 
 def _fail(message: str, status: int) -> None:
@@ -70,9 +71,24 @@ def _guarded(action):
 def _summary(result) -> str:
     b = result.buses
     worst = b.loc[b["i3ph_ka"].idxmax()]
-    return (
+    text = (
         f"{len(b)} buses studied; highest three-phase fault current {worst.i3ph_ka:.2f} kA "
         f"at {worst.bus} ({worst.kv:g} kV). {len(result.warnings)} warning(s)."
+    )
+    rated = 0 if result.duty is None else len(result.duty)
+    if not rated:
+        return text
+    over = result.over_rating()
+    where = "the base case or any case" if result.cases else "the study"
+    if over.empty:
+        return text + f"\nDuty: no device of {rated} exceeds its rating in {where}."
+    top = over.iloc[0]
+    case = "the base case" if top.duty_case == "base" else f"case '{top.duty_case}'"
+    fault = "three-phase" if top.duty_fault == "3ph" else "line-to-ground"
+    return text + (
+        f"\nDuty: {len(over)} device(s) of {rated} exceed their rating in {where}; the worst: "
+        f"{top.bus}, {top.duty_pct:.1f} % of its rating in {case} ({fault} fault). "
+        "See the 'Equipment duty' sheet."
     )
 
 
@@ -104,7 +120,8 @@ def _run(
     json_path: Path | None,
     contributions: str | None = None,
     overwrite: bool = False,
-) -> None:
+):
+    """Study and write; returns the StudyResult (after every output is written)."""
     _check_targets(input_path, [t for t in (output, json_path) if t], overwrite)
     for target in filter(None, (output, json_path)):
         if same_file(target, input_path) or (
@@ -158,6 +175,7 @@ def _run(
     if json_path:
         click.echo(f"results JSON: {json_path.resolve()}")
     click.echo("Caution: for review by a qualified engineer; see the 'Basis and cautions' sheet.")
+    return result
 
 
 @click.group(context_settings={"help_option_names": ["-h", "--help"]})
@@ -195,12 +213,19 @@ def main() -> None:
     help="Add the current from every source, machine and branch for three-phase and "
     "line-to-ground faults at these buses (or all).",
 )
+@click.option(
+    "--fail-on-overduty",
+    is_flag=True,
+    help="Exit with status 3 when the duty of any device exceeds its rating in the base case "
+    "or any case (the outputs are written all the same).",
+)
 @OVERWRITE
 def study(
     input_path: Path,
     output: Path,
     json_path: Path | None,
     contributions: str | None,
+    fail_on_overduty: bool,
     overwrite: bool,
 ) -> None:
     """Study INPUT (an .xlsx workbook or a folder of <sheet>.csv files).
@@ -209,10 +234,16 @@ def study(
     Example:
       faultcalc study plant.xlsx -o plant-results.xlsx --json plant-results.json
       faultcalc study plant.xlsx -o plant-results.xlsx --contributions SWBD-1,MCC-1
+      faultcalc study plant.xlsx -o plant-results.xlsx --fail-on-overduty
 
-    Exit status: 0 done, 2 bad input (every problem listed, nothing written), 1 other failure.
+    \b
+    Exit status: 0 done; 1 failure; 2 bad input (every problem listed, nothing
+    written); 3 (only with --fail-on-overduty) a device's duty exceeds its rating
+    in the base case or a case, every output written.
     """
-    _guarded(lambda: _run(input_path, output, json_path, contributions, overwrite))
+    result = _guarded(lambda: _run(input_path, output, json_path, contributions, overwrite))
+    if fail_on_overduty and not result.over_rating().empty:
+        sys.exit(EXIT_OVER_RATING)
 
 
 @main.command("check-cables")

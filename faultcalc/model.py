@@ -272,6 +272,7 @@ class System:
     input_name: str = ""
     input_sha256: str = ""
     warnings: tuple[str, ...] = field(default=())
+    in_labels: bool = True  # a case: False when its cases rows say label = no
 
     def __post_init__(self) -> None:
         for name, kind in ELEMENT_KINDS.items():

@@ -8,6 +8,7 @@ from dataclasses import dataclass, field
 
 import pandas as pd
 
+from .duty import STATUS_OVER
 from .model import Settings
 
 # Columns of StudyResult.buses, which are also the JSON fields of each bus entry.
@@ -48,6 +49,34 @@ BUS_COLUMNS = (
     "islg_min_ka",
     "ill_min_ka",
     "illg_min_ka",
+    "duty_fault",
+)
+
+# Columns of StudyResult.duty: each rated bus's worst duty over the base case and every case.
+DUTY_COLUMNS = (
+    "bus",
+    "device",
+    "rating_ka",
+    "test_xr",
+    "duty_xr",  # X/R of the fault that gave the duty (bus X/R or ground-fault loop X/R)
+    "mf",
+    "duty_ka",
+    "duty_pct",
+    "duty_status",
+    "duty_fault",  # 3ph or slg: the fault type that gave the duty
+    "duty_case",  # base, or the case that gave the worst duty
+    "base_duty_pct",
+    "base_duty_status",
+)
+
+# Columns of StudyResult.labels: the figure printed on each service bus's label.
+LABEL_COLUMNS = (
+    "bus",
+    "description",
+    "kv",
+    "label_ka",  # largest of the four fault currents over the base and the cases in labels
+    "label_fault",  # 3ph, slg, ll or llg: the fault type that gave it
+    "label_case",  # base, or the case that gave it
 )
 
 # Columns of StudyResult.elements, the echo of every element on the common base.
@@ -98,6 +127,16 @@ class StudyResult:
     cases: dict[str, pd.DataFrame] = field(default_factory=dict)  # case -> bus table
     envelope: pd.DataFrame | None = None  # worst value per bus over base and cases
     service_buses: tuple[str, ...] = ()  # buses marked service = yes (label sheets)
+    duty: pd.DataFrame | None = None  # DUTY_COLUMNS, one row per rated bus (worst over cases)
+    labels: pd.DataFrame | None = None  # LABEL_COLUMNS, one row per service bus
+    label_cases_left_out: tuple[str, ...] = ()  # cases whose rows say label = no
+
+    def over_rating(self) -> pd.DataFrame:
+        """Rows of ``duty`` whose worst duty exceeds the rating, the largest duty first."""
+        if self.duty is None:
+            return pd.DataFrame(columns=list(DUTY_COLUMNS))
+        over = self.duty[self.duty.duty_status == STATUS_OVER]
+        return over.sort_values("duty_pct", ascending=False, kind="stable")
 
     @functools.cached_property
     def elements(self) -> pd.DataFrame:

@@ -17,7 +17,7 @@ from .contributions import Phasors, as_table, contribution_phasors
 from .errors import InputError, Problem
 from .model import System
 from .network import Network, build_network, positive_matrix_variant, zone_angles_deg
-from .results import BUS_COLUMNS, ELEMENT_COLUMNS, Basis, StudyResult
+from .results import BUS_COLUMNS, DUTY_COLUMNS, ELEMENT_COLUMNS, LABEL_COLUMNS, Basis, StudyResult
 from .thevenin import SymmetricFactor
 
 TOOL_NAME = "faultcalc"
@@ -319,22 +319,24 @@ def _duty(system: System, i3_ka, islg_ka, xr_fault, xr_slg) -> dict[str, object]
         "rating_ka": system.buses.array("rating_ka"),
         **{k: np.full(n, np.nan) for k in ("test_xr", "mf", "duty_ka", "duty_pct")},
         "duty_status": [duty.STATUS_NONE] * n,
+        "duty_fault": [""] * n,
     }
     rated = [k for k, d in enumerate(device) if d is not None]
     for k, b in zip(rated, system.buses.take(rated), strict=True):
         xr_test = b.rating_xr if b.rating_xr is not None else duty.test_xr(b.device, b.rating_ka)
         mf3 = duty.multiplying_factor(b.device, float(xr_fault[k]), xr_test)
-        candidates = [(mf3 * i3_ka[k], mf3)]
+        candidates = [(mf3 * i3_ka[k], mf3, "3ph")]
         if not np.isnan(islg_ka[k]):
             mfg = duty.multiplying_factor(b.device, float(xr_slg[k]), xr_test)
-            candidates.append((mfg * islg_ka[k], mfg))
-        duty_ka, mf = max(candidates)
+            candidates.append((mfg * islg_ka[k], mfg, "slg"))
+        duty_ka, mf, fault = max(candidates)
         pct = 100.0 * duty_ka / b.rating_ka
         out["test_xr"][k] = xr_test
         out["mf"][k] = mf
         out["duty_ka"][k] = duty_ka
         out["duty_pct"][k] = pct
         out["duty_status"][k] = duty.status(pct)
+        out["duty_fault"][k] = fault
     return out
 
 
@@ -343,21 +345,125 @@ def _cable_checks(system: System) -> pd.DataFrame:
     return cablecheck.check_table(system)[list(cablecheck.CHECK_COLUMNS)]
 
 
+def _aligned(tables: dict[str, pd.DataFrame]) -> dict[str, pd.DataFrame]:
+    """The tables with the first (base) table's bus rows, in its order: a bus missing from a
+    case's table gets a row of blanks there."""
+    base = tables[next(iter(tables))]
+    out = {}
+    for name, table in tables.items():
+        same = table is base or (
+            len(table) == len(base) and bool((table.bus.array == base.bus.array).all())
+        )
+        if not same:
+            order = pd.Index(base.bus.to_numpy(dtype=object), name="bus")
+            table = table.set_index("bus").reindex(order).reset_index()
+        out[name] = table
+    return out
+
+
+def _worst(tables: dict[str, pd.DataFrame], column: str, rows=None) -> tuple[np.ndarray, ...]:
+    """Per bus (or per bus at ``rows``): the index of the table with the largest ``column``
+    (the first on equal values; NaN counts as none) and that value (NaN if none)."""
+    stack = np.vstack([t[column].to_numpy(dtype=float) for t in tables.values()])
+    if rows is not None:
+        stack = stack[:, rows]
+    filled = np.where(np.isnan(stack), -np.inf, stack)
+    worst = np.argmax(filled, axis=0)
+    value = filled[worst, np.arange(stack.shape[1])]
+    return worst, np.where(np.isinf(value), np.nan, value)
+
+
+def _pick(tables: dict[str, pd.DataFrame], column: str, worst: np.ndarray, rows) -> np.ndarray:
+    """``column`` at ``rows`` taken from the table ``worst`` names for each row."""
+    stack = np.vstack([t[column].iloc[rows].to_numpy(dtype=object) for t in tables.values()])
+    return stack[worst, np.arange(len(worst))]
+
+
 def _envelope(tables: dict[str, pd.DataFrame]) -> pd.DataFrame:
-    """Worst value per bus over the base and every case, with the case that gave it."""
+    """Worst value per bus over the base and every case, with the case that gave it; for the
+    duty also its fault type and status."""
+    tables = _aligned(tables)
     names = list(tables)
     base = tables[names[0]]
     out = {"bus": base.bus.tolist()}
+    case_names = np.array(names, dtype=object)
+    worst_of = {}
     for column in ENVELOPE_COLUMNS:
-        stack = np.vstack([tables[n][column].to_numpy(dtype=float) for n in names])
-        filled = np.where(np.isnan(stack), -np.inf, stack)
-        worst = np.argmax(filled, axis=0)
-        value = filled[worst, np.arange(stack.shape[1])]
-        out[column] = np.where(np.isinf(value), np.nan, value)
-        out[column.replace("_ka", "").replace("_pct", "") + "_case"] = [
-            names[w] if np.isfinite(v) else "" for w, v in zip(worst, value, strict=True)
-        ]
+        worst, value = _worst(tables, column)
+        worst_of[column] = worst
+        out[column] = value
+        out[column.replace("_ka", "").replace("_pct", "") + "_case"] = np.where(
+            np.isfinite(value), case_names[worst], ""
+        )
+    rated = np.flatnonzero(np.isfinite(out["duty_pct"]))
+    worst = worst_of["duty_pct"][rated]
+    for column, blank in (("duty_fault", ""), ("duty_status", duty.STATUS_NONE)):
+        values = np.full(len(base), blank, dtype=object)
+        values[rated] = _pick(tables, column, worst, rated)
+        out[column] = values
     return pd.DataFrame(out)
+
+
+def _worst_duty(tables: dict[str, pd.DataFrame]) -> pd.DataFrame:
+    """Each bus with a device in the base or any case: its worst duty over all of them (the
+    first table on equal duty, so the base case before any case), with the case, the fault
+    type and the X/R that gave it, and the base case's duty beside it."""
+    tables = _aligned(tables)
+    names = list(tables)
+    base = tables[names[0]]
+    rated = np.zeros(len(base), dtype=bool)
+    for table in tables.values():
+        rated |= np.isfinite(table.duty_pct.to_numpy(dtype=float))
+    rows = np.flatnonzero(rated)
+    worst, pct = _worst(tables, "duty_pct", rows)
+    out: dict[str, object] = {"bus": base.bus.iloc[rows].to_numpy(dtype=object)}
+    for column in ("device", "rating_ka", "test_xr", "mf", "duty_ka", "duty_status"):
+        out[column] = _pick(tables, column, worst, rows)
+    out["duty_pct"] = pct
+    fault = _pick(tables, "duty_fault", worst, rows)
+    out["duty_fault"] = fault
+    out["duty_xr"] = np.where(
+        fault == "slg",
+        _pick(tables, "xr_slg", worst, rows).astype(float),
+        _pick(tables, "xr_fault", worst, rows).astype(float),
+    )
+    out["duty_case"] = np.array(names, dtype=object)[worst]
+    out["base_duty_pct"] = base.duty_pct.iloc[rows].to_numpy(dtype=float)
+    out["base_duty_status"] = base.duty_status.iloc[rows].to_numpy(dtype=object)
+    table = pd.DataFrame(out, columns=list(DUTY_COLUMNS))
+    for column in ("rating_ka", "test_xr", "mf", "duty_ka"):
+        table[column] = table[column].astype(float)
+    return table
+
+
+LABEL_FAULTS = ("i3ph_ka", "islg_ka", "ill_ka", "illg_ka")  # in the order of FAULT_TYPES
+
+
+def _labels(tables: dict[str, pd.DataFrame], rows: list[int], descriptions) -> pd.DataFrame:
+    """The label figure of the buses at ``rows``: the largest of the four fault currents over
+    ``tables`` (the base case first, then the cases counted in labels), with the fault type
+    and the case that gave it (the first on equal values)."""
+    tables = _aligned(tables)
+    names = list(tables)
+    base = tables[names[0]]
+    stack = np.vstack(
+        [t[list(LABEL_FAULTS)].iloc[rows].to_numpy(dtype=float).T for t in tables.values()]
+    )  # table-major: base 3ph, slg, ll, llg, then each case's
+    filled = np.where(np.isnan(stack), -np.inf, stack)
+    worst = np.argmax(filled, axis=0) if len(rows) else np.zeros(0, dtype=np.int64)
+    value = filled[worst, np.arange(len(rows))]
+    kinds = len(LABEL_FAULTS)
+    return pd.DataFrame(
+        {
+            "bus": base.bus.iloc[rows].to_numpy(dtype=object),
+            "description": [descriptions[k] for k in rows],
+            "kv": base.kv.iloc[rows].to_numpy(dtype=float),
+            "label_ka": np.where(np.isinf(value), np.nan, value),
+            "label_fault": np.array(faults.FAULT_TYPES, dtype=object)[worst % kinds],
+            "label_case": np.array(names, dtype=object)[worst // kinds],
+        },
+        columns=list(LABEL_COLUMNS),
+    )
 
 
 def contribution_buses(system: System, contributions) -> list[int]:
@@ -437,7 +543,10 @@ def run_study(
     StudyResult
         ``.buses`` holds one row per bus in input order with the columns of
         ``faultcalc.results.BUS_COLUMNS``; NaN where a value does not exist (no ground path).
-        ``.cases`` and ``.envelope`` when the input has a cases sheet.
+        ``.cases`` and ``.envelope`` when the input has a cases sheet. ``.duty``: each rated
+        bus's worst duty over the base case and every case, with the case and fault type that
+        gave it; ``.labels``: each service bus's label figure over the base case and the cases
+        not left out of labels (``label`` = no on the cases sheet), with its fault type and case.
 
     Raises
     ------
@@ -477,7 +586,15 @@ def run_study(
                     for p in exc.problems
                 ]
             ) from None
-    envelope = _envelope({"base": buses, **case_tables}) if case_tables else None
+    tables = {"base": buses, **case_tables}
+    envelope = _envelope(tables) if case_tables else None
+    left_out = tuple(name for name, case_system in system.cases if not case_system.in_labels)
+    service = [k for k, yes in enumerate(system.buses.column("service")) if yes == "yes"]
+    labels = _labels(
+        {n: t for n, t in tables.items() if n not in left_out},
+        service,
+        system.buses.column("description"),
+    )
 
     stamp = (calculated_at or _dt.datetime.now().astimezone()).isoformat(timespec="seconds")
     method = METHOD.format(
@@ -506,4 +623,7 @@ def run_study(
             for b, yes in zip(pu.bus_names, system.buses.column("service"), strict=True)
             if yes == "yes"
         ),
+        duty=_worst_duty(tables),
+        labels=labels,
+        label_cases_left_out=left_out,
     )

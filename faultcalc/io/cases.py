@@ -5,18 +5,45 @@ element, column, value). ``in_service`` on an element sets its ``in_service`` co
 ``in_service`` = no on a bus removes the bus and what hangs only on it, after the case is read
 (``service.without_buses``), and says so. The result is read by the
 same validation as the base, so a case's bad value is reported like any other, with the case
-named and the cases row that caused it.
+named and the cases row that caused it. A case whose rows say ``label`` = no is left out of the
+service labels' maximum (``System.in_labels`` False); it is studied all the same.
 """
 
 from __future__ import annotations
 
 import copy
+import dataclasses
 from typing import Any
 
 from ..errors import InputError, Problem
 from . import cells, schema, service
 from .service import IN_SERVICE
 from .tables import RawInput
+
+LABEL = "label"
+
+
+def _in_labels(name: str, records, problems: list[Problem]) -> bool:
+    """Whether the case counts in the service labels: no when a row of it says label = no.
+    Rows that say yes and no disagree: a problem located at the first row that differs."""
+    said = [(r.row, r.values.get(LABEL)) for r in records if r.values.get(LABEL) is not None]
+    if not said:
+        return True
+    first_row, first = said[0]
+    for row, value in said[1:]:
+        if value != first:
+            problems.append(
+                Problem(
+                    "cases",
+                    row,
+                    LABEL,
+                    value,
+                    f"case '{name}' says label = {first} on cases row {first_row}; every row "
+                    "of one case must agree (or be blank)",
+                )
+            )
+            return True
+    return first != "no"
 
 
 def _find(raw: RawInput, name: str):
@@ -64,6 +91,7 @@ def read_cases(
         overrides[name].append(record)
     systems = []
     for name in order:
+        in_labels = _in_labels(name, overrides[name], problems)
         case_raw = copy.deepcopy(raw)
         case_raw.sheets.pop("cases", None)
         case_raw.problems = []
@@ -124,6 +152,8 @@ def read_cases(
         if buses_out:
             system, note = service.without_buses(system, sorted(set(buses_out)))
             notes.append(f"sheet 'cases': in case '{name}': {note}")
+        if not in_labels:
+            system = dataclasses.replace(system, in_labels=False)
         systems.append((name, system))
     if problems:
         raise InputError(problems)

@@ -14,7 +14,7 @@ from collections.abc import Iterator
 from pathlib import Path
 from typing import Any
 
-from ..results import BUS_COLUMNS, StudyResult
+from ..results import BUS_COLUMNS, DUTY_COLUMNS, LABEL_COLUMNS, StudyResult
 from .files import staged
 
 
@@ -54,12 +54,36 @@ def result_dict(result: StudyResult, records=None) -> dict[str, Any]:
         **(
             {
                 "cases": [
-                    {"case": name, "buses": rows_of(table[list(BUS_COLUMNS)])}
+                    {
+                        "case": name,
+                        "in_labels": name not in result.label_cases_left_out,
+                        "buses": rows_of(table[list(BUS_COLUMNS)]),
+                    }
                     for name, table in result.cases.items()
                 ],
                 "envelope": rows_of(result.envelope),
             }
             if result.envelope is not None
+            else {}
+        ),
+        **(
+            {
+                "equipment_duty": {
+                    "devices_over_rating": len(result.over_rating()),
+                    "rows": rows_of(result.duty[list(DUTY_COLUMNS)]),
+                }
+            }
+            if result.duty is not None
+            else {}
+        ),
+        **(
+            {
+                "labels": {
+                    "cases_left_out": list(result.label_cases_left_out),
+                    "rows": rows_of(result.labels[list(LABEL_COLUMNS)]),
+                }
+            }
+            if result.labels is not None
             else {}
         ),
         **(

@@ -212,7 +212,9 @@ BUSES = Sheet(
             "device",
             CHOICE,
             "Protective device whose rating is checked at this bus: lvpcb (LV power breaker, "
-            "unfused), lvpcb_fused, mccb (molded case), iccb (insulated case), fuse.",
+            "unfused; peak basis), lvpcb_fused (LV power breaker with integral fuses; "
+            "asymmetrical RMS basis like a fuse), mccb (molded case), iccb (insulated case), "
+            "fuse.",
             choices=("lvpcb", "lvpcb_fused", "mccb", "iccb", "fuse"),
         ),
         Column(
@@ -628,6 +630,15 @@ CASES = Sheet(
         ),
         Column("column", TEXT, "Column to override, or in_service.", required=True),
         Column("value", TEXT, "The value in that case; blank clears the cell."),
+        Column(
+            "label",
+            CHOICE,
+            "no: leave this case out of the maximum printed on the service labels (a temporary "
+            "set-up, e.g. for maintenance); its currents and duty are still studied and shown. "
+            "Say it on one row of the case or on every row; blank = yes unless another row of "
+            "the same case says no. Rows of one case that say yes and no disagree (an error).",
+            choices=("yes", "no"),
+        ),
     ),
 )
 

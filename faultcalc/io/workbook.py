@@ -259,7 +259,32 @@ def _fault_columns(result: StudyResult) -> list[tuple[Col, object]]:
             "ties",
         ),
         (Col("Ground-fault note", 40), "ground_note"),
+        (
+            Col(
+                "Duty, % of rating",
+                10,
+                "0.0",
+                "Equipment duty of the bus's device in the base case; see the Equipment duty "
+                "sheet.",
+            ),
+            "duty_pct",
+        ),
+        (Col("Duty status", 20), lambda r: r.duty_status if r.device else ""),
     ]
+    if result.cases:
+        cols += [
+            (
+                Col(
+                    "Worst duty over the cases, % of rating",
+                    11,
+                    "0.0",
+                    "The largest duty of the device over the base case and every case; the row "
+                    "is coloured by it.",
+                ),
+                "worst_duty_pct",
+            ),
+            (Col("Worst duty in case", 16), "worst_duty_case"),
+        ]
     if result.basis.settings.method == "iec60909":
         cols += [
             (
@@ -282,9 +307,32 @@ def _fault_columns(result: StudyResult) -> list[tuple[Col, object]]:
 NO_PATH_FIELDS = ("islg_ka", "ig_llg_ka", "r0_ohm", "x0_ohm", "islg_min_ka")
 
 
+def _worst_duty_of(result: StudyResult) -> dict[str, tuple]:
+    """Bus -> its row of ``result.duty`` (the worst duty over the base and every case)."""
+    if result.duty is None:
+        return {}
+    return {r.bus: r for r in result.duty.itertuples(index=False)}
+
+
+def _fill_rows(ws, statuses, columns: int) -> None:
+    """Colour the rows (from row 2) whose duty status exceeds or is near the rating."""
+    for i, status in enumerate(statuses, start=2):
+        fill = STATUS_FILL.get(status)
+        if fill:
+            for j in range(1, columns + 1):
+                ws.cell(row=i, column=j).fill = fill
+
+
 def _fault_sheet(ws, result: StudyResult) -> None:
     spec = _fault_columns(result)
-    b = result.buses.assign(description=list(result.descriptions), ties=list(result.node_groups))
+    worst = _worst_duty_of(result)
+    found = [worst.get(bus) for bus in result.buses.bus]
+    b = result.buses.assign(
+        description=list(result.descriptions),
+        ties=list(result.node_groups),
+        worst_duty_pct=[w.duty_pct if w else None for w in found],
+        worst_duty_case=[w.duty_case if w else "" for w in found],
+    )
     rows = []
     for r in b.itertuples(index=False):
         row = []
@@ -299,10 +347,16 @@ def _fault_sheet(ws, result: StudyResult) -> None:
         for j, field in enumerate(fields, start=1):
             if field in NO_PATH_FIELDS and ws.cell(row=i, column=j).value == NO_PATH:
                 ws.cell(row=i, column=j).alignment = Alignment(horizontal="right")
+    statuses = [w.duty_status if w else st for w, st in zip(found, b.duty_status, strict=True)]
+    _fill_rows(ws, statuses, len(spec))
     _note_below(
         ws,
         "Fault currents are initial symmetrical RMS; the peak and half-cycle "
-        "columns include the DC offset. Bold: the largest at the bus. " + SHORT_CAUTION,
+        "columns include the DC offset. Bold: the largest at the bus. Red: duty exceeds the "
+        "rating, amber: within 10 % of it"
+        + (" (in the base case or any case)" if result.cases else "")
+        + ". "
+        + SHORT_CAUTION,
     )
 
 
@@ -315,14 +369,25 @@ STATUS_FILL = {
 }
 
 
+def _case_words(case: str) -> str:
+    return "the base case" if case == "base" else f"case '{case}'"
+
+
 def _duty_sheet(ws, result: StudyResult) -> None:
+    with_cases = bool(result.cases)
     cols = [
         Col("Bus", 14),
         Col("Description", 30),
         Col("Device", 34),
         Col("Rating, kA", 9, KA, "Interrupting or short-circuit current rating as entered."),
         Col("Test X/R", 8, XR, "X/R of the rating test: entered, or by device (README)."),
-        Col("X/R at the bus", 9, XR),
+        Col(
+            "X/R of the fault giving the duty",
+            10,
+            XR,
+            "The bus's X/R for a three-phase fault, the ground-fault loop's for a "
+            "line-to-ground fault.",
+        ),
         Col("Multiplying factor", 10, "0.000", "Never below 1; see the README."),
         Col(
             "Duty, kA",
@@ -338,34 +403,52 @@ def _duty_sheet(ws, result: StudyResult) -> None:
             note="Compared with the rating only; this is not a statement that "
             "the equipment is adequate or safe.",
         ),
+        Col("Fault giving the duty", 14, note="Three-phase or line-to-ground."),
     ]
-    rows = []
-    for r, d in zip(result.buses.itertuples(index=False), result.descriptions, strict=True):
-        if r.device:
-            rows.append(
-                (
-                    r.bus,
-                    d,
-                    duty.DEVICE_NAMES[r.device],
-                    r.rating_ka,
-                    r.test_xr,
-                    r.xr_fault,
-                    r.mf,
-                    r.duty_ka,
-                    r.duty_pct,
-                    r.duty_status,
-                )
-            )
+    if with_cases:
+        cols += [
+            Col(
+                "Case giving the duty",
+                24,
+                note="The worst over the base case and every case on the cases sheet (the base "
+                "case when equal).",
+            ),
+            Col("Duty in the base case, %", 10, "0.0"),
+            Col("Status in the base case", 20),
+        ]
+    descriptions = dict(zip(result.buses.bus, result.descriptions, strict=True))
+    rows, statuses = [], []
+    table = result.duty if result.duty is not None else result.buses.iloc[0:0]
+    for r in table.itertuples(index=False):
+        row = (
+            r.bus,
+            descriptions.get(r.bus, ""),
+            duty.DEVICE_NAMES[r.device],
+            r.rating_ka,
+            r.test_xr,
+            r.duty_xr,
+            r.mf,
+            r.duty_ka,
+            r.duty_pct,
+            r.duty_status,
+            FAULT_WORDS[r.duty_fault],
+        )
+        if with_cases:
+            row += (r.duty_case, r.base_duty_pct, r.base_duty_status)
+        rows.append(row)
+        statuses.append(r.duty_status)
     rows = rows or [_only_row(cols, 1, "No bus has a device and rating_ka on the buses sheet.")]
     _table(ws, cols, rows)
-    for i, row in enumerate(rows, start=2):
-        fill = STATUS_FILL.get(row[-1])
-        if fill:
-            for j in range(1, len(cols) + 1):
-                ws.cell(row=i, column=j).fill = fill
+    _fill_rows(ws, statuses, len(cols))
     _note_below(
         ws,
-        "Red: duty exceeds the rating. Amber: within 10 % of it. Duty checks compare "
+        (
+            "Each device's worst duty over the base case and every case, with the case and fault "
+            "type that gave it. "
+            if with_cases
+            else ""
+        )
+        + "Red: duty exceeds the rating. Amber: within 10 % of it. Duty checks compare "
         "numbers only; equipment suitability is for the engineer of record. " + SHORT_CAUTION,
     )
 
@@ -383,10 +466,12 @@ def _case_sheet(ws, result: StudyResult) -> None:
         Col("Half-cycle asym., kA", 10, KA),
         Col("Duty, % of rating", 10, "0.0"),
         Col("Duty status", 20),
+        Col("Duty from", 14, note="The fault type giving the duty: three-phase or line-to-ground."),
     ]
-    rows = []
+    rows, statuses = [], []
     for name, table in {"base": result.buses, **result.cases}.items():
         for r in table.itertuples(index=False):
+            statuses.append(r.duty_status if r.device else "")
             rows.append(
                 (
                     name,
@@ -400,9 +485,15 @@ def _case_sheet(ws, result: StudyResult) -> None:
                     r.iasym_ka,
                     r.duty_pct,
                     r.duty_status if r.device else "",
+                    FAULT_WORDS.get(r.duty_fault, "") if r.device else "",
                 )
             )
     _table(ws, cols, rows, freeze_columns=2)
+    _fill_rows(ws, statuses, len(cols))
+    _note_below(
+        ws,
+        "Red: duty exceeds the rating, amber: within 10 % of it, in that case. " + SHORT_CAUTION,
+    )
 
 
 def _envelope_sheet(ws, result: StudyResult) -> None:
@@ -425,43 +516,63 @@ def _envelope_sheet(ws, result: StudyResult) -> None:
             Col("in case", 14),
         ]
         keys += [column, case]
-    rows = [(r["bus"], *[r[k] for k in keys]) for _, r in env.iterrows()]
+    cols += [Col("Worst duty status", 20), Col("Worst duty from", 14)]
+    rows, statuses = [], []
+    for _, r in env.iterrows():
+        rated = r["duty_status"] != duty.STATUS_NONE
+        fault = FAULT_WORDS.get(r["duty_fault"], "")
+        rows.append((r["bus"], *[r[k] for k in keys], r["duty_status"] if rated else "", fault))
+        statuses.append(r["duty_status"])
     _table(ws, cols, rows)
+    _fill_rows(ws, statuses, len(cols))
     _note_below(
         ws,
         "The worst value at each bus over the base case and every case on the "
-        "cases sheet, and the case that gives it. " + SHORT_CAUTION,
+        "cases sheet, and the case that gives it. Red: the worst duty exceeds the rating, "
+        "amber: within 10 % of it. " + SHORT_CAUTION,
     )
 
 
 def _label_sheet(ws, result: StudyResult, bus: str) -> None:
     """A printable marking for service equipment (NFPA 70 110.24): our own layout."""
-    table = result.envelope if result.envelope is not None else result.buses
-    row = table[table.bus == bus].iloc[0]
-    base = result.buses[result.buses.bus == bus].iloc[0]
-    index = list(result.buses.bus).index(bus)
-    values = [
-        row[c]
-        for c in ("i3ph_ka", "islg_ka", "ill_ka", "illg_ka")
-        if not (isinstance(row[c], float) and math.isnan(row[c]))
-    ]
-    worst = max(values)
+    label = result.labels[result.labels.bus == bus].iloc[0]
+    left_out = result.label_cases_left_out
+    counted = len(result.cases) - len(left_out)
+    over = (
+        f" over the base case and {counted} study case(s)"
+        if counted
+        else (" in the base case" if result.cases else "")
+    )
     b = result.basis
     ws.column_dimensions["A"].width = 4
     ws.column_dimensions["B"].width = 80
     lines = [
         ("SERVICE EQUIPMENT", Font(bold=True, size=16)),
         ("Maximum available fault current", Font(bold=True, size=14)),
-        (f"{worst:.1f} kA", Font(bold=True, size=40)),
+        (f"{label.label_ka:.1f} kA", Font(bold=True, size=40)),
         (
             "symmetrical RMS, the largest of three-phase, line-to-ground, line-to-line and double "
-            "line-to-ground faults"
-            + (" over all study cases" if result.envelope is not None else ""),
+            "line-to-ground faults" + over,
             Font(size=10),
         ),
+        (
+            f"Set by a {FAULT_WORDS[label.label_fault]} fault in {_case_words(label.label_case)}.",
+            Font(bold=True, size=11),
+        ),
+        *(
+            [
+                (
+                    "Left out of this figure (temporary set-ups, label = no on the cases sheet): "
+                    + ", ".join(f"'{c}'" for c in left_out),
+                    Font(size=10),
+                )
+            ]
+            if left_out
+            else []
+        ),
         ("", None),
-        (f"Equipment: {bus}  {result.descriptions[index]}", Font(size=12)),
-        (f"Nominal voltage: {base.kv * 1000:g} V", Font(size=12)),
+        (f"Equipment: {bus}  {label.description}", Font(size=12)),
+        (f"Nominal voltage: {label.kv * 1000:g} V", Font(size=12)),
         (f"Date of calculation: {b.calculated_at[:10]}", Font(bold=True, size=12)),
         (f"Study: {b.settings.title or 'short-circuit study'}", Font(size=10)),
         (
@@ -723,6 +834,9 @@ def _summary(result: StudyResult, csv_name: str) -> tuple[StudyResult, str]:
     largest = b[["i3ph_ka", "islg_ka", "ill_ka", "illg_ka"]].max(axis=1, skipna=True)
     worst = set(largest.nlargest(SUMMARY_BUSES).index)
     worst |= set(b.index[b.duty_status.isin([duty.STATUS_OVER, duty.STATUS_NEAR])])
+    if result.duty is not None:
+        findings = result.duty[result.duty.duty_status.isin([duty.STATUS_OVER, duty.STATUS_NEAR])]
+        worst |= set(b.index[b.bus.isin(findings.bus)])
     keep = sorted(worst, key=lambda i: -largest[i])
     names = set(b.bus.iloc[keep])
     cut = dataclasses.replace(
