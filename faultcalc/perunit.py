@@ -18,10 +18,10 @@ Conventions (stated in the README's method section, with their sources):
   Y (ungrounded) or D-D winding pair blocks it.
 * Cable and impedance: total ohms divided by the bus's base impedance. Cable zero sequence: given,
   or 3 x the positive sequence (warned).
-* Machine: the reactance is X"d as the trade gives it, ``x = xd_pct/100`` on the machine's own
-  rating and ``r = x / (X/R)``, as machine data are written in the trade (from memory of IEEE
-  Std 551-2006; IEC 60909-0 writes a generator as R_G + jX"d), changed to the common base ``* base_mva/(kva/1000) * (kv/bus_kv)**2 /
-  count`` behind the prefault voltage; zero sequence only when the neutral is grounded:
+* Machine: the reactance is X"d, ``x = xd_pct/100`` on the machine's own rating, and
+  ``r = x / (X/R)``, as machine data are written in the trade (from memory of IEEE Std
+  551-2006; IEC 60909-0 writes a generator as R_G + jX"d), changed to the common base
+  ``* base_mva/(kva/1000) * (kv/bus_kv)**2 / count`` behind the prefault voltage; zero sequence only when the neutral is grounded:
   ``(z0 + 3 Zn) / count`` with ``x0 = x0_pct/100`` and the same X/R.
 """
 

@@ -99,8 +99,18 @@ def test_the_out_of_service_row_is_still_checked(make_input):
 def test_a_case_puts_an_element_back_in_service(make_input):
     sheets = _with({("impedances", 0): {"in_service": "no"}, ("machines", 0): {"in_service": "no"}})
     sheets["cases"] = [
-        {"case": "tie closed, generator on", "element": "TIE", "column": "in_service", "value": "yes"},
-        {"case": "tie closed, generator on", "element": "GEN", "column": "in_service", "value": "yes"},
+        {
+            "case": "tie closed, generator on",
+            "element": "TIE",
+            "column": "in_service",
+            "value": "yes",
+        },
+        {
+            "case": "tie closed, generator on",
+            "element": "GEN",
+            "column": "in_service",
+            "value": "yes",
+        },
     ]
     result = run_study(read_system(make_input(sheets)))
     everything = run_study(read_system(make_input(copy.deepcopy(BASE))))
@@ -124,7 +134,7 @@ def test_a_case_takes_a_bus_out_with_what_hangs_on_it(make_input):
     sheets = copy.deepcopy(BASE)
     sheets["cases"] = [{"case": "B out", "element": "B", "column": "in_service", "value": "no"}]
     system = read_system(make_input(sheets))
-    (name, case), = system.cases
+    ((name, case),) = system.cases
     assert [b.bus for b in case.buses] == ["HV", "A"]
     assert [t.transformer for t in case.transformers] == ["TA"]
     assert not case.impedances and not case.cables

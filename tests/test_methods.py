@@ -129,6 +129,8 @@ def test_ieee_first_cycle_motor_contribution(make_input, hp, rpm, multiplier):
     c = result.contributions
     row = c[(c.element == "M") & (c.fault == "3ph")].iloc[0]
     rated_ka = hp / (math.sqrt(3) * 0.4) / 1000
-    assert row.i_ka == pytest.approx(rated_ka / (multiplier * abs(complex(0.0167, 0.167))), rel=1e-9)
+    assert row.i_ka == pytest.approx(
+        rated_ka / (multiplier * abs(complex(0.0167, 0.167))), rel=1e-9
+    )
     # IEEE practice: X/R from separate R and X reductions by default.
     assert result.basis.settings.xr_method == "separate"

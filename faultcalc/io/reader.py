@@ -353,9 +353,7 @@ BUS_REFERENCES = (
 
 def _sheet_readable(spec: schema.Sheet, raw: RawSheet | None) -> bool:
     """The sheet is there and has its required columns (else one problem said so)."""
-    return raw is not None and all(
-        c.name in raw.headers for c in spec.columns if c.required
-    )
+    return raw is not None and all(c.name in raw.headers for c in spec.columns if c.required)
 
 
 def check_transformers(records: list[Record], bus_kv: dict[str, float], out: Collector):

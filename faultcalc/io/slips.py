@@ -152,8 +152,9 @@ def transformer_slips(
                             i,
                             f"{side}_kv",
                             float(rated[i]),
-                            f"winding rated {rated[i]:g} kV on bus {bus[i]} of {nominal[i]:g} kV, "
-                            f"more than {KV_RATIO_LIMIT:g} x apart: {_kv_hint(rated[i], nominal[i])}",
+                            f"winding rated {rated[i]:g} kV on bus {bus[i]} of {nominal[i]:g} "
+                            f"kV, more than {KV_RATIO_LIMIT:g} x apart: "
+                            + _kv_hint(rated[i], nominal[i]),
                         )
                     )
         if small[i]:
@@ -222,7 +223,7 @@ def machine_slips(kv: np.ndarray, xd_pct: np.ndarray, bus_kv: np.ndarray, bus: l
                     i,
                     "xd_pct",
                     float(xd_pct[i]),
-                    f"X\"d of {xd_pct[i]:g} % is below the {MIN_XD_PCT:g} % of any real machine "
+                    f'X"d of {xd_pct[i]:g} % is below the {MIN_XD_PCT:g} % of any real machine '
                     f"(usually 9 to 30 %); xd_pct is in percent: {xd_pct[i] * 100:g} for a "
                     f"fraction of {xd_pct[i]:g}",
                 )
@@ -233,7 +234,7 @@ def machine_slips(kv: np.ndarray, xd_pct: np.ndarray, bus_kv: np.ndarray, bus: l
                     i,
                     "xd_pct",
                     float(xd_pct[i]),
-                    f"X\"d of {xd_pct[i]:g} % is above {MAX_XD_PCT:g} %: the machine would feed "
+                    f'X"d of {xd_pct[i]:g} % is above {MAX_XD_PCT:g} %: the machine would feed '
                     "less than its rated current into a bolted fault; check the decimal point",
                 )
             )
