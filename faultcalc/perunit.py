@@ -21,8 +21,9 @@ Conventions (stated in the README's method section, with their sources):
 * Machine: the reactance is X"d, ``x = xd_pct/100`` on the machine's own rating, and
   ``r = x / (X/R)``, as machine data are written in the trade (from memory of IEEE Std
   551-2006; IEC 60909-0 writes a generator as R_G + jX"d), changed to the common base
-  ``* base_mva/(kva/1000) * (kv/bus_kv)**2 / count`` behind the prefault voltage; zero sequence only when the neutral is grounded:
-  ``(z0 + 3 Zn) / count`` with ``x0 = x0_pct/100`` and the same X/R.
+  ``* base_mva/(kva/1000) * (kv/bus_kv)**2 / count`` behind the prefault voltage; zero
+  sequence only when the neutral is grounded: ``(z0 + 3 Zn) / count`` with
+  ``x0 = x0_pct/100`` and the same X/R.
 """
 
 from __future__ import annotations
