@@ -21,11 +21,11 @@ class Problem:
     message: str
 
     def location(self) -> str:
-        parts = [f"sheet '{self.sheet}'"]
+        parts = [f"sheet '{_shown(self.sheet)}'"]
         if self.row is not None:
             parts.append(f"row {self.row}")
         if self.column is not None:
-            parts.append(f"column '{self.column}'")
+            parts.append(f"column '{_shown(self.column)}'")
         return ", ".join(parts)
 
     def __str__(self) -> str:
@@ -33,6 +33,13 @@ class Problem:
         if self.value is not None and self.value != "":
             text += f" (found {self.value!r})"
         return text
+
+
+def _shown(name: str) -> str:
+    """A sheet or column name as printed: a CSV file name or a header may hold any character,
+    and control characters (a line break, a terminal escape) are shown as escapes."""
+    name = str(name)
+    return name if name.isprintable() else repr(name)[1:-1]
 
 
 class InputError(Exception):

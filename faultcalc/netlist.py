@@ -22,6 +22,12 @@ Impedances are realised at the system frequency: a negative resistance where ``Z
 ``(Z0 - Z1) / 3`` negative, and a capacitor for a negative reactance. That is exact for an AC
 analysis; transient netlists refuse them. Every node gets 1e12 ohm to ground (``rshunt``) so
 that floating stars and deltas have a DC path; it changes currents by about 1e-12.
+
+Text from the input (the title, bus and element names) appears only in comment lines, each
+beginning '* ' and each on one line: control characters and line breaks in it are written as
+escapes (``\\n``), so no name can start a line of its own (a ``.control`` block or a ``*#``
+line, which the simulator would run). Element names in statements are a running number and the
+name cut to ASCII letters, digits and underscores (``_safe``); nodes are numbered.
 """
 
 from __future__ import annotations
@@ -56,6 +62,11 @@ class _Writer:
     def add(self, line: str) -> None:
         self.lines.append(line)
 
+    def comment(self, text: str) -> None:
+        """A comment line: '* ' and ``text`` with every control character and line break
+        written as its escape, so that no text from the input starts a line of its own."""
+        self.lines.append("* " + _one_line(text))
+
     def impedance(self, a: str, b: str, z: complex, label: str) -> None:
         """R + jX between nodes a and b (a zero-volt link when z is 0)."""
         r, x = z.real, z.imag
@@ -78,9 +89,27 @@ class _Writer:
                 self.add(f"{self.name('C')} {mid} {b} {-1.0 / (self.omega * x):.12g}")
 
 
+# What may break a line or change how the text after it is shown: C0 and C1 controls, DEL,
+# the line and paragraph separators, bidirectional controls, lone surrogates.
+_NOT_IN_A_LINE = re.compile(
+    "[\x00-\x1f\x7f-\x9f\u2028\u2029\u202a-\u202e\u2066-\u2069\ud800-\udfff]"
+)
+
+
+def _one_line(text: str) -> str:
+    r"""``text`` with the characters of _NOT_IN_A_LINE written as escapes.
+
+    >>> _one_line("bus\n.control")
+    'bus\\n.control'
+    """
+    return _NOT_IN_A_LINE.sub(
+        lambda m: m.group().encode("unicode_escape", "backslashreplace").decode("ascii"), text
+    )
+
+
 def _safe(name: str) -> str:
-    """A SPICE-safe form of a name (letters, digits, underscores)."""
-    return re.sub(r"\W", "_", name)
+    """A SPICE-safe form of a name: ASCII letters, digits and underscores only."""
+    return re.sub(r"[^A-Za-z0-9_]", "_", name)
 
 
 def _split(z_abs: float, xr: float) -> complex:
@@ -185,24 +214,24 @@ def build_netlist(
         return "0"  # the return path is ideal ground; series Z0 sits in the phases
 
     title = settings.title or "faultcalc network"
-    w.add(f"* {title}")
-    w.add(
-        "* Phase-domain netlist written by faultcalc for an independent check; volts, "
+    w.comment(title)
+    w.comment(
+        "Phase-domain netlist written by faultcalc for an independent check; volts, "
         "amperes, ohms, henries, farads."
     )
-    w.add(
-        f"* Frequency {f_hz:g} Hz; prefault {settings.prefault_pu:g} pu; fault "
+    w.comment(
+        f"Frequency {f_hz:g} Hz; prefault {settings.prefault_pu:g} pu; fault "
         f"{fault or 'none'} at {bus or '-'}; fault impedance {settings.fault_ohm:g} ohm."
     )
-    w.add(
-        "* Nodes: <bus>a, <bus>b, <bus>c are the phases of each bus; 0 is ground, the return "
+    w.comment(
+        "Nodes: <bus>a, <bus>b, <bus>c are the phases of each bus; 0 is ground, the return "
         "path. A series element's zero-sequence impedance is in its phases: Z1 in each phase "
         "plus a common drop (Z0 - Z1)/3 x (Ia + Ib + Ic) from controlled sources."
     )
     for g in names:
         members = [b for b in group if group[b] == g]
-        w.add(
-            f"*   {node_id[g]} = bus {', '.join(members)} ({kv[g]:g} kV nominal, zone "
+        w.comment(
+            f"  {node_id[g]} = bus {', '.join(members)} ({kv[g]:g} kV nominal, zone "
             f"angle {angle[g]:g} deg)"
         )
 
@@ -211,7 +240,7 @@ def build_netlist(
     def star_source(label, b, e_kv_ln, z1, z0):
         star = f"s_{label}"
         theta = angle[group[b]]
-        w.add(f"* {label}: source behind its impedance at bus {b}")
+        w.comment(f"{label}: source behind its impedance at bus {b}")
         for k in range(3):
             phase_deg = theta - 120.0 * k
             internal = f"{star}{PHASES[k]}"
@@ -252,7 +281,7 @@ def build_netlist(
         star_source(label, m.bus, settings.prefault_pu * kv[m.bus] / SQRT3, z1, z0)
     for c in system.cables:
         z1, z0 = c.z_ohm, c.z0_ohm
-        w.add(f"* cable {c.cable}: {c.from_bus} - {c.to_bus}")
+        w.comment(f"cable {c.cable}: {c.from_bus} - {c.to_bus}")
         _series(
             w,
             [ph(c.from_bus, k) for k in range(3)],
@@ -263,9 +292,9 @@ def build_netlist(
         )
     for e in system.impedances:
         if e.is_tie:
-            w.add(f"* closed tie {e.element}: {e.from_bus} and {e.to_bus} share their nodes")
+            w.comment(f"closed tie {e.element}: {e.from_bus} and {e.to_bus} share their nodes")
             continue
-        w.add(f"* impedance {e.element}: {e.from_bus} - {e.to_bus}")
+        w.comment(f"impedance {e.element}: {e.from_bus} - {e.to_bus}")
         _series(
             w,
             [ph(e.from_bus, k) for k in range(3)],
@@ -334,7 +363,7 @@ def _meters(fault: str) -> list[str]:
 
 
 def _fault(w, bus, fault, fault_ohm, ph, ret, transient, close_s):
-    w.add(f"* fault {fault} at bus {bus}; current meters vf_*")
+    w.comment(f"fault {fault} at bus {bus}; current meters vf_*")
     point = "fpt"
     if transient:
         if fault != "3ph":
@@ -376,8 +405,8 @@ def _transformer(w: _Writer, t, ph, ret) -> None:
     v_lv = t.lv_kv * (1.0 if t.lv_winding == "D" else 1.0 / SQRT3)
     ratio = v_hv / v_lv
     label = f"x{w.count + 1}"
-    w.add(
-        f"* transformer {t.transformer}: {t.hv_bus} ({t.hv_winding}) / {t.lv_bus} "
+    w.comment(
+        f"transformer {t.transformer}: {t.hv_bus} ({t.hv_winding}) / {t.lv_bus} "
         f"({t.lv_winding}), clock {t.phase_shift_clock}, winding ratio {ratio:.9g}"
     )
     hstar, lstar = f"{label}_hn", f"{label}_ln"

@@ -13,7 +13,7 @@ import math
 import re
 from typing import Any
 
-from . import schema
+from . import names, schema
 from .tables import FormulaCell, PercentCell, is_blank  # noqa: F401 - is_blank used as cells.is_blank
 
 
@@ -195,4 +195,12 @@ def parse(value: Any, column: schema.Column, notes: list[str] | None = None) -> 
         if isinstance(value, float) and value.is_integer():
             value = int(value)
         return as_choice(value, column)
-    return as_text(value, notes)
+    text = as_text(value, notes)
+    problem = (
+        names.name_problem(text)
+        if column.kind in (schema.ID, schema.BUS_REF)
+        else names.text_problem(text)
+    )
+    if problem:
+        raise CellError(problem)
+    return text

@@ -29,6 +29,8 @@ import numpy as np
 from .. import conductors, model, progress
 from ..records import Records, plain_values
 from . import cells, reader, schema, service, slips
+from .names import any_problem
+from .names import key as name_key
 from .tables import (
     MAX_FILE_BYTES,
     RawSheet,
@@ -451,7 +453,9 @@ def _check(typed: dict[str, _Typed], settings, loaded, out: reader.Collector):
 
 
 def _unique_ignoring_case(columns: list[tuple[_Typed, str]]) -> bool:
-    """No two names alike ignoring case (str.casefold; ASCII lower case when all are ASCII)."""
+    """Every name valid and no two alike as the careful reader compares them (names.key);
+    for ASCII names that is ASCII lower case, and the only control character that _load lets
+    through is the tab."""
     import pyarrow as pa
     import pyarrow.compute as pc
 
@@ -461,9 +465,14 @@ def _unique_ignoring_case(columns: list[tuple[_Typed, str]]) -> bool:
         if not arrays:
             return True
         chunks = [c for a in arrays for c in (a.chunks if hasattr(a, "chunks") else [a])]
-        return len(pc.unique(pc.ascii_lower(pa.chunked_array(chunks, pa.string())))) == total
-    names = [n for sheet, name in columns for n in sheet.values[name]]
-    return len({n.casefold() for n in names}) == total
+        together = pa.chunked_array(chunks, pa.string())
+        if pc.any(pc.match_substring(together, "\t")).as_py():
+            return False
+        return len(pc.unique(pc.ascii_lower(together))) == total
+    texts = [n for sheet, name in columns for n in sheet.values[name]]
+    if any_problem(texts):
+        return False
+    return len({name_key(n) for n in texts}) == total
 
 
 def _positions(sheet: _Typed, column: str, index: dict[str, int]) -> np.ndarray:

@@ -9,6 +9,10 @@ and nobody reviews thousands of buses by scrolling a workbook.
 Numbers are written to SIGNIFICANT_DIGITS significant digits (rounded on whole arrays, then
 printed by Arrow's CSV writer in the shortest form that reads back to the rounded value); text
 fields are quoted only when one of them holds a comma, a quote or a line break.
+
+A text field that a spreadsheet program would take for a formula (it begins with ``=``, ``+``,
+``-``, ``@``, a tab or a carriage return) gets a single quote ``'`` before it, as the OWASP
+guidance on CSV injection advises; numbers, negative ones included, are written as numbers.
 """
 
 from __future__ import annotations
@@ -23,6 +27,10 @@ from ..results import BUS_COLUMNS, StudyResult
 BIG_OUTPUT_BUSES = 5_000
 SUMMARY_BUSES = 200
 SIGNIFICANT_DIGITS = 10
+# The first characters that make a spreadsheet program read a field as a formula (OWASP, CSV
+# injection), and what goes before such a field.
+FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
+TEXT_PREFIX = "'"
 
 
 def round_significant(values: np.ndarray, digits: int = SIGNIFICANT_DIGITS) -> np.ndarray:
@@ -53,7 +61,7 @@ def write_bus_csv_to(result: StudyResult, path: Path) -> None:
         if pd.api.types.is_float_dtype(column.dtype):
             arrays.append(pa.array(round_significant(column.to_numpy()), from_pandas=True))
         else:  # text: Arrow-backed in pandas with pyarrow installed, so no copy
-            arrays.append(pa.array(column, from_pandas=True))
+            arrays.append(neutralised(pa.array(column, from_pandas=True)))
     data = pa.Table.from_arrays(arrays, names=list(BUS_COLUMNS))
     with open(path, "wb") as handle:
         handle.write((",".join(BUS_COLUMNS) + "\n").encode())
@@ -64,6 +72,29 @@ def write_bus_csv_to(result: StudyResult, path: Path) -> None:
             handle.seek(start)
             handle.truncate()
             pcsv.write_csv(data, handle, write_options=_options(pcsv, "needed"))
+
+
+def neutralised(array):
+    """The Arrow array with TEXT_PREFIX before every text that begins like a formula
+    (FORMULA_STARTS); other arrays, and texts that begin otherwise, unchanged.
+
+    >>> import pyarrow as pa
+    >>> neutralised(pa.array(["=1+2", "-A", "SWBD-1", None])).to_pylist()
+    ["'=1+2", "'-A", 'SWBD-1', None]
+    """
+    import pyarrow as pa
+    import pyarrow.compute as pc
+
+    if pa.types.is_string_view(array.type):
+        array = array.cast(pa.large_string())
+    if not (pa.types.is_string(array.type) or pa.types.is_large_string(array.type)):
+        return array
+    first = pc.utf8_slice_codeunits(array, 0, 1)
+    live = pc.fill_null(pc.is_in(first, value_set=pa.array(FORMULA_STARTS, array.type)), False)
+    if not pc.any(live).as_py():
+        return array
+    prefix, nothing = pa.scalar(TEXT_PREFIX, array.type), pa.scalar("", array.type)
+    return pc.if_else(live, pc.binary_join_element_wise(prefix, array, nothing), array)
 
 
 def _options(pcsv, quoting: str):

@@ -17,7 +17,7 @@ import numpy as np
 
 from .. import conductors, model, progress
 from ..errors import InputError, Problem
-from . import cells, plausibility, schema, service, slips
+from . import cells, names, plausibility, schema, service, slips
 from .cases import read_cases
 from .tables import RawInput, RawSheet, load_input
 
@@ -227,10 +227,11 @@ def _unique_ids(
         name = record.values.get(id_column)
         if name is None:
             continue
-        key = name.casefold()
+        key = names.key(name)
         if key in taken:
             where_sheet, where_row, first = taken[key]
-            same = "" if first == name else f" as {first!r} (names are matched ignoring case)"
+            why = names.collision(first, name)
+            same = f" as {first!r} ({why})" if why else ""
             out.problem(
                 sheet,
                 record.row,

@@ -9,6 +9,7 @@ from pathlib import Path
 
 import pandas as pd
 from openpyxl import Workbook
+from openpyxl.cell.cell import ILLEGAL_CHARACTERS_RE
 from openpyxl.comments import Comment
 from openpyxl.styles import Alignment, Border, Font, PatternFill, Side
 from openpyxl.utils import get_column_letter
@@ -18,6 +19,7 @@ from ..cautions import SHORT_CAUTION
 from ..results import ELEMENT_COLUMNS, StudyResult
 from .csvout import SUMMARY_BUSES
 from .files import staged
+from .names import key as name_key
 
 HEADER_FILL = PatternFill("solid", fgColor="DCE6F0")
 CAUTION_FILL = PatternFill("solid", fgColor="FFF4CE")
@@ -47,7 +49,32 @@ class Col:
 def _finite(value):
     if isinstance(value, float) and not math.isfinite(value):
         return None
+    if isinstance(value, str) and ILLEGAL_CHARACTERS_RE.search(value):  # only from the API
+        return ILLEGAL_CHARACTERS_RE.sub(lambda m: f"\\x{ord(m.group()):02x}", value)
     return value
+
+
+def _text_cells(book: Workbook) -> None:
+    """Every text is a string cell, never a formula or an error value: openpyxl takes a str
+    starting with '=' for a formula and '#N/A' and the like for errors, and a name, title or
+    file name from the input must not act when the workbook is opened."""
+    for ws in book.worksheets:
+        for row in ws.iter_rows():
+            for cell in row:
+                if cell.data_type in ("f", "e") and isinstance(cell.value, str):
+                    cell.data_type = "s"
+
+
+def _header_text(text: str, limit: int) -> str:
+    """``text`` for a page header: '&' doubled (it starts a header code), at most ``limit``
+    characters."""
+    out = ""
+    for ch in text:
+        piece = "&&" if ch == "&" else ch
+        if len(out) + len(piece) > limit:
+            break
+        out += piece
+    return out
 
 
 def _table(ws, cols: list[Col], rows, *, freeze_columns: int = 1) -> None:
@@ -82,7 +109,7 @@ def _page_setup(ws, result: StudyResult) -> None:
     ws.page_setup.fitToHeight = 0
     ws.sheet_properties.pageSetUpPr.fitToPage = True
     title = result.basis.settings.title or "Short-circuit study"
-    ws.oddHeader.left.text = title[:120]
+    ws.oddHeader.left.text = _header_text(title, 120)
     ws.oddHeader.right.text = f"calculated {result.basis.calculated_at[:10]}"
     ws.oddHeader.right.size = 8
     ws.oddHeader.left.size = 8
@@ -820,12 +847,69 @@ def build_workbook(result: StudyResult) -> Workbook:
         sheets.append(ws)
     for ws in sheets:
         _page_setup(ws, result)
-    for bus in result.service_buses:
-        title = ("Label " + "".join(ch for ch in bus if ch not in "[]:*?/\\"))[:31]
+    titles = _label_titles(result.service_buses, book.sheetnames)
+    for bus, title in zip(result.service_buses, titles, strict=True):
         label = book.create_sheet(title)
+        assert label.title == title  # unique: openpyxl would otherwise rename it
         _page_setup(label, result)
         _label_sheet(label, result, bus)
+    _text_cells(book)
     return book
+
+
+SHEET_TITLE_CHARS = 31  # Excel's limit on a sheet title (UTF-16 code units)
+NOT_IN_TITLES = "[]:*?/\\"
+
+
+def _title_length(title: str) -> int:
+    return len(title.encode("utf-16-le")) // 2
+
+
+def _label_titles(buses, taken) -> list[str]:
+    """A sheet title for the label of each bus, none the same as another ignoring case
+    (Excel compares titles so; here as names are compared, names.key) nor as one of
+    ``taken``: 'Label <bus>' ([]:*?/\\ and unprintable characters made '_') when that fits in
+    31 characters and is no other bus's; otherwise the bus name cut short with '~1', '~2'...
+    after it, never a title that is some bus's own.
+
+    >>> _label_titles(["SWBD-1", "swbd-1", "A/B", "X" * 40], ["Fault currents"])
+    ['Label SWBD-1~1', 'Label swbd-1~2', 'Label A_B', 'Label XXXXXXXXXXXXXXXXXXXXXXX~1']
+    """
+    own = [
+        "Label " + "".join("_" if ch in NOT_IN_TITLES or not ch.isprintable() else ch for ch in bus)
+        for bus in buses
+    ]
+    count: dict[str, int] = {}
+    for title in own:
+        count[name_key(title)] = count.get(name_key(title), 0) + 1
+    fixed = {name_key(t) for t in taken}
+    used = fixed | set(count)
+    titles = []
+    for title in own:
+        key = name_key(title)
+        if (
+            count[key] == 1
+            and key not in fixed
+            and _title_length(title) <= SHEET_TITLE_CHARS
+            and not title.endswith("'")  # Excel refuses a title ending in an apostrophe
+        ):
+            titles.append(title)
+            continue
+        k = 0
+        while True:
+            k += 1
+            mark = f"~{k}"
+            head = ""
+            for ch in title:
+                if _title_length(head + ch + mark) > SHEET_TITLE_CHARS:
+                    break
+                head += ch
+            candidate = head.rstrip() + mark
+            if name_key(candidate) not in used:
+                break
+        used.add(name_key(candidate))
+        titles.append(candidate)
+    return titles
 
 
 def _summary(result: StudyResult, csv_name: str) -> tuple[StudyResult, str]:
