@@ -44,6 +44,7 @@ class Bus:
     rating_ka: float | None = None
     rating_xr: float | None = None
     service: str = "no"
+    in_service: str = "yes"  # the System holds only buses in service
     row: int | None = None
 
     @property

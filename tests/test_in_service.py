@@ -160,3 +160,17 @@ def test_taking_a_bus_out_on_the_bundled_sample(tmp_path):
     assert "SUB-A" not in sub_a_out.index and "DP-1" not in sub_a_out.index
     assert "SUB-B" in sub_a_out.index
     assert any("SUB-A out" in w and "DP-1" in w for w in result.warnings)
+
+
+@pytest.mark.parametrize("kind", ["csv", "xlsx"])
+def test_a_bus_out_of_service_in_the_base_case_and_back_in_a_case(make_input, kind):
+    sheets = copy.deepcopy(BASE)
+    sheets["buses"][2]["in_service"] = "no"  # B, and PNL fed only through it
+    sheets["cases"] = [{"case": "B back", "element": "B", "column": "in_service", "value": "yes"}]
+    system = read_system(make_input(sheets, kind=kind))
+    assert [b.bus for b in system.buses] == ["HV", "A"]
+    assert any(w.startswith("sheet 'buses': out of service: bus B") for w in system.warnings)
+    result = run_study(system)
+    everything = run_study(read_system(make_input(copy.deepcopy(BASE), kind=kind)))
+    back = result.cases["B back"].set_index("bus")
+    assert back.loc["PNL", "i3ph_ka"] == pytest.approx(_i3(everything, "PNL"), rel=1e-12)

@@ -95,7 +95,6 @@ def read_cases(
         case_raw = copy.deepcopy(raw)
         case_raw.sheets.pop("cases", None)
         case_raw.problems = []
-        buses_out: list[str] = []
         for record in overrides[name]:
             element = record.values["element"].strip()
             column = record.values["column"].strip().lower()
@@ -115,12 +114,7 @@ def read_cases(
                         Problem("cases", record.row, "value", value, "in_service takes yes or no")
                     )
                     continue
-                if sheet.name == schema.BUSES.name:
-                    if text == "no":
-                        bus_row = case_raw.sheets["buses"].rows[index][1]
-                        buses_out.append(cells.as_text(bus_row["bus"]).strip())
-                    continue
-                value = text  # an element: the in_service column, set like any other
+                value = text  # the in_service column, set like any other
             if column not in sheet.names or column == sheet.columns[0].name:
                 problems.append(
                     Problem(
@@ -149,9 +143,9 @@ def read_cases(
                     Problem(p.sheet, p.row, p.column, p.value, f"in case '{name}': {p.message}")
                 )
             continue
-        if buses_out:
-            system, note = service.without_buses(system, sorted(set(buses_out)))
-            notes.append(f"sheet 'cases': in case '{name}': {note}")
+        for note in system.warnings:  # what taking buses out removed, said for the case
+            if note.startswith(service.BUSES_OUT_NOTE):
+                notes.append(f"sheet 'cases': in case '{name}': {note.split(': ', 1)[1]}")
         if not in_labels:
             system = dataclasses.replace(system, in_labels=False)
         systems.append((name, system))

@@ -404,8 +404,8 @@ def _check(typed: dict[str, _Typed], settings, loaded, out: reader.Collector):
     if (device != buses.filled["rating_ka"]).any() or (buses.filled["rating_xr"] & ~device).any():
         raise _Decline
     kv = buses.values["kv"]
-    if slips.bus_slips(kv):
-        raise _Decline
+    if slips.bus_slips(kv) or "no" in buses.values[service.IN_SERVICE]:
+        raise _Decline  # a slip, or a bus out of service (the careful reader removes it)
     index = {b: i for i, b in enumerate(bus_names)}
     ends = {}
     for sheet, columns in REFERENCES:

@@ -742,6 +742,11 @@ def read_tables(raw: RawInput, with_cases: bool = True) -> model.System:
         input_sha256=raw.sha256,
         warnings=tuple(out.warnings),
     )
+    off = [r.values["bus"] for r in recs["buses"] if r.values.get(service.IN_SERVICE) == "no"]
+    if off:
+        system, note = service.without_buses(system, off)
+        said = (f"sheet 'buses': {note}",)
+        system = dataclasses.replace(system, warnings=system.warnings + said)
     return with_doubts(system)
 
 

@@ -239,6 +239,15 @@ BUSES = Sheet(
             default="no",
             choices=("yes", "no"),
         ),
+        Column(
+            "in_service",
+            CHOICE,
+            "no: the bus is out of service in the base case, with the elements connected to it "
+            "and whatever is fed only through it (said in a warning); a case can put it back. "
+            "Blank: yes.",
+            default="yes",
+            choices=("yes", "no"),
+        ),
     ),
     required=True,
 )

@@ -1,9 +1,10 @@
 """Elements and buses out of service: left out of the study, and said so.
 
 ``in_service`` = no on an element sheet keeps the row's checks and leaves the element out of the
-System (a normally-open tie, a standby generator); a case can set it either way. A case that
-takes a bus out of service removes the bus, every element connected to it, and whatever then
-hangs only on it (buses left without a path to any source or generator, with their elements).
+System (a normally-open tie, a standby generator); a case can set it either way. A bus out of
+service (in the base case or a case) is removed after reading, with every element connected to
+it and whatever then hangs only on it (buses left without a path to any source or generator,
+with their elements).
 """
 
 from __future__ import annotations
@@ -16,6 +17,7 @@ from ..model import System
 from . import schema
 
 IN_SERVICE = "in_service"
+BUSES_OUT_NOTE = "sheet 'buses': out of service: bus"  # the start of the buses-out warning
 
 NAME_COLUMN = {sheet.name: sheet.columns[0].name for sheet in schema.ELEMENT_SHEETS}
 # The series elements of a System and their two bus columns.
