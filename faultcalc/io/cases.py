@@ -46,17 +46,33 @@ def _in_labels(name: str, records, problems: list[Problem]) -> bool:
     return first != "no"
 
 
-def _find(raw: RawInput, name: str):
-    """(sheet name, index in its rows) of the element or bus called ``name``."""
-    for sheet in (schema.BUSES, *schema.ELEMENT_SHEETS):
-        table = raw.sheets.get(sheet.name)
-        if table is None:
-            continue
-        key = sheet.columns[0].name
-        for i, (_, values) in enumerate(table.rows):
-            if not cells.is_blank(values.get(key)) and cells.as_text(values[key]) == name:
-                return sheet, i
-    return None, None
+def _find(raw: RawInput, name: str, column: str):
+    """(sheet, index in its rows, message) of the element or bus called ``name`` (matched as
+    typed, else ignoring case, as bus references are). A name that is both a bus and an element
+    is taken where ``column`` is a column; where it is one of both, the message says so."""
+    found = []
+    for match in (lambda text: text == name, lambda text: text.casefold() == name.casefold()):
+        for sheet in (schema.BUSES, *schema.ELEMENT_SHEETS):
+            table = raw.sheets.get(sheet.name)
+            if table is None:
+                continue
+            key = sheet.columns[0].name
+            for i, (_, values) in enumerate(table.rows):
+                if not cells.is_blank(values.get(key)) and match(
+                    cells.as_text(values[key]).strip()
+                ):
+                    found.append((sheet, i))
+        if found:
+            break
+    if len(found) > 1:
+        fitting = [f for f in found if column in f[0].names]
+        if len(fitting) == 1:
+            return (*fitting[0], "")
+        where = " and ".join(f"a row of '{sheet.name}'" for sheet, _ in found)
+        return None, None, f"the name is {where}: rename one so that the case names one thing"
+    if found:
+        return (*found[0], "")
+    return None, None, "no bus or element of that name"
 
 
 def read_cases(
@@ -99,13 +115,9 @@ def read_cases(
             element = record.values["element"].strip()
             column = record.values["column"].strip().lower()
             value = record.values.get("value")
-            sheet, index = _find(case_raw, element)
+            sheet, index, message = _find(case_raw, element, column)
             if sheet is None:
-                problems.append(
-                    Problem(
-                        "cases", record.row, "element", element, "no bus or element of that name"
-                    )
-                )
+                problems.append(Problem("cases", record.row, "element", element, message))
                 continue
             if column == IN_SERVICE:
                 text = (value or "").strip().lower()

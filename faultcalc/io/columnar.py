@@ -115,7 +115,7 @@ def _read(path: Path) -> model.System:
         add_file(digest, file.name, data)
         loaded[name] = _load(data, small=name in ("study", "cases"))
     progress.step("checking every column")
-    reader.unknown_sheets(loaded, out)
+    reader.unknown_sheets({n: sheet.headers for n, sheet in loaded.items()}, out)
     study = loaded.get("study")
     raw_study = None
     if study is not None:
@@ -433,7 +433,7 @@ def _check(typed: dict[str, _Typed], settings, loaded, out: reader.Collector):
     machines = typed["machines"]
     machine_kv = kv[ends["machines"][0]]
     v = machines.values
-    if slips.machine_slips(v["kv"], v["xd_pct"], machine_kv, v["bus"]):
+    if slips.machine_slips(v["kv"], v["xd_pct"], machine_kv, v["bus"], v["kva"], v["hp"]):
         raise _Decline
     _machine_checks(machines, machine_kv, bus_kv, out)
     sources = typed["sources"]

@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..model import FT_PER_KFT, M_PER_FT, System
-from .slips import INFINITE_BUS_MVA
+from .slips import infinite_sources
 
 # Voltages commonly written in volts; a kv cell holding one of them was probably typed in volts.
 COMMON_VOLTS = {
@@ -86,13 +86,8 @@ def warnings(system: System) -> list[str]:
                     f"{_where('transformers', t.row, column)}: {value:g} kV looks like "
                     "volts; the column is in kilovolts"
                 )
-    source_kv = buses.array("kv")[system.bus_positions(system.sources.column("bus"))]
-    mva = np.where(
-        np.isnan(system.sources.array("sc_mva")),
-        np.sqrt(3.0) * source_kv * system.sources.array("sc_ka"),
-        system.sources.array("sc_mva"),
-    )
-    for s in system.sources.take(np.flatnonzero(mva >= INFINITE_BUS_MVA)):
+    infinite = infinite_sources(system.sources.array("sc_mva"), system.sources.array("sc_ka"))
+    for s in system.sources.take(np.flatnonzero(infinite)):
         column = "sc_mva" if s.sc_mva is not None else "sc_ka"
         out.append(
             f"{_where('sources', s.row, column)}: {getattr(s, column):g} is taken as an "

@@ -366,20 +366,6 @@ def _sheet_readable(spec: schema.Sheet, raw: RawSheet | None) -> bool:
 
 
 def check_transformers(records: list[Record], bus_kv: dict[str, float], out: Collector):
-    for record in records:
-        if not record.ok:
-            continue
-        v = record.values
-        if v["hv_kv"] <= v["lv_kv"]:
-            out.problem(
-                "transformers",
-                record.row,
-                "hv_kv",
-                v["hv_kv"],
-                f"hv_kv must be higher than lv_kv ({v['lv_kv']:g}); "
-                "list the high-voltage winding's bus as hv_bus",
-            )
-            record.ok = False
     ok = [r for r in records if r.ok]
     kva, hv_kv, lv_kv, z_pct = _columns(ok, "kva", "hv_kv", "lv_kv", "z_pct")
     hv_bus = [r.values["hv_bus"] for r in ok]
@@ -388,6 +374,18 @@ def check_transformers(records: list[Record], bus_kv: dict[str, float], out: Col
     lv_bus_kv = np.array([bus_kv[b] for b in lv_bus], float)
     found = slips.transformer_slips(kva, hv_kv, lv_kv, z_pct, hv_bus_kv, lv_bus_kv, hv_bus, lv_bus)
     _refuse_slips("transformers", ok, found, out)
+    for record in ok:
+        v = record.values
+        if record.ok and v["hv_kv"] < v["lv_kv"]:  # equal: an isolation transformer
+            out.problem(
+                "transformers",
+                record.row,
+                "hv_kv",
+                v["hv_kv"],
+                f"hv_kv must not be lower than lv_kv ({v['lv_kv']:g}); "
+                "list the high-voltage winding's bus as hv_bus",
+            )
+            record.ok = False
     for record in ok:
         if not record.ok:
             continue
@@ -511,9 +509,10 @@ def check_machines(records: list[Record], bus_kv: dict[str, float], out: Collect
             )
             record.ok = False
     ok = [r for r in records if r.ok]
-    kv, xd_pct = _columns(ok, "kv", "xd_pct")
+    kv, xd_pct, kva, hp = _columns(ok, "kv", "xd_pct", "kva", "hp")
     bus = [r.values["bus"] for r in ok]
-    found = slips.machine_slips(kv, xd_pct, np.array([bus_kv[b] for b in bus], float), bus)
+    bus_kv_of = np.array([bus_kv[b] for b in bus], float)
+    found = slips.machine_slips(kv, xd_pct, bus_kv_of, bus, kva, hp)
     _refuse_slips("machines", ok, found, out)
     for record in ok:
         v = record.values
@@ -595,11 +594,24 @@ SHEET_SYNONYMS = {
 }
 
 
-def _meant_sheet(name: str, present) -> str | None:
-    """The known sheet an unknown sheet name was probably meant as (capitals, singular or
-    plural, a small edit, another usual name), unless that sheet is there already."""
+def _meant_sheet(name: str, headers: list[str], present) -> str | None:
+    """The known sheet an unknown sheet was probably meant as, or None.
+
+    Its header row holds every required column of a known sheet (a second machines list named
+    'motors' beside 'machines'); or its name is close to a known sheet that is not there
+    (capitals, singular or plural, a small edit, another usual name) and its header shares a
+    column with that sheet. Otherwise it is an unrelated sheet (notes, a cover, relay settings).
+    """
     import difflib
 
+    columns = set(headers)
+    holding = [  # (required columns, columns shared, name) of each known sheet it can be
+        (len(required), len(columns & set(sheet.names)), sheet.name)
+        for sheet in schema.SHEETS[1:]
+        if (required := {c.name for c in sheet.columns if c.required}) <= columns
+    ]
+    if holding:
+        return max(holding)[2]
     key = " ".join(name.replace("_", " ").replace("-", " ").split()).replace(" ", "_")
     known = [s.name for s in schema.SHEETS]
     meant = None
@@ -611,23 +623,29 @@ def _meant_sheet(name: str, present) -> str | None:
     if meant is None:
         near = difflib.get_close_matches(key, known, n=1, cutoff=0.75)
         meant = near[0] if near else None
-    return meant if meant is not None and meant not in present else None
+    if meant is None or meant in present:
+        return None
+    spec = next(s for s in schema.SHEETS if s.name == meant)
+    return meant if columns & set(spec.names) else None
 
 
-def unknown_sheets(names, out: Collector) -> None:
+def unknown_sheets(headers: dict[str, list[str]], out: Collector) -> None:
+    """Warn of unknown sheets; a sheet that is probably a known one misnamed is a problem.
+    ``headers`` maps each sheet name of the input to its header row."""
     known_sheets = {s.name for s in schema.SHEETS} | {schema.GUIDE_SHEET}
-    for name in names:
+    for name, header in headers.items():
         if name in known_sheets:
             continue
-        meant = _meant_sheet(name, names)
+        meant = _meant_sheet(name, header, headers)
         if meant is not None:
             out.problem(
                 name,
                 None,
                 None,
                 None,
-                f"unknown sheet: did you mean '{meant}'? Rename it '{meant}' (its rows would "
-                "otherwise be left out of the study)",
+                f"unknown sheet, but its name or columns are those of '{meant}': rename it "
+                f"'{meant}' (or merge its rows into that sheet); its rows would otherwise be left "
+                "out of the study",
             )
             continue
         out.warn(
@@ -656,7 +674,7 @@ def read_tables(raw: RawInput, with_cases: bool = True) -> model.System:
     out = Collector()
     out.problems.extend(raw.problems)
     out.warnings.extend(raw.notes)
-    unknown_sheets(raw.sheets, out)
+    unknown_sheets({n: sheet.headers for n, sheet in raw.sheets.items()}, out)
     settings = read_settings(raw.sheets.get("study"), out)
     recs = {s.name: _read_sheet(s, raw.sheets.get(s.name), out) for s in schema.SHEETS[1:]}
 

@@ -26,14 +26,24 @@ KV_RATIO_LIMIT = 1.5
 # No AC system is built above 1200 kV, the highest voltage for equipment in IEC 60038 Table 5
 # (value from memory of IEC 60038:2009): a larger kv cell holds volts.
 MAX_KV = 1200.0
-# The smallest three-phase transformer ratings: 15 kVA for a primary above 1 kV (IEEE C57.12.00
-# preferred ratings, and three single-phase 5 kVA units; value from memory of IEEE Std
-# C57.12.00-2015 Table 1), 3 kVA for low-voltage dry types (value from memory of NEMA ST 20).
-MIN_KVA_MV = 15.0
+# The smallest three-phase transformer ratings by their windings, so that kVA typed in MVA is
+# caught at every voltage: 3 kVA for low-voltage dry types (value from memory of NEMA ST 20);
+# 5 kVA with a primary up to 35 kV and a low-voltage secondary (an open-delta bank of two 5 kVA
+# pole units carries 8.7 kVA; IEEE C57.12.00 single-phase ratings start at 5 kVA, value from
+# memory); 75 kVA with both windings above 1 kV up to 35 kV, 500 kVA with a primary above 35 kV
+# and 2,500 kVA above 100 kV (the smallest medium-voltage, sub-transmission and transmission
+# substation units; common practice, no source).
 MIN_KVA_LV = 3.0
-# The largest transformers built are about 1,500 MVA (generator step-up units; common practice,
-# no source): more than 2,000,000 kVA was typed in VA.
-MAX_KVA = 2_000_000.0
+MIN_KVA_DISTRIBUTION = 5.0
+MIN_KVA_MV_MV = 75.0
+MIN_KVA_SUBTRANSMISSION = 500.0
+MIN_KVA_TRANSMISSION = 2_500.0
+# The largest transformers: banks of about 3,000 MVA at 1000 kV (common practice, no source):
+# more than 5,000,000 kVA was typed in VA. With a secondary of 1 kV or less, no unit is built
+# above about 5,000 kVA (6,000 A at 480 V; common practice, no source): more than 10,000 kVA
+# was typed in VA.
+MAX_KVA = 5_000_000.0
+MAX_KVA_LV_SECONDARY = 10_000.0
 # Transformer impedance: no power or distribution transformer has less than about 1 % (common
 # practice, no source; small dry types are 1.5 to 3 %); below 0.5 % the cell holds a fraction
 # (0.0575 for 5.75 %). Above 100 % a transformer could not carry its own rated current at
@@ -46,15 +56,25 @@ MAX_Z_PCT = 100.0
 # would feed less than its rated current into a bolted fault.
 MIN_XD_PCT = 3.0
 MAX_XD_PCT = 100.0
+# Machine ratings: no machine above 1 kV is smaller than about 50 kVA (medium-voltage motors
+# start near 200 hp; common practice, no source), none at 1 kV or less is larger than 10,000
+# kVA (low-voltage generators and motors stop near 4,000 kVA) and none at all larger than
+# 2,000,000 kVA (the largest turbine generators are about 1,800 MVA; common practice, no
+# source): beyond these the rating was typed in MVA or in VA.
+MIN_MACHINE_KVA_MV = 50.0
+MAX_MACHINE_KVA_LV = 10_000.0
+MAX_MACHINE_KVA = 2_000_000.0
 # Available fault current at a utility point of delivery: the largest breakers interrupt about
 # 300 kA (generator circuit breakers, IEEE C37.013; value from memory) and the strongest
 # transmission buses carry about 100,000 MVA (80 kA at 765 kV, common practice, no source).
 # An infinite bus, the hand-calculation idealization of a stiff supply, is typed as a huge figure
-# (1e6 MVA or more) and stays allowed (warned in plausibility.py). Between these, more than
-# 1000 kA was typed in amperes and more than 200,000 MVA in kVA.
+# (1e6 MVA or more in sc_mva, or 1e6 kA or more in sc_ka) and stays allowed (warned in
+# plausibility.py). Otherwise more than 1000 kA was typed in amperes, and more than 200,000
+# MVA (typed, or from sc_ka at the bus kV) was typed in kVA or is impossible.
 MAX_SC_KA = 1000.0
 MAX_SC_MVA = 200_000.0
 INFINITE_BUS_MVA = 1e6
+INFINITE_BUS_KA = 1e6
 # Prefault voltage: refused outside 0.5 to 1.5 pu, where no system runs (a percent typed, 105
 # for 1.05); warned outside 0.9 to 1.1, the band of the IEC 60909-0 voltage factors c
 # (Table 1: cmin 0.95, cmax 1.10) and of ANSI C84.1 range B (common practice otherwise).
@@ -124,8 +144,13 @@ def transformer_slips(
     found: list[Slip] = []
     hv_off, lv_off = _off(hv_kv, hv_bus_kv), _off(lv_kv, lv_bus_kv)
     swapped = hv_off & lv_off & ~_off(hv_kv, lv_bus_kv) & ~_off(lv_kv, hv_bus_kv)
-    min_kva = np.where(hv_kv > 1.0, MIN_KVA_MV, MIN_KVA_LV)
-    small, large = kva < min_kva, kva > MAX_KVA
+    min_kva = np.select(
+        [hv_kv > 100.0, hv_kv > 35.0, lv_kv > 1.0, hv_kv > 1.0],
+        [MIN_KVA_TRANSMISSION, MIN_KVA_SUBTRANSMISSION, MIN_KVA_MV_MV, MIN_KVA_DISTRIBUTION],
+        MIN_KVA_LV,
+    )
+    max_kva = np.where(lv_kv > 1.0, MAX_KVA, MAX_KVA_LV_SECONDARY)
+    small, large = kva < min_kva, kva > max_kva
     low_z, high_z = z_pct < MIN_Z_PCT, z_pct > MAX_Z_PCT
     rows = hv_off | lv_off | small | large | low_z | high_z
     for i in np.flatnonzero(rows).tolist():
@@ -163,9 +188,9 @@ def transformer_slips(
                     i,
                     "kva",
                     float(kva[i]),
-                    f"{kva[i]:g} kVA is smaller than any three-phase power transformer with a "
-                    f"{hv_kv[i]:g} kV primary (the smallest rating is {min_kva[i]:g} kVA); kva is "
-                    f"in kVA: {kva[i] * 1000:g} for {kva[i]:g} MVA",
+                    f"{kva[i]:g} kVA is smaller than any three-phase transformer of "
+                    f"{hv_kv[i]:g}/{lv_kv[i]:g} kV (the smallest are about {min_kva[i]:,.0f} "
+                    f"kVA); kva is in kVA: {kva[i] * 1000:g} for {kva[i]:g} MVA",
                 )
             )
         elif large[i]:
@@ -174,8 +199,9 @@ def transformer_slips(
                     i,
                     "kva",
                     float(kva[i]),
-                    f"{kva[i]:g} kVA is larger than any transformer built (about 1,500 MVA); "
-                    f"kva is in kVA: {kva[i] / 1000:g} for {kva[i]:g} VA",
+                    f"{kva[i]:g} kVA is larger than any transformer of {hv_kv[i]:g}/"
+                    f"{lv_kv[i]:g} kV built (at most about {max_kva[i] / 2:,.0f} kVA); kva is "
+                    f"in kVA: {kva[i] / 1000:g} for {kva[i]:g} VA",
                 )
             )
         if low_z[i]:
@@ -201,12 +227,47 @@ def transformer_slips(
     return found
 
 
-def machine_slips(kv: np.ndarray, xd_pct: np.ndarray, bus_kv: np.ndarray, bus: list[str]):
-    """Rated kV inconsistent with the bus (volts, wrong bus), X"d as a fraction or impossible."""
+def machine_slips(
+    kv: np.ndarray,
+    xd_pct: np.ndarray,
+    bus_kv: np.ndarray,
+    bus: list[str],
+    kva: np.ndarray,
+    hp: np.ndarray,
+):
+    """Rated kV inconsistent with the bus (volts, wrong bus), X"d as a fraction or impossible,
+    a rating (kva, or hp taken as kVA) typed in MVA or VA."""
     found: list[Slip] = []
     off = _off(kv, bus_kv)
     low, high = xd_pct < MIN_XD_PCT, xd_pct > MAX_XD_PCT
-    for i in np.flatnonzero(off | low | high).tolist():
+    rating = np.where(np.isnan(kva), hp, kva)
+    max_kva = np.where(kv > 1.0, MAX_MACHINE_KVA, MAX_MACHINE_KVA_LV)
+    tiny = (kv > 1.0) & (rating < MIN_MACHINE_KVA_MV)
+    huge = rating > max_kva
+    for i in np.flatnonzero(off | low | high | tiny | huge).tolist():
+        column = "kva" if not np.isnan(kva[i]) else "hp"
+        if tiny[i]:
+            found.append(
+                Slip(
+                    i,
+                    column,
+                    float(rating[i]),
+                    f"{rating[i]:g} {column} is smaller than any machine rated {kv[i]:g} kV "
+                    f"(the smallest are about {MIN_MACHINE_KVA_MV:g} kVA); {column} is per "
+                    f"machine: {rating[i] * 1000:g} for {rating[i]:g} MVA",
+                )
+            )
+        elif huge[i]:
+            found.append(
+                Slip(
+                    i,
+                    column,
+                    float(rating[i]),
+                    f"{rating[i]:g} {column} is larger than any machine rated {kv[i]:g} kV "
+                    f"(at most about {max_kva[i] / 2:,.0f} kVA); {column} is per machine: "
+                    f"{rating[i] / 1000:g} for {rating[i]:g} VA",
+                )
+            )
         if off[i]:
             found.append(
                 Slip(
@@ -241,28 +302,39 @@ def machine_slips(kv: np.ndarray, xd_pct: np.ndarray, bus_kv: np.ndarray, bus: l
     return found
 
 
+def infinite_sources(sc_mva: np.ndarray, sc_ka: np.ndarray) -> np.ndarray:
+    """Sources typed as an infinite bus (an idealization, allowed and warned)."""
+    return (sc_mva >= INFINITE_BUS_MVA) | (sc_ka >= INFINITE_BUS_KA)
+
+
 def source_slips(
     sc_mva: np.ndarray, sc_ka: np.ndarray, slg_ka: np.ndarray, bus_kv: np.ndarray
 ) -> list[Slip]:
-    """Available fault current typed in amperes, or power in kVA (an infinite bus, 1e6 MVA or
-    more, is allowed: the line-to-ground figure of one may be as large)."""
+    """Available fault current typed in amperes, or power in kVA (an infinite bus is allowed,
+    and the line-to-ground figure of one may be as large)."""
     found: list[Slip] = []
+    infinite = infinite_sources(sc_mva, sc_ka)
     mva = np.where(np.isnan(sc_mva), np.sqrt(3.0) * bus_kv * sc_ka, sc_mva)
-    infinite = mva >= INFINITE_BUS_MVA
-    high_mva = (sc_mva > MAX_SC_MVA) & ~infinite
     high_ka = (sc_ka > MAX_SC_KA) & ~infinite
+    high_mva = (mva > MAX_SC_MVA) & ~infinite & ~high_ka
     high_slg = (slg_ka > MAX_SC_KA) & ~infinite
     for i in np.flatnonzero(high_mva | high_ka | high_slg).tolist():
         if high_mva[i]:
+            column = "sc_mva" if not np.isnan(sc_mva[i]) else "sc_ka"
+            typed = sc_mva[i] if column == "sc_mva" else sc_ka[i]
+            unit = (
+                f"sc_mva is in MVA: {sc_mva[i] / 1000:g} for {sc_mva[i]:g} kVA"
+                if column == "sc_mva"
+                else f"{sc_ka[i]:g} kA at {bus_kv[i]:g} kV is {mva[i]:,.0f} MVA"
+            )
             found.append(
                 Slip(
                     i,
-                    "sc_mva",
-                    float(sc_mva[i]),
-                    f"{sc_mva[i]:g} MVA is more than any power system delivers (about "
-                    f"{MAX_SC_MVA / 2:,.0f} MVA at the strongest transmission buses); sc_mva is "
-                    f"in MVA: {sc_mva[i] / 1000:g} for {sc_mva[i]:g} kVA (for an infinite bus "
-                    f"give {INFINITE_BUS_MVA:g} MVA or more)",
+                    column,
+                    float(typed),
+                    f"{mva[i]:,.0f} MVA is more than any power system delivers (about "
+                    f"{MAX_SC_MVA / 2:,.0f} MVA at the strongest transmission buses); {unit} "
+                    f"(for an infinite bus give {INFINITE_BUS_MVA:g} MVA or more)",
                 )
             )
         for column, flags, value in (("sc_ka", high_ka, sc_ka), ("slg_ka", high_slg, slg_ka)):
@@ -273,7 +345,8 @@ def source_slips(
                         column,
                         float(value[i]),
                         f"{value[i]:g} kA is more than any equipment interrupts (about 300 kA); "
-                        f"{column} is in kA: {value[i] / 1000:g} for {value[i]:g} A",
+                        f"{column} is in kA: {value[i] / 1000:g} for {value[i]:g} A (for an "
+                        f"infinite bus give sc_mva {INFINITE_BUS_MVA:g} or more)",
                     )
                 )
     return found

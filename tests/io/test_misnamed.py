@@ -53,7 +53,7 @@ def test_a_sheet_named_close_to_a_known_one_is_an_error(make_input, kind, name, 
     with pytest.raises(InputError) as info:
         read_system(make_input(sheets, kind=kind))
     found = [p for p in info.value.problems if p.sheet == name.lower()]
-    assert len(found) == 1 and f"did you mean '{meant}'" in found[0].message
+    assert len(found) == 1 and f"those of '{meant}': rename it '{meant}'" in found[0].message
 
 
 @pytest.mark.parametrize("kind", ["csv", "xlsx"])
@@ -131,3 +131,30 @@ def test_warnings_are_printed_when_the_study_finds_the_problem(make_input, tmp_p
     run = CliRunner().invoke(main, ["study", str(make_input(sheets)), "-o", str(tmp_path / "r")])
     assert run.exit_code == 2 and "ISLAND" in run.output
     assert "warning: sheet 'notes'" in run.output
+
+
+def test_a_second_machine_list_beside_machines_is_refused(make_input):
+    # A 'motors' sheet with the machine columns beside a 'machines' sheet: its motors would be
+    # left out (non-conservative), so it is refused though 'machines' is there.
+    sheets = copy.deepcopy(BASE)
+    sheets["machines"] = [dict(MOTOR, machine="G", kind="generator", kva=500, hp=None, kv=0.48)]
+    sheets["motors"] = [dict(MOTOR, machine="M500", hp=500)]
+    with pytest.raises(InputError) as info:
+        read_system(make_input(sheets))
+    (p,) = info.value.problems
+    assert p.sheet == "motors" and "those of 'machines'" in p.message
+
+
+@pytest.mark.parametrize(
+    "name,columns",
+    [
+        ("settings", {"relay": "R1", "pickup_a": 400}),  # relay settings, not the study sheet
+        ("lines", {"drawing": "E-101", "revision": "C"}),
+        ("cover", {"project": "invented", "engineer": "someone"}),
+    ],
+)
+def test_a_sheet_with_a_near_name_but_other_columns_stays_a_warning(make_input, name, columns):
+    sheets = copy.deepcopy(BASE)
+    sheets[name] = [columns]
+    system = read_system(make_input(sheets))
+    assert any(f"sheet '{name}'" in w and "unknown sheet, ignored" in w for w in system.warnings)
