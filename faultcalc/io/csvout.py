@@ -8,7 +8,9 @@ and nobody reviews thousands of buses by scrolling a workbook.
 
 Numbers are written to SIGNIFICANT_DIGITS significant digits (rounded on whole arrays, then
 printed by Arrow's CSV writer in the shortest form that reads back to the rounded value); text
-fields are quoted only when one of them holds a comma, a quote or a line break.
+fields are quoted only when one of them holds a comma, a quote or a line break. After the
+columns of the bus table (BUS_COLUMNS, in order) comes ``input_sha256``, the SHA-256 of the input
+on every row, so that the file names the input it belongs to as the workbook and JSON do.
 """
 
 from __future__ import annotations
@@ -23,6 +25,7 @@ from ..results import BUS_COLUMNS, StudyResult
 BIG_OUTPUT_BUSES = 5_000
 SUMMARY_BUSES = 200
 SIGNIFICANT_DIGITS = 10
+CSV_COLUMNS = (*BUS_COLUMNS, "input_sha256")
 
 
 def round_significant(values: np.ndarray, digits: int = SIGNIFICANT_DIGITS) -> np.ndarray:
@@ -54,9 +57,10 @@ def write_bus_csv_to(result: StudyResult, path: Path) -> None:
             arrays.append(pa.array(round_significant(column.to_numpy()), from_pandas=True))
         else:  # text: Arrow-backed in pandas with pyarrow installed, so no copy
             arrays.append(pa.array(column, from_pandas=True))
-    data = pa.Table.from_arrays(arrays, names=list(BUS_COLUMNS))
+    arrays.append(pa.repeat(pa.scalar(result.basis.input_sha256, pa.string()), len(table)))
+    data = pa.Table.from_arrays(arrays, names=list(CSV_COLUMNS))
     with open(path, "wb") as handle:
-        handle.write((",".join(BUS_COLUMNS) + "\n").encode())
+        handle.write((",".join(CSV_COLUMNS) + "\n").encode())
         start = handle.tell()
         try:  # unquoted unless a text field needs quotes (then Arrow refuses and all are)
             pcsv.write_csv(data, handle, write_options=_options(pcsv, "none"))
