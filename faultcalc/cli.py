@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import json
 import os
+import signal
 import sys
 import traceback
 from pathlib import Path
@@ -24,7 +25,7 @@ from . import (
 from .io.csvout import BIG_OUTPUT_BUSES, write_bus_csv_to
 from .io.files import same_file, staged
 from .io.jsonout import cable_check_dict, write_json_to
-from .io.template import write_template
+from .io.template import build_template
 from .io.workbook import write_workbook_to
 from .netlist import FAULTS, build_netlist
 from .study import contribution_buses
@@ -39,10 +40,58 @@ def _fail(message: str, status: int) -> None:
     sys.exit(status)
 
 
+class Interrupted(BaseException):
+    """SIGTERM or SIGHUP arrived: unwind like Ctrl-C, so that every temporary file goes.
+
+    A BaseException, so that no ``except Exception`` on the way turns it into another error.
+    """
+
+    def __init__(self, signum: int):
+        super().__init__(signum)
+        self.signum = signum
+
+
+STOP_SIGNALS = tuple(getattr(signal, n) for n in ("SIGTERM", "SIGHUP") if hasattr(signal, n))
+_previous_handlers: dict[int, object] = {}
+
+
+def _stop(signum, frame) -> None:
+    for s in STOP_SIGNALS:  # a second signal must not cut the clean-up short
+        if s in _previous_handlers:
+            signal.signal(s, signal.SIG_IGN)
+    raise Interrupted(signum)
+
+
+def _arm() -> None:
+    """Turn SIGTERM and SIGHUP into Interrupted where they would kill the process outright
+    (an ignored signal, as under nohup, stays ignored; another handler stays)."""
+    for s in STOP_SIGNALS:
+        try:
+            if signal.getsignal(s) == signal.SIG_DFL:
+                _previous_handlers[s] = signal.signal(s, _stop)
+        except ValueError:  # not the main thread: signals stay as they are
+            return
+
+
+def _disarm() -> None:
+    """Give the signals back their earlier handling (called once the outputs are in place)."""
+    while _previous_handlers:
+        s, handler = _previous_handlers.popitem()
+        signal.signal(s, handler)
+
+
 def _guarded(action):
-    """Run ``action``; bad input exits 2 listing every problem, other failures exit 1."""
+    """Run ``action``; bad input exits 2 listing every problem, other failures exit 1, and
+    SIGTERM or SIGHUP exits 128 + its number, leaving no output or temporary file."""
+    _arm()
     try:
         return action()
+    except Interrupted as exc:
+        _disarm()
+        _fail(
+            f"stopped by {signal.Signals(exc.signum).name}; nothing was written",
+            128 + exc.signum,
+        )
     except click.ClickException:
         raise
     except InputError as exc:
@@ -66,6 +115,8 @@ def _guarded(action):
             "it with the input.",
             EXIT_FAILURE,
         )
+    finally:
+        _disarm()
 
 
 def _summary(result) -> str:
@@ -97,8 +148,13 @@ OVERWRITE = click.option(
 )
 
 
-def _check_targets(input_path: Path, targets: list[Path], overwrite: bool) -> None:
-    """Refuse the input as an output, and existing files unless --overwrite."""
+def _check_targets(input_path: Path, targets: list[Path], overwrite: bool) -> list[Path]:
+    """Refuse the input as an output, and existing files unless --overwrite.
+
+    Returns the targets that exist now: the only ones the final placement may replace (a file
+    that appears at another target while the command runs is kept, and the run fails).
+    """
+    existing = []
     for target in targets:
         if same_file(target, input_path) or (
             input_path.is_dir()
@@ -106,12 +162,20 @@ def _check_targets(input_path: Path, targets: list[Path], overwrite: bool) -> No
             and target.suffix.lower() == ".csv"
         ):
             raise OutputError(f"refusing to write {target}: it is the input")
-        if target.exists() and not overwrite:
+        if os.path.lexists(target) and not overwrite:
             raise OutputError(
                 f"{target} exists already; add --overwrite to replace it, or choose another name"
             )
         if target.exists() and target.is_dir():
             raise OutputError(f"{target} is a folder; give a file name")
+        if os.path.lexists(target):
+            existing.append(target)
+    return existing
+
+
+def bus_csv_path(output: Path) -> Path:
+    """The companion of a results workbook that holds every bus of a large study."""
+    return output.with_name(output.stem + "-buses.csv")
 
 
 def _run(
@@ -122,7 +186,15 @@ def _run(
     overwrite: bool = False,
 ):
     """Study and write; returns the StudyResult (after every output is written)."""
-    _check_targets(input_path, [t for t in (output, json_path) if t], overwrite)
+    csv_path = bus_csv_path(output)
+    if json_path is not None and same_file(json_path, csv_path):
+        raise OutputError(f"the JSON file cannot be {csv_path.name}: that name is for the bus CSV")
+    # A bus CSV left by an earlier run is a target too: replaced by a large study, removed by
+    # a smaller one, so that none is left beside a workbook it does not belong to.
+    companion = [csv_path] if os.path.lexists(csv_path) else []
+    existing = _check_targets(
+        input_path, [t for t in (output, json_path) if t] + companion, overwrite
+    )
     for target in filter(None, (output, json_path)):
         if same_file(target, input_path) or (
             input_path.is_dir()
@@ -149,11 +221,14 @@ def _run(
         result = run_study(system, contributions=contributions)
     big = len(result.buses) > BIG_OUTPUT_BUSES
     targets = [output] + ([json_path] if json_path else [])
-    csv_path = output.with_name(output.stem + "-buses.csv")
     if big:
         _check_targets(input_path, [csv_path], overwrite)
         targets.append(csv_path)
-    with progress.phase("writing the results"), staged(*targets) as temps:
+    stale = [] if big else companion
+    with (
+        progress.phase("writing the results"),
+        staged(*targets, replace=existing, remove=stale) as temps,
+    ):
         progress.plan(len(targets))
         progress.step("workbook" + (" (summary)" if big else ""))
         write_workbook_to(result, temps[0], summary_of=csv_path.name if big else None)
@@ -163,6 +238,9 @@ def _run(
         if big:
             progress.step("every bus as CSV")
             write_bus_csv_to(result, temps[-1])
+    _disarm()
+    if stale:
+        click.echo(f"removed {csv_path.name}, left by an earlier, larger study", err=True)
     for w in result.warnings:
         click.echo(f"warning: {w}", err=True)
     click.echo(_summary(result))
@@ -239,7 +317,8 @@ def study(
     \b
     Exit status: 0 done; 1 failure; 2 bad input (every problem listed, nothing
     written); 3 (only with --fail-on-overduty) a device's duty exceeds its rating
-    in the base case or a case, every output written.
+    in the base case or a case, every output written; 143 or 129 stopped by
+    SIGTERM or SIGHUP (nothing written).
     """
     result = _guarded(lambda: _run(input_path, output, json_path, contributions, overwrite))
     if fail_on_overduty and not result.over_rating().empty:
@@ -281,16 +360,18 @@ def check_cables_command(
     """
 
     def action():
+        existing = []
         if json_path is not None:
-            _check_targets(input_path, [json_path], overwrite)
+            existing = _check_targets(input_path, [json_path], overwrite)
         system = read_system(input_path)
         checks = cablecheck.check_cables(system, tolerance_pct)
         if json_path is not None:
-            with staged(json_path) as (temp,):
+            with staged(json_path, replace=existing) as (temp,):
                 doc = cable_check_dict(
                     checks, tolerance_pct, system.input_name, system.input_sha256
                 )
                 temp.write_text(json.dumps(doc, indent=2, allow_nan=False) + "\n", encoding="utf-8")
+            _disarm()
         flagged = [c for c in checks if c.flagged]
         for c in checks:
             mark = (
@@ -339,13 +420,14 @@ def netlist(input_path: Path, bus: str, fault: str, output: Path, overwrite: boo
     """
 
     def action():
-        _check_targets(input_path, [output], overwrite)
+        existing = _check_targets(input_path, [output], overwrite)
         system = read_system(input_path)
         if bus not in {b.bus for b in system.buses}:
             raise click.BadParameter(f"no bus named {bus} in {input_path.name}", param_hint="--bus")
         text = build_netlist(system, bus, fault)
-        with staged(output) as (temp,):
+        with staged(output, replace=existing) as (temp,):
             temp.write_text(text, encoding="utf-8")
+        _disarm()
         click.echo(
             f"netlist: {output.resolve()} ({text.count(chr(10))} lines); run it with: "
             f"ngspice -b {output}"
@@ -356,7 +438,8 @@ def netlist(input_path: Path, bus: str, fault: str, output: Path, overwrite: boo
 
 @main.command()
 @click.argument("path", metavar="PATH.xlsx", type=click.Path(path_type=Path))
-def template(path: Path) -> None:
+@OVERWRITE
+def template(path: Path, overwrite: bool) -> None:
     """Write a blank input workbook with every sheet and column, help and choice lists.
 
     \b
@@ -365,9 +448,16 @@ def template(path: Path) -> None:
     """
 
     def action():
-        if path.exists():
-            raise OutputError(f"{path} exists already; choose another name")
-        write_template(path)
+        if path.is_dir():
+            raise OutputError(f"{path} is a folder; give a file name")
+        exists = os.path.lexists(path)
+        if exists and not overwrite:
+            raise OutputError(
+                f"{path} exists already; add --overwrite to replace it, or choose another name"
+            )
+        with staged(path, replace=[path] if exists else []) as (temp,):
+            build_template().save(temp)
+        _disarm()
         click.echo(f"blank input workbook: {path.resolve()}")
         click.echo(
             "Fill it (hover over a header for its help), then: "

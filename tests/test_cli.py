@@ -82,6 +82,28 @@ def test_template_has_every_sheet_column_help_and_choice_list(tmp_path):
     assert run("template", str(path)).exit_code == 1  # never overwrites
 
 
+def test_template_overwrite(tmp_path):
+    path = tmp_path / "blank.xlsx"
+    path.write_bytes(b"an earlier file")
+    refused = run("template", str(path))
+    assert refused.exit_code == 1 and "--overwrite" in refused.output
+    assert path.read_bytes() == b"an earlier file"
+    replaced = run("template", str(path), "--overwrite")
+    assert replaced.exit_code == 0, replaced.output
+    titles = load_workbook(path).sheetnames
+    assert all(sheet.name in titles for sheet in schema.SHEETS)
+    assert [p.name for p in tmp_path.iterdir()] == ["blank.xlsx"]  # no temporary file left
+
+
+def test_template_refuses_a_folder(tmp_path):
+    folder = tmp_path / "plant.xlsx"
+    folder.mkdir()
+    for args in ([], ["--overwrite"]):
+        result = run("template", str(folder), *args)
+        assert result.exit_code == 1 and "is a folder" in result.output
+        assert "Traceback" not in result.output and list(folder.iterdir()) == []
+
+
 def test_filled_template_reads_back_without_warnings(tmp_path):
     path = tmp_path / "filled.xlsx"
     assert run("template", str(path)).exit_code == 0

@@ -8,7 +8,9 @@ and nobody reviews thousands of buses by scrolling a workbook.
 
 Numbers are written to SIGNIFICANT_DIGITS significant digits (rounded on whole arrays, then
 printed by Arrow's CSV writer in the shortest form that reads back to the rounded value); text
-fields are quoted only when one of them holds a comma, a quote or a line break.
+fields are quoted only when one of them holds a comma, a quote or a line break. After the
+columns of the bus table (BUS_COLUMNS, in order) comes ``input_sha256``, the SHA-256 of the input
+on every row, so that the file names the input it belongs to as the workbook and JSON do.
 
 A text field that a spreadsheet program would take for a formula (it begins with ``=``, ``+``,
 ``-``, ``@``, a tab or a carriage return) gets a single quote ``'`` before it, as the OWASP
@@ -31,6 +33,7 @@ SIGNIFICANT_DIGITS = 10
 # injection), and what goes before such a field.
 FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
 TEXT_PREFIX = "'"
+CSV_COLUMNS = (*BUS_COLUMNS, "input_sha256")
 
 
 def round_significant(values: np.ndarray, digits: int = SIGNIFICANT_DIGITS) -> np.ndarray:
@@ -62,9 +65,10 @@ def write_bus_csv_to(result: StudyResult, path: Path) -> None:
             arrays.append(pa.array(round_significant(column.to_numpy()), from_pandas=True))
         else:  # text: Arrow-backed in pandas with pyarrow installed, so no copy
             arrays.append(neutralised(pa.array(column, from_pandas=True)))
-    data = pa.Table.from_arrays(arrays, names=list(BUS_COLUMNS))
+    arrays.append(pa.repeat(pa.scalar(result.basis.input_sha256, pa.string()), len(table)))
+    data = pa.Table.from_arrays(arrays, names=list(CSV_COLUMNS))
     with open(path, "wb") as handle:
-        handle.write((",".join(BUS_COLUMNS) + "\n").encode())
+        handle.write((",".join(CSV_COLUMNS) + "\n").encode())
         start = handle.tell()
         try:  # unquoted unless a text field needs quotes (then Arrow refuses and all are)
             pcsv.write_csv(data, handle, write_options=_options(pcsv, "none"))

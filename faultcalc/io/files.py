@@ -3,12 +3,18 @@
 from __future__ import annotations
 
 import contextlib
+import errno
 import os
 import tempfile
-from collections.abc import Iterator
+from collections.abc import Iterable, Iterator
 from pathlib import Path
 
 from ..errors import OutputError
+
+# os.link fails with these where the file system has no hard links (FAT, exFAT, some network
+# shares); a new file is then placed by reserving its name first (see _place_new).
+_NO_HARD_LINKS = {errno.EPERM, errno.EXDEV, errno.EMLINK, errno.ENOSYS, errno.EOPNOTSUPP}
+_NO_HARD_LINKS.add(getattr(errno, "ENOTSUP", errno.EOPNOTSUPP))
 
 
 def same_file(a: str | Path, b: str | Path) -> bool:
@@ -19,37 +25,120 @@ def same_file(a: str | Path, b: str | Path) -> bool:
         return False
 
 
-@contextlib.contextmanager
-def staged(*paths: str | Path) -> Iterator[list[Path]]:
-    """Yield temporary paths beside each target; rename them all into place on success.
+def _temporary(target: Path) -> Path:
+    folder = target.parent if str(target.parent) else Path(".")
+    if not folder.is_dir():
+        raise OutputError(f"cannot write {target}: the folder {folder} does not exist")
+    try:
+        handle, name = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".part", dir=folder)
+    except OSError as exc:
+        raise OutputError(f"cannot write in {folder}: {exc.strerror}") from None
+    os.close(handle)
+    return Path(name)
 
-    If the body raises, every temporary file is removed and no target is touched.
+
+def _appeared(target: Path) -> OutputError:
+    return OutputError(
+        f"{target} was created by something else while this ran; it was left as it is and "
+        "nothing was written. Add --overwrite to replace it, or choose another name"
+    )
+
+
+def _place_new(temp: Path, target: Path, placed: list[Path]) -> None:
+    """Put ``temp`` at ``target`` only if nothing is there; never replace a file."""
+    try:
+        os.link(temp, target)  # fails if the name is taken, atomically
+        placed.append(target)
+        return
+    except FileExistsError:
+        raise _appeared(target) from None
+    except OSError as exc:
+        if exc.errno not in _NO_HARD_LINKS:
+            raise OutputError(f"cannot write {target}: {exc.strerror}") from None
+    try:  # no hard links here: reserve the name, then rename the finished file over it
+        os.close(os.open(target, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o600))
+    except FileExistsError:
+        raise _appeared(target) from None
+    except OSError as exc:
+        raise OutputError(f"cannot write {target}: {exc.strerror}") from None
+    placed.append(target)
+    try:
+        os.replace(temp, target)
+    except OSError as exc:
+        raise OutputError(f"cannot write {target}: {exc.strerror}") from None
+
+
+def _place(
+    temps: list[Path], targets: list[Path], replace: set[Path] | None, remove: list[Path]
+) -> None:
+    """Move every finished temporary file to its target, or change nothing at all.
+
+    New targets are placed first (each only where no file is); if one fails, the files placed
+    so far and those set aside are put back before the error goes on. Targets in ``replace``
+    (all when it is None) are renamed over whatever is there.
+    """
+    placed: list[Path] = []
+    aside: list[tuple[Path, Path]] = []
+    pairs = list(zip(temps, targets, strict=True))
+    new = [(t, p) for t, p in pairs if replace is not None and p not in replace]
+    over = [(t, p) for t, p in pairs if replace is None or p in replace]
+    try:
+        for path in remove:
+            if os.path.lexists(path):
+                hold = _temporary(path)
+                try:
+                    os.replace(path, hold)
+                except OSError as exc:
+                    hold.unlink()
+                    raise OutputError(f"cannot remove {path}: {exc.strerror}") from None
+                aside.append((path, hold))
+        for temp, target in new:
+            _place_new(temp, target, placed)
+        for temp, target in over:
+            try:
+                os.replace(temp, target)
+            except OSError as exc:
+                raise OutputError(f"cannot write {target}: {exc.strerror}") from None
+    except BaseException:
+        for target in placed:
+            with contextlib.suppress(OSError):
+                target.unlink()
+        for path, hold in aside:
+            with contextlib.suppress(OSError):
+                os.replace(hold, path)
+        raise
+    for _, hold in aside:
+        with contextlib.suppress(OSError):
+            hold.unlink()
+
+
+@contextlib.contextmanager
+def staged(
+    *paths: str | Path,
+    replace: Iterable[str | Path] | None = None,
+    remove: Iterable[str | Path] = (),
+) -> Iterator[list[Path]]:
+    """Yield temporary paths beside each target; move them all into place on success.
+
+    If the body raises (or the process is interrupted), every temporary file is removed and no
+    target is touched. ``replace`` names the targets that may be replaced (by default all, as
+    an API caller asks); any other target is placed only where no file is, so a file that
+    appeared there meanwhile is kept and the whole placement is an OutputError. ``remove``
+    names files removed along with the placement (a companion output left by an earlier run);
+    they are put back if the placement fails.
     """
     targets = [Path(p) for p in paths]
+    allowed = None if replace is None else {Path(p) for p in replace}
     temps: list[Path] = []
     try:
         for target in targets:
-            folder = target.parent if str(target.parent) else Path(".")
-            if not folder.is_dir():
-                raise OutputError(f"cannot write {target}: the folder {folder} does not exist")
-            try:
-                handle, name = tempfile.mkstemp(
-                    prefix=f".{target.name}.", suffix=".part", dir=folder
-                )
-            except OSError as exc:
-                raise OutputError(f"cannot write in {folder}: {exc.strerror}") from None
-            os.close(handle)
-            temps.append(Path(name))
+            temps.append(_temporary(target))
         yield temps
         umask = os.umask(0)
         os.umask(umask)
         for temp in temps:
             os.chmod(temp, 0o666 & ~umask)  # mkstemp makes 0600; results are ordinary files
-        for temp, target in zip(temps, targets, strict=True):
-            try:
-                os.replace(temp, target)
-            except OSError as exc:
-                raise OutputError(f"cannot write {target}: {exc.strerror}") from None
+        _place(temps, targets, allowed, [Path(p) for p in remove])
     finally:
         for temp in temps:
             with contextlib.suppress(FileNotFoundError):

@@ -17,7 +17,7 @@ import numpy as np
 
 from .. import conductors, model, progress
 from ..errors import InputError, Problem
-from . import cells, names, plausibility, schema, service, slips
+from . import cells, names, plausibility, schema, service, sheetnames, slips
 from .cases import read_cases
 from .tables import RawInput, RawSheet, load_input
 
@@ -581,19 +581,6 @@ def check_clock(records: list[Record], out: Collector) -> None:
             record.ok = False
 
 
-# Other names engineers give a sheet (our own list): an unknown sheet named so is the known one.
-SHEET_SYNONYMS = {
-    "study": ("settings", "setting", "setup", "options"),
-    "buses": ("busses", "nodes", "bus_list"),
-    "sources": ("utility", "utilities", "supply", "supplies", "grid"),
-    "transformers": ("xfmr", "xfmrs", "xfmers", "trafo", "trafos", "tx"),
-    "cables": ("feeders", "feeder", "conductors", "conductor", "lines", "wires"),
-    "impedances": ("reactors", "reactor", "busway", "busways", "ties", "tie"),
-    "machines": ("motors", "motor", "generators", "generator", "gens", "rotating"),
-    "cases": ("scenarios", "scenario", "variants", "variations"),
-}
-
-
 def _meant_sheet(name: str, headers: list[str], present) -> str | None:
     """The known sheet an unknown sheet was probably meant as, or None.
 
@@ -602,8 +589,6 @@ def _meant_sheet(name: str, headers: list[str], present) -> str | None:
     (capitals, singular or plural, a small edit, another usual name) and its header shares a
     column with that sheet. Otherwise it is an unrelated sheet (notes, a cover, relay settings).
     """
-    import difflib
-
     columns = set(headers)
     holding = [  # (required columns, columns shared, name) of each known sheet it can be
         (len(required), len(columns & set(sheet.names)), sheet.name)
@@ -612,17 +597,7 @@ def _meant_sheet(name: str, headers: list[str], present) -> str | None:
     ]
     if holding:
         return max(holding)[2]
-    key = " ".join(name.replace("_", " ").replace("-", " ").split()).replace(" ", "_")
-    known = [s.name for s in schema.SHEETS]
-    meant = None
-    for sheet in known:
-        singular = sheet[:-2] if sheet.endswith("es") else sheet[:-1]
-        forms = {sheet, singular, sheet.rstrip("s"), sheet + "s"} | set(SHEET_SYNONYMS[sheet])
-        if key in forms or key.rstrip("s") in forms:
-            meant = sheet
-    if meant is None:
-        near = difflib.get_close_matches(key, known, n=1, cutoff=0.75)
-        meant = near[0] if near else None
+    meant = sheetnames.meant_by_name(name)
     if meant is None or meant in present:
         return None
     spec = next(s for s in schema.SHEETS if s.name == meant)

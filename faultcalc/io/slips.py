@@ -56,12 +56,13 @@ MAX_Z_PCT = 100.0
 # would feed less than its rated current into a bolted fault.
 MIN_XD_PCT = 3.0
 MAX_XD_PCT = 100.0
-# Machine ratings: no machine above 1 kV is smaller than about 50 kVA (medium-voltage motors
-# start near 200 hp; common practice, no source), none at 1 kV or less is larger than 10,000
+# Machine ratings: medium-voltage motors start near 100 hp (common practice, no source), so a
+# floor of 5 kVA above 1 kV refuses no real machine and catches a rating of a few MVA typed in
+# MVA; no machine at 1 kV or less is larger than 10,000
 # kVA (low-voltage generators and motors stop near 4,000 kVA) and none at all larger than
 # 2,000,000 kVA (the largest turbine generators are about 1,800 MVA; common practice, no
 # source): beyond these the rating was typed in MVA or in VA.
-MIN_MACHINE_KVA_MV = 50.0
+MIN_MACHINE_KVA_MV = 5.0
 MAX_MACHINE_KVA_LV = 10_000.0
 MAX_MACHINE_KVA = 2_000_000.0
 # Available fault current at a utility point of delivery: the largest breakers interrupt about
@@ -253,7 +254,7 @@ def machine_slips(
                     column,
                     float(rating[i]),
                     f"{rating[i]:g} {column} is smaller than any machine rated {kv[i]:g} kV "
-                    f"(the smallest are about {MIN_MACHINE_KVA_MV:g} kVA); {column} is per "
+                    f"(the smallest are about 100 hp); {column} is per "
                     f"machine: {rating[i] * 1000:g} for {rating[i]:g} MVA",
                 )
             )

@@ -943,8 +943,9 @@ def _summary(result: StudyResult, csv_name: str) -> tuple[StudyResult, str]:
     )
     note = (
         f"Summary of a study of {len(b):,} buses: the {len(keep)} buses with the largest fault "
-        f"currents and every duty finding, largest first. Every bus is in {csv_name}; the "
-        "element echo is left out of this workbook."
+        f"currents and every duty finding, largest first. Every bus is in {csv_name} (its last "
+        "column, input_sha256, is the input's SHA-256, as on the Basis and cautions sheet); "
+        "the element echo is left out of this workbook."
     )
     return cut, note
 

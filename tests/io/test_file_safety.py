@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import zipfile
 
+import openpyxl
 import pytest
 from click.testing import CliRunner
 
@@ -36,16 +37,106 @@ def test_output_that_is_the_input_is_refused(tmp_path):
 
 
 def test_locked_output_is_a_clear_error(tmp_path, monkeypatch):
-    # A results file held open by a spreadsheet program cannot be replaced: the rename fails.
+    # A results file held open by a spreadsheet program cannot be replaced: the rename fails
+    # (the link that places a new file, likewise).
     import faultcalc.io.files as files
 
     def locked(src, dst):
         raise PermissionError(13, "Permission denied", str(dst))
 
     monkeypatch.setattr(files.os, "replace", locked)
+    monkeypatch.setattr(files.os, "link", locked)
     result = run("study", sample_path(), "-o", tmp_path / "r.xlsx")
     assert result.exit_code == 1 and "Permission denied" in result.output
     assert "Traceback" not in result.output and list(tmp_path.iterdir()) == []
+
+
+def test_locked_existing_output_with_overwrite(tmp_path, monkeypatch):
+    import faultcalc.io.files as files
+
+    out = tmp_path / "r.xlsx"
+    assert run("study", sample_path(), "-o", out).exit_code == 0
+    before = out.read_bytes()
+
+    def locked(src, dst):
+        raise PermissionError(13, "Permission denied", str(dst))
+
+    monkeypatch.setattr(files.os, "replace", locked)
+    result = run("study", sample_path(), "-o", out, "--overwrite")
+    assert result.exit_code == 1 and "Permission denied" in result.output
+    assert out.read_bytes() == before and [p.name for p in tmp_path.iterdir()] == ["r.xlsx"]
+
+
+OTHER = b"a file another program wrote"
+
+
+def _appears_while_writing(monkeypatch, path):
+    """Another program creates ``path`` while the results are being written."""
+    import faultcalc.cli as cli
+
+    real = cli.write_workbook_to
+
+    def writing(result, temp, **kwargs):
+        real(result, temp, **kwargs)
+        path.write_bytes(OTHER)
+
+    monkeypatch.setattr(cli, "write_workbook_to", writing)
+
+
+def test_output_that_appears_during_the_run_is_kept(tmp_path, monkeypatch):
+    out = tmp_path / "r.xlsx"
+    _appears_while_writing(monkeypatch, out)
+    result = run("study", sample_path(), "-o", out, "--json", tmp_path / "r.json")
+    assert result.exit_code == 1 and "created by something else while this ran" in result.output
+    assert out.read_bytes() == OTHER
+    assert [p.name for p in tmp_path.iterdir()] == ["r.xlsx"]  # no JSON, no temporary file
+
+
+def test_nothing_is_placed_when_one_output_appeared(tmp_path, monkeypatch):
+    # The workbook is placed before the JSON; when the JSON's name turns out taken, the
+    # workbook placed a moment before is taken back.
+    js = tmp_path / "r.json"
+    _appears_while_writing(monkeypatch, js)
+    result = run("study", sample_path(), "-o", tmp_path / "r.xlsx", "--json", js)
+    assert result.exit_code == 1 and "r.json was created by something else" in result.output
+    assert js.read_bytes() == OTHER and [p.name for p in tmp_path.iterdir()] == ["r.json"]
+
+
+def test_overwrite_replaces_only_what_was_there(tmp_path, monkeypatch):
+    out, js = tmp_path / "r.xlsx", tmp_path / "r.json"
+    assert run("study", sample_path(), "-o", out).exit_code == 0
+    before = out.read_bytes()
+    _appears_while_writing(monkeypatch, js)
+    result = run("study", sample_path(), "-o", out, "--json", js, "--overwrite")
+    assert result.exit_code == 1 and "r.json was created by something else" in result.output
+    assert out.read_bytes() == before and js.read_bytes() == OTHER
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["r.json", "r.xlsx"]
+
+
+def test_placement_without_hard_links(tmp_path, monkeypatch):
+    # Some file systems (FAT, exFAT, some network shares) have no hard links.
+    import errno
+    import os
+    import stat
+
+    import faultcalc.io.files as files
+
+    def no_links(src, dst):
+        raise OSError(errno.EPERM, "Operation not permitted")
+
+    monkeypatch.setattr(files.os, "link", no_links)
+    out = tmp_path / "r.xlsx"
+    assert run("study", sample_path(), "-o", out).exit_code == 0
+    assert "Fault currents" in openpyxl.load_workbook(out, read_only=True).sheetnames
+    umask = os.umask(0)
+    os.umask(umask)
+    assert stat.S_IMODE(out.stat().st_mode) == 0o666 & ~umask  # an ordinary file
+    other = tmp_path / "s.xlsx"
+    _appears_while_writing(monkeypatch, other)
+    result = run("study", sample_path(), "-o", other)
+    assert result.exit_code == 1 and "created by something else" in result.output
+    assert other.read_bytes() == OTHER
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["r.xlsx", "s.xlsx"]
 
 
 def test_output_path_that_is_a_folder(tmp_path):
