@@ -199,7 +199,9 @@ def _check_fed(pu, node_of_bus, n, seq1: Stamps, bus_rows):
                 bus_rows.get(name),
                 "bus",
                 name,
-                "the bus has no path to any source or generator" + joined,
+                "the bus has no path to any source or generator"
+                + joined
+                + " (a bus de-energized on purpose takes in_service = no)",
             )
         )
     raise InputError(problems)

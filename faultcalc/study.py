@@ -576,9 +576,16 @@ def run_study(
         contribution_table = as_table(contributions_of(a, wanted))
 
     case_tables: dict[str, pd.DataFrame] = {}
+    base_warnings = set(pu.warnings + network.warnings)
+    case_warnings: list[str] = []
     for name, case_system in system.cases:
         try:
-            case_tables[name] = _solve(case_system)[1]
+            solved, case_tables[name] = _solve(case_system)
+            case_warnings += [
+                f"in case '{name}': {w}"
+                for w in solved.pu.warnings + solved.network.warnings
+                if w not in base_warnings
+            ]
         except InputError as exc:
             raise InputError(
                 [
@@ -611,7 +618,7 @@ def run_study(
         element_table=functools.partial(_element_table, system, pu, set(network.series_used)),
         descriptions=tuple(system.buses.column("description")),
         node_groups=tuple(groups),
-        warnings=tuple(system.warnings) + pu.warnings + network.warnings,
+        warnings=tuple(system.warnings) + pu.warnings + network.warnings + tuple(case_warnings),
         cautions=CAUTIONS,
         basis=basis,
         contributions=contribution_table,

@@ -16,7 +16,7 @@ import dataclasses
 from typing import Any
 
 from ..errors import InputError, Problem
-from . import cells, schema, service
+from . import cells, schema
 from .service import IN_SERVICE
 from .tables import RawInput
 
@@ -75,12 +75,8 @@ def _find(raw: RawInput, name: str, column: str):
     return None, None, "no bus or element of that name"
 
 
-def read_cases(
-    raw: RawInput, records, read_tables, notes: list[str] | None = None
-) -> tuple[tuple[str, Any], ...]:
-    """Every case as (name, System), in order of first appearance on the cases sheet; what a
-    case removes with a bus out of service is said in ``notes``."""
-    notes = [] if notes is None else notes
+def read_cases(raw: RawInput, records, read_tables) -> tuple[tuple[str, Any], ...]:
+    """Every case as (name, System), in order of first appearance on the cases sheet."""
     if not records:
         return ()
     problems: list[Problem] = []
@@ -155,9 +151,6 @@ def read_cases(
                     Problem(p.sheet, p.row, p.column, p.value, f"in case '{name}': {p.message}")
                 )
             continue
-        for note in system.warnings:  # what taking buses out removed, said for the case
-            if note.startswith(service.BUSES_OUT_NOTE):
-                notes.append(f"sheet 'cases': in case '{name}': {note.split(': ', 1)[1]}")
         if not in_labels:
             system = dataclasses.replace(system, in_labels=False)
         systems.append((name, system))

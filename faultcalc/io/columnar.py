@@ -28,7 +28,7 @@ import numpy as np
 
 from .. import conductors, model, progress
 from ..records import Records, plain_values
-from . import cells, reader, schema, service, slips
+from . import cells, reader, schema, slips
 from .names import any_problem
 from .names import key as name_key
 from .tables import (
@@ -69,11 +69,9 @@ class _Typed:
     filled: dict[str, np.ndarray]  # column -> the cell was not blank
     ascii: dict[str, Any] = field(default_factory=dict)  # text column -> Arrow array, if ASCII
 
-    row_numbers: np.ndarray | None = None  # spreadsheet rows when not 2, 3, ... (rows left out)
-
     @property
-    def rows(self):
-        return range(2, self.n + 2) if self.row_numbers is None else self.row_numbers.tolist()
+    def rows(self) -> range:
+        return range(2, self.n + 2)
 
     def records(self, indices) -> list[reader.Record]:
         """The careful reader's Records of the rows at ``indices`` (for its checks)."""
@@ -127,8 +125,6 @@ def _read(path: Path) -> model.System:
     if typed["cases"].n:
         raise _Decline  # cases are applied to the raw cells by the careful reader
     ends, bus_index = _check(typed, settings, loaded, out)
-    for spec in schema.ELEMENT_SHEETS:  # out of service: checked, said, then left out
-        _leave_out_of_service(spec, typed, ends, out)
     progress.step("plausibility")
     system = model.System(
         settings=settings,
@@ -146,7 +142,7 @@ def _read(path: Path) -> model.System:
     for sheet, columns in REFERENCES:
         for column, positions in zip(columns, ends[sheet], strict=True):
             system.remember_positions(getattr(system, sheet).column(column), positions)
-    return reader.with_doubts(system)
+    return reader.with_doubts(reader.in_service(system))
 
 
 def _no_problems(out: reader.Collector) -> None:
@@ -404,8 +400,8 @@ def _check(typed: dict[str, _Typed], settings, loaded, out: reader.Collector):
     if (device != buses.filled["rating_ka"]).any() or (buses.filled["rating_xr"] & ~device).any():
         raise _Decline
     kv = buses.values["kv"]
-    if slips.bus_slips(kv) or "no" in buses.values[service.IN_SERVICE]:
-        raise _Decline  # a slip, or a bus out of service (the careful reader removes it)
+    if slips.bus_slips(kv):
+        raise _Decline
     index = {b: i for i, b in enumerate(bus_names)}
     ends = {}
     for sheet, columns in REFERENCES:
@@ -522,24 +518,6 @@ def _machine_checks(machines: _Typed, kv_bus: np.ndarray, bus_kv, out) -> None:
     flagged = (generator & f["hp"]) | off | (f["neutral_ohm"] & ~f["x0_pct"])
     reader.check_machines(machines.records(np.flatnonzero(flagged)), bus_kv, out)
     _no_problems(out)
-
-
-def _leave_out_of_service(spec: schema.Sheet, typed: dict[str, _Typed], ends, out) -> None:
-    """Drop the rows of ``spec`` whose in_service is no, with the careful reader's note."""
-    sheet = typed[spec.name]
-    flags = np.array([f == "no" for f in sheet.values[service.IN_SERVICE]], bool)
-    if not flags.any():
-        return
-    names = sheet.values[spec.columns[0].name]
-    for i in np.flatnonzero(flags).tolist():
-        out.warn(*service.out_of_service_note(spec, i + 2, names[i]))
-    keep = np.flatnonzero(~flags)
-    values = {
-        name: v[keep] if isinstance(v, np.ndarray) else [v[i] for i in keep.tolist()]
-        for name, v in sheet.values.items()
-    }
-    typed[spec.name] = _Typed(spec, len(keep), values, {}, {}, keep + 2)
-    ends[spec.name] = [e[keep] for e in ends[spec.name]]
 
 
 def _records(cls, sheet: _Typed) -> Records:

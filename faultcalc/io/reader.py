@@ -632,6 +632,26 @@ def unknown_sheets(headers: dict[str, list[str]], out: Collector) -> None:
         )
 
 
+def with_case_warnings(system: model.System) -> model.System:
+    """The warnings of each case's own reading that the base case does not have (a doubtful
+    value a case sets, what a bus out of service takes with it), named by their case. That a
+    case takes an element out is its own row's word, not repeated."""
+    base = set(system.warnings)
+    extra = tuple(
+        f"in case '{name}': {w}"
+        for name, case in system.cases
+        for w in case.warnings
+        if w not in base and service.ELEMENT_OUT_NOTE not in w
+    )
+    return dataclasses.replace(system, warnings=system.warnings + extra) if extra else system
+
+
+def in_service(system: model.System) -> model.System:
+    """The system with what is out of service left out, said in its warnings."""
+    kept, notes = service.in_service(system)
+    return dataclasses.replace(kept, warnings=kept.warnings + tuple(notes)) if notes else kept
+
+
 def with_doubts(system: model.System) -> model.System:
     """The system with the plausibility warnings added after the reader's own."""
     doubts = plausibility.warnings(system)
@@ -698,12 +718,6 @@ def read_tables(raw: RawInput, with_cases: bool = True) -> model.System:
         )
     if out.problems:
         raise InputError(out.problems, out.warnings)
-    for sheet in schema.ELEMENT_SHEETS:
-        off = [r for r in recs[sheet.name] if r.values.get(service.IN_SERVICE) == "no"]
-        for r in off:
-            out.warn(*service.out_of_service_note(sheet, r.row, r.values[sheet.columns[0].name]))
-        if off:
-            recs[sheet.name] = [r for r in recs[sheet.name] if r.values.get("in_service") != "no"]
 
     def build(cls, sheet):
         fields = cls.__dataclass_fields__
@@ -717,9 +731,7 @@ def read_tables(raw: RawInput, with_cases: bool = True) -> model.System:
         return tuple(rows)
 
     try:
-        case_notes: list[str] = []
-        cases = read_cases(raw, recs["cases"], read_tables, case_notes) if with_cases else ()
-        out.warnings.extend(case_notes)
+        cases = read_cases(raw, recs["cases"], read_tables) if with_cases else ()
     except InputError as exc:
         raise InputError(exc.problems, out.warnings) from None
     system = model.System(
@@ -735,12 +747,7 @@ def read_tables(raw: RawInput, with_cases: bool = True) -> model.System:
         input_sha256=raw.sha256,
         warnings=tuple(out.warnings),
     )
-    off = [r.values["bus"] for r in recs["buses"] if r.values.get(service.IN_SERVICE) == "no"]
-    if off:
-        system, note = service.without_buses(system, off)
-        said = (f"sheet 'buses': {note}",)
-        system = dataclasses.replace(system, warnings=system.warnings + said)
-    return with_doubts(system)
+    return with_case_warnings(with_doubts(in_service(system)))
 
 
 def read_system(path: str | Path) -> model.System:

@@ -13,11 +13,12 @@ import dataclasses
 
 import numpy as np
 
+from ..errors import Problem
 from ..model import System
 from . import schema
 
 IN_SERVICE = "in_service"
-BUSES_OUT_NOTE = "sheet 'buses': out of service: bus"  # the start of the buses-out warning
+ELEMENT_OUT_NOTE = "is out of service: left out of this study"  # in an element's note
 
 NAME_COLUMN = {sheet.name: sheet.columns[0].name for sheet in schema.ELEMENT_SHEETS}
 # The series elements of a System and their two bus columns.
@@ -28,15 +29,50 @@ SERIES = (
 )
 
 
-def out_of_service_note(sheet: schema.Sheet, row: int, name: str) -> tuple:
-    """The warning for an element left out (Collector.warn arguments)."""
-    return (
-        sheet.name,
-        row,
-        IN_SERVICE,
-        "no",
-        f"{name} is out of service: left out of this study",
-    )
+def in_service(system: System) -> tuple[System, list[str]]:
+    """``system`` with what is out of service left out, and the warnings that say so.
+
+    Elements with ``in_service`` = no go (each said, in sheet and row order); so do buses with
+    ``in_service`` = no and whatever is then fed only through them. A bus that only elements
+    out of service fed is not removed (the study reports it as cut off from every source: a
+    missing row looks the same); its in_service says when it is de-energized on purpose. Both
+    readers call this on the System they built, so they say the same things."""
+    gone = {}
+    for sheet in schema.ELEMENT_SHEETS:
+        items = getattr(system, sheet.name)
+        flags = np.array([f == "no" for f in items.column(IN_SERVICE)], bool)
+        if flags.any():
+            gone[sheet.name] = flags
+    bus_off = np.array([f == "no" for f in system.buses.column(IN_SERVICE)], bool)
+    if not gone and not bus_off.any():
+        return system, []
+    notes = []
+    changes = {}
+    for sheet in schema.ELEMENT_SHEETS:
+        flags = gone.get(sheet.name)
+        if flags is None:
+            continue
+        items = getattr(system, sheet.name)
+        names, rows = items.column(NAME_COLUMN[sheet.name]), items.column("row")
+        for k in np.flatnonzero(flags).tolist():
+            notes.append(
+                str(
+                    Problem(
+                        sheet.name,
+                        rows[k],
+                        IN_SERVICE,
+                        "no",
+                        f"{names[k]} {ELEMENT_OUT_NOTE}",
+                    )
+                )
+            )
+        changes[sheet.name] = items.subset(np.flatnonzero(~flags))
+    switched = dataclasses.replace(system, **changes) if changes else system
+    if bus_off.any():
+        bus_names = system.buses.column("bus")
+        switched, note = without_buses(switched, [bus_names[k] for k in np.flatnonzero(bus_off)])
+        notes.append(f"sheet 'buses': {note}")
+    return switched, notes
 
 
 def _live(system: System, bus_in: np.ndarray) -> np.ndarray:

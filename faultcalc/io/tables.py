@@ -14,7 +14,7 @@ from pathlib import Path
 from typing import Any
 
 from ..errors import InputError, Problem
-from . import schema, sheetnames, xlsxparts
+from . import sheetnames, xlsxparts
 
 WORKBOOK_SUFFIXES = (".xlsx", ".xlsm")
 # The sheets a workbook loader parses: the known ones and those named close to one (the reader
