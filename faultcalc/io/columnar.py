@@ -36,6 +36,7 @@ from .tables import (
     RawSheet,
     _sheet_from_rows,
     add_file,
+    csv_files,
     is_blank,
 )
 
@@ -97,7 +98,7 @@ def read_columns(path: Path) -> model.System | None:
 def _read(path: Path) -> model.System:
     if not path.is_dir():
         raise _Decline
-    files = sorted(path.glob("*.csv"))
+    files = csv_files(path)
     names = [f.stem.strip().lower() for f in files]
     if not files or len(set(names)) != len(names):
         raise _Decline

@@ -69,7 +69,7 @@ def check_headers(spec: schema.Sheet, headers, blank_header_columns, out: Collec
 
 def _read_sheet(spec: schema.Sheet, raw: RawSheet | None, out: Collector) -> list[Record]:
     if raw is None:
-        if spec.required:
+        if spec.required and not any(p.sheet == spec.name for p in out.problems):
             out.problem(
                 spec.name,
                 None,
@@ -649,6 +649,21 @@ def with_case_warnings(system: model.System) -> model.System:
 def in_service(system: model.System) -> model.System:
     """The system with what is out of service left out, said in its warnings."""
     kept, notes = service.in_service(system)
+    if len(system.buses) and not len(kept.buses):
+        first = next(b for b in system.buses if b.in_service == "no")
+        raise InputError(
+            [
+                Problem(
+                    "buses",
+                    first.row,
+                    service.IN_SERVICE,
+                    "no",
+                    "with the buses out of service goes every bus (all were fed through them): "
+                    "nothing is left to study",
+                )
+            ],
+            system.warnings,
+        )
     return dataclasses.replace(kept, warnings=kept.warnings + tuple(notes)) if notes else kept
 
 

@@ -256,10 +256,28 @@ def _read_book(path: Path, book, survey, problems, notes) -> dict[str, RawSheet]
     return sheets
 
 
+def csv_files(folder: Path) -> list[Path]:
+    """The CSV files of an input folder, in name order (`.csv` in any capitals)."""
+    return sorted(p for p in folder.iterdir() if p.suffix.lower() == ".csv" and p.is_file())
+
+
 def _load_csv_folder(path: Path, problems: list[Problem]) -> dict[str, RawSheet]:
     sheets: dict[str, RawSheet] = {}
-    for file in sorted(path.glob("*.csv")):
+    files: dict[str, str] = {}
+    for file in csv_files(path):
         name = file.stem.strip().lower()
+        if name in files:
+            problems.append(
+                Problem(
+                    name,
+                    None,
+                    None,
+                    file.name,
+                    f"a second file for the sheet (with {files[name]}); keep one",
+                )
+            )
+            continue
+        files[name] = file.name
         try:
             with file.open(newline="", encoding="utf-8-sig") as handle:
                 reader = csv.reader(handle)
@@ -282,7 +300,7 @@ def input_sha256(path: Path) -> str:
     """SHA-256 of a workbook file; for a CSV folder, of each file's name and bytes in name order."""
     if path.is_dir():
         digest = hashlib.sha256()
-        for file in sorted(path.glob("*.csv")):
+        for file in csv_files(path):
             add_file(digest, file.name, file.read_bytes())
         return digest.hexdigest()
     return hashlib.sha256(path.read_bytes()).hexdigest()
@@ -304,7 +322,7 @@ def load_input(path: str | Path) -> RawInput:
     problems: list[Problem] = []
     if not path.exists():
         raise InputError([Problem(path.name, None, None, str(path), "no such file or folder")])
-    files = sorted(path.glob("*.csv")) if path.is_dir() else [path]
+    files = csv_files(path) if path.is_dir() else [path]
     for file in files:
         if file.stat().st_size > MAX_FILE_BYTES:
             raise _refuse(
@@ -314,7 +332,7 @@ def load_input(path: str | Path) -> RawInput:
             )
     notes: list[str] = []
     if path.is_dir():
-        if not any(path.glob("*.csv")):
+        if not files:
             raise InputError(
                 [Problem(path.name, None, None, str(path), "the folder holds no <sheet>.csv files")]
             )
