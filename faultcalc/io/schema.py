@@ -582,7 +582,8 @@ MACHINES = Sheet(
             "xd_pct",
             NUMBER,
             "Subtransient reactance X\"d on the machine's own kVA and kV (induction motors: the "
-            "locked-rotor reactance, about 100 / locked-rotor current multiple).",
+            "locked-rotor reactance, about 100 / locked-rotor current multiple); the reactance "
+            "itself, with R = X / xr.",
             unit="%",
             required=True,
             bound=POSITIVE,
