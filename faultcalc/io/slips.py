@@ -335,7 +335,7 @@ def source_slips(
                     float(typed),
                     f"{mva[i]:,.0f} MVA is more than any power system delivers (about "
                     f"{MAX_SC_MVA / 2:,.0f} MVA at the strongest transmission buses); {unit} "
-                    f"(for an infinite bus give {INFINITE_BUS_MVA:g} MVA or more)",
+                    f"(for an infinite bus give {INFINITE_BUS_MVA:,.0f} MVA or more)",
                 )
             )
         for column, flags, value in (("sc_ka", high_ka, sc_ka), ("slg_ka", high_slg, slg_ka)):
@@ -347,7 +347,7 @@ def source_slips(
                         float(value[i]),
                         f"{value[i]:g} kA is more than any equipment interrupts (about 300 kA); "
                         f"{column} is in kA: {value[i] / 1000:g} for {value[i]:g} A (for an "
-                        f"infinite bus give sc_mva {INFINITE_BUS_MVA:g} or more)",
+                        f"infinite bus give sc_mva {INFINITE_BUS_MVA:,.0f} or more)",
                     )
                 )
     return found
