@@ -55,11 +55,20 @@ STOP_SIGNALS = tuple(getattr(signal, n) for n in ("SIGTERM", "SIGHUP") if hasatt
 _previous_handlers: dict[int, object] = {}
 
 
+_placed: list[bool] = []  # set once the outputs are in place: a stop then comes too late
+
+
 def _stop(signum, frame) -> None:
+    if _placed:  # the outputs are complete and in place: finish as done
+        return
     for s in STOP_SIGNALS:  # a second signal must not cut the clean-up short
         if s in _previous_handlers:
             signal.signal(s, signal.SIG_IGN)
     raise Interrupted(signum)
+
+
+def _mark_placed() -> None:
+    _placed.append(True)
 
 
 def _arm() -> None:
@@ -83,15 +92,14 @@ def _disarm() -> None:
 def _guarded(action):
     """Run ``action``; bad input exits 2 listing every problem, other failures exit 1, and
     SIGTERM or SIGHUP exits 128 + its number, leaving no output or temporary file."""
+    _placed.clear()
     _arm()
     try:
         return action()
     except Interrupted as exc:
         _disarm()
-        _fail(
-            f"stopped by {signal.Signals(exc.signum).name}; nothing was written",
-            128 + exc.signum,
-        )
+        done = "the outputs had been written" if _placed else "nothing was written"
+        _fail(f"stopped by {signal.Signals(exc.signum).name}; {done}", 128 + exc.signum)
     except click.ClickException:
         raise
     except InputError as exc:
@@ -227,7 +235,7 @@ def _run(
     stale = [] if big else companion
     with (
         progress.phase("writing the results"),
-        staged(*targets, replace=existing, remove=stale) as temps,
+        staged(*targets, replace=existing, remove=stale, on_placed=_mark_placed) as temps,
     ):
         progress.plan(len(targets))
         progress.step("workbook" + (" (summary)" if big else ""))
@@ -366,7 +374,7 @@ def check_cables_command(
         system = read_system(input_path)
         checks = cablecheck.check_cables(system, tolerance_pct)
         if json_path is not None:
-            with staged(json_path, replace=existing) as (temp,):
+            with staged(json_path, replace=existing, on_placed=_mark_placed) as (temp,):
                 doc = cable_check_dict(
                     checks, tolerance_pct, system.input_name, system.input_sha256
                 )
@@ -425,7 +433,7 @@ def netlist(input_path: Path, bus: str, fault: str, output: Path, overwrite: boo
         if bus not in {b.bus for b in system.buses}:
             raise click.BadParameter(f"no bus named {bus} in {input_path.name}", param_hint="--bus")
         text = build_netlist(system, bus, fault)
-        with staged(output, replace=existing) as (temp,):
+        with staged(output, replace=existing, on_placed=_mark_placed) as (temp,):
             temp.write_text(text, encoding="utf-8")
         _disarm()
         click.echo(

@@ -67,6 +67,7 @@ DUTY_COLUMNS = (
     "duty_case",  # base, or the case that gave the worst duty
     "base_duty_pct",
     "base_duty_status",
+    "description",
 )
 
 # Columns of StudyResult.labels: the figure printed on each service bus's label.

@@ -345,20 +345,45 @@ def _cable_checks(system: System) -> pd.DataFrame:
     return cablecheck.check_table(system)[list(cablecheck.CHECK_COLUMNS)]
 
 
-def _aligned(tables: dict[str, pd.DataFrame]) -> dict[str, pd.DataFrame]:
-    """The tables with the first (base) table's bus rows, in its order: a bus missing from a
-    case's table gets a row of blanks there."""
-    base = tables[next(iter(tables))]
+def _aligned(tables: dict[str, pd.DataFrame], order: list[str]) -> dict[str, pd.DataFrame]:
+    """The tables with one row per bus of ``order`` (every bus of the base case and of any
+    case, see ``_all_buses``), in that order: a bus missing from a table (out of service
+    there) gets a row of blanks."""
+    index = pd.Index(np.array(order, dtype=object), name="bus")
     out = {}
     for name, table in tables.items():
-        same = table is base or (
-            len(table) == len(base) and bool((table.bus.array == base.bus.array).all())
+        same = len(table) == len(order) and bool(
+            (table.bus.to_numpy(dtype=object) == index.to_numpy()).all()
         )
         if not same:
-            order = pd.Index(base.bus.to_numpy(dtype=object), name="bus")
-            table = table.set_index("bus").reindex(order).reset_index()
+            table = table.set_index("bus").reindex(index).reset_index()
         out[name] = table
     return out
+
+
+def _all_buses(system: System) -> tuple[list[str], dict[str, str], list[str]]:
+    """Every bus of the base case and of any case (a bus out of service in the base case may be
+    in service in a case), in input order; their descriptions; the service buses among them."""
+    seen: dict[str, tuple[int, str, str]] = {}
+    for s in (system, *(case for _, case in system.cases)):
+        for name, row, text, service in zip(
+            s.buses.column("bus"),
+            s.buses.column("row"),
+            s.buses.column("description"),
+            s.buses.column("service"),
+            strict=True,
+        ):
+            if name not in seen:
+                seen[name] = (row if row is not None else 0, text or "", service)
+    if not system.cases:  # the base case's own order (a hand-built System may have no rows)
+        order = list(system.buses.column("bus"))
+    else:
+        order = sorted(seen, key=lambda n: seen[n][0])
+    return (
+        order,
+        {n: seen[n][1] for n in order},
+        [n for n in order if seen[n][2] == "yes"],
+    )
 
 
 def _worst(tables: dict[str, pd.DataFrame], column: str, rows=None) -> tuple[np.ndarray, ...]:
@@ -379,10 +404,10 @@ def _pick(tables: dict[str, pd.DataFrame], column: str, worst: np.ndarray, rows)
     return stack[worst, np.arange(len(worst))]
 
 
-def _envelope(tables: dict[str, pd.DataFrame]) -> pd.DataFrame:
+def _envelope(tables: dict[str, pd.DataFrame], order: list[str]) -> pd.DataFrame:
     """Worst value per bus over the base and every case, with the case that gave it; for the
     duty also its fault type and status."""
-    tables = _aligned(tables)
+    tables = _aligned(tables, order)
     names = list(tables)
     base = tables[names[0]]
     out = {"bus": base.bus.tolist()}
@@ -404,11 +429,13 @@ def _envelope(tables: dict[str, pd.DataFrame]) -> pd.DataFrame:
     return pd.DataFrame(out)
 
 
-def _worst_duty(tables: dict[str, pd.DataFrame]) -> pd.DataFrame:
+def _worst_duty(
+    tables: dict[str, pd.DataFrame], order: list[str], descriptions: dict[str, str]
+) -> pd.DataFrame:
     """Each bus with a device in the base or any case: its worst duty over all of them (the
     first table on equal duty, so the base case before any case), with the case, the fault
     type and the X/R that gave it, and the base case's duty beside it."""
-    tables = _aligned(tables)
+    tables = _aligned(tables, order)
     names = list(tables)
     base = tables[names[0]]
     rated = np.zeros(len(base), dtype=bool)
@@ -429,7 +456,12 @@ def _worst_duty(tables: dict[str, pd.DataFrame]) -> pd.DataFrame:
     )
     out["duty_case"] = np.array(names, dtype=object)[worst]
     out["base_duty_pct"] = base.duty_pct.iloc[rows].to_numpy(dtype=float)
-    out["base_duty_status"] = base.duty_status.iloc[rows].to_numpy(dtype=object)
+    out["base_duty_status"] = np.where(
+        pd.isna(base.duty_status.iloc[rows]).to_numpy(),
+        duty.STATUS_NONE,
+        base.duty_status.iloc[rows].to_numpy(dtype=object),
+    )
+    out["description"] = [descriptions.get(b, "") for b in out["bus"]]
     table = pd.DataFrame(out, columns=list(DUTY_COLUMNS))
     for column in ("rating_ka", "test_xr", "mf", "duty_ka"):
         table[column] = table[column].astype(float)
@@ -439,11 +471,15 @@ def _worst_duty(tables: dict[str, pd.DataFrame]) -> pd.DataFrame:
 LABEL_FAULTS = ("i3ph_ka", "islg_ka", "ill_ka", "illg_ka")  # in the order of FAULT_TYPES
 
 
-def _labels(tables: dict[str, pd.DataFrame], rows: list[int], descriptions) -> pd.DataFrame:
-    """The label figure of the buses at ``rows``: the largest of the four fault currents over
+def _labels(
+    tables: dict[str, pd.DataFrame], order: list[str], service: list[str], descriptions
+) -> pd.DataFrame:
+    """The label figure of the ``service`` buses: the largest of the four fault currents over
     ``tables`` (the base case first, then the cases counted in labels), with the fault type
     and the case that gave it (the first on equal values)."""
-    tables = _aligned(tables)
+    tables = _aligned(tables, order)
+    position = {b: k for k, b in enumerate(order)}
+    rows = [position[b] for b in service]
     names = list(tables)
     base = tables[names[0]]
     stack = np.vstack(
@@ -456,7 +492,7 @@ def _labels(tables: dict[str, pd.DataFrame], rows: list[int], descriptions) -> p
     return pd.DataFrame(
         {
             "bus": base.bus.iloc[rows].to_numpy(dtype=object),
-            "description": [descriptions[k] for k in rows],
+            "description": [descriptions[b] for b in service],
             "kv": base.kv.iloc[rows].to_numpy(dtype=float),
             "label_ka": np.where(np.isinf(value), np.nan, value),
             "label_fault": np.array(faults.FAULT_TYPES, dtype=object)[worst % kinds],
@@ -594,13 +630,11 @@ def run_study(
                 ]
             ) from None
     tables = {"base": buses, **case_tables}
-    envelope = _envelope(tables) if case_tables else None
+    order, descriptions, service = _all_buses(system)
+    envelope = _envelope(tables, order) if case_tables else None
     left_out = tuple(name for name, case_system in system.cases if not case_system.in_labels)
-    service = [k for k, yes in enumerate(system.buses.column("service")) if yes == "yes"]
     labels = _labels(
-        {n: t for n, t in tables.items() if n not in left_out},
-        service,
-        system.buses.column("description"),
+        {n: t for n, t in tables.items() if n not in left_out}, order, service, descriptions
     )
 
     stamp = (calculated_at or _dt.datetime.now().astimezone()).isoformat(timespec="seconds")
@@ -625,12 +659,8 @@ def run_study(
         cable_checks=_cable_checks(system),
         cases=case_tables,
         envelope=envelope,
-        service_buses=tuple(
-            b
-            for b, yes in zip(pu.bus_names, system.buses.column("service"), strict=True)
-            if yes == "yes"
-        ),
-        duty=_worst_duty(tables),
+        service_buses=tuple(service),
+        duty=_worst_duty(tables, order, descriptions),
         labels=labels,
         label_cases_left_out=left_out,
     )

@@ -306,13 +306,15 @@ def test_a_bus_missing_from_a_case_table_counts_as_none_there(tie_result):
     base = tie_result.buses
     closed = tie_result.cases["tie closed"]
     tables = {"base": base, "tie closed": closed[closed.bus != "SUB-A"].iloc[::-1]}
-    worst = study._worst_duty(tables).set_index("bus")
+    order = list(base.bus)
+    descriptions = dict(zip(order, tie_result.descriptions, strict=True))
+    worst = study._worst_duty(tables, order, descriptions).set_index("bus")
     assert worst.loc["SUB-A", "duty_case"] == "base"
     assert worst.loc["SUB-B", "duty_case"] == "tie closed"
     assert worst.loc["SUB-B", "duty_pct"] == closed.set_index("bus").loc["SUB-B", "duty_pct"]
-    envelope = study._envelope(tables).set_index("bus")
+    envelope = study._envelope(tables, order).set_index("bus")
     assert envelope.loc["SUB-A", "duty_case"] == "base"
     assert envelope.loc["SUB-B", "duty_status"] == duty.STATUS_OVER
-    labels = study._labels(tables, [3, 4], list(tie_result.descriptions)).set_index("bus")
+    labels = study._labels(tables, order, [order[3], order[4]], descriptions).set_index("bus")
     assert labels.loc["SUB-A", "label_case"] == "base"
     assert labels.loc["SUB-B", "label_case"] == "tie closed"

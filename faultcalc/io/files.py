@@ -5,8 +5,10 @@ from __future__ import annotations
 import contextlib
 import errno
 import os
+import shutil
+import signal
 import tempfile
-from collections.abc import Iterable, Iterator
+from collections.abc import Callable, Iterable, Iterator
 from pathlib import Path
 
 from ..errors import OutputError
@@ -40,7 +42,7 @@ def _temporary(target: Path) -> Path:
 def _appeared(target: Path) -> OutputError:
     return OutputError(
         f"{target} was created by something else while this ran; it was left as it is and "
-        "nothing was written. Add --overwrite to replace it, or choose another name"
+        "nothing was written. Run again (with --overwrite to replace it), or choose another name"
     )
 
 
@@ -68,21 +70,63 @@ def _place_new(temp: Path, target: Path, placed: list[Path]) -> None:
         raise OutputError(f"cannot write {target}: {exc.strerror}") from None
 
 
+@contextlib.contextmanager
+def _signals_held() -> Iterator[None]:
+    """Hold the stop signals (where the platform can) while the outputs are placed."""
+    names = ("SIGTERM", "SIGHUP", "SIGINT")
+    held = {getattr(signal, n) for n in names if hasattr(signal, n)}
+    if not hasattr(signal, "pthread_sigmask"):
+        yield
+        return
+    before = signal.pthread_sigmask(signal.SIG_BLOCK, held)
+    try:
+        yield
+    finally:
+        signal.pthread_sigmask(signal.SIG_SETMASK, before)
+
+
+def _backup(path: Path) -> Path:
+    """A second name for the file at ``path`` (a hard link, else a copy), to put it back."""
+    hold = _temporary(path)
+    try:
+        hold.unlink()
+        os.link(path, hold)
+    except OSError:
+        try:
+            shutil.copy2(path, hold)
+        except OSError as exc:
+            with contextlib.suppress(OSError):
+                hold.unlink()
+            raise OutputError(f"cannot replace {path}: {exc.strerror}") from None
+    return hold
+
+
 def _place(
-    temps: list[Path], targets: list[Path], replace: set[Path] | None, remove: list[Path]
+    temps: list[Path],
+    targets: list[Path],
+    replace: set[Path] | None,
+    remove: list[Path],
+    on_placed: Callable[[], None] | None = None,
 ) -> None:
     """Move every finished temporary file to its target, or change nothing at all.
 
-    New targets are placed first (each only where no file is); if one fails, the files placed
-    so far and those set aside are put back before the error goes on. Targets in ``replace``
-    (all when it is None) are renamed over whatever is there.
+    A file to be replaced keeps a second name until all are placed, and a file to be removed is
+    set aside; new targets are placed only where no file is. If anything fails, the files
+    placed so far are taken back and every earlier output is put back as it was, together.
+    Targets in ``replace`` (all when it is None) are renamed over whatever is there.
+    ``on_placed`` is called once every file is in place.
     """
     placed: list[Path] = []
+    replaced: list[tuple[Path, Path]] = []
+    kept: dict[Path, Path] = {}
     aside: list[tuple[Path, Path]] = []
     pairs = list(zip(temps, targets, strict=True))
     new = [(t, p) for t, p in pairs if replace is not None and p not in replace]
     over = [(t, p) for t, p in pairs if replace is None or p in replace]
     try:
+        for _, target in over:
+            if os.path.lexists(target) and not target.is_dir():
+                kept[target] = _backup(target)
         for path in remove:
             if os.path.lexists(path):
                 hold = _temporary(path)
@@ -99,14 +143,24 @@ def _place(
                 os.replace(temp, target)
             except OSError as exc:
                 raise OutputError(f"cannot write {target}: {exc.strerror}") from None
+            if target in kept:
+                replaced.append((target, kept[target]))
+            else:
+                placed.append(target)
+        if on_placed is not None:
+            on_placed()
     except BaseException:
         for target in placed:
             with contextlib.suppress(OSError):
                 target.unlink()
-        for path, hold in aside:
+        for path, hold in [*replaced, *aside]:
             with contextlib.suppress(OSError):
                 os.replace(hold, path)
         raise
+    finally:
+        for hold in kept.values():
+            with contextlib.suppress(OSError):
+                hold.unlink()
     for _, hold in aside:
         with contextlib.suppress(OSError):
             hold.unlink()
@@ -117,6 +171,7 @@ def staged(
     *paths: str | Path,
     replace: Iterable[str | Path] | None = None,
     remove: Iterable[str | Path] = (),
+    on_placed: Callable[[], None] | None = None,
 ) -> Iterator[list[Path]]:
     """Yield temporary paths beside each target; move them all into place on success.
 
@@ -125,7 +180,9 @@ def staged(
     an API caller asks); any other target is placed only where no file is, so a file that
     appeared there meanwhile is kept and the whole placement is an OutputError. ``remove``
     names files removed along with the placement (a companion output left by an earlier run);
-    they are put back if the placement fails.
+    they are put back if the placement fails. SIGTERM, SIGHUP and SIGINT are held while the
+    files are placed (all of them or none), and ``on_placed`` is called before a held one is
+    let through.
     """
     targets = [Path(p) for p in paths]
     allowed = None if replace is None else {Path(p) for p in replace}
@@ -138,7 +195,8 @@ def staged(
         os.umask(umask)
         for temp in temps:
             os.chmod(temp, 0o666 & ~umask)  # mkstemp makes 0600; results are ordinary files
-        _place(temps, targets, allowed, [Path(p) for p in remove])
+        with _signals_held():  # on_placed runs before a held signal is let through
+            _place(temps, targets, allowed, [Path(p) for p in remove], on_placed)
     finally:
         for temp in temps:
             with contextlib.suppress(FileNotFoundError):

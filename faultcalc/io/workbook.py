@@ -443,13 +443,12 @@ def _duty_sheet(ws, result: StudyResult) -> None:
             Col("Duty in the base case, %", 10, "0.0"),
             Col("Status in the base case", 20),
         ]
-    descriptions = dict(zip(result.buses.bus, result.descriptions, strict=True))
     rows, statuses = [], []
     table = result.duty if result.duty is not None else result.buses.iloc[0:0]
     for r in table.itertuples(index=False):
         row = (
             r.bus,
-            descriptions.get(r.bus, ""),
+            getattr(r, "description", ""),
             duty.DEVICE_NAMES[r.device],
             r.rating_ka,
             r.test_xr,
