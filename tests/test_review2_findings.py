@@ -70,7 +70,7 @@ def test_a_bus_back_in_service_in_a_case_counts_in_the_worst_duty(make_input):
     result = run_study(read_system(make_input(spare_back_sheets())))
     in_case = result.cases["spare in"].set_index("bus")
     assert in_case.loc["SPARE", "duty_pct"] > 100  # the case's own table: it exceeds
-    # ... so the device's worst duty over the cases must say so (today: no row at all).
+    # ... so the device's worst duty over the cases must say so (before the fix: no row at all).
     duty = result.duty.set_index("bus")
     assert "SPARE" in duty.index
     assert duty.loc["SPARE", "duty_case"] == "spare in"
@@ -82,8 +82,8 @@ def test_fail_on_overduty_sees_a_bus_back_in_service_in_a_case(make_input, tmp_p
     folder = make_input(spare_back_sheets())
     out = tmp_path / "r.xlsx"
     run = CliRunner().invoke(main, ["study", str(folder), "-o", str(out), "--fail-on-overduty"])
-    assert "exceed" in run.output  # the summary names it (today: no Duty line at all)
-    assert run.exit_code == 3, run.output  # today: 0
+    assert "exceed" in run.output  # the summary names it (before the fix: no Duty line)
+    assert run.exit_code == 3, run.output  # before the fix: 0
 
 
 def test_a_service_bus_back_in_service_in_a_case_gets_its_label(make_input):
@@ -147,7 +147,7 @@ def test_a_signal_after_the_outputs_are_placed_does_not_say_nothing_was_written(
 
 def test_large_study_equipment_duty_keeps_every_description(monkeypatch, tmp_path):
     """The summary workbook of a large study lists every rated bus on Equipment duty; each row
-    keeps its description (today: blank for buses cut from the summary)."""
+    keeps its description (before the fix: blank for buses cut from the summary)."""
     import faultcalc.cli as cli
     import faultcalc.io.workbook as wb
 
