@@ -28,7 +28,7 @@ SUBSTATION = {
 @pytest.mark.parametrize("kind", KINDS)
 def test_kva_typed_in_mva_for_a_substation_transformer_is_refused(make_input, kind):
     # 20 (MVA) typed in the kva column: a 20 kVA 69 kV power transformer is not built (the
-    # smallest 69 kV units are several MVA; common practice, no source). Before the fix the study ran
+    # smallest 69 kV units are several MVA; common practice, no source). Before the fix it ran
     # silently and gives 0.012 kA at the 12.47 kV bus instead of about 9.3 kA.
     sheets = copy.deepcopy(SUBSTATION)
     sheets["transformers"][0]["kva"] = 20
@@ -40,7 +40,7 @@ def test_kva_typed_in_mva_for_a_substation_transformer_is_refused(make_input, ki
 @pytest.mark.parametrize("kind", KINDS)
 def test_available_current_in_amperes_at_34_5_kv_is_refused(make_input, kind):
     # 20 kA typed as 20000 (amperes) at 34.5 kV: above the 1000 kA of slips.MAX_SC_KA, whose
-    # basis (no breaker interrupts more than about 300 kA) holds at every voltage. Before the fix it was
+    # basis (no breaker interrupts more than about 300 kA) holds at every voltage. Earlier it was
     # taken as an infinite bus with a warning, because sqrt(3) 34.5 20000 > 1e6 MVA.
     sheets = {
         "buses": [{"bus": "HV", "kv": 34.5}],
@@ -105,7 +105,7 @@ def test_a_case_puts_in_service_a_generator_named_like_its_bus(make_input):
 @pytest.mark.parametrize("kind", KINDS)
 def test_a_motors_sheet_of_machine_rows_beside_machines_is_refused(make_input, kind):
     # The generator is on 'machines', the motors on a sheet 'motors' with the machines sheet's
-    # own columns. Before the fix 'motors' was only an unknown sheet (warned) and the 500 hp motor is left
+    # own columns. Earlier 'motors' was only an unknown sheet (warned) and the 500 hp motor is left
     # out of the study; README "Mistakes that are refused" says such a sheet is refused.
     sheets = _generator_on_own_bus("yes")
     sheets["motors"] = [
@@ -135,7 +135,7 @@ def test_a_doubtful_value_set_by_a_case_is_warned(make_input):
 
 def test_a_standby_generator_behind_a_normally_open_tie(make_input):
     # The usual arrangement: the standby generator G1 (in_service no) on its own bus, joined to
-    # the switchboard by a normally-open tie (in_service no). Before the fix the base case was refused
+    # the switchboard by a normally-open tie (in_service no). Earlier the base case was refused
     # ("bus G1 has no path to any source"), and the buses sheet has no in_service column to
     # say the bus is dead. The bus should be left out of the base case with a note, as a case
     # taking a bus out of service does (service.without_buses).
