@@ -204,8 +204,8 @@ def _run(
             raise OutputError(f"refusing to write {target}: it is the input")
     if json_path is not None and same_file(output, json_path):
         raise OutputError("the results workbook and the JSON file must be different files")
-    with progress.phase("reading the input"), progress.without_gc():
-        system = read_system(input_path)
+    bar = progress.TerminalProgress()
+    system = read_system(input_path, progress=bar)
     if contributions is not None:
         try:
             wanted = contribution_buses(system, contributions)
@@ -217,8 +217,7 @@ def _run(
             raise click.BadParameter(
                 "give bus names separated by commas, or all", param_hint="--contributions"
             )
-    with progress.phase("solving"), progress.without_gc():
-        result = run_study(system, contributions=contributions)
+    result = run_study(system, contributions=contributions, progress=bar)
     big = len(result.buses) > BIG_OUTPUT_BUSES
     targets = [output] + ([json_path] if json_path else [])
     if big:
@@ -226,17 +225,17 @@ def _run(
         targets.append(csv_path)
     stale = [] if big else companion
     with (
-        progress.phase("writing the results"),
+        bar.phase("writing the results"),
         staged(*targets, replace=existing, remove=stale) as temps,
     ):
-        progress.plan(len(targets))
-        progress.step("workbook" + (" (summary)" if big else ""))
+        bar.plan(len(targets))
+        bar.step("workbook" + (" (summary)" if big else ""))
         write_workbook_to(result, temps[0], summary_of=csv_path.name if big else None)
         if json_path:
-            progress.step("JSON")
+            bar.step("JSON")
             write_json_to(result, temps[1])
         if big:
-            progress.step("every bus as CSV")
+            bar.step("every bus as CSV")
             write_bus_csv_to(result, temps[-1])
     _disarm()
     if stale:

@@ -10,13 +10,14 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from . import asymmetry, cablecheck, duty, faults, methods, perunit, progress, standards
+from . import asymmetry, cablecheck, duty, faults, methods, perunit, standards
 from ._version import __version__
 from .cautions import CAUTIONS
 from .contributions import Phasors, as_table, contribution_phasors
 from .errors import InputError, Problem
 from .model import System
 from .network import Network, build_network, positive_matrix_variant, zone_angles_deg
+from .progress import Progress, reporter, without_gc
 from .results import BUS_COLUMNS, DUTY_COLUMNS, ELEMENT_COLUMNS, LABEL_COLUMNS, Basis, StudyResult
 from .thevenin import SymmetricFactor
 
@@ -197,8 +198,15 @@ class Analysis:
 STEPS_PER_ANALYSIS = 6
 
 
-def analyse(system: System, prefault_pu: tuple[float, ...] | None = None) -> Analysis:
-    """Per-unit conversion, sequence networks, one factorization each, all-bus diagonals."""
+def analyse(
+    system: System,
+    prefault_pu: tuple[float, ...] | None = None,
+    *,
+    progress: Progress | None = None,
+) -> Analysis:
+    """Per-unit conversion, sequence networks, one factorization each, all-bus diagonals
+    (``progress`` is told each step)."""
+    progress = reporter(progress)
     progress.step("per-unit conversion")
     pu = perunit.to_per_unit(system, prefault_pu=prefault_pu)
     progress.step("admittance matrices")
@@ -245,8 +253,9 @@ def _x_only(z: np.ndarray) -> np.ndarray:
     return 1j * np.maximum(z.imag, EPS * np.abs(z))
 
 
-def fault_table(a: Analysis) -> pd.DataFrame:
+def fault_table(a: Analysis, progress: Progress | None = None) -> pd.DataFrame:
     """Every fault type, asymmetry and duty at every bus of one analysed system."""
+    progress = reporter(progress)
     settings = a.system.settings
     pu, network = a.pu, a.network
     z1 = a.z1_node[network.node_of_bus]
@@ -340,7 +349,7 @@ def _duty(system: System, i3_ka, islg_ka, xr_fault, xr_slg) -> dict[str, object]
     return out
 
 
-def _cable_checks(system: System) -> pd.DataFrame:
+def _cable_checks(system: System, progress: Progress) -> pd.DataFrame:
     progress.step("cable check")
     return cablecheck.check_table(system)[list(cablecheck.CHECK_COLUMNS)]
 
@@ -489,16 +498,16 @@ def contribution_buses(system: System, contributions) -> list[int]:
     return [index[c.strip()] for c in contributions]
 
 
-def _solve(system: System) -> tuple[Analysis, pd.DataFrame]:
+def _solve(system: System, progress: Progress) -> tuple[Analysis, pd.DataFrame]:
     """The study's method on one system: the maximum analysis and its table, with the minimum
     currents of iec60909 added as *_min_ka columns."""
     found = methods.variants(system)
-    first = analyse(found[0].system, found[0].prefault_pu)
-    table = fault_table(first)
+    first = analyse(found[0].system, found[0].prefault_pu, progress=progress)
+    table = fault_table(first, progress)
     for column in MIN_COLUMNS:
         table[column] = np.nan
     if len(found) > 1:
-        low = fault_table(analyse(found[1].system, found[1].prefault_pu))
+        low = fault_table(analyse(found[1].system, found[1].prefault_pu, progress=progress), progress)
         for column in MIN_COLUMNS:
             table[column] = low[column.replace("_min", "")].to_numpy()
     return first, table
@@ -526,6 +535,7 @@ def run_study(
     *,
     contributions: str | Iterable[str] | None = None,
     calculated_at: _dt.datetime | None = None,
+    progress: Progress | None = None,
 ) -> StudyResult:
     """Sequence Thevenin impedances, all four fault types, asymmetry and duty at every bus.
 
@@ -537,6 +547,10 @@ def run_study(
         Buses whose fault contributions (per source, machine and branch at the bus) to report.
     calculated_at : datetime, optional
         Time stamp to record (default: now, local time).
+    progress : Progress, optional
+        Told the phase "solving" and its steps (default: nothing is reported); the command line
+        passes a :class:`faultcalc.TerminalProgress`. Python's cyclic garbage collector is
+        paused while the study runs, as in :func:`faultcalc.read_system`.
 
     Returns
     -------
@@ -562,11 +576,17 @@ def run_study(
     >>> float(result.buses.set_index("bus").loc["SWBD-1", "i3ph_ka"]) > 20
     True
     """
+    progress = reporter(progress)
+    with progress.phase("solving"), without_gc():
+        return _study(system, contributions, calculated_at, progress)
+
+
+def _study(system: System, contributions, calculated_at, progress: Progress) -> StudyResult:
     settings = system.settings
     wanted = contribution_buses(system, contributions)
     per_system = STEPS_PER_ANALYSIS * methods.variant_count(settings.method)
     progress.plan(per_system * (1 + len(system.cases)) + 1 + bool(wanted))
-    a, buses = _solve(system)
+    a, buses = _solve(system, progress)
     pu, network = a.pu, a.network
     groups = _tie_groups(pu.bus_names, network.node_of_bus)
 
@@ -580,7 +600,7 @@ def run_study(
     case_warnings: list[str] = []
     for name, case_system in system.cases:
         try:
-            solved, case_tables[name] = _solve(case_system)
+            solved, case_tables[name] = _solve(case_system, progress)
             case_warnings += [
                 f"in case '{name}': {w}"
                 for w in solved.pu.warnings + solved.network.warnings
@@ -622,7 +642,7 @@ def run_study(
         cautions=CAUTIONS,
         basis=basis,
         contributions=contribution_table,
-        cable_checks=_cable_checks(system),
+        cable_checks=_cable_checks(system, progress),
         cases=case_tables,
         envelope=envelope,
         service_buses=tuple(
