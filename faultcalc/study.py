@@ -507,7 +507,8 @@ def _solve(system: System, progress: Progress) -> tuple[Analysis, pd.DataFrame]:
     for column in MIN_COLUMNS:
         table[column] = np.nan
     if len(found) > 1:
-        low = fault_table(analyse(found[1].system, found[1].prefault_pu, progress=progress), progress)
+        low_analysis = analyse(found[1].system, found[1].prefault_pu, progress=progress)
+        low = fault_table(low_analysis, progress)
         for column in MIN_COLUMNS:
             table[column] = low[column.replace("_min", "")].to_numpy()
     return first, table
