@@ -19,7 +19,7 @@ from .model import System
 from .network import Network, build_network, positive_matrix_variant, zone_angles_deg
 from .progress import Progress, reporter, without_gc
 from .results import BUS_COLUMNS, DUTY_COLUMNS, ELEMENT_COLUMNS, LABEL_COLUMNS, Basis, StudyResult
-from .thevenin import SymmetricFactor
+from .thevenin import Orderings, SymmetricFactor
 
 TOOL_NAME = "faultcalc"
 
@@ -192,6 +192,7 @@ class Analysis:
     z1_node: np.ndarray  # positive- (= negative-) sequence Thevenin impedance per node, pu
     z0_node: np.ndarray  # zero-sequence, NaN where no path to ground
     angle_deg: np.ndarray  # phase displacement of each node's zone (positive sequence)
+    orderings: Orderings  # the study's cache of factor orderings, for the X/R variants
 
 
 # progress.step calls per analyse + fault_table, for the progress bar's plan.
@@ -203,10 +204,13 @@ def analyse(
     prefault_pu: tuple[float, ...] | None = None,
     *,
     progress: Progress | None = None,
+    orderings: Orderings | None = None,
 ) -> Analysis:
     """Per-unit conversion, sequence networks, one factorization each, all-bus diagonals
-    (``progress`` is told each step)."""
+    (``progress`` is told each step; ``orderings``, the study's cache of factor orderings,
+    is made here when not given)."""
     progress = reporter(progress)
+    orderings = Orderings() if orderings is None else orderings
     progress.step("per-unit conversion")
     pu = perunit.to_per_unit(system, prefault_pu=prefault_pu)
     progress.step("admittance matrices")
@@ -214,13 +218,13 @@ def analyse(
         pu, lambda: dict(zip(system.buses.column("bus"), system.buses.column("row"), strict=True))
     )
     progress.step("Thevenin impedances Z1 = Z2")
-    factor1 = SymmetricFactor(network.y1)
+    factor1 = SymmetricFactor(network.y1, orderings)
     z1_node = factor1.diagonal()
     progress.step("Thevenin impedances Z0")
-    factor0 = SymmetricFactor(network.y0)
+    factor0 = SymmetricFactor(network.y0, orderings)
     z0_node = np.where(network.grounded, factor0.diagonal(), complex(np.nan, np.nan))
     angles = zone_angles_deg(pu, network, lambda: element_locations(system))
-    return Analysis(system, pu, network, factor1, factor0, z1_node, z0_node, angles)
+    return Analysis(system, pu, network, factor1, factor0, z1_node, z0_node, angles, orderings)
 
 
 def element_locations(system: System) -> dict[str, tuple[str, int | None]]:
@@ -242,7 +246,7 @@ def contributions_of(a: Analysis, buses: list[int]) -> list[Phasors]:
 
 def _diagonal_variant(a: Analysis, transform) -> np.ndarray:
     y = positive_matrix_variant(a.pu, a.network, transform)
-    return SymmetricFactor(y).diagonal()[a.network.node_of_bus]
+    return SymmetricFactor(y, a.orderings).diagonal()[a.network.node_of_bus]
 
 
 def _r_only(z: np.ndarray) -> np.ndarray:
@@ -498,16 +502,20 @@ def contribution_buses(system: System, contributions) -> list[int]:
     return [index[c.strip()] for c in contributions]
 
 
-def _solve(system: System, progress: Progress) -> tuple[Analysis, pd.DataFrame]:
+def _solve(
+    system: System, progress: Progress, orderings: Orderings
+) -> tuple[Analysis, pd.DataFrame]:
     """The study's method on one system: the maximum analysis and its table, with the minimum
     currents of iec60909 added as *_min_ka columns."""
     found = methods.variants(system)
-    first = analyse(found[0].system, found[0].prefault_pu, progress=progress)
+    first = analyse(found[0].system, found[0].prefault_pu, progress=progress, orderings=orderings)
     table = fault_table(first, progress)
     for column in MIN_COLUMNS:
         table[column] = np.nan
     if len(found) > 1:
-        low_analysis = analyse(found[1].system, found[1].prefault_pu, progress=progress)
+        low_analysis = analyse(
+            found[1].system, found[1].prefault_pu, progress=progress, orderings=orderings
+        )
         low = fault_table(low_analysis, progress)
         for column in MIN_COLUMNS:
             table[column] = low[column.replace("_min", "")].to_numpy()
@@ -587,7 +595,8 @@ def _study(system: System, contributions, calculated_at, progress: Progress) -> 
     wanted = contribution_buses(system, contributions)
     per_system = STEPS_PER_ANALYSIS * methods.variant_count(settings.method)
     progress.plan(per_system * (1 + len(system.cases)) + 1 + bool(wanted))
-    a, buses = _solve(system, progress)
+    orderings = Orderings()  # one per study: the base case, its variants and its cases
+    a, buses = _solve(system, progress, orderings)
     pu, network = a.pu, a.network
     groups = _tie_groups(pu.bus_names, network.node_of_bus)
 
@@ -601,7 +610,7 @@ def _study(system: System, contributions, calculated_at, progress: Progress) -> 
     case_warnings: list[str] = []
     for name, case_system in system.cases:
         try:
-            solved, case_tables[name] = _solve(case_system, progress)
+            solved, case_tables[name] = _solve(case_system, progress, orderings)
             case_warnings += [
                 f"in case '{name}': {w}"
                 for w in solved.pu.warnings + solved.network.warnings
