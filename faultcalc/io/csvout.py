@@ -27,7 +27,6 @@ import pandas as pd
 from ..results import BUS_COLUMNS, StudyResult
 
 BIG_OUTPUT_BUSES = 5_000
-SUMMARY_BUSES = 200
 SIGNIFICANT_DIGITS = 10
 # The first characters that make a spreadsheet program read a field as a formula (OWASP, CSV
 # injection), and what goes before such a field.
