@@ -502,6 +502,38 @@ def contribution_buses(system: System, contributions) -> list[int]:
     return [index[c.strip()] for c in contributions]
 
 
+def contribution_bus_names(system: System, contributions: str | Iterable[str]) -> list[str]:
+    """The buses whose contributions ``run_study(system, contributions=...)`` reports.
+
+    Parameters
+    ----------
+    system : System
+        As returned by :func:`faultcalc.read_system`.
+    contributions : "all", "A,B" (names separated by commas), or a list of names
+        Spaces around each name are ignored.
+
+    Returns
+    -------
+    list of str
+        The bus names, in the order given ("all": every bus in input order); empty when
+        ``contributions`` names none (for example ``","``).
+
+    Raises
+    ------
+    ValueError
+        Naming every bus that does not exist.
+
+    Examples
+    --------
+    >>> from faultcalc import read_system, sample_path
+    >>> system = read_system(sample_path("plant_480v"))
+    >>> contribution_bus_names(system, " SWBD-1, MCC-1")
+    ['SWBD-1', 'MCC-1']
+    """
+    names = system.buses.column("bus")
+    return [names[k] for k in contribution_buses(system, contributions)]
+
+
 def _solve(
     system: System, progress: Progress, orderings: Orderings
 ) -> tuple[Analysis, pd.DataFrame]:
