@@ -4,15 +4,27 @@ Public API::
 
     system = read_system("plant.xlsx")      # or a folder of <sheet>.csv files
     result = run_study(system)              # result.buses, result.warnings, result.cautions
-    write_workbook(result, "results.xlsx")
+    write_results(result, "results.xlsx", "results.json")   # as `faultcalc study` writes them
+    write_workbook(result, "results.xlsx")  # or one file at a time
     write_json(result, "results.json")
 
+``read_system``, ``run_study`` and ``write_results`` take ``progress=`` (a :class:`Progress`;
+``TerminalProgress()`` draws a bar on stderr); by default they report nothing. Also:
+:func:`check_cables` and :func:`write_cable_checks`, :func:`write_netlist`,
+:func:`write_template`, :class:`ResultFiles` and :class:`OutputFiles` (output names checked
+before the work), :func:`contribution_bus_names`, :func:`sample_path`.
+
 Bad input raises :class:`InputError`, whose ``problems`` each carry ``sheet``, ``row``,
-``column``, ``value`` and ``message``.
+``column``, ``value`` and ``message``; an output that cannot be written, :class:`OutputError`.
+
+The names that need numpy, pandas, scipy, openpyxl or pyarrow are imported on first use
+(PEP 562), so that importing faultcalc, and ``faultcalc --help``, is quick.
 """
 
 from __future__ import annotations
 
+import importlib
+import importlib.util
 import os
 from pathlib import Path
 
@@ -21,16 +33,48 @@ from pathlib import Path
 os.environ.setdefault("OPENPYXL_LXML", "False")
 
 from ._version import __version__
+from .choices import CABLE_TOLERANCE_PCT, FAULT_TYPES, SAMPLES
 from .errors import InputError, OutputError, Problem
-from .io.jsonout import write_json
-from .io.reader import read_system
-from .io.template import write_template
-from .io.workbook import write_workbook
-from .model import System
-from .results import StudyResult
-from .study import run_study
+from .progress import QUIET, Progress, TerminalProgress
 
-SAMPLES = ("plant_480v", "double_ended_480v")
+# Public name -> the module that defines it, imported when the name is first asked for.
+_LAZY = {
+    "read_system": "faultcalc.io.reader",
+    "run_study": "faultcalc.study",
+    "contribution_bus_names": "faultcalc.study",
+    "System": "faultcalc.model",
+    "StudyResult": "faultcalc.results",
+    "write_workbook": "faultcalc.io.workbook",
+    "write_json": "faultcalc.io.jsonout",
+    "check_cables": "faultcalc.cablecheck",
+    "CableCheck": "faultcalc.cablecheck",
+    "BIG_OUTPUT_BUSES": "faultcalc.outputs",
+    "OutputFiles": "faultcalc.outputs",
+    "ResultFiles": "faultcalc.outputs",
+    "WrittenResults": "faultcalc.outputs",
+    "bus_csv_path": "faultcalc.outputs",
+    "write_cable_checks": "faultcalc.outputs",
+    "write_netlist": "faultcalc.outputs",
+    "write_results": "faultcalc.outputs",
+    "write_template": "faultcalc.outputs",
+}
+
+
+def __getattr__(name: str):
+    """A public name on first use (PEP 562), or a submodule (``faultcalc.study``) imported on
+    first use as an earlier, eager ``__init__`` had it imported."""
+    if name in _LAZY:
+        value = getattr(importlib.import_module(_LAZY[name]), name)
+    elif not name.startswith("_") and importlib.util.find_spec(f"{__name__}.{name}"):
+        value = importlib.import_module(f"{__name__}.{name}")
+    else:
+        raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
+    globals()[name] = value
+    return value
+
+
+def __dir__() -> list[str]:
+    return sorted(set(globals()) | set(_LAZY))
 
 
 def sample_path(name: str = "plant_480v") -> Path:
@@ -41,16 +85,33 @@ def sample_path(name: str = "plant_480v") -> Path:
 
 
 __all__ = [
+    "BIG_OUTPUT_BUSES",
+    "CABLE_TOLERANCE_PCT",
+    "FAULT_TYPES",
+    "QUIET",
+    "SAMPLES",
+    "CableCheck",
     "InputError",
     "OutputError",
+    "OutputFiles",
     "Problem",
+    "Progress",
+    "ResultFiles",
     "StudyResult",
     "System",
+    "TerminalProgress",
+    "WrittenResults",
     "__version__",
+    "bus_csv_path",
+    "check_cables",
+    "contribution_bus_names",
     "read_system",
     "run_study",
     "sample_path",
+    "write_cable_checks",
     "write_json",
+    "write_netlist",
+    "write_results",
     "write_template",
     "write_workbook",
 ]

@@ -18,9 +18,10 @@ import numpy as np
 import pandas as pd
 
 from . import conductors
+from .choices import CABLE_TOLERANCE_PCT
 from .model import Cable, System
 
-DEFAULT_TOLERANCE_PCT = 10.0
+DEFAULT_TOLERANCE_PCT = CABLE_TOLERANCE_PCT
 KM_PER_KFT = 0.3048
 # Physical floor for a typed resistance: 90 % of the DC resistance of a solid rod of the
 # conductor's area at 20 C (nothing at a plausible temperature conducts better).

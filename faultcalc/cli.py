@@ -1,34 +1,30 @@
-"""Command line: a thin layer over the public API; no calculation here."""
+"""Command line: a thin layer over the public API (``faultcalc/__init__.py``); no calculation
+and no file rule here.
+
+Start-up is kept short: only click and the light modules (version, errors, choices) are
+imported to build the commands, and each command imports the rest of the API when it runs,
+so ``faultcalc --help`` does not wait for numpy, pandas, scipy, openpyxl or pyarrow.
+"""
 
 from __future__ import annotations
 
-import json
 import os
 import signal
 import sys
-import traceback
 from pathlib import Path
 
 import click
 
 from . import (
+    CABLE_TOLERANCE_PCT,
+    FAULT_TYPES,
     SAMPLES,
     InputError,
     OutputError,
+    TerminalProgress,
     __version__,
-    cablecheck,
-    progress,
-    read_system,
-    run_study,
     sample_path,
 )
-from .io.csvout import BIG_OUTPUT_BUSES, write_bus_csv_to
-from .io.files import same_file, staged
-from .io.jsonout import cable_check_dict, write_json_to
-from .io.template import build_template
-from .io.workbook import write_workbook_to
-from .netlist import FAULTS, build_netlist
-from .study import contribution_buses
 
 EXIT_BAD_INPUT = 2
 EXIT_FAILURE = 1
@@ -116,6 +112,8 @@ def _guarded(action):
         )
     except Exception as exc:  # noqa: BLE001 - a tool for engineers never shows a bare traceback
         if os.environ.get("FAULTCALC_DEBUG"):
+            import traceback
+
             traceback.print_exc()
         _fail(
             f"internal error: {type(exc).__name__}: {exc}\n"
@@ -129,7 +127,7 @@ def _guarded(action):
 
 def _summary(result) -> str:
     b = result.buses
-    worst = b.loc[b["i3ph_ka"].idxmax()]
+    worst = result.largest_three_phase()
     text = (
         f"{len(b)} buses studied; highest three-phase fault current {worst.i3ph_ka:.2f} kA "
         f"at {worst.bus} ({worst.kv:g} kV). {len(result.warnings)} warning(s)."
@@ -156,36 +154,6 @@ OVERWRITE = click.option(
 )
 
 
-def _check_targets(input_path: Path, targets: list[Path], overwrite: bool) -> list[Path]:
-    """Refuse the input as an output, and existing files unless --overwrite.
-
-    Returns the targets that exist now: the only ones the final placement may replace (a file
-    that appears at another target while the command runs is kept, and the run fails).
-    """
-    existing = []
-    for target in targets:
-        if same_file(target, input_path) or (
-            input_path.is_dir()
-            and same_file(target.parent, input_path)
-            and target.suffix.lower() == ".csv"
-        ):
-            raise OutputError(f"refusing to write {target}: it is the input")
-        if os.path.lexists(target) and not overwrite:
-            raise OutputError(
-                f"{target} exists already; add --overwrite to replace it, or choose another name"
-            )
-        if target.exists() and target.is_dir():
-            raise OutputError(f"{target} is a folder; give a file name")
-        if os.path.lexists(target):
-            existing.append(target)
-    return existing
-
-
-def bus_csv_path(output: Path) -> Path:
-    """The companion of a results workbook that holds every bus of a large study."""
-    return output.with_name(output.stem + "-buses.csv")
-
-
 def _run(
     input_path: Path,
     output: Path,
@@ -194,29 +162,16 @@ def _run(
     overwrite: bool = False,
 ):
     """Study and write; returns the StudyResult (after every output is written)."""
-    csv_path = bus_csv_path(output)
-    if json_path is not None and same_file(json_path, csv_path):
-        raise OutputError(f"the JSON file cannot be {csv_path.name}: that name is for the bus CSV")
-    # A bus CSV left by an earlier run is a target too: replaced by a large study, removed by
-    # a smaller one, so that none is left beside a workbook it does not belong to.
-    companion = [csv_path] if os.path.lexists(csv_path) else []
-    existing = _check_targets(
-        input_path, [t for t in (output, json_path) if t] + companion, overwrite
+    from . import ResultFiles, contribution_bus_names, read_system, run_study
+
+    files = ResultFiles(
+        output, json_path, input_path=input_path, overwrite=overwrite, on_placed=_mark_placed
     )
-    for target in filter(None, (output, json_path)):
-        if same_file(target, input_path) or (
-            input_path.is_dir()
-            and same_file(target.parent, input_path)
-            and target.suffix.lower() == ".csv"
-        ):
-            raise OutputError(f"refusing to write {target}: it is the input")
-    if json_path is not None and same_file(output, json_path):
-        raise OutputError("the results workbook and the JSON file must be different files")
-    with progress.phase("reading the input"), progress.without_gc():
-        system = read_system(input_path)
+    bar = TerminalProgress()
+    system = read_system(input_path, progress=bar)
     if contributions is not None:
         try:
-            wanted = contribution_buses(system, contributions)
+            wanted = contribution_bus_names(system, contributions)
         except ValueError as exc:
             raise click.BadParameter(
                 f"{exc} (in {input_path.name})", param_hint="--contributions"
@@ -225,39 +180,20 @@ def _run(
             raise click.BadParameter(
                 "give bus names separated by commas, or all", param_hint="--contributions"
             )
-    with progress.phase("solving"), progress.without_gc():
-        result = run_study(system, contributions=contributions)
-    big = len(result.buses) > BIG_OUTPUT_BUSES
-    targets = [output] + ([json_path] if json_path else [])
-    if big:
-        _check_targets(input_path, [csv_path], overwrite)
-        targets.append(csv_path)
-    stale = [] if big else companion
-    with (
-        progress.phase("writing the results"),
-        staged(*targets, replace=existing, remove=stale, on_placed=_mark_placed) as temps,
-    ):
-        progress.plan(len(targets))
-        progress.step("workbook" + (" (summary)" if big else ""))
-        write_workbook_to(result, temps[0], summary_of=csv_path.name if big else None)
-        if json_path:
-            progress.step("JSON")
-            write_json_to(result, temps[1])
-        if big:
-            progress.step("every bus as CSV")
-            write_bus_csv_to(result, temps[-1])
+    result = run_study(system, contributions=contributions, progress=bar)
+    written = files.write(result, progress=bar)
     _disarm()
-    if stale:
-        click.echo(f"removed {csv_path.name}, left by an earlier, larger study", err=True)
+    if written.removed is not None:
+        click.echo(f"removed {written.removed.name}, left by an earlier, larger study", err=True)
     for w in result.warnings:
         click.echo(f"warning: {w}", err=True)
     click.echo(_summary(result))
     click.echo(
         f"results workbook: {output.resolve()}"
-        + (f" (a summary: more than {BIG_OUTPUT_BUSES:,} buses)" if big else "")
+        + (f" (a summary: more than {written.big_above_buses:,} buses)" if written.summary else "")
     )
-    if big:
-        click.echo(f"bus results (every bus): {csv_path.resolve()}")
+    if written.summary:
+        click.echo(f"bus results (every bus): {written.bus_csv.resolve()}")
     if json_path:
         click.echo(f"results JSON: {json_path.resolve()}")
     click.echo("Caution: for review by a qualified engineer; see the 'Basis and cautions' sheet.")
@@ -346,7 +282,7 @@ def study(
     "--tolerance",
     "tolerance_pct",
     type=click.FloatRange(0.1, 100.0),
-    default=cablecheck.DEFAULT_TOLERANCE_PCT,
+    default=CABLE_TOLERANCE_PCT,
     show_default=True,
     metavar="PCT",
     help="Flag typed R or X further than this from the table row, percent.",
@@ -368,17 +304,17 @@ def check_cables_command(
     """
 
     def action():
-        existing = []
+        from . import OutputFiles, check_cables, read_system, write_cable_checks
+
+        files = None
         if json_path is not None:
-            existing = _check_targets(input_path, [json_path], overwrite)
+            files = OutputFiles(
+                json_path, input_path=input_path, overwrite=overwrite, on_placed=_mark_placed
+            )
         system = read_system(input_path)
-        checks = cablecheck.check_cables(system, tolerance_pct)
-        if json_path is not None:
-            with staged(json_path, replace=existing, on_placed=_mark_placed) as (temp,):
-                doc = cable_check_dict(
-                    checks, tolerance_pct, system.input_name, system.input_sha256
-                )
-                temp.write_text(json.dumps(doc, indent=2, allow_nan=False) + "\n", encoding="utf-8")
+        checks = check_cables(system, tolerance_pct)
+        if files is not None:
+            write_cable_checks(checks, files, system=system, tolerance_pct=tolerance_pct)
             _disarm()
         flagged = [c for c in checks if c.flagged]
         for c in checks:
@@ -401,7 +337,7 @@ def check_cables_command(
 @click.option("--bus", required=True, help="The faulted bus.")
 @click.option(
     "--fault",
-    type=click.Choice(FAULTS),
+    type=click.Choice(FAULT_TYPES),
     required=True,
     help="3ph, slg (a to ground), ll (b to c) or llg (b and c to ground).",
 )
@@ -428,13 +364,15 @@ def netlist(input_path: Path, bus: str, fault: str, output: Path, overwrite: boo
     """
 
     def action():
-        existing = _check_targets(input_path, [output], overwrite)
+        from . import OutputFiles, read_system, write_netlist
+
+        files = OutputFiles(
+            output, input_path=input_path, overwrite=overwrite, on_placed=_mark_placed
+        )
         system = read_system(input_path)
-        if bus not in {b.bus for b in system.buses}:
+        if bus not in set(system.buses.column("bus")):
             raise click.BadParameter(f"no bus named {bus} in {input_path.name}", param_hint="--bus")
-        text = build_netlist(system, bus, fault)
-        with staged(output, replace=existing, on_placed=_mark_placed) as (temp,):
-            temp.write_text(text, encoding="utf-8")
+        text = write_netlist(system, bus, fault, files)
         _disarm()
         click.echo(
             f"netlist: {output.resolve()} ({text.count(chr(10))} lines); run it with: "
@@ -456,15 +394,9 @@ def template(path: Path, overwrite: bool) -> None:
     """
 
     def action():
-        if path.is_dir():
-            raise OutputError(f"{path} is a folder; give a file name")
-        exists = os.path.lexists(path)
-        if exists and not overwrite:
-            raise OutputError(
-                f"{path} exists already; add --overwrite to replace it, or choose another name"
-            )
-        with staged(path, replace=[path] if exists else []) as (temp,):
-            build_template().save(temp)
+        from . import write_template
+
+        write_template(path, overwrite=overwrite)
         _disarm()
         click.echo(f"blank input workbook: {path.resolve()}")
         click.echo(

@@ -20,8 +20,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .choices import FAULT_TYPES
+
 A = np.exp(2j * np.pi / 3)  # the 120-degree operator
-FAULT_TYPES = ("3ph", "slg", "ll", "llg")
 
 
 @dataclass(frozen=True)

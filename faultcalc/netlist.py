@@ -37,10 +37,11 @@ import re
 from collections import deque
 from dataclasses import dataclass, field
 
+from .choices import FAULT_TYPES
 from .model import System
 
 PHASES = "abc"
-FAULTS = ("3ph", "slg", "ll", "llg")
+FAULTS = FAULT_TYPES
 SQRT3 = math.sqrt(3.0)
 
 

@@ -2,14 +2,18 @@
 
 from __future__ import annotations
 
+import dataclasses
 import functools
 from collections.abc import Callable
 from dataclasses import dataclass, field
 
 import pandas as pd
 
-from .duty import STATUS_OVER
+from .duty import STATUS_NEAR, STATUS_OVER
 from .model import Settings
+
+# A summary of a large study keeps this many buses by fault current, and every duty finding.
+SUMMARY_BUSES = 200
 
 # Columns of StudyResult.buses, which are also the JSON fields of each bus entry.
 BUS_COLUMNS = (
@@ -138,6 +142,45 @@ class StudyResult:
             return pd.DataFrame(columns=list(DUTY_COLUMNS))
         over = self.duty[self.duty.duty_status == STATUS_OVER]
         return over.sort_values("duty_pct", ascending=False, kind="stable")
+
+    def largest_three_phase(self) -> pd.Series:
+        """The row of ``buses`` with the largest three-phase fault current (the first on equal
+        values)."""
+        return self.buses.loc[self.buses["i3ph_ka"].idxmax()]
+
+    def summary(self, buses: int | None = None) -> StudyResult:
+        """The result cut to the buses a reviewer reads first (for a study too large to read
+        bus by bus): the ``buses`` (default SUMMARY_BUSES) buses with the largest fault
+        current of the four types, and every bus whose duty is over or near its rating in the
+        base case or any case, the largest current first; the cases and the envelope cut to
+        those buses, only the flagged cable checks, no element echo. ``duty`` and ``labels``
+        stay whole."""
+        count = SUMMARY_BUSES if buses is None else buses
+        b = self.buses
+        findings = [STATUS_OVER, STATUS_NEAR]
+        largest = b[["i3ph_ka", "islg_ka", "ill_ka", "illg_ka"]].max(axis=1, skipna=True)
+        worst = set(largest.nlargest(count).index)
+        worst |= set(b.index[b.duty_status.isin(findings)])
+        if self.duty is not None:
+            worst |= set(b.index[b.bus.isin(self.duty[self.duty.duty_status.isin(findings)].bus)])
+        keep = sorted(worst, key=lambda i: -largest[i])
+        names = set(b.bus.iloc[keep])
+        return dataclasses.replace(
+            self,
+            buses=b.iloc[keep].reset_index(drop=True),
+            descriptions=tuple(self.descriptions[i] for i in keep),
+            node_groups=tuple(self.node_groups[i] for i in keep),
+            element_table=lambda: pd.DataFrame(columns=list(ELEMENT_COLUMNS)),
+            cable_checks=(
+                self.cable_checks[self.cable_checks.flagged]
+                if self.cable_checks is not None
+                else None
+            ),
+            cases={k: v[v.bus.isin(names)] for k, v in self.cases.items()},
+            envelope=(
+                self.envelope[self.envelope.bus.isin(names)] if self.envelope is not None else None
+            ),
+        )
 
     @functools.cached_property
     def elements(self) -> pd.DataFrame:

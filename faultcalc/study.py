@@ -10,15 +10,16 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from . import asymmetry, cablecheck, duty, faults, methods, perunit, progress, standards
+from . import asymmetry, cablecheck, duty, faults, methods, perunit, standards
 from ._version import __version__
 from .cautions import CAUTIONS
 from .contributions import Phasors, as_table, contribution_phasors
 from .errors import InputError, Problem
 from .model import System
 from .network import Network, build_network, positive_matrix_variant, zone_angles_deg
+from .progress import Progress, reporter, without_gc
 from .results import BUS_COLUMNS, DUTY_COLUMNS, ELEMENT_COLUMNS, LABEL_COLUMNS, Basis, StudyResult
-from .thevenin import SymmetricFactor
+from .thevenin import Orderings, SymmetricFactor
 
 TOOL_NAME = "faultcalc"
 
@@ -191,14 +192,25 @@ class Analysis:
     z1_node: np.ndarray  # positive- (= negative-) sequence Thevenin impedance per node, pu
     z0_node: np.ndarray  # zero-sequence, NaN where no path to ground
     angle_deg: np.ndarray  # phase displacement of each node's zone (positive sequence)
+    orderings: Orderings  # the study's cache of factor orderings, for the X/R variants
 
 
 # progress.step calls per analyse + fault_table, for the progress bar's plan.
 STEPS_PER_ANALYSIS = 6
 
 
-def analyse(system: System, prefault_pu: tuple[float, ...] | None = None) -> Analysis:
-    """Per-unit conversion, sequence networks, one factorization each, all-bus diagonals."""
+def analyse(
+    system: System,
+    prefault_pu: tuple[float, ...] | None = None,
+    *,
+    progress: Progress | None = None,
+    orderings: Orderings | None = None,
+) -> Analysis:
+    """Per-unit conversion, sequence networks, one factorization each, all-bus diagonals
+    (``progress`` is told each step; ``orderings``, the study's cache of factor orderings,
+    is made here when not given)."""
+    progress = reporter(progress)
+    orderings = Orderings() if orderings is None else orderings
     progress.step("per-unit conversion")
     pu = perunit.to_per_unit(system, prefault_pu=prefault_pu)
     progress.step("admittance matrices")
@@ -206,13 +218,13 @@ def analyse(system: System, prefault_pu: tuple[float, ...] | None = None) -> Ana
         pu, lambda: dict(zip(system.buses.column("bus"), system.buses.column("row"), strict=True))
     )
     progress.step("Thevenin impedances Z1 = Z2")
-    factor1 = SymmetricFactor(network.y1)
+    factor1 = SymmetricFactor(network.y1, orderings)
     z1_node = factor1.diagonal()
     progress.step("Thevenin impedances Z0")
-    factor0 = SymmetricFactor(network.y0)
+    factor0 = SymmetricFactor(network.y0, orderings)
     z0_node = np.where(network.grounded, factor0.diagonal(), complex(np.nan, np.nan))
     angles = zone_angles_deg(pu, network, lambda: element_locations(system))
-    return Analysis(system, pu, network, factor1, factor0, z1_node, z0_node, angles)
+    return Analysis(system, pu, network, factor1, factor0, z1_node, z0_node, angles, orderings)
 
 
 def element_locations(system: System) -> dict[str, tuple[str, int | None]]:
@@ -234,7 +246,7 @@ def contributions_of(a: Analysis, buses: list[int]) -> list[Phasors]:
 
 def _diagonal_variant(a: Analysis, transform) -> np.ndarray:
     y = positive_matrix_variant(a.pu, a.network, transform)
-    return SymmetricFactor(y).diagonal()[a.network.node_of_bus]
+    return SymmetricFactor(y, a.orderings).diagonal()[a.network.node_of_bus]
 
 
 def _r_only(z: np.ndarray) -> np.ndarray:
@@ -245,8 +257,9 @@ def _x_only(z: np.ndarray) -> np.ndarray:
     return 1j * np.maximum(z.imag, EPS * np.abs(z))
 
 
-def fault_table(a: Analysis) -> pd.DataFrame:
+def fault_table(a: Analysis, progress: Progress | None = None) -> pd.DataFrame:
     """Every fault type, asymmetry and duty at every bus of one analysed system."""
+    progress = reporter(progress)
     settings = a.system.settings
     pu, network = a.pu, a.network
     z1 = a.z1_node[network.node_of_bus]
@@ -340,7 +353,7 @@ def _duty(system: System, i3_ka, islg_ka, xr_fault, xr_slg) -> dict[str, object]
     return out
 
 
-def _cable_checks(system: System) -> pd.DataFrame:
+def _cable_checks(system: System, progress: Progress) -> pd.DataFrame:
     progress.step("cable check")
     return cablecheck.check_table(system)[list(cablecheck.CHECK_COLUMNS)]
 
@@ -525,16 +538,53 @@ def contribution_buses(system: System, contributions) -> list[int]:
     return [index[c.strip()] for c in contributions]
 
 
-def _solve(system: System) -> tuple[Analysis, pd.DataFrame]:
+def contribution_bus_names(system: System, contributions: str | Iterable[str]) -> list[str]:
+    """The buses whose contributions ``run_study(system, contributions=...)`` reports.
+
+    Parameters
+    ----------
+    system : System
+        As returned by :func:`faultcalc.read_system`.
+    contributions : "all", "A,B" (names separated by commas), or a list of names
+        Spaces around each name are ignored.
+
+    Returns
+    -------
+    list of str
+        The bus names, in the order given ("all": every bus in input order); empty when
+        ``contributions`` names none (for example ``","``).
+
+    Raises
+    ------
+    ValueError
+        Naming every bus that does not exist.
+
+    Examples
+    --------
+    >>> from faultcalc import read_system, sample_path
+    >>> system = read_system(sample_path("plant_480v"))
+    >>> contribution_bus_names(system, " SWBD-1, MCC-1")
+    ['SWBD-1', 'MCC-1']
+    """
+    names = system.buses.column("bus")
+    return [names[k] for k in contribution_buses(system, contributions)]
+
+
+def _solve(
+    system: System, progress: Progress, orderings: Orderings
+) -> tuple[Analysis, pd.DataFrame]:
     """The study's method on one system: the maximum analysis and its table, with the minimum
     currents of iec60909 added as *_min_ka columns."""
     found = methods.variants(system)
-    first = analyse(found[0].system, found[0].prefault_pu)
-    table = fault_table(first)
+    first = analyse(found[0].system, found[0].prefault_pu, progress=progress, orderings=orderings)
+    table = fault_table(first, progress)
     for column in MIN_COLUMNS:
         table[column] = np.nan
     if len(found) > 1:
-        low = fault_table(analyse(found[1].system, found[1].prefault_pu))
+        low_analysis = analyse(
+            found[1].system, found[1].prefault_pu, progress=progress, orderings=orderings
+        )
+        low = fault_table(low_analysis, progress)
         for column in MIN_COLUMNS:
             table[column] = low[column.replace("_min", "")].to_numpy()
     return first, table
@@ -562,6 +612,7 @@ def run_study(
     *,
     contributions: str | Iterable[str] | None = None,
     calculated_at: _dt.datetime | None = None,
+    progress: Progress | None = None,
 ) -> StudyResult:
     """Sequence Thevenin impedances, all four fault types, asymmetry and duty at every bus.
 
@@ -573,6 +624,10 @@ def run_study(
         Buses whose fault contributions (per source, machine and branch at the bus) to report.
     calculated_at : datetime, optional
         Time stamp to record (default: now, local time).
+    progress : Progress, optional
+        Told the phase "solving" and its steps (default: nothing is reported); the command line
+        passes a :class:`faultcalc.TerminalProgress`. Python's cyclic garbage collector is
+        paused while the study runs, as in :func:`faultcalc.read_system`.
 
     Returns
     -------
@@ -598,11 +653,18 @@ def run_study(
     >>> float(result.buses.set_index("bus").loc["SWBD-1", "i3ph_ka"]) > 20
     True
     """
+    progress = reporter(progress)
+    with progress.phase("solving"), without_gc():
+        return _study(system, contributions, calculated_at, progress)
+
+
+def _study(system: System, contributions, calculated_at, progress: Progress) -> StudyResult:
     settings = system.settings
     wanted = contribution_buses(system, contributions)
     per_system = STEPS_PER_ANALYSIS * methods.variant_count(settings.method)
     progress.plan(per_system * (1 + len(system.cases)) + 1 + bool(wanted))
-    a, buses = _solve(system)
+    orderings = Orderings()  # one per study: the base case, its variants and its cases
+    a, buses = _solve(system, progress, orderings)
     pu, network = a.pu, a.network
     groups = _tie_groups(pu.bus_names, network.node_of_bus)
 
@@ -616,7 +678,7 @@ def run_study(
     case_warnings: list[str] = []
     for name, case_system in system.cases:
         try:
-            solved, case_tables[name] = _solve(case_system)
+            solved, case_tables[name] = _solve(case_system, progress, orderings)
             case_warnings += [
                 f"in case '{name}': {w}"
                 for w in solved.pu.warnings + solved.network.warnings
@@ -656,7 +718,7 @@ def run_study(
         cautions=CAUTIONS,
         basis=basis,
         contributions=contribution_table,
-        cable_checks=_cable_checks(system),
+        cable_checks=_cable_checks(system, progress),
         cases=case_tables,
         envelope=envelope,
         service_buses=tuple(service),

@@ -30,9 +30,10 @@ class SymmetricFactor:
 
     ``diagonal()`` gives the whole diagonal of ``Y^-1``; ``columns(nodes)`` solves for the
     columns of ``Y^-1`` at a few nodes (fault contributions), each a pair of triangular solves.
+    ``orderings``, when given, is the cache of orderings the caller's study keeps.
     """
 
-    def __init__(self, y: sp.spmatrix):
+    def __init__(self, y: sp.spmatrix, orderings: Orderings | None = None):
         self.n = y.shape[0]
         self._lu = None
         self._tree = None  # (postorder, parent position of each position) for a forest
@@ -42,7 +43,7 @@ class SymmetricFactor:
         if not y.has_canonical_format:  # sorted indices, no duplicates (on a copy)
             y = y.copy()
             y.sum_duplicates()
-        plan = _ordering(y)
+        plan = _ordering(y) if orderings is None else orderings.plan(y)
         if plan is not None:
             post, parent_pos, data_map, indices, indptr = plan
             self._tree = (post, parent_pos)
@@ -199,19 +200,47 @@ def _depths(parent: np.ndarray) -> np.ndarray:
         up = nxt
 
 
-_last_ordering: list = []  # [(indptr, indices, plan)] of the last pattern seen
+class Orderings:
+    """The orderings of the last sparsity patterns factorized, reused for the next matrix of
+    exactly the same pattern.
+
+    A study factorizes several matrices of one pattern (Z1, the X/R variants, the same
+    network in its cases) and one or two of another (Z0): the study makes one of these and
+    passes it to every factorization it makes, so nothing is kept between studies or shared
+    between threads. Holds at most KEEP patterns (each a few copies of the pattern's arrays),
+    the most recently used first.
+
+    Examples
+    --------
+    >>> import numpy as np, scipy.sparse as sp
+    >>> y = sp.csc_matrix(np.array([[3.0, -1.0], [-1.0, 2.0]], dtype=complex))
+    >>> orderings = Orderings()
+    >>> first = SymmetricFactor(y, orderings).diagonal()
+    >>> again = SymmetricFactor(2 * y, orderings).diagonal()  # same pattern: ordering reused
+    >>> bool(np.allclose(again, first / 2))
+    True
+    """
+
+    KEEP = 2
+
+    def __init__(self) -> None:
+        self._seen: list[tuple[np.ndarray, np.ndarray, object]] = []  # (indptr, indices, plan)
+
+    def plan(self, y: sp.csc_matrix):
+        """``_ordering(y)``, from the cache when ``y`` has a pattern seen before."""
+        for k, (indptr, indices, plan) in enumerate(self._seen):
+            if np.array_equal(indptr, y.indptr) and np.array_equal(indices, y.indices):
+                self._seen.insert(0, self._seen.pop(k))
+                return plan
+        plan = _ordering(y)
+        self._seen.insert(0, (y.indptr.copy(), y.indices.copy(), plan))
+        del self._seen[self.KEEP :]
+        return plan
 
 
 def _ordering(y: sp.csc_matrix):
     """For a forest: (postorder, parent positions, and the postordered matrix's pattern with
-    the map from its entries to ``y.data``); None when the graph has a loop.
-
-    A study factorizes several matrices of one pattern (Z1, Z0, the X/R variants): the last
-    pattern's answer is kept and reused when the next matrix has exactly the same pattern."""
-    if _last_ordering:
-        indptr, indices, plan = _last_ordering[0]
-        if np.array_equal(indptr, y.indptr) and np.array_equal(indices, y.indices):
-            return plan
+    the map from its entries to ``y.data``); None when the graph has a loop."""
     order = _forest_postorder(y)
     plan = None
     if order is not None:
@@ -226,7 +255,6 @@ def _ordering(y: sp.csc_matrix):
         carrier.sort_indices()
         # c.data is y.data in order (a canonical csc matrix lists its entries column by column).
         plan = (post, parent_pos, carrier.data - 1, carrier.indices, carrier.indptr)
-    _last_ordering[:] = [(y.indptr.copy(), y.indices.copy(), plan)]
     return plan
 
 

@@ -140,3 +140,22 @@ def test_unwritable_output_folder_is_a_clear_error(tmp_path):
     result = run("study", str(sample_path()), "-o", str(out))
     assert result.exit_code == 1 and "does not exist" in result.output
     assert "Traceback" not in result.output
+
+
+def test_the_command_line_uses_only_the_public_api():
+    # DEVELOPERS.md: cli.py imports the names of faultcalc/__init__.py and nothing else of the
+    # package, and each of them is public (in __all__).
+    import ast
+    import inspect
+
+    import faultcalc
+    import faultcalc.cli as cli
+
+    used = set()
+    for node in ast.walk(ast.parse(inspect.getsource(cli))):
+        if isinstance(node, ast.ImportFrom) and node.level:
+            assert node.module is None, f"cli.py imports faultcalc.{node.module}"
+            used |= {alias.name for alias in node.names}
+        if isinstance(node, ast.ImportFrom) and not node.level:
+            assert not (node.module or "").startswith("faultcalc"), node.module
+    assert used and used <= set(faultcalc.__all__), used - set(faultcalc.__all__)

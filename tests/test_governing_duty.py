@@ -19,7 +19,7 @@ import pytest
 from click.testing import CliRunner
 from openpyxl import load_workbook
 
-from faultcalc import InputError, duty, read_system, run_study, sample_path
+from faultcalc import InputError, duty, read_system, results, run_study, sample_path
 from faultcalc.cli import main
 from faultcalc.io import workbook
 
@@ -273,8 +273,8 @@ def test_a_bad_label_value_is_a_located_error(make_input):
 
 
 def test_large_study_summary_keeps_a_bus_that_exceeds_only_in_a_case(tie_result, monkeypatch):
-    monkeypatch.setattr(workbook, "SUMMARY_BUSES", 1)
-    cut, _ = workbook._summary(tie_result, "r-buses.csv")
+    monkeypatch.setattr(results, "SUMMARY_BUSES", 1)
+    cut = tie_result.summary()
     assert {"SUB-A", "SUB-B"} <= set(cut.buses.bus)
     assert set(cut.duty.bus) == set(tie_result.duty.bus)
 

@@ -25,7 +25,9 @@ pytestmark = pytest.mark.skipif(
 WRAPPER = """
 import signal, sys, time
 from pathlib import Path
+import faultcalc
 import faultcalc.cli as cli
+import faultcalc.io.workbook as workbook
 
 ready, go, step = Path(sys.argv[1]), Path(sys.argv[2]), sys.argv[3]
 # Start as from a terminal whatever the test runner inherited (a background job ignores
@@ -45,9 +47,9 @@ def held(real):
     return step_then_wait
 
 if step.startswith("solving"):
-    cli.run_study = held(cli.run_study)
+    faultcalc.run_study = held(faultcalc.run_study)
 else:
-    cli.write_workbook_to = held(cli.write_workbook_to)
+    workbook.write_workbook_to = held(workbook.write_workbook_to)
 sys.argv = ["faultcalc", *sys.argv[4:]]
 cli.main()
 """

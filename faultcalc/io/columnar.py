@@ -26,7 +26,8 @@ from typing import Any
 
 import numpy as np
 
-from .. import conductors, model, progress
+from .. import conductors, model
+from ..progress import QUIET, Progress
 from ..records import Records, plain_values
 from . import cells, reader, schema, slips
 from .names import any_problem
@@ -87,15 +88,16 @@ class _Typed:
         ]
 
 
-def read_columns(path: Path) -> model.System | None:
-    """The System of the CSV folder ``path``, or None when the careful reader must read it."""
+def read_columns(path: Path, progress: Progress = QUIET) -> model.System | None:
+    """The System of the CSV folder ``path``, or None when the careful reader must read it
+    (``progress`` is told each step)."""
     try:
-        return _read(Path(path))
+        return _read(Path(path), progress)
     except _Decline:
         return None
 
 
-def _read(path: Path) -> model.System:
+def _read(path: Path, progress: Progress) -> model.System:
     if not path.is_dir():
         raise _Decline
     files = csv_files(path)

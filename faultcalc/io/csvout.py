@@ -1,10 +1,8 @@
 """Bus results as CSV, for studies too large to review row by row in a workbook.
 
-Beyond BIG_OUTPUT_BUSES buses the results workbook holds a summary (the buses with the largest
-currents and every duty finding) and every bus goes to ``<results>-buses.csv`` beside it.
-Measured on the 2-core machine this is developed on: a full workbook takes about 1 ms per bus
-to write (10,000 buses: 11 s, most of a study's time), the CSV about 4 microseconds per bus;
-and nobody reviews thousands of buses by scrolling a workbook.
+Beyond ``outputs.BIG_OUTPUT_BUSES`` buses the results workbook holds a summary (the buses with
+the largest currents and every duty finding) and every bus goes to ``<results>-buses.csv``
+beside it (the rule, and why, are in ``faultcalc/outputs.py``).
 
 Numbers are written to SIGNIFICANT_DIGITS significant digits (rounded on whole arrays, then
 printed by Arrow's CSV writer in the shortest form that reads back to the rounded value); text
@@ -26,8 +24,6 @@ import pandas as pd
 
 from ..results import BUS_COLUMNS, StudyResult
 
-BIG_OUTPUT_BUSES = 5_000
-SUMMARY_BUSES = 200
 SIGNIFICANT_DIGITS = 10
 # The first characters that make a spreadsheet program read a field as a formula (OWASP, CSV
 # injection), and what goes before such a field.

@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-from pathlib import Path
-
 from openpyxl import Workbook
 from openpyxl.comments import Comment
 from openpyxl.styles import Font, PatternFill
@@ -11,7 +9,6 @@ from openpyxl.utils import get_column_letter
 from openpyxl.worksheet.datavalidation import DataValidation
 
 from . import schema
-from .files import staged
 
 REQUIRED_FILL = PatternFill("solid", fgColor="F8D7A8")
 OPTIONAL_FILL = PatternFill("solid", fgColor="DCE6F0")
@@ -125,9 +122,3 @@ def build_template() -> Workbook:
         else:
             _header(ws, sheet)
     return book
-
-
-def write_template(path: str | Path) -> None:
-    """Write a blank input workbook with every sheet, column, help text and list validation."""
-    with staged(path) as (temp,):
-        build_template().save(temp)

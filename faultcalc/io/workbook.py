@@ -2,12 +2,10 @@
 
 from __future__ import annotations
 
-import dataclasses
 import math
 from dataclasses import dataclass
 from pathlib import Path
 
-import pandas as pd
 from openpyxl import Workbook
 from openpyxl.cell.cell import ILLEGAL_CHARACTERS_RE
 from openpyxl.comments import Comment
@@ -16,8 +14,7 @@ from openpyxl.utils import get_column_letter
 
 from .. import duty
 from ..cautions import SHORT_CAUTION
-from ..results import ELEMENT_COLUMNS, StudyResult
-from .csvout import SUMMARY_BUSES
+from ..results import StudyResult
 from .files import staged
 from .names import key as name_key
 
@@ -911,42 +908,14 @@ def _label_titles(buses, taken) -> list[str]:
     return titles
 
 
-def _summary(result: StudyResult, csv_name: str) -> tuple[StudyResult, str]:
-    """The result cut to the buses a reviewer reads first, and the note that says so."""
-    b = result.buses
-    largest = b[["i3ph_ka", "islg_ka", "ill_ka", "illg_ka"]].max(axis=1, skipna=True)
-    worst = set(largest.nlargest(SUMMARY_BUSES).index)
-    worst |= set(b.index[b.duty_status.isin([duty.STATUS_OVER, duty.STATUS_NEAR])])
-    if result.duty is not None:
-        findings = result.duty[result.duty.duty_status.isin([duty.STATUS_OVER, duty.STATUS_NEAR])]
-        worst |= set(b.index[b.bus.isin(findings.bus)])
-    keep = sorted(worst, key=lambda i: -largest[i])
-    names = set(b.bus.iloc[keep])
-    cut = dataclasses.replace(
-        result,
-        buses=b.iloc[keep].reset_index(drop=True),
-        descriptions=tuple(result.descriptions[i] for i in keep),
-        node_groups=tuple(result.node_groups[i] for i in keep),
-        element_table=lambda: pd.DataFrame(columns=list(ELEMENT_COLUMNS)),
-        cable_checks=(
-            result.cable_checks[result.cable_checks.flagged]
-            if result.cable_checks is not None
-            else None
-        ),
-        cases={k: v[v.bus.isin(names)] for k, v in result.cases.items()},
-        envelope=(
-            result.envelope[result.envelope.bus.isin(names)]
-            if result.envelope is not None
-            else None
-        ),
-    )
-    note = (
-        f"Summary of a study of {len(b):,} buses: the {len(keep)} buses with the largest fault "
+def _summary_note(studied: int, kept: int, csv_name: str) -> str:
+    """The note on a summary workbook's sheets that says what was left out and where it is."""
+    return (
+        f"Summary of a study of {studied:,} buses: the {kept} buses with the largest fault "
         f"currents and every duty finding, largest first. Every bus is in {csv_name} (its last "
         "column, input_sha256, is the input's SHA-256, as on the Basis and cautions sheet); "
         "the element echo is left out of this workbook."
     )
-    return cut, note
 
 
 def write_workbook_to(result: StudyResult, path: Path, summary_of: str | None = None) -> None:
@@ -954,7 +923,9 @@ def write_workbook_to(result: StudyResult, path: Path, summary_of: str | None = 
     and the workbook then holds the summary."""
     note = None
     if summary_of is not None:
-        result, note = _summary(result, summary_of)
+        cut = result.summary()
+        note = _summary_note(len(result.buses), len(cut.buses), summary_of)
+        result = cut
     book = build_workbook(result)
     if note:
         for ws in book.worksheets:

@@ -16,8 +16,8 @@ import numpy as np
 import openpyxl
 from click.testing import CliRunner
 
-from faultcalc import cli, read_system, run_study
-from faultcalc.io import csvout
+from faultcalc import cli, outputs, read_system, run_study
+from faultcalc.io import csvout, jsonout
 from faultcalc.results import BUS_COLUMNS
 from tests.networks import random_sheets
 
@@ -32,7 +32,7 @@ def test_round_significant_matches_python_formatting():
 
 
 def _study(make_input, monkeypatch, tmp_path, sheets):
-    monkeypatch.setattr(cli, "BIG_OUTPUT_BUSES", 10)
+    monkeypatch.setattr(outputs, "BIG_OUTPUT_BUSES", 10)
     folder = make_input(sheets)
     out = tmp_path / "big-results.xlsx"
     run = CliRunner().invoke(cli.main, ["study", str(folder), "-o", str(out)])
@@ -113,7 +113,7 @@ def _invoke(*args):
 
 
 def test_every_output_names_the_same_input(make_input, monkeypatch, tmp_path):
-    monkeypatch.setattr(cli, "BIG_OUTPUT_BUSES", 10)
+    monkeypatch.setattr(outputs, "BIG_OUTPUT_BUSES", 10)
     folder = make_input(random_sheets(4, n_mv=6, n_lv=14))
     out, js = tmp_path / "r.xlsx", tmp_path / "r.json"
     assert _invoke("study", folder, "-o", out, "--json", js).exit_code == 0
@@ -128,7 +128,7 @@ def test_every_output_names_the_same_input(make_input, monkeypatch, tmp_path):
 def test_bus_csv_goes_with_its_workbook(make_input, monkeypatch, tmp_path):
     """A smaller study over the same results name removes the bus CSV of a larger one; a
     larger one replaces it; without --overwrite an existing bus CSV is refused."""
-    monkeypatch.setattr(cli, "BIG_OUTPUT_BUSES", 10)
+    monkeypatch.setattr(outputs, "BIG_OUTPUT_BUSES", 10)
     big = make_input(random_sheets(5, n_mv=6, n_lv=14))  # 20 buses: summary + CSV
     small = make_input(random_sheets(6, n_mv=2, n_lv=4))  # 6 buses: a full workbook only
     out, csv_path = tmp_path / "r.xlsx", tmp_path / "r-buses.csv"
@@ -163,7 +163,7 @@ def test_bus_csv_goes_with_its_workbook(make_input, monkeypatch, tmp_path):
 
 
 def test_a_failed_write_keeps_the_earlier_bus_csv(make_input, monkeypatch, tmp_path):
-    monkeypatch.setattr(cli, "BIG_OUTPUT_BUSES", 10)
+    monkeypatch.setattr(outputs, "BIG_OUTPUT_BUSES", 10)
     big = make_input(random_sheets(5, n_mv=6, n_lv=14))
     small = make_input(random_sheets(6, n_mv=2, n_lv=4))
     out, csv_path = tmp_path / "r.xlsx", tmp_path / "r-buses.csv"
@@ -173,7 +173,7 @@ def test_a_failed_write_keeps_the_earlier_bus_csv(make_input, monkeypatch, tmp_p
     def broken(result, path):
         raise OSError(28, "No space left on device")
 
-    monkeypatch.setattr(cli, "write_json_to", broken)
+    monkeypatch.setattr(jsonout, "write_json_to", broken)
     failed = _invoke("study", small, "-o", out, "--json", tmp_path / "r.json", "--overwrite")
     assert failed.exit_code == 1 and "No space left" in failed.output
     assert (out.read_bytes(), csv_path.read_bytes()) == before

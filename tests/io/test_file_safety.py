@@ -72,15 +72,15 @@ OTHER = b"a file another program wrote"
 
 def _appears_while_writing(monkeypatch, path):
     """Another program creates ``path`` while the results are being written."""
-    import faultcalc.cli as cli
+    import faultcalc.io.workbook as workbook
 
-    real = cli.write_workbook_to
+    real = workbook.write_workbook_to
 
     def writing(result, temp, **kwargs):
         real(result, temp, **kwargs)
         path.write_bytes(OTHER)
 
-    monkeypatch.setattr(cli, "write_workbook_to", writing)
+    monkeypatch.setattr(workbook, "write_workbook_to", writing)
 
 
 def test_output_that_appears_during_the_run_is_kept(tmp_path, monkeypatch):
@@ -146,13 +146,13 @@ def test_output_path_that_is_a_folder(tmp_path):
 
 
 def test_a_failed_write_leaves_nothing(tmp_path, monkeypatch):
-    import faultcalc.cli as cli
+    import faultcalc.io.jsonout as jsonout
 
     def broken(result, path):
         path.write_text("partial")
         raise OSError(28, "No space left on device")
 
-    monkeypatch.setattr(cli, "write_json_to", broken)
+    monkeypatch.setattr(jsonout, "write_json_to", broken)
     out, js = tmp_path / "r.xlsx", tmp_path / "r.json"
     result = run("study", sample_path(), "-o", out, "--json", js)
     assert result.exit_code == 1 and "No space left" in result.output

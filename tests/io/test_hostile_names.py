@@ -29,7 +29,7 @@ from builders import transformer
 from click.testing import CliRunner
 from conftest import write_csv_folder, write_xlsx
 
-from faultcalc import InputError, cli, read_system, run_study
+from faultcalc import InputError, cli, outputs, read_system, run_study
 from faultcalc.io import columnar, csvout
 from faultcalc.io.reader import read_tables
 from faultcalc.io.tables import load_input
@@ -344,7 +344,7 @@ def test_the_page_header_doubles_the_ampersand(make_input):
 
 
 def test_no_field_of_the_bus_csv_begins_like_a_formula(make_input, monkeypatch, tmp_path):
-    monkeypatch.setattr(cli, "BIG_OUTPUT_BUSES", 2)
+    monkeypatch.setattr(outputs, "BIG_OUTPUT_BUSES", 2)
     out = tmp_path / "big.xlsx"
     run = CliRunner().invoke(
         cli.main, ["study", str(make_input(_formula_sheets())), "-o", str(out)]
