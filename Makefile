@@ -1,10 +1,11 @@
 # make demo: local virtual environment, install, study the bundled invented sample.
-# make test: install the test extra, run the test suite.
+# make test: install the test extra, run the whole test suite (as CI does).
+# make quick: the same without the slow fuzzing and scale tests (a plain pytest run).
 PYTHON ?= python3
 VENV := .venv
 BIN := $(VENV)/bin
 
-.PHONY: demo test lint samples readme bench clean
+.PHONY: demo test quick lint samples readme bench clean
 
 $(BIN)/python:
 	$(PYTHON) -m venv $(VENV)
@@ -21,6 +22,9 @@ demo: $(VENV)/.installed
 	$(BIN)/faultcalc demo -o faultcalc-demo-results.xlsx --overwrite
 
 test: $(VENV)/.installed-test
+	$(BIN)/python -m pytest -m ""
+
+quick: $(VENV)/.installed-test
 	$(BIN)/python -m pytest
 
 lint: $(VENV)/.installed-test

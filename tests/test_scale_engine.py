@@ -19,6 +19,8 @@ from faultcalc.study import analyse
 sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "benchmarks"))
 from generate import generate  # noqa: E402
 
+pytestmark = pytest.mark.slow  # fuzzing and scale: `make test` runs them, `make quick` not
+
 
 @pytest.mark.parametrize("meshed", [False, True], ids=["radial", "meshed"])
 def test_two_thousand_buses_against_the_dense_inverse(tmp_path, meshed):

@@ -77,6 +77,7 @@ def _folder_of(raw, folder):
     return write_csv_folder(folder, sheets)
 
 
+@pytest.mark.slow  # fuzzing: `make test` runs it, `make quick` not
 def test_mutated_inputs_read_alike_or_decline(tmp_path):
     """A mutated input is either read exactly as the careful reader reads it, or declined;
     an input the careful reader refuses is always declined."""

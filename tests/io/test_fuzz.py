@@ -23,6 +23,8 @@ from faultcalc.io.reader import read_tables
 from faultcalc.io.tables import RawSheet, load_input
 from faultcalc.io.workbook import build_workbook
 
+pytestmark = pytest.mark.slow  # fuzzing and scale: `make test` runs them, `make quick` not
+
 MUTATIONS = 5200
 FILE_MUTATIONS = 120
 HOSTILE = [
