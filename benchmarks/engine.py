@@ -12,7 +12,7 @@ import numpy as np
 import scipy.sparse as sp
 import scipy.sparse.linalg as sla
 
-from faultcalc.thevenin import diagonal_of_inverse
+from faultcalc.solve.thevenin import diagonal_of_inverse
 
 
 def radial_admittance(n: int, loops: int = 0, seed: int = 0) -> sp.csc_matrix:

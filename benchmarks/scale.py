@@ -47,10 +47,10 @@ import pyarrow.compute, pyarrow.csv  # imported before timing: a fixed cost, not
 import numpy as np
 import scipy.sparse.linalg as sla
 from faultcalc import read_system, run_study
-from faultcalc import faults
+from faultcalc.solve import faults
 from faultcalc.study import analyse
-from faultcalc import perunit, network, thevenin
-from faultcalc.io.csvout import write_bus_csv_to
+from faultcalc.solve import perunit, network, thevenin
+from faultcalc.report.csvout import write_bus_csv_to
 from pathlib import Path
 folder, repeats = Path(sys.argv[1]), int(sys.argv[2])
 def timed(action):

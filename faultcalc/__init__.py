@@ -39,24 +39,24 @@ from .progress import QUIET, Progress, TerminalProgress
 
 # Public name -> the module that defines it, imported when the name is first asked for.
 _LAZY = {
-    "read_system": "faultcalc.io.reader",
+    "read_system": "faultcalc.read.reader",
     "run_study": "faultcalc.study",
     "contribution_bus_names": "faultcalc.study",
     "System": "faultcalc.model",
     "StudyResult": "faultcalc.results",
-    "write_workbook": "faultcalc.io.workbook",
-    "write_json": "faultcalc.io.jsonout",
-    "check_cables": "faultcalc.cablecheck",
-    "CableCheck": "faultcalc.cablecheck",
-    "BIG_OUTPUT_BUSES": "faultcalc.outputs",
-    "OutputFiles": "faultcalc.outputs",
-    "ResultFiles": "faultcalc.outputs",
-    "WrittenResults": "faultcalc.outputs",
-    "bus_csv_path": "faultcalc.outputs",
-    "write_cable_checks": "faultcalc.outputs",
-    "write_netlist": "faultcalc.outputs",
-    "write_results": "faultcalc.outputs",
-    "write_template": "faultcalc.outputs",
+    "write_workbook": "faultcalc.report.workbook",
+    "write_json": "faultcalc.report.jsonout",
+    "check_cables": "faultcalc.conductors.cablecheck",
+    "CableCheck": "faultcalc.conductors.cablecheck",
+    "BIG_OUTPUT_BUSES": "faultcalc.report.outputs",
+    "OutputFiles": "faultcalc.report.outputs",
+    "ResultFiles": "faultcalc.report.outputs",
+    "WrittenResults": "faultcalc.report.outputs",
+    "bus_csv_path": "faultcalc.report.outputs",
+    "write_cable_checks": "faultcalc.report.outputs",
+    "write_netlist": "faultcalc.report.outputs",
+    "write_results": "faultcalc.report.outputs",
+    "write_template": "faultcalc.report.outputs",
 }
 
 

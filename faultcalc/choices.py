@@ -11,7 +11,7 @@ from __future__ import annotations
 FAULT_TYPES = ("3ph", "slg", "ll", "llg")
 
 # Typed cable R or X further than this from its table row is flagged, percent (the basis is in
-# the docstring of cablecheck.py).
+# the docstring of conductors/cablecheck.py).
 CABLE_TOLERANCE_PCT = 10.0
 
 # The bundled sample systems (invented scenarios, for demonstration only).

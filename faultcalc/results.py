@@ -9,8 +9,8 @@ from dataclasses import dataclass, field
 
 import pandas as pd
 
-from .duty import STATUS_NEAR, STATUS_OVER
 from .model import Settings
+from .solve.duty import STATUS_NEAR, STATUS_OVER
 
 # A summary of a large study keeps this many buses by fault current, and every duty finding.
 SUMMARY_BUSES = 200

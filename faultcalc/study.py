@@ -10,16 +10,17 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from . import asymmetry, cablecheck, duty, faults, methods, perunit, standards
 from ._version import __version__
 from .cautions import CAUTIONS
-from .contributions import Phasors, as_table, contribution_phasors
+from .conductors import cablecheck
 from .errors import InputError, Problem
 from .model import System
-from .network import Network, build_network, positive_matrix_variant, zone_angles_deg
 from .progress import Progress, reporter, without_gc
 from .results import BUS_COLUMNS, DUTY_COLUMNS, ELEMENT_COLUMNS, LABEL_COLUMNS, Basis, StudyResult
-from .thevenin import Orderings, SymmetricFactor
+from .solve import asymmetry, duty, faults, methods, perunit, standards
+from .solve.contributions import Phasors, as_table, contribution_phasors
+from .solve.network import Network, build_network, positive_matrix_variant, zone_angles_deg
+from .solve.thevenin import Orderings, SymmetricFactor
 
 TOOL_NAME = "faultcalc"
 

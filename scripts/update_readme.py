@@ -2,7 +2,7 @@
 
 from pathlib import Path
 
-from faultcalc.io.docs import replace_reference
+from faultcalc.schema.docs import replace_reference
 
 README = Path(__file__).resolve().parents[1] / "README.md"
 

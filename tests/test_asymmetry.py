@@ -8,7 +8,8 @@ import numpy as np
 import pytest
 from builders import transformer
 
-from faultcalc import asymmetry, read_system, run_study
+from faultcalc import read_system, run_study
+from faultcalc.solve import asymmetry
 
 # Sheldrake, Handbook of Electrical Engineering, Table 8.1: X/R -> half-cycle RMS factor.
 # The printed factors are cut, not rounded, to three decimals, hence 0.001.

@@ -11,8 +11,8 @@ from builders import transformer
 from click.testing import CliRunner
 
 from faultcalc import conductors, read_system, run_study
-from faultcalc.cablecheck import check_cable
 from faultcalc.cli import main
+from faultcalc.conductors.cablecheck import check_cable
 from faultcalc.model import Cable
 
 SIZES = list(conductors.nec_table())

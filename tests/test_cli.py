@@ -8,9 +8,8 @@ import pytest
 from click.testing import CliRunner
 from openpyxl import load_workbook
 
-from faultcalc import __version__, read_system, sample_path
+from faultcalc import __version__, read_system, sample_path, schema
 from faultcalc.cli import main
-from faultcalc.io import schema
 
 
 def run(*args):

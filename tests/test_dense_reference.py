@@ -15,9 +15,9 @@ import pytest
 from networks import random_sheets
 
 from faultcalc import read_system, run_study
-from faultcalc.network import build_network
-from faultcalc.perunit import to_per_unit
-from faultcalc.thevenin import diagonal_of_inverse
+from faultcalc.solve.network import build_network
+from faultcalc.solve.perunit import to_per_unit
+from faultcalc.solve.thevenin import diagonal_of_inverse
 
 
 def _by_xr(z, xr):

@@ -2,7 +2,7 @@
 
 from pathlib import Path
 
-from faultcalc.io.docs import input_reference_markdown
+from faultcalc.schema.docs import input_reference_markdown
 
 REPO = Path(__file__).resolve().parents[1]
 

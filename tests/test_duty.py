@@ -10,7 +10,8 @@ import math
 import pytest
 from builders import transformer
 
-from faultcalc import duty, read_system, run_study
+from faultcalc import read_system, run_study
+from faultcalc.solve import duty
 
 
 @pytest.mark.parametrize(

@@ -3,7 +3,7 @@
 Reference: symmetrical components (Fortescue, 1918; any power-system analysis text, e.g.
 Grainger and Stevenson, Power System Analysis, Chapter 12). Here the Thevenin equivalent is put
 in the phase domain, Z_abc = A diag(Z0, Z1, Z2) A^-1, and each fault's boundary conditions are
-solved as a linear system with numpy, independently of the closed forms in faultcalc.faults.
+solved as a linear system with numpy, independently of the closed forms in faultcalc.solve.faults.
 """
 
 from __future__ import annotations
@@ -11,7 +11,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from faultcalc.faults import all_faults, phase_currents, sequence_currents
+from faultcalc.solve.faults import all_faults, phase_currents, sequence_currents
 
 a = np.exp(2j * np.pi / 3)
 A = np.array([[1, 1, 1], [1, a * a, a], [1, a, a * a]])

@@ -13,7 +13,8 @@ import math
 import pytest
 from builders import transformer
 
-from faultcalc import duty, read_system, run_study
+from faultcalc import read_system, run_study
+from faultcalc.solve import duty
 
 TEST_XR = 4.9  # fused LV power breaker (value from memory of IEEE Std 1015-2006, ANSI C37.13)
 

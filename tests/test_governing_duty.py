@@ -19,9 +19,10 @@ import pytest
 from click.testing import CliRunner
 from openpyxl import load_workbook
 
-from faultcalc import InputError, duty, read_system, results, run_study, sample_path
+from faultcalc import InputError, read_system, results, run_study, sample_path
 from faultcalc.cli import main
-from faultcalc.io import workbook
+from faultcalc.report import workbook
+from faultcalc.solve import duty
 
 OVER_FILL = workbook.STATUS_FILL[duty.STATUS_OVER].fgColor.rgb
 NEAR_FILL = workbook.STATUS_FILL[duty.STATUS_NEAR].fgColor.rgb
@@ -112,7 +113,7 @@ def test_worst_duty_names_the_case_and_the_fault(tie_result):
         assert row.duty_fault == tables[case].loc[bus, "duty_fault"]
         assert row.duty_status == duty.status(row.duty_pct)
         assert row.base_duty_pct == base.loc[bus, "duty_pct"]
-        # The duty is the factor x the current of the fault type named (README, duty.py).
+        # The duty is the factor x the current of the fault type named (README, solve/duty.py).
         current = tables[case].loc[bus, "i3ph_ka" if row.duty_fault == "3ph" else "islg_ka"]
         assert row.duty_ka == pytest.approx(row.mf * current, rel=1e-12)
     assert worst.loc["SUB-A", "duty_status"] == duty.STATUS_OVER

@@ -13,9 +13,9 @@ import pytest
 from builders import transformer
 
 from faultcalc import read_system, run_study, sample_path
-from faultcalc.io.columnar import read_columns
-from faultcalc.io.reader import read_tables
-from faultcalc.io.tables import load_input
+from faultcalc.read.columnar import read_columns
+from faultcalc.read.reader import read_tables
+from faultcalc.read.tables import load_input
 
 BASE = {
     "buses": [

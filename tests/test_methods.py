@@ -7,7 +7,8 @@ import math
 import pytest
 from builders import transformer
 
-from faultcalc import read_system, run_study, standards
+from faultcalc import read_system, run_study
+from faultcalc.solve import standards
 
 
 def test_iec_60909_voltage_factors_and_transformer_correction():

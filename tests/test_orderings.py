@@ -9,7 +9,7 @@ from __future__ import annotations
 import numpy as np
 import scipy.sparse as sp
 
-from faultcalc.thevenin import Orderings, SymmetricFactor
+from faultcalc.solve.thevenin import Orderings, SymmetricFactor
 
 
 def _matrix(edges, n, rng):

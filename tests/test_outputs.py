@@ -1,4 +1,4 @@
-"""The output rules reached from the public API (faultcalc/outputs.py), without the command
+"""The output rules reached from the public API (faultcalc/report/outputs.py), without the command
 line: the large-study summary and its bus CSV, refusals before the study, all or nothing.
 
 Check values: the rules as DEVELOPERS.md and the README's "Large studies" state them, and the
@@ -18,7 +18,6 @@ from faultcalc import (
     OutputError,
     OutputFiles,
     ResultFiles,
-    outputs,
     read_system,
     run_study,
     sample_path,
@@ -26,6 +25,7 @@ from faultcalc import (
     write_results,
     write_template,
 )
+from faultcalc.report import outputs
 from tests.networks import random_sheets
 
 

@@ -10,7 +10,7 @@ import numpy as np
 import pytest
 
 from faultcalc.model import Bus, Cable, Machine, Settings, System
-from faultcalc.records import Records
+from faultcalc.model.records import Records
 
 
 def test_columns_read_back_as_objects_with_none_and_int():

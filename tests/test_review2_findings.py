@@ -95,8 +95,8 @@ def test_a_service_bus_back_in_service_in_a_case_gets_its_label(make_input):
 def test_a_failed_overwrite_leaves_the_earlier_outputs_together(tmp_path, monkeypatch):
     """An --overwrite run whose JSON cannot be placed (a locked file) must leave the earlier
     workbook, JSON and bus CSV as they were, not a new workbook beside the earlier CSV."""
-    import faultcalc.io.files as files
-    import faultcalc.outputs as outputs
+    import faultcalc.report.files as files
+    import faultcalc.report.outputs as outputs
 
     out, js, csv_path = tmp_path / "r.xlsx", tmp_path / "r.json", tmp_path / "r-buses.csv"
     with monkeypatch.context() as m:
@@ -130,7 +130,7 @@ def test_a_signal_after_the_outputs_are_placed_does_not_say_nothing_was_written(
     import signal
 
     import faultcalc.cli as cli
-    import faultcalc.io.files as files
+    import faultcalc.report.files as files
 
     real = files._place
 
@@ -148,7 +148,7 @@ def test_a_signal_after_the_outputs_are_placed_does_not_say_nothing_was_written(
 def test_large_study_equipment_duty_keeps_every_description(monkeypatch, tmp_path):
     """The summary workbook of a large study lists every rated bus on Equipment duty; each row
     keeps its description (before the fix: blank for buses cut from the summary)."""
-    import faultcalc.outputs as outputs
+    import faultcalc.report.outputs as outputs
     import faultcalc.results as results
 
     monkeypatch.setattr(outputs, "BIG_OUTPUT_BUSES", 2)

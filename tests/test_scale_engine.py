@@ -38,7 +38,7 @@ def test_selected_inverse_of_far_loops_in_any_batch_size(monkeypatch, batch):
     inverse (1e-9 relative)."""
     from engine import radial_admittance
 
-    from faultcalc import thevenin
+    from faultcalc.solve import thevenin
 
     monkeypatch.setattr(thevenin, "SELINV_BATCH", batch)
     y = radial_admittance(1500, loops=60, seed=4)

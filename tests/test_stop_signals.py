@@ -27,7 +27,7 @@ import signal, sys, time
 from pathlib import Path
 import faultcalc
 import faultcalc.cli as cli
-import faultcalc.io.workbook as workbook
+import faultcalc.report.workbook as workbook
 
 ready, go, step = Path(sys.argv[1]), Path(sys.argv[2]), sys.argv[3]
 # Start as from a terminal whatever the test runner inherited (a background job ignores

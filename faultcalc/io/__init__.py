@@ -1,1 +1,0 @@
-"""Reading the input workbook and writing results; no calculation lives here."""

@@ -1,0 +1,322 @@
+"""The system as the engineer described it, in physical units.
+
+Frozen dataclasses, one per element type. Every element remembers the spreadsheet row it came
+from (``row``) so that later checks can point back at it. No per-unit values live here: see
+``faultcalc.solve.perunit``.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .records import Records
+
+FT_PER_KFT = 1000.0
+M_PER_FT = 0.3048
+# Cable zero-sequence impedance when not given: 3 x Z1 (common practice, no source; the true
+# value depends on the return path: conduit, grounding conductor, sheath, earth).
+CABLE_Z0_FACTOR = 3.0
+
+
+@dataclass(frozen=True)
+class Settings:
+    title: str = ""
+    base_mva: float = 100.0
+    frequency_hz: int = 60
+    prefault_pu: float = 1.0
+    conductor_temp_c: float = 75.0
+    method: str = "thevenin"
+    xr_method: str = "complex"
+    lv_tolerance_pct: int = 10
+    end_of_fault_temp_c: float = 160.0
+    fault_ohm: float = 0.0
+
+
+@dataclass(frozen=True)
+class Bus:
+    bus: str
+    kv: float
+    description: str = ""
+    device: str | None = None
+    rating_ka: float | None = None
+    rating_xr: float | None = None
+    service: str = "no"
+    in_service: str = "yes"  # the System holds only buses in service
+    row: int | None = None
+
+    @property
+    def name(self) -> str:
+        return self.bus
+
+
+@dataclass(frozen=True)
+class Source:
+    """A utility supply point: available three-phase short circuit, given as MVA or kA."""
+
+    source: str
+    bus: str
+    xr: float
+    sc_mva: float | None = None
+    sc_ka: float | None = None
+    slg_ka: float | None = None
+    slg_xr: float | None = None
+    r0_ohm: float | None = None
+    x0_ohm: float | None = None
+    in_service: str = "yes"  # the System holds only elements in service
+    row: int | None = None
+
+    @property
+    def name(self) -> str:
+        return self.source
+
+    def available_mva(self, bus_kv: float) -> float:
+        if self.sc_mva is not None:
+            return self.sc_mva
+        return math.sqrt(3.0) * bus_kv * self.sc_ka
+
+
+@dataclass(frozen=True)
+class Transformer:
+    transformer: str
+    hv_bus: str
+    lv_bus: str
+    kva: float
+    hv_kv: float
+    lv_kv: float
+    z_pct: float
+    xr: float
+    hv_winding: str
+    lv_winding: str
+    lv_neutral_ohm: float = 0.0
+    hv_neutral_ohm: float = 0.0
+    z0_pct: float | None = None
+    xr0: float | None = None
+    clock_number: int | None = None
+    in_service: str = "yes"  # the System holds only elements in service
+    row: int | None = None
+
+    @property
+    def name(self) -> str:
+        return self.transformer
+
+    @property
+    def phase_shift_clock(self) -> int:
+        """IEC 60076 clock number; blank means 1 for D-Y and Y-D, 0 for D-D and Y-Y."""
+        if self.clock_number is not None:
+            return self.clock_number
+        return 1 if (self.hv_winding == "D") != (self.lv_winding == "D") else 0
+
+
+@dataclass(frozen=True)
+class Cable:
+    """A cable; lengths and impedances stored as typed, with totals derived on demand."""
+
+    cable: str
+    from_bus: str
+    to_bus: str
+    length_ft: float | None = None
+    length_m: float | None = None
+    sets: int = 1
+    size: str = ""
+    material: str | None = None
+    raceway: str | None = None
+    r_ohm_per_kft: float | None = None
+    x_ohm_per_kft: float | None = None
+    r_ohm_per_km: float | None = None
+    x_ohm_per_km: float | None = None
+    r0_ohm_per_kft: float | None = None
+    x0_ohm_per_kft: float | None = None
+    r0_ohm_per_km: float | None = None
+    x0_ohm_per_km: float | None = None
+    impedance_source: str = ""  # "" = R and X typed by the user; else the table row used
+    in_service: str = "yes"  # the System holds only elements in service
+    row: int | None = None
+
+    @property
+    def name(self) -> str:
+        return self.cable
+
+    @property
+    def length_kft(self) -> float:
+        if self.length_ft is not None:
+            return self.length_ft / FT_PER_KFT
+        return self.length_m / M_PER_FT / FT_PER_KFT
+
+    @property
+    def z_ohm_per_kft(self) -> complex:
+        """Impedance of one conductor per 1000 ft."""
+        if self.r_ohm_per_kft is not None:
+            return complex(self.r_ohm_per_kft, self.x_ohm_per_kft)
+        # ohm/km -> ohm/kft: one kft is 0.3048 km.
+        return complex(self.r_ohm_per_km, self.x_ohm_per_km) * (FT_PER_KFT * M_PER_FT / 1000.0)
+
+    @property
+    def z_ohm(self) -> complex:
+        """Total positive-sequence impedance per phase, parallel sets included."""
+        return self.z_ohm_per_kft * self.length_kft / self.sets
+
+    @property
+    def z0_given(self) -> bool:
+        return self.r0_ohm_per_kft is not None or self.r0_ohm_per_km is not None
+
+    @property
+    def z0_ohm_per_kft(self) -> complex | None:
+        """Zero-sequence impedance of one set per 1000 ft, or None when not given."""
+        if self.r0_ohm_per_kft is not None:
+            return complex(self.r0_ohm_per_kft, self.x0_ohm_per_kft)
+        if self.r0_ohm_per_km is not None:
+            return complex(self.r0_ohm_per_km, self.x0_ohm_per_km) * (FT_PER_KFT * M_PER_FT / 1000)
+        return None
+
+    @property
+    def z0_ohm(self) -> complex:
+        """Total zero-sequence impedance: as given per set, or CABLE_Z0_FACTOR x Z1."""
+        if self.z0_given:
+            return self.z0_ohm_per_kft * self.length_kft / self.sets
+        return CABLE_Z0_FACTOR * self.z_ohm
+
+
+@dataclass(frozen=True)
+class Impedance:
+    """A series element in total ohms per phase: reactor, busway, line; 0 + j0 is a closed tie."""
+
+    element: str
+    from_bus: str
+    to_bus: str
+    r_ohm: float
+    x_ohm: float
+    r0_ohm: float | None = None
+    x0_ohm: float | None = None
+    in_service: str = "yes"  # the System holds only elements in service
+    row: int | None = None
+
+    @property
+    def name(self) -> str:
+        return self.element
+
+    @property
+    def z_ohm(self) -> complex:
+        return complex(self.r_ohm, self.x_ohm)
+
+    @property
+    def z0_ohm(self) -> complex:
+        """Zero-sequence impedance; blank r0/x0 means equal to the positive sequence."""
+        if self.r0_ohm is None:
+            return self.z_ohm
+        return complex(self.r0_ohm, self.x0_ohm)
+
+    @property
+    def is_tie(self) -> bool:
+        return self.r_ohm == 0.0 and self.x_ohm == 0.0
+
+
+# kVA per hp for motors rated in hp: 1 kVA per hp for induction motors and for synchronous
+# motors at 0.8 power factor (value from memory of the IEEE Std 141 short-circuit chapter's
+# approximations; a 1.0 power-factor synchronous motor is nearer 0.8 kVA per hp: enter kva).
+KVA_PER_HP = {"induction_motor": 1.0, "synchronous_motor": 1.0}
+
+
+@dataclass(frozen=True)
+class Machine:
+    """A motor or generator feeding the fault through its subtransient impedance."""
+
+    machine: str
+    bus: str
+    kind: str
+    kv: float
+    xd_pct: float
+    xr: float
+    kva: float | None = None
+    hp: float | None = None
+    count: int = 1
+    neutral_ohm: float | None = None
+    rpm: float | None = None
+    x0_pct: float | None = None
+    in_service: str = "yes"  # the System holds only elements in service
+    row: int | None = None
+
+    @property
+    def name(self) -> str:
+        return self.machine
+
+    @property
+    def rated_kva(self) -> float:
+        """Rated kVA of one machine (from hp at KVA_PER_HP when given in hp)."""
+        if self.kva is not None:
+            return self.kva
+        return self.hp * KVA_PER_HP[self.kind]
+
+    @property
+    def grounded(self) -> bool:
+        return self.neutral_ohm is not None
+
+
+@dataclass(frozen=True)
+class System:
+    """Everything read from one input: settings, buses and elements, plus reader warnings.
+
+    Element collections may be given as tuples of objects or as column ``Records``; they are
+    always held as Records (a read-only sequence of the objects, with ``column``/``array``).
+    """
+
+    settings: Settings
+    buses: Records[Bus]
+    sources: Records[Source] = ()
+    transformers: Records[Transformer] = ()
+    cables: Records[Cable] = ()
+    impedances: Records[Impedance] = ()
+    machines: Records[Machine] = ()
+    cases: tuple[tuple[str, System], ...] = ()  # named variations, each a whole System
+    input_name: str = ""
+    input_sha256: str = ""
+    warnings: tuple[str, ...] = field(default=())
+    in_labels: bool = True  # a case: False when its cases rows say label = no
+
+    def __post_init__(self) -> None:
+        for name, kind in ELEMENT_KINDS.items():
+            object.__setattr__(self, name, Records.of(kind, getattr(self, name)))
+
+    def bus_positions(self, names) -> np.ndarray:
+        """Position of each named bus on the buses sheet (-1 where there is none).
+
+        Answers for one list object are kept (a column is looked up by several steps)."""
+        memo = self.__dict__.get("_positions")
+        if memo is None:
+            memo = {}
+            object.__setattr__(self, "_positions", memo)
+        kept = memo.get(id(names))
+        if kept is not None and kept[0] is names:
+            return kept[1]
+        index = self.__dict__.get("_bus_index")
+        if index is None:  # the last row of a name wins (only a hand-built System repeats)
+            index = {name: i for i, name in enumerate(self.buses.column("bus"))}
+            object.__setattr__(self, "_bus_index", index)
+        get = index.get
+        positions = np.fromiter((get(n, -1) for n in names), np.int64, len(names))
+        self.remember_positions(names, positions)
+        return positions
+
+    def remember_bus_index(self, index: dict[str, int]) -> None:
+        """Record the map from bus name to position already built (by the reader)."""
+        object.__setattr__(self, "_bus_index", index)
+
+    def remember_positions(self, names, positions: np.ndarray) -> None:
+        """Record the bus positions of a list of names already looked up (by the reader)."""
+        memo = self.__dict__.setdefault("_positions", {})
+        memo[id(names)] = (names, positions)
+
+    def bus_kv(self) -> dict[str, float]:
+        return dict(zip(self.buses.column("bus"), self.buses.column("kv"), strict=True))
+
+
+ELEMENT_KINDS = {
+    "buses": Bus,
+    "sources": Source,
+    "transformers": Transformer,
+    "cables": Cable,
+    "impedances": Impedance,
+    "machines": Machine,
+}

@@ -1,0 +1,1 @@
+"""From an input file to a System: load, cells, columns, rules, cases, doubts."""

@@ -1,0 +1,136 @@
+"""Elements and buses out of service: left out of the study, and said so.
+
+``in_service`` = no on an element sheet keeps the row's checks and leaves the element out of the
+System (a normally-open tie, a standby generator); a case can set it either way. A bus out of
+service (in the base case or a case) is removed after reading, with every element connected to
+it and whatever then hangs only on it (buses left without a path to any source or generator,
+with their elements).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+
+import numpy as np
+
+from .. import schema
+from ..errors import Problem
+from ..model import System
+
+IN_SERVICE = "in_service"
+ELEMENT_OUT_NOTE = "is out of service: left out of this study"  # in an element's note
+
+NAME_COLUMN = {sheet.name: sheet.columns[0].name for sheet in schema.ELEMENT_SHEETS}
+# The series elements of a System and their two bus columns.
+SERIES = (
+    ("transformers", "hv_bus", "lv_bus"),
+    ("cables", "from_bus", "to_bus"),
+    ("impedances", "from_bus", "to_bus"),
+)
+
+
+def in_service(system: System) -> tuple[System, list[str]]:
+    """``system`` with what is out of service left out, and the warnings that say so.
+
+    Elements with ``in_service`` = no go (each said, in sheet and row order); so do buses with
+    ``in_service`` = no and whatever is then fed only through them. A bus that only elements
+    out of service fed is not removed (the study reports it as cut off from every source: a
+    missing row looks the same); its in_service says when it is de-energized on purpose. Both
+    readers call this on the System they built, so they say the same things."""
+    gone = {}
+    for sheet in schema.ELEMENT_SHEETS:
+        items = getattr(system, sheet.name)
+        flags = np.array([f == "no" for f in items.column(IN_SERVICE)], bool)
+        if flags.any():
+            gone[sheet.name] = flags
+    bus_off = np.array([f == "no" for f in system.buses.column(IN_SERVICE)], bool)
+    if not gone and not bus_off.any():
+        return system, []
+    notes = []
+    changes = {}
+    for sheet in schema.ELEMENT_SHEETS:
+        flags = gone.get(sheet.name)
+        if flags is None:
+            continue
+        items = getattr(system, sheet.name)
+        names, rows = items.column(NAME_COLUMN[sheet.name]), items.column("row")
+        for k in np.flatnonzero(flags).tolist():
+            notes.append(
+                str(
+                    Problem(
+                        sheet.name,
+                        rows[k],
+                        IN_SERVICE,
+                        "no",
+                        f"{names[k]} {ELEMENT_OUT_NOTE}",
+                    )
+                )
+            )
+        changes[sheet.name] = items.subset(np.flatnonzero(~flags))
+    switched = dataclasses.replace(system, **changes) if changes else system
+    if bus_off.any():
+        bus_names = system.buses.column("bus")
+        switched, note = without_buses(switched, [bus_names[k] for k in np.flatnonzero(bus_off)])
+        notes.append(f"sheet 'buses': {note}")
+    return switched, notes
+
+
+def _live(system: System, bus_in: np.ndarray) -> np.ndarray:
+    """Buses (among ``bus_in``) joined to a source or a generator through in-service series
+    elements whose two buses are both in."""
+    from scipy.sparse import coo_matrix
+    from scipy.sparse.csgraph import connected_components
+
+    n = len(system.buses)
+    a, b = [], []
+    for sheet, one, two in SERIES:
+        items = getattr(system, sheet)
+        if len(items):
+            i, j = system.bus_positions(items.column(one)), system.bus_positions(items.column(two))
+            keep = bus_in[i] & bus_in[j]
+            a.append(i[keep])
+            b.append(j[keep])
+    i = np.concatenate(a) if a else np.zeros(0, np.int64)
+    j = np.concatenate(b) if b else np.zeros(0, np.int64)
+    graph = coo_matrix((np.ones(len(i)), (i, j)), shape=(n, n))
+    _, label = connected_components(graph, directed=False)
+    fed = np.zeros(n, bool)
+    fed[system.bus_positions(system.sources.column("bus"))] = True
+    machines = system.machines
+    generator = np.array([k == "generator" for k in machines.column("kind")], bool)
+    fed[system.bus_positions(machines.column("bus"))[generator]] = True
+    fed &= bus_in
+    return bus_in & np.isin(label, label[fed])
+
+
+def without_buses(system: System, names: list[str]) -> tuple[System, str]:
+    """``system`` without the buses ``names`` and what hangs only on them; and the note that
+    says what was removed."""
+    every = np.ones(len(system.buses), bool)
+    live_before = _live(system, every)
+    bus_in = every.copy()
+    bus_in[system.bus_positions(names)] = False
+    live = _live(system, bus_in)
+    gone = ~bus_in | (live_before & ~live)
+    bus_names = system.buses.column("bus")
+    removed_buses = [bus_names[k] for k in np.flatnonzero(gone & bus_in).tolist()]
+    keep_bus = ~gone
+    changes: dict[str, object] = {"buses": system.buses.subset(np.flatnonzero(keep_bus))}
+    removed: list[str] = []
+    for sheet, one, two in SERIES:
+        items = getattr(system, sheet)
+        i, j = system.bus_positions(items.column(one)), system.bus_positions(items.column(two))
+        keep = keep_bus[i] & keep_bus[j]
+        removed += [items.column(NAME_COLUMN[sheet])[k] for k in np.flatnonzero(~keep).tolist()]
+        changes[sheet] = items.subset(np.flatnonzero(keep))
+    for sheet in ("sources", "machines"):
+        items = getattr(system, sheet)
+        keep = keep_bus[system.bus_positions(items.column("bus"))]
+        removed += [items.column(NAME_COLUMN[sheet])[k] for k in np.flatnonzero(~keep).tolist()]
+        changes[sheet] = items.subset(np.flatnonzero(keep))
+    note = f"out of service: bus {', '.join(names)}"
+    if removed_buses:
+        note += f"; removed with it, fed only through it: bus(es) {', '.join(removed_buses)}"
+    if removed:
+        note += f"; elements connected to the removed buses left out: {', '.join(removed)}"
+    return dataclasses.replace(system, **changes), note

@@ -1,0 +1,101 @@
+"""Bus results as CSV, for studies too large to review row by row in a workbook.
+
+Beyond ``outputs.BIG_OUTPUT_BUSES`` buses the results workbook holds a summary (the buses with
+the largest currents and every duty finding) and every bus goes to ``<results>-buses.csv``
+beside it (the rule, and why, are in ``faultcalc/report/outputs.py``).
+
+Numbers are written to SIGNIFICANT_DIGITS significant digits (rounded on whole arrays, then
+printed by Arrow's CSV writer in the shortest form that reads back to the rounded value); text
+fields are quoted only when one of them holds a comma, a quote or a line break. After the
+columns of the bus table (BUS_COLUMNS, in order) comes ``input_sha256``, the SHA-256 of the input
+on every row, so that the file names the input it belongs to as the workbook and JSON do.
+
+A text field that a spreadsheet program would take for a formula (it begins with ``=``, ``+``,
+``-``, ``@``, a tab or a carriage return) gets a single quote ``'`` before it, as the OWASP
+guidance on CSV injection advises; numbers, negative ones included, are written as numbers.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from ..results import BUS_COLUMNS, StudyResult
+
+SIGNIFICANT_DIGITS = 10
+# The first characters that make a spreadsheet program read a field as a formula (OWASP, CSV
+# injection), and what goes before such a field.
+FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
+TEXT_PREFIX = "'"
+CSV_COLUMNS = (*BUS_COLUMNS, "input_sha256")
+
+
+def round_significant(values: np.ndarray, digits: int = SIGNIFICANT_DIGITS) -> np.ndarray:
+    """``values`` rounded to ``digits`` significant digits (NaN, inf and 0 unchanged).
+
+    The rounded value is an integer divided by an exact power of ten, so for magnitudes above
+    about 1e-13 it is the double nearest the decimal and prints with at most ``digits`` digits.
+    """
+    a = np.array(values, dtype=float)
+    ok = np.isfinite(a) & (a != 0)
+    x = a[ok]
+    k = digits - 1 - np.floor(np.log10(np.abs(x))).astype(np.int64)
+    up = k >= 0
+    scale = 10.0 ** np.abs(k)
+    out = np.where(up, np.rint(x * scale) / scale, np.rint(x / scale) * scale)
+    a[ok] = out
+    return a
+
+
+def write_bus_csv_to(result: StudyResult, path: Path) -> None:
+    import pyarrow as pa
+    import pyarrow.csv as pcsv
+
+    table = result.buses[list(BUS_COLUMNS)]
+    arrays = []
+    for name in BUS_COLUMNS:
+        column = table[name]
+        if pd.api.types.is_float_dtype(column.dtype):
+            arrays.append(pa.array(round_significant(column.to_numpy()), from_pandas=True))
+        else:  # text: Arrow-backed in pandas with pyarrow installed, so no copy
+            arrays.append(neutralised(pa.array(column, from_pandas=True)))
+    arrays.append(pa.repeat(pa.scalar(result.basis.input_sha256, pa.string()), len(table)))
+    data = pa.Table.from_arrays(arrays, names=list(CSV_COLUMNS))
+    with open(path, "wb") as handle:
+        handle.write((",".join(CSV_COLUMNS) + "\n").encode())
+        start = handle.tell()
+        try:  # unquoted unless a text field needs quotes (then Arrow refuses and all are)
+            pcsv.write_csv(data, handle, write_options=_options(pcsv, "none"))
+        except pa.ArrowInvalid:
+            handle.seek(start)
+            handle.truncate()
+            pcsv.write_csv(data, handle, write_options=_options(pcsv, "needed"))
+
+
+def neutralised(array):
+    """The Arrow array with TEXT_PREFIX before every text that begins like a formula
+    (FORMULA_STARTS); other arrays, and texts that begin otherwise, unchanged.
+
+    >>> import pyarrow as pa
+    >>> neutralised(pa.array(["=1+2", "-A", "SWBD-1", None])).to_pylist()
+    ["'=1+2", "'-A", 'SWBD-1', None]
+    """
+    import pyarrow as pa
+    import pyarrow.compute as pc
+
+    if pa.types.is_string_view(array.type):
+        array = array.cast(pa.large_string())
+    if not (pa.types.is_string(array.type) or pa.types.is_large_string(array.type)):
+        return array
+    first = pc.utf8_slice_codeunits(array, 0, 1)
+    live = pc.fill_null(pc.is_in(first, value_set=pa.array(FORMULA_STARTS, array.type)), False)
+    if not pc.any(live).as_py():
+        return array
+    prefix, nothing = pa.scalar(TEXT_PREFIX, array.type), pa.scalar("", array.type)
+    return pc.if_else(live, pc.binary_join_element_wise(prefix, array, nothing), array)
+
+
+def _options(pcsv, quoting: str):
+    return pcsv.WriteOptions(include_header=False, quoting_style=quoting)

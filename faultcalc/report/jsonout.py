@@ -1,0 +1,169 @@
+"""Results as JSON: the machine-readable twin of the workbook.
+
+The file is indented, with one line per bus (and per case bus, envelope row, contribution):
+the lists of rows are written row by row, so a study of a million buses needs no more memory
+for its JSON than for one row at a time.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import uuid
+from collections.abc import Iterator
+from pathlib import Path
+from typing import Any
+
+from ..results import BUS_COLUMNS, DUTY_COLUMNS, LABEL_COLUMNS, StudyResult
+from .files import staged
+
+
+def _number(value: Any) -> Any:
+    if value is None or (isinstance(value, float) and not math.isfinite(value)):
+        return None
+    return value
+
+
+def result_dict(result: StudyResult, records=None) -> dict[str, Any]:
+    """The JSON document as Python objects (``records`` turns each table into its rows)."""
+    b = result.basis
+    s = b.settings
+    rows_of = records or _all_rows
+    buses = rows_of(result.buses[list(BUS_COLUMNS)])
+    return {
+        "tool": {"name": b.tool_name, "version": b.tool_version},
+        "study": {
+            "title": s.title,
+            "base_mva": s.base_mva,
+            "frequency_hz": s.frequency_hz,
+            "prefault_pu": s.prefault_pu,
+            "conductor_temp_c": s.conductor_temp_c,
+            "fault_ohm": s.fault_ohm,
+            "method": s.method,
+            "xr_method": s.xr_method,
+            "lv_tolerance_pct": s.lv_tolerance_pct,
+            "end_of_fault_temp_c": s.end_of_fault_temp_c,
+            "basis": b.method,
+            "input": b.input_name,
+            "input_sha256": b.input_sha256,
+            "calculated_at": b.calculated_at,
+        },
+        "buses": buses,
+        "warnings": list(result.warnings),
+        "cautions": list(result.cautions),
+        **(
+            {
+                "cases": [
+                    {
+                        "case": name,
+                        "in_labels": name not in result.label_cases_left_out,
+                        "buses": rows_of(table[list(BUS_COLUMNS)]),
+                    }
+                    for name, table in result.cases.items()
+                ],
+                "envelope": rows_of(result.envelope),
+            }
+            if result.envelope is not None
+            else {}
+        ),
+        **(
+            {
+                "equipment_duty": {
+                    "devices_over_rating": len(result.over_rating()),
+                    "rows": rows_of(result.duty[list(DUTY_COLUMNS)]),
+                }
+            }
+            if result.duty is not None
+            else {}
+        ),
+        **(
+            {
+                "labels": {
+                    "cases_left_out": list(result.label_cases_left_out),
+                    "rows": rows_of(result.labels[list(LABEL_COLUMNS)]),
+                }
+            }
+            if result.labels is not None
+            else {}
+        ),
+        **(
+            {"contributions": rows_of(result.contributions)}
+            if result.contributions is not None
+            else {}
+        ),
+    }
+
+
+def _rows(table) -> Iterator[dict[str, Any]]:
+    """Each row of a table as a dict: text as text, numbers as float, NaN and inf as None."""
+    names = list(table.columns)
+    columns = []
+    for name in names:
+        values = table[name].to_numpy(dtype=object)
+        columns.append(
+            [v if isinstance(v, str) else _number(None if v is None else float(v)) for v in values]
+        )
+    for row in zip(*columns, strict=True):
+        yield dict(zip(names, row, strict=True))
+
+
+def _all_rows(table) -> list[dict[str, Any]]:
+    return list(_rows(table))
+
+
+def cable_check_dict(checks, tolerance_pct: float, input_name: str, sha256: str) -> dict:
+    """The JSON document of ``faultcalc check-cables``."""
+    from .. import __version__
+    from ..cautions import CAUTIONS
+    from ..conductors.cablecheck import CHECK_COLUMNS
+
+    fields = [f for f in CHECK_COLUMNS if f != "table_row"]
+    return {
+        "tool": {"name": "faultcalc", "version": __version__},
+        "input": input_name,
+        "input_sha256": sha256,
+        "tolerance_pct": tolerance_pct,
+        "cables": [{f: getattr(c, f) for f in fields} for c in checks],
+        "cautions": list(CAUTIONS),
+    }
+
+
+def write_json_to(result: StudyResult, path: Path) -> None:
+    tables: list[Any] = []
+    mark = f"rows-{uuid.uuid4().hex}-"  # stands in for a list of rows until written
+
+    def later(table):
+        tables.append(table)
+        return f"{mark}{len(tables) - 1}"
+
+    text = json.dumps(result_dict(result, later), indent=2, allow_nan=False)
+    pieces = text.split(f'"{mark}')
+    with path.open("w", encoding="utf-8") as handle:
+        before = pieces[0]
+        handle.write(before)
+        for piece in pieces[1:]:
+            number, rest = piece.split('"', 1)
+            line = before.rsplit("\n", 1)[-1]
+            _write_rows(handle, tables[int(number)], line[: len(line) - len(line.lstrip())])
+            handle.write(rest)
+            before = rest
+        handle.write("\n")
+
+
+def _write_rows(handle, table, indent: str) -> None:
+    rows = _rows(table)
+    first = next(rows, None)
+    if first is None:
+        handle.write("[]")
+        return
+    inner = indent + "  "
+    handle.write("[\n" + inner + json.dumps(first, allow_nan=False))
+    for row in rows:
+        handle.write(",\n" + inner + json.dumps(row, allow_nan=False))
+    handle.write("\n" + indent + "]")
+
+
+def write_json(result: StudyResult, path: str | Path) -> None:
+    """Write the results as JSON, atomically (a temporary file renamed into place)."""
+    with staged(path) as (temp,):
+        write_json_to(result, temp)

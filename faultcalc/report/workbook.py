@@ -1,0 +1,940 @@
+"""The results workbook: formats what a study computed, computes nothing itself."""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from pathlib import Path
+
+from openpyxl import Workbook
+from openpyxl.cell.cell import ILLEGAL_CHARACTERS_RE
+from openpyxl.comments import Comment
+from openpyxl.styles import Alignment, Border, Font, PatternFill, Side
+from openpyxl.utils import get_column_letter
+
+from ..cautions import SHORT_CAUTION
+from ..read.names import key as name_key
+from ..results import StudyResult
+from ..solve import duty
+from .files import staged
+
+HEADER_FILL = PatternFill("solid", fgColor="DCE6F0")
+CAUTION_FILL = PatternFill("solid", fgColor="FFF4CE")
+FLAG_FILL = PatternFill("solid", fgColor="F9D3CF")
+BOLD = Font(bold=True)
+TITLE = Font(bold=True, size=14)
+THIN = Side(style="thin", color="8EA9C1")
+HEADER_BORDER = Border(bottom=THIN)
+WRAP = Alignment(wrap_text=True, vertical="top")
+
+KA = "0.00"
+MVA = "0.0"
+OHM = "0.000000"
+PU = "0.000000"
+XR = "0.00"
+KV = "0.000"
+
+
+@dataclass(frozen=True)
+class Col:
+    label: str
+    width: float
+    number_format: str = "General"
+    note: str = ""
+
+
+def _finite(value):
+    if isinstance(value, float) and not math.isfinite(value):
+        return None
+    if isinstance(value, str) and ILLEGAL_CHARACTERS_RE.search(value):  # only from the API
+        return ILLEGAL_CHARACTERS_RE.sub(lambda m: f"\\x{ord(m.group()):02x}", value)
+    return value
+
+
+def _text_cells(book: Workbook) -> None:
+    """Every text is a string cell, never a formula or an error value: openpyxl takes a str
+    starting with '=' for a formula and '#N/A' and the like for errors, and a name, title or
+    file name from the input must not act when the workbook is opened."""
+    for ws in book.worksheets:
+        for row in ws.iter_rows():
+            for cell in row:
+                if cell.data_type in ("f", "e") and isinstance(cell.value, str):
+                    cell.data_type = "s"
+
+
+def _header_text(text: str, limit: int) -> str:
+    """``text`` for a page header: '&' doubled (it starts a header code), at most ``limit``
+    characters."""
+    out = ""
+    for ch in text:
+        piece = "&&" if ch == "&" else ch
+        if len(out) + len(piece) > limit:
+            break
+        out += piece
+    return out
+
+
+def _table(ws, cols: list[Col], rows, *, freeze_columns: int = 1) -> None:
+    for j, col in enumerate(cols, start=1):
+        cell = ws.cell(row=1, column=j, value=col.label)
+        cell.font = BOLD
+        cell.fill = HEADER_FILL
+        cell.border = HEADER_BORDER
+        cell.alignment = Alignment(wrap_text=True, vertical="bottom")
+        if col.note:
+            cell.comment = Comment(col.note, "faultcalc", width=320, height=120)
+        ws.column_dimensions[get_column_letter(j)].width = col.width
+    ws.row_dimensions[1].height = 76
+    for i, values in enumerate(rows, start=2):
+        for j, (col, value) in enumerate(zip(cols, values, strict=True), start=1):
+            cell = ws.cell(row=i, column=j, value=_finite(value))
+            cell.number_format = col.number_format
+    ws.freeze_panes = ws.cell(row=2, column=freeze_columns + 1)
+    last = get_column_letter(len(cols))
+    ws.auto_filter.ref = f"A1:{last}{max(1, ws.max_row)}"
+    ws.print_title_rows = "1:1"
+
+
+def _only_row(cols: list[Col], position: int, text: str) -> tuple:
+    """The one row of an empty table: ``text`` in column ``position`` (0-based), blank else."""
+    return tuple(text if j == position else None for j in range(len(cols)))
+
+
+def _page_setup(ws, result: StudyResult) -> None:
+    ws.page_setup.orientation = "landscape"
+    ws.page_setup.fitToWidth = 1
+    ws.page_setup.fitToHeight = 0
+    ws.sheet_properties.pageSetUpPr.fitToPage = True
+    title = result.basis.settings.title or "Short-circuit study"
+    ws.oddHeader.left.text = _header_text(title, 120)
+    ws.oddHeader.right.text = f"calculated {result.basis.calculated_at[:10]}"
+    ws.oddHeader.right.size = 8
+    ws.oddHeader.left.size = 8
+    ws.oddFooter.left.text = SHORT_CAUTION
+    ws.oddFooter.left.size = 7
+    ws.oddFooter.right.text = "page &P of &N"
+
+
+def _note_below(ws, text: str) -> None:
+    row = ws.max_row + 2
+    cell = ws.cell(row=row, column=1, value=text)
+    cell.fill = CAUTION_FILL
+    cell.font = Font(italic=True)
+
+
+FAULT_WORDS = {
+    "3ph": "3-phase",
+    "slg": "line-to-ground",
+    "ll": "line-to-line",
+    "llg": "double line-to-ground",
+}
+NO_PATH = "no path"
+
+
+def _ka_or_note(value):
+    return NO_PATH if isinstance(value, float) and math.isnan(value) else value
+
+
+def _fault_columns(result: StudyResult) -> list[tuple[Col, object]]:
+    """(column, value of a bus row) in sheet order; values are field names or functions."""
+    cols: list[tuple[Col, object]] = [
+        (Col("Bus", 14, note="Bus name as on the input 'buses' sheet."), "bus"),
+        (Col("Description", 30), "description"),
+        (
+            Col(
+                "Nominal kV (line-line)", 10, KV, "Nominal line-to-line voltage; the bus's base kV."
+            ),
+            "kv",
+        ),
+        (
+            Col(
+                "3-phase fault, kA",
+                10,
+                KA,
+                "Initial symmetrical RMS current of a three-phase "
+                "fault at the bus: prefault voltage / |Z1 + Zf|, converted with the bus base "
+                "current.",
+            ),
+            "i3ph_ka",
+        ),
+        (
+            Col(
+                "Line-to-ground fault, kA",
+                10,
+                KA,
+                "3 I0 = 3 E / |Z1 + Z2 + Z0 + 3 Zf|. 'no path': no zero-sequence path to ground.",
+            ),
+            "islg_ka",
+        ),
+        (Col("Line-to-line fault, kA", 10, KA, "sqrt(3) E / |Z1 + Z2 + Zf|."), "ill_ka"),
+        (
+            Col(
+                "Double line-to-ground fault, kA",
+                11,
+                KA,
+                "The larger of the two faulted phase "
+                "currents of a double line-to-ground fault (symmetrical RMS).",
+            ),
+            "illg_ka",
+        ),
+        (
+            Col(
+                "Double line-to-ground, 3I0 to ground, kA",
+                11,
+                KA,
+                "Current into ground of the double line-to-ground fault.",
+            ),
+            "ig_llg_ka",
+        ),
+        (
+            Col(
+                "Largest current from", 13, note="The fault type giving the largest phase current."
+            ),
+            lambda r: FAULT_WORDS[r.max_fault],
+        ),
+        (
+            Col(
+                "Peak current ip, kA",
+                10,
+                KA,
+                "kappa x sqrt(2) x three-phase current; kappa by IEC "
+                "60909-0 with R/X by its equivalent-frequency method.",
+            ),
+            "ip_ka",
+        ),
+        (Col("kappa", 7, "0.000", "IEC 60909-0 peak factor 1.02 + 0.98 exp(-3 R/X)."), "kappa"),
+        (
+            Col(
+                "Half-cycle asymmetrical RMS, kA",
+                11,
+                KA,
+                "Three-phase current x sqrt(1 + 2 exp(-2 pi / (X/R))), X/R of the next column.",
+            ),
+            "iasym_ka",
+        ),
+        (
+            Col(
+                "X/R for asymmetry and duty",
+                10,
+                XR,
+                "By the study's X/R convention (complex "
+                "Thevenin impedance or separate R and X reductions).",
+            ),
+            "xr_fault",
+        ),
+        (Col("DC time constant, ms", 9, "0.00", "(X/R) / (2 pi f)."), "tau_dc_ms"),
+        (
+            Col("3-phase fault MVA", 9, MVA, "sqrt(3) x nominal kV x three-phase fault current."),
+            "s3ph_mva",
+        ),
+        (
+            Col(
+                "Thevenin R1, ohm",
+                11,
+                OHM,
+                "Resistance of the positive-sequence Thevenin "
+                "impedance, ohms at the bus's nominal kV. The negative-sequence impedance "
+                "equals it (machines at subtransient in both).",
+            ),
+            "r1_ohm",
+        ),
+        (
+            Col(
+                "Thevenin X1, ohm",
+                11,
+                OHM,
+                "Reactance of the positive-sequence Thevenin impedance.",
+            ),
+            "x1_ohm",
+        ),
+        (
+            Col(
+                "|Z1|, per-unit",
+                10,
+                PU,
+                "Magnitude of the Thevenin impedance on the study MVA base and the bus's base kV.",
+            ),
+            "z1_pu",
+        ),
+        (Col("X/R of Z1", 8, XR, "X1/R1 of the complex Thevenin impedance."), "xr"),
+        (
+            Col("Thevenin R0, ohm", 11, OHM, "Resistance of the zero-sequence Thevenin impedance."),
+            "r0_ohm",
+        ),
+        (
+            Col("Thevenin X0, ohm", 11, OHM, "Reactance of the zero-sequence Thevenin impedance."),
+            "x0_ohm",
+        ),
+        (
+            Col(
+                "Prefault / voltage factor c, pu",
+                9,
+                "0.000",
+                "The voltage behind the Thevenin impedance at this bus (c with method iec60909).",
+            ),
+            "prefault_pu",
+        ),
+        (
+            Col(
+                "Same node as (closed ties)",
+                16,
+                note="Buses joined to this one by closed ties; they share its results.",
+            ),
+            "ties",
+        ),
+        (Col("Ground-fault note", 40), "ground_note"),
+        (
+            Col(
+                "Duty, % of rating",
+                10,
+                "0.0",
+                "Equipment duty of the bus's device in the base case; see the Equipment duty "
+                "sheet.",
+            ),
+            "duty_pct",
+        ),
+        (Col("Duty status", 20), lambda r: r.duty_status if r.device else ""),
+    ]
+    if result.cases:
+        cols += [
+            (
+                Col(
+                    "Worst duty over the cases, % of rating",
+                    11,
+                    "0.0",
+                    "The largest duty of the device over the base case and every case; the row "
+                    "is coloured by it.",
+                ),
+                "worst_duty_pct",
+            ),
+            (Col("Worst duty in case", 16), "worst_duty_case"),
+        ]
+    if result.basis.settings.method == "iec60909":
+        cols += [
+            (
+                Col(
+                    "Minimum 3-phase, kA (IEC cmin)",
+                    11,
+                    KA,
+                    "IEC 60909-0 minimum: cmin, motors "
+                    "excluded, conductors at the end-of-fault temperature.",
+                ),
+                "i3ph_min_ka",
+            ),
+            (Col("Minimum line-to-ground, kA", 11, KA), "islg_min_ka"),
+            (Col("Minimum line-to-line, kA", 11, KA), "ill_min_ka"),
+            (Col("Minimum double line-to-ground, kA", 11, KA), "illg_min_ka"),
+        ]
+    return cols
+
+
+NO_PATH_FIELDS = ("islg_ka", "ig_llg_ka", "r0_ohm", "x0_ohm", "islg_min_ka")
+
+
+def _worst_duty_of(result: StudyResult) -> dict[str, tuple]:
+    """Bus -> its row of ``result.duty`` (the worst duty over the base and every case)."""
+    if result.duty is None:
+        return {}
+    return {r.bus: r for r in result.duty.itertuples(index=False)}
+
+
+def _fill_rows(ws, statuses, columns: int) -> None:
+    """Colour the rows (from row 2) whose duty status exceeds or is near the rating."""
+    for i, status in enumerate(statuses, start=2):
+        fill = STATUS_FILL.get(status)
+        if fill:
+            for j in range(1, columns + 1):
+                ws.cell(row=i, column=j).fill = fill
+
+
+def _fault_sheet(ws, result: StudyResult) -> None:
+    spec = _fault_columns(result)
+    worst = _worst_duty_of(result)
+    found = [worst.get(bus) for bus in result.buses.bus]
+    b = result.buses.assign(
+        description=list(result.descriptions),
+        ties=list(result.node_groups),
+        worst_duty_pct=[w.duty_pct if w else None for w in found],
+        worst_duty_case=[w.duty_case if w else "" for w in found],
+    )
+    rows = []
+    for r in b.itertuples(index=False):
+        row = []
+        for _, get in spec:
+            value = get(r) if callable(get) else getattr(r, get)
+            row.append(_ka_or_note(value) if get in NO_PATH_FIELDS else value)
+        rows.append(tuple(row))
+    _table(ws, [c for c, _ in spec], rows)
+    fields = [get for _, get in spec]
+    for i, r in enumerate(b.itertuples(index=False), start=2):
+        ws.cell(row=i, column=fields.index(FIELD_OF[r.max_fault]) + 1).font = BOLD
+        for j, field in enumerate(fields, start=1):
+            if field in NO_PATH_FIELDS and ws.cell(row=i, column=j).value == NO_PATH:
+                ws.cell(row=i, column=j).alignment = Alignment(horizontal="right")
+    statuses = [w.duty_status if w else st for w, st in zip(found, b.duty_status, strict=True)]
+    _fill_rows(ws, statuses, len(spec))
+    _note_below(
+        ws,
+        "Fault currents are initial symmetrical RMS; the peak and half-cycle "
+        "columns include the DC offset. Bold: the largest at the bus. Red: duty exceeds the "
+        "rating, amber: within 10 % of it"
+        + (" (in the base case or any case)" if result.cases else "")
+        + ". "
+        + SHORT_CAUTION,
+    )
+
+
+FIELD_OF = {"3ph": "i3ph_ka", "slg": "islg_ka", "ll": "ill_ka", "llg": "illg_ka"}
+
+
+STATUS_FILL = {
+    duty.STATUS_OVER: PatternFill("solid", fgColor="F4B6B0"),
+    duty.STATUS_NEAR: PatternFill("solid", fgColor="FCE4A8"),
+}
+
+
+def _case_words(case: str) -> str:
+    return "the base case" if case == "base" else f"case '{case}'"
+
+
+def _duty_sheet(ws, result: StudyResult) -> None:
+    with_cases = bool(result.cases)
+    cols = [
+        Col("Bus", 14),
+        Col("Description", 30),
+        Col("Device", 34),
+        Col("Rating, kA", 9, KA, "Interrupting or short-circuit current rating as entered."),
+        Col("Test X/R", 8, XR, "X/R of the rating test: entered, or by device (README)."),
+        Col(
+            "X/R of the fault giving the duty",
+            10,
+            XR,
+            "The bus's X/R for a three-phase fault, the ground-fault loop's for a "
+            "line-to-ground fault.",
+        ),
+        Col("Multiplying factor", 10, "0.000", "Never below 1; see the README."),
+        Col(
+            "Duty, kA",
+            9,
+            KA,
+            "Multiplying factor x the larger of the three-phase and "
+            "line-to-ground currents (each with its own X/R).",
+        ),
+        Col("Duty, % of rating", 10, "0.0"),
+        Col(
+            "Status",
+            20,
+            note="Compared with the rating only; this is not a statement that "
+            "the equipment is adequate or safe.",
+        ),
+        Col("Fault giving the duty", 14, note="Three-phase or line-to-ground."),
+    ]
+    if with_cases:
+        cols += [
+            Col(
+                "Case giving the duty",
+                24,
+                note="The worst over the base case and every case on the cases sheet (the base "
+                "case when equal).",
+            ),
+            Col("Duty in the base case, %", 10, "0.0"),
+            Col("Status in the base case", 20),
+        ]
+    rows, statuses = [], []
+    table = result.duty if result.duty is not None else result.buses.iloc[0:0]
+    for r in table.itertuples(index=False):
+        row = (
+            r.bus,
+            getattr(r, "description", ""),
+            duty.DEVICE_NAMES[r.device],
+            r.rating_ka,
+            r.test_xr,
+            r.duty_xr,
+            r.mf,
+            r.duty_ka,
+            r.duty_pct,
+            r.duty_status,
+            FAULT_WORDS[r.duty_fault],
+        )
+        if with_cases:
+            row += (r.duty_case, r.base_duty_pct, r.base_duty_status)
+        rows.append(row)
+        statuses.append(r.duty_status)
+    rows = rows or [_only_row(cols, 1, "No bus has a device and rating_ka on the buses sheet.")]
+    _table(ws, cols, rows)
+    _fill_rows(ws, statuses, len(cols))
+    _note_below(
+        ws,
+        (
+            "Each device's worst duty over the base case and every case, with the case and fault "
+            "type that gave it. "
+            if with_cases
+            else ""
+        )
+        + "Red: duty exceeds the rating. Amber: within 10 % of it. Duty checks compare "
+        "numbers only; equipment suitability is for the engineer of record. " + SHORT_CAUTION,
+    )
+
+
+def _case_sheet(ws, result: StudyResult) -> None:
+    cols = [
+        Col("Case", 34),
+        Col("Bus", 14),
+        Col("Nominal kV", 9, KV),
+        Col("3-phase, kA", 10, KA),
+        Col("Line-to-ground, kA", 10, KA),
+        Col("Line-to-line, kA", 10, KA),
+        Col("Double line-to-ground, kA", 11, KA),
+        Col("Peak ip, kA", 10, KA),
+        Col("Half-cycle asym., kA", 10, KA),
+        Col("Duty, % of rating", 10, "0.0"),
+        Col("Duty status", 20),
+        Col("Duty from", 14, note="The fault type giving the duty: three-phase or line-to-ground."),
+    ]
+    rows, statuses = [], []
+    for name, table in {"base": result.buses, **result.cases}.items():
+        for r in table.itertuples(index=False):
+            statuses.append(r.duty_status if r.device else "")
+            rows.append(
+                (
+                    name,
+                    r.bus,
+                    r.kv,
+                    r.i3ph_ka,
+                    _ka_or_note(r.islg_ka),
+                    r.ill_ka,
+                    r.illg_ka,
+                    r.ip_ka,
+                    r.iasym_ka,
+                    r.duty_pct,
+                    r.duty_status if r.device else "",
+                    FAULT_WORDS.get(r.duty_fault, "") if r.device else "",
+                )
+            )
+    _table(ws, cols, rows, freeze_columns=2)
+    _fill_rows(ws, statuses, len(cols))
+    _note_below(
+        ws,
+        "Red: duty exceeds the rating, amber: within 10 % of it, in that case. " + SHORT_CAUTION,
+    )
+
+
+def _envelope_sheet(ws, result: StudyResult) -> None:
+    cols = [Col("Bus", 14)]
+    labels = {
+        "i3ph_ka": "3-phase, kA",
+        "islg_ka": "Line-to-ground, kA",
+        "ill_ka": "Line-to-line, kA",
+        "illg_ka": "Double line-to-ground, kA",
+        "ip_ka": "Peak ip, kA",
+        "iasym_ka": "Half-cycle asym., kA",
+        "duty_pct": "Duty, % of rating",
+    }
+    env = result.envelope
+    keys = []
+    for column, label in labels.items():
+        case = column.replace("_ka", "").replace("_pct", "") + "_case"
+        cols += [
+            Col(f"Worst {label}", 11, "0.0" if column == "duty_pct" else KA),
+            Col("in case", 14),
+        ]
+        keys += [column, case]
+    cols += [Col("Worst duty status", 20), Col("Worst duty from", 14)]
+    rows, statuses = [], []
+    for _, r in env.iterrows():
+        rated = r["duty_status"] != duty.STATUS_NONE
+        fault = FAULT_WORDS.get(r["duty_fault"], "")
+        rows.append((r["bus"], *[r[k] for k in keys], r["duty_status"] if rated else "", fault))
+        statuses.append(r["duty_status"])
+    _table(ws, cols, rows)
+    _fill_rows(ws, statuses, len(cols))
+    _note_below(
+        ws,
+        "The worst value at each bus over the base case and every case on the "
+        "cases sheet, and the case that gives it. Red: the worst duty exceeds the rating, "
+        "amber: within 10 % of it. " + SHORT_CAUTION,
+    )
+
+
+def _label_sheet(ws, result: StudyResult, bus: str) -> None:
+    """A printable marking for service equipment (NFPA 70 110.24): our own layout."""
+    label = result.labels[result.labels.bus == bus].iloc[0]
+    left_out = result.label_cases_left_out
+    counted = len(result.cases) - len(left_out)
+    over = (
+        f" over the base case and {counted} study case(s)"
+        if counted
+        else (" in the base case" if result.cases else "")
+    )
+    b = result.basis
+    ws.column_dimensions["A"].width = 4
+    ws.column_dimensions["B"].width = 80
+    lines = [
+        ("SERVICE EQUIPMENT", Font(bold=True, size=16)),
+        ("Maximum available fault current", Font(bold=True, size=14)),
+        (f"{label.label_ka:.1f} kA", Font(bold=True, size=40)),
+        (
+            "symmetrical RMS, the largest of three-phase, line-to-ground, line-to-line and double "
+            "line-to-ground faults" + over,
+            Font(size=10),
+        ),
+        (
+            f"Set by a {FAULT_WORDS[label.label_fault]} fault in {_case_words(label.label_case)}.",
+            Font(bold=True, size=11),
+        ),
+        *(
+            [
+                (
+                    "Left out of this figure (temporary set-ups, label = no on the cases sheet): "
+                    + ", ".join(f"'{c}'" for c in left_out),
+                    Font(size=10),
+                )
+            ]
+            if left_out
+            else []
+        ),
+        ("", None),
+        (f"Equipment: {bus}  {label.description}", Font(size=12)),
+        (f"Nominal voltage: {label.kv * 1000:g} V", Font(size=12)),
+        (f"Date of calculation: {b.calculated_at[:10]}", Font(bold=True, size=12)),
+        (f"Study: {b.settings.title or 'short-circuit study'}", Font(size=10)),
+        (
+            f"Calculated with {b.tool_name} {b.tool_version} from {b.input_name} (SHA-256 "
+            f"{b.input_sha256[:16]}...)",
+            Font(size=9),
+        ),
+        ("", None),
+        (
+            "Re-mark this equipment whenever a modification of the electrical system changes the "
+            "available fault current (NFPA 70, 110.24(B)).",
+            Font(bold=True, size=11),
+        ),
+        (
+            "Confirm the source data with the serving utility. For review by a qualified "
+            "engineer; the local code and the authority having jurisdiction govern.",
+            Font(size=9),
+        ),
+        ("", None),
+        ("Checked by: ______________________   Date: ____________", Font(size=11)),
+    ]
+    for i, (text, font) in enumerate(lines, start=2):
+        cell = ws.cell(row=i, column=2, value=text)
+        cell.alignment = Alignment(wrap_text=True, vertical="center")
+        size = font.size if font else 11
+        if font:
+            cell.font = font
+        wraps = max(1, math.ceil(len(text) * size / (11 * 85)))  # about 85 characters at 11 pt
+        ws.row_dimensions[i].height = 1.5 * size * wraps + 4
+    border = Side(style="thick", color="000000")
+    for i in range(2, len(lines) + 2):
+        c = ws.cell(row=i, column=2)
+        c.border = Border(
+            left=border,
+            right=border,
+            top=border if i == 2 else None,
+            bottom=border if i == len(lines) + 1 else None,
+        )
+    ws.page_setup.orientation = "portrait"
+    ws.page_setup.fitToWidth = 1
+    ws.page_setup.fitToHeight = 1
+    ws.sheet_properties.pageSetUpPr.fitToPage = True
+    ws.print_area = f"A1:B{len(lines) + 2}"
+
+
+def _contribution_sheet(ws, result: StudyResult) -> None:
+    cols = [
+        Col("Faulted bus", 14),
+        Col("Fault", 14),
+        Col("Element", 14),
+        Col("Kind", 16),
+        Col(
+            "From bus",
+            14,
+            note="Branches: the bus at the far end, the current flowing from it into the faulted "
+            "bus. Sources and machines: the bus they are connected to.",
+        ),
+        Col(
+            "Current, kA sym (largest phase)",
+            13,
+            KA,
+            "Sources and machines: at their terminals, in their own windings (phase displacement "
+            "of D-Y transformers applied). Branches: at the faulted-bus end.",
+        ),
+        Col(
+            "Angle, degrees",
+            10,
+            "0.0",
+            "Relative to the prefault phase-a voltage at the faulted bus.",
+        ),
+        Col("Phase", 7, note="The phase carrying the current in the column before."),
+        Col(
+            "Residual 3I0, kA",
+            11,
+            KA,
+            "Zero-sequence (ground or neutral) current of the element: 0 for sources seen "
+            "through a delta winding.",
+        ),
+    ]
+    rows = [
+        (
+            r.faulted_bus,
+            FAULT_WORDS[r.fault],
+            r.element,
+            r.kind.replace("_", " "),
+            r.from_bus,
+            r.i_ka,
+            r.angle_deg,
+            r.phase,
+            r.ig_ka,
+        )
+        for r in result.contributions.itertuples(index=False)
+    ]
+    _table(ws, cols, rows)
+
+
+def _element_sheet(ws, result: StudyResult) -> None:
+    cols = [
+        Col("Element", 14),
+        Col("Kind", 17),
+        Col("From bus (HV side)", 14),
+        Col("To bus (LV side)", 14),
+        Col("As entered", 78, note="The input restated, so a reviewer can check what was read."),
+        Col("Ohms referred to bus", 14, note="The bus whose voltage the ohm values are at."),
+        Col("Base kV", 9, KV),
+        Col("R, ohm", 12, OHM),
+        Col("X, ohm", 12, OHM),
+        Col("R, per-unit", 12, PU, "On the study MVA base and the base kV beside it."),
+        Col("X, per-unit", 12, PU),
+        Col(
+            "Ratio (tap)",
+            9,
+            "0.0000",
+            "Transformers: rated ratio over the ratio of the bus "
+            "nominal voltages; 1 when they agree.",
+        ),
+        Col("Note", 34),
+        Col("R0, per-unit", 12, PU, "Zero-sequence resistance on the study base (see the model)."),
+        Col("X0, per-unit", 12, PU, "Zero-sequence reactance on the study base."),
+        Col(
+            "Zero-sequence model",
+            46,
+            note="How the element enters the zero-sequence network (winding connection, "
+            "grounding, given or assumed values).",
+        ),
+    ]
+    rows = [(r[0], r[1].replace("_", " "), *r[2:]) for r in result.elements.itertuples(index=False)]
+    _table(ws, cols, rows)
+
+
+def _cable_check_sheet(ws, result: StudyResult) -> None:
+    cols = [
+        Col("Cable", 14),
+        Col("Flagged", 9, note="yes: the typed R or X is beyond the tolerance from the table."),
+        Col("Finding", 90),
+        Col("Typed R, ohm/1000 ft", 12, "0.0000", "Per conductor, converted to ohm/1000 ft."),
+        Col("Typed X, ohm/1000 ft", 12, "0.0000"),
+        Col("Table R, ohm/1000 ft", 12, "0.0000", "The table row as printed (75 C)."),
+        Col("Table X, ohm/1000 ft", 12, "0.0000"),
+        Col("Table row", 60),
+    ]
+    table = result.cable_checks
+    rows = [
+        (
+            r.cable,
+            "yes" if r.flagged else "no",
+            r.reason,
+            r.given_r_ohm_per_kft,
+            r.given_x_ohm_per_kft,
+            r.table_r_ohm_per_kft,
+            r.table_x_ohm_per_kft,
+            r.table_row,
+        )
+        for r in table.itertuples(index=False)
+    ] or [_only_row(cols, 2, "No cable has typed R and X: every cable took them from the tables.")]
+    _table(ws, cols, rows)
+    for i, r in enumerate(table.itertuples(index=False), start=2):
+        if r.flagged:
+            for j in range(1, len(cols) + 1):
+                ws.cell(row=i, column=j).fill = FLAG_FILL
+
+
+def _warning_sheet(ws, result: StudyResult) -> None:
+    cols = [Col("No.", 6), Col("Warning (doubtful input or assumption made)", 120)]
+    rows = [(i, w) for i, w in enumerate(result.warnings, start=1)] or [("", "No warnings.")]
+    _table(ws, cols, rows, freeze_columns=0)
+    for row in ws.iter_rows(min_row=2, min_col=2, max_col=2):
+        for cell in row:
+            cell.alignment = WRAP
+
+
+def _basis_sheet(ws, result: StudyResult) -> None:
+    b = result.basis
+    s = b.settings
+    ws.column_dimensions["A"].width = 26
+    ws.column_dimensions["B"].width = 110
+    ws.cell(row=1, column=1, value=s.title or "Short-circuit study").font = TITLE
+    ws.cell(row=3, column=1, value="Cautions").font = BOLD
+    row = 4
+    for i, text in enumerate(result.cautions, start=1):
+        ws.cell(row=row, column=1, value=f"{i}.").alignment = Alignment(
+            horizontal="right", vertical="top"
+        )
+        cell = ws.cell(row=row, column=2, value=text)
+        cell.alignment = WRAP
+        cell.fill = CAUTION_FILL
+        ws.row_dimensions[row].height = 30
+        row += 1
+    row += 1
+    ws.cell(row=row, column=1, value="Basis of the calculation").font = BOLD
+    row += 1
+    items = [
+        ("Input file", b.input_name),
+        ("Input SHA-256", b.input_sha256),
+        ("Calculated at", b.calculated_at),
+        ("Tool", f"{b.tool_name} {b.tool_version}"),
+        ("MVA base", f"{s.base_mva:g} MVA"),
+        ("Frequency", f"{s.frequency_hz} Hz"),
+        ("Prefault voltage", f"{s.prefault_pu:g} per-unit of each bus's nominal kV"),
+        (
+            "Fault impedance",
+            f"{s.fault_ohm:g} ohm" + (" (bolted faults)" if not s.fault_ohm else ""),
+        ),
+        (
+            "Conductor temperature",
+            f"{s.conductor_temp_c:g} C for cable resistances taken from "
+            "the tables; typed resistances used as typed",
+        ),
+        ("Calculation method", f"{s.method} (X/R for asymmetry and duty: {s.xr_method})"),
+        ("Method", b.method),
+        ("Warnings", f"{len(result.warnings)} (see sheet 'Warnings')"),
+    ]
+    for label, value in items:
+        label_cell = ws.cell(row=row, column=1, value=label)
+        label_cell.font = BOLD
+        label_cell.alignment = Alignment(vertical="top")
+        cell = ws.cell(row=row, column=2, value=value)
+        cell.alignment = WRAP
+        if len(str(value)) > 100:  # wrapped text: about 100 characters a line at this width
+            ws.row_dimensions[row].height = 13.5 * math.ceil(len(str(value)) / 100) + 3
+        row += 1
+
+
+def build_workbook(result: StudyResult) -> Workbook:
+    book = Workbook()
+    faults = book.active
+    faults.title = "Fault currents"
+    _fault_sheet(faults, result)
+    sheets = [faults]
+    extra = []
+    if result.contributions is not None:
+        extra = [("Contributions", _contribution_sheet)]
+    if result.envelope is not None:
+        extra += [("Cases", _case_sheet), ("Envelope", _envelope_sheet)]
+    for title, fill in (
+        ("Equipment duty", _duty_sheet),
+        *extra,
+        ("Element impedances", _element_sheet),
+        ("Cable check", _cable_check_sheet),
+        ("Warnings", _warning_sheet),
+        ("Basis and cautions", _basis_sheet),
+    ):
+        ws = book.create_sheet(title)
+        fill(ws, result)
+        sheets.append(ws)
+    for ws in sheets:
+        _page_setup(ws, result)
+    titles = _label_titles(result.service_buses, book.sheetnames)
+    for bus, title in zip(result.service_buses, titles, strict=True):
+        label = book.create_sheet(title)
+        assert label.title == title  # unique: openpyxl would otherwise rename it
+        _page_setup(label, result)
+        _label_sheet(label, result, bus)
+    _text_cells(book)
+    return book
+
+
+SHEET_TITLE_CHARS = 31  # Excel's limit on a sheet title (UTF-16 code units)
+NOT_IN_TITLES = "[]:*?/\\"
+
+
+def _title_length(title: str) -> int:
+    return len(title.encode("utf-16-le")) // 2
+
+
+def _label_titles(buses, taken) -> list[str]:
+    """A sheet title for the label of each bus, none the same as another ignoring case
+    (Excel compares titles so; here as names are compared, names.key) nor as one of
+    ``taken``: 'Label <bus>' ([]:*?/\\ and unprintable characters made '_') when that fits in
+    31 characters and is no other bus's; otherwise the bus name cut short with '~1', '~2'...
+    after it, never a title that is some bus's own.
+
+    >>> _label_titles(["SWBD-1", "swbd-1", "A/B", "X" * 40], ["Fault currents"])
+    ['Label SWBD-1~1', 'Label swbd-1~2', 'Label A_B', 'Label XXXXXXXXXXXXXXXXXXXXXXX~1']
+    """
+    own = [
+        "Label " + "".join("_" if ch in NOT_IN_TITLES or not ch.isprintable() else ch for ch in bus)
+        for bus in buses
+    ]
+    count: dict[str, int] = {}
+    for title in own:
+        count[name_key(title)] = count.get(name_key(title), 0) + 1
+    fixed = {name_key(t) for t in taken}
+    used = fixed | set(count)
+    titles = []
+    for title in own:
+        key = name_key(title)
+        if (
+            count[key] == 1
+            and key not in fixed
+            and _title_length(title) <= SHEET_TITLE_CHARS
+            and not title.endswith("'")  # Excel refuses a title ending in an apostrophe
+        ):
+            titles.append(title)
+            continue
+        k = 0
+        while True:
+            k += 1
+            mark = f"~{k}"
+            head = ""
+            for ch in title:
+                if _title_length(head + ch + mark) > SHEET_TITLE_CHARS:
+                    break
+                head += ch
+            candidate = head.rstrip() + mark
+            if name_key(candidate) not in used:
+                break
+        used.add(name_key(candidate))
+        titles.append(candidate)
+    return titles
+
+
+def _summary_note(studied: int, kept: int, csv_name: str) -> str:
+    """The note on a summary workbook's sheets that says what was left out and where it is."""
+    return (
+        f"Summary of a study of {studied:,} buses: the {kept} buses with the largest fault "
+        f"currents and every duty finding, largest first. Every bus is in {csv_name} (its last "
+        "column, input_sha256, is the input's SHA-256, as on the Basis and cautions sheet); "
+        "the element echo is left out of this workbook."
+    )
+
+
+def write_workbook_to(result: StudyResult, path: Path, summary_of: str | None = None) -> None:
+    """Write the workbook; ``summary_of`` names the CSV holding every bus of a large study,
+    and the workbook then holds the summary."""
+    note = None
+    if summary_of is not None:
+        cut = result.summary()
+        note = _summary_note(len(result.buses), len(cut.buses), summary_of)
+        result = cut
+    book = build_workbook(result)
+    if note:
+        for ws in book.worksheets:
+            if ws.title in ("Fault currents", "Element impedances", "Cases", "Envelope"):
+                _note_below(ws, note)
+    book.save(path)
+
+
+def write_workbook(result: StudyResult, path: str | Path) -> None:
+    """Write the results workbook, atomically (a temporary file renamed into place)."""
+    with staged(path) as (temp,):
+        write_workbook_to(result, temp)

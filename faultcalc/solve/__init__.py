@@ -1,0 +1,1 @@
+"""From a System to the results: per-unit, network, Thevenin, faults, asymmetry, duty."""

@@ -1,0 +1,140 @@
+"""Calculation methods: how a System is turned into what the engine solves.
+
+Each method gives one or two variants, each a System (possibly with changed element data) and
+the prefault voltage of every bus:
+
+* ``thevenin``: the system as entered, ``prefault_pu`` at every bus.
+* ``ieee``: first-cycle currents; machine subtransient reactances times the multipliers of
+  IEEE Std 551-2006 Table 9-1 (see ``standards``); ``prefault_pu`` at every bus.
+* ``iec60909``: maximum currents with c = cmax of each bus's voltage level (IEC 60909-0 Table 1)
+  as the equivalent source, network transformers corrected by K_T, conductor resistances at
+  20 C; minimum currents with c = cmin, motors left out, conductors at the end-of-fault
+  temperature (IEC 60909-0 eq. 34). Network feeders take the c of their own bus, as in
+  ``Z_Q = c U_nQ^2 / S"_kQ`` (IEC 60909-0 eq. 1). Cable resistances, from the tables or typed, are
+  taken as given at ``conductor_temp_c``. The generator and power-station-unit corrections (K_G,
+  K_S) are not applied.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..model import Cable, System
+from ..model.records import Records
+from . import standards
+
+MOTOR_KINDS = ("induction_motor", "synchronous_motor")
+
+
+@dataclass(frozen=True)
+class Variant:
+    label: str  # "max" or "min"
+    system: System
+    prefault_pu: tuple[float, ...]  # per bus, input order
+
+
+def _scale_cable_r(cables: Records[Cable], factor: float) -> Records[Cable]:
+    """Every typed or looked-up resistance times ``factor`` (blank stays blank)."""
+    names = ("r_ohm_per_kft", "r_ohm_per_km", "r0_ohm_per_kft", "r0_ohm_per_km")
+    return cables.replace(**{name: cables.array(name) * factor for name in names})
+
+
+def _per_bus(kv: np.ndarray, value) -> tuple[float, ...]:
+    """``value(kv)`` for every bus, computed once per voltage level."""
+    levels, where = np.unique(kv, return_inverse=True)
+    return tuple(np.array([value(float(v)) for v in levels])[where].tolist())
+
+
+def _iec_transformers(system: System):
+    kv = system.bus_kv()
+    tol = system.settings.lv_tolerance_pct
+    out = []
+    for t in system.transformers:
+        kt = standards.k_t(
+            standards.transformer_x_pu(t.z_pct, t.xr), standards.c_max(kv[t.lv_bus], tol)
+        )
+        out.append(dataclasses.replace(t, z_pct=t.z_pct * kt, z0_pct=t.z0_pct * kt))
+    return tuple(out)
+
+
+def variant_count(method: str) -> int:
+    """How many systems ``variants`` gives for this method."""
+    return 2 if method == "iec60909" else 1
+
+
+def variants(system: System) -> list[Variant]:
+    """The systems to solve for the study's method, maximum first."""
+    s = system.settings
+    prefault = (s.prefault_pu,) * len(system.buses)
+    if s.method == "thevenin":
+        return [Variant("max", system, prefault)]
+    if s.method == "ieee":
+        m = system.machines
+        kva, hp = m.array("kva"), m.array("hp")
+        rated = np.where(np.isnan(hp), kva, hp)  # 1 kVA per hp
+        rpm = m.array("rpm")
+        factor = np.array(
+            [
+                standards.ieee_first_cycle_multiplier(k, h, None if r != r else r)
+                for k, h, r in zip(m.column("kind"), rated.tolist(), rpm.tolist(), strict=True)
+            ],
+            dtype=float,
+        )
+        changed = dataclasses.replace(
+            system, machines=m.replace(xd_pct=m.array("xd_pct") * factor) if len(m) else m
+        )
+        return [Variant("max", changed, prefault)]
+    if s.method == "iec60909":
+        kv = system.buses.array("kv")
+        transformers = _iec_transformers(system)
+        to_20 = standards.end_of_fault_factor(s.conductor_temp_c, 20.0)
+        to_end = standards.end_of_fault_factor(s.conductor_temp_c, s.end_of_fault_temp_c)
+        maximum = dataclasses.replace(
+            system,
+            transformers=transformers,
+            cables=_scale_cable_r(system.cables, to_20),
+        )
+        minimum = dataclasses.replace(
+            system,
+            transformers=transformers,
+            cables=_scale_cable_r(system.cables, to_end),
+            machines=system.machines.subset(
+                [
+                    k
+                    for k, kind in enumerate(system.machines.column("kind"))
+                    if kind not in MOTOR_KINDS
+                ]
+            ),
+        )
+        return [
+            Variant(
+                "max",
+                maximum,
+                _per_bus(kv, lambda v: standards.c_max(v, s.lv_tolerance_pct)),
+            ),
+            Variant("min", minimum, _per_bus(kv, standards.c_min)),
+        ]
+    raise ValueError(f"unknown method {s.method!r}")
+
+
+def describe(system: System) -> str:
+    s = system.settings
+    if s.method == "ieee":
+        return (
+            "IEEE first-cycle: machine subtransient reactances times the multipliers of "
+            "IEEE Std 551-2006 Table 9-1; prefault "
+            f"{s.prefault_pu:g} pu; X/R from {s.xr_method} reduction"
+        )
+    if s.method == "iec60909":
+        return (
+            "IEC 60909-0:2016 equivalent voltage source: maximum currents with cmax "
+            f"(LV {standards.c_max(0.4, s.lv_tolerance_pct):g}, above 1 kV 1.1), network "
+            "transformers corrected by K_T = 0.95 cmax / (1 + 0.6 xT), conductors at 20 C; "
+            "minimum currents with cmin (LV 0.95, above 1 kV 1.0), motors excluded, "
+            f"conductors at {s.end_of_fault_temp_c:g} C; generator corrections K_G, K_S "
+            "not applied"
+        )
+    return f"prefault voltage {s.prefault_pu:g} pu behind the Thevenin impedance"
