@@ -119,7 +119,10 @@ def _split(z_abs: float, xr: float) -> complex:
 
 
 def _from_reactance(x: float, xr: float) -> complex:
-    """A machine's impedance from its reactance (X"d as given) and X/R: R = X / (X/R)."""
+    """A machine's impedance from its reactance (X"d as given) and X/R: R = X / (X/R).
+
+    Written again here on purpose (solve/perunit.py has the same formula): the netlist shares
+    no code with the engine, so that the simulator checks the engine's conventions too."""
     return complex(x / xr, x)
 
 

@@ -378,6 +378,12 @@ def _aligned(tables: dict[str, pd.DataFrame], order: list[str]) -> dict[str, pd.
 def _all_buses(system: System) -> tuple[list[str], dict[str, str], list[str]]:
     """Every bus of the base case and of any case (a bus out of service in the base case may be
     in service in a case), in input order; their descriptions; the service buses among them."""
+    buses = system.buses
+    if not system.cases:  # the base case alone, in its own order (whole columns)
+        names = list(buses.column("bus"))
+        service = [n for n, yes in zip(names, buses.column("service"), strict=True) if yes == "yes"]
+        texts = (t or "" for t in buses.column("description"))
+        return names, dict(zip(names, texts, strict=True)), service
     seen: dict[str, tuple[int, str, str]] = {}
     for s in (system, *(case for _, case in system.cases)):
         for name, row, text, service in zip(
@@ -389,10 +395,7 @@ def _all_buses(system: System) -> tuple[list[str], dict[str, str], list[str]]:
         ):
             if name not in seen:
                 seen[name] = (row if row is not None else 0, text or "", service)
-    if not system.cases:  # the base case's own order (a hand-built System may have no rows)
-        order = list(system.buses.column("bus"))
-    else:
-        order = sorted(seen, key=lambda n: seen[n][0])
+    order = sorted(seen, key=lambda n: seen[n][0])
     return (
         order,
         {n: seen[n][1] for n in order},
@@ -406,8 +409,14 @@ def _worst(tables: dict[str, pd.DataFrame], column: str, rows=None) -> tuple[np.
     stack = np.vstack([t[column].to_numpy(dtype=float) for t in tables.values()])
     if rows is not None:
         stack = stack[:, rows]
+    return _largest(stack)
+
+
+def _largest(stack: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Per column of ``stack``: the row of the largest value (the first on equal values; NaN
+    counts as none) and that value (NaN where the column has none)."""
     filled = np.where(np.isnan(stack), -np.inf, stack)
-    worst = np.argmax(filled, axis=0)
+    worst = np.argmax(filled, axis=0) if stack.shape[1] else np.zeros(0, dtype=np.int64)
     value = filled[worst, np.arange(stack.shape[1])]
     return worst, np.where(np.isinf(value), np.nan, value)
 
@@ -492,23 +501,21 @@ def _labels(
     ``tables`` (the base case first, then the cases counted in labels), with the fault type
     and the case that gave it (the first on equal values)."""
     tables = _aligned(tables, order)
-    position = {b: k for k, b in enumerate(order)}
-    rows = [position[b] for b in service]
+    rows = pd.Index(np.array(order, dtype=object)).get_indexer(service)
     names = list(tables)
     base = tables[names[0]]
     stack = np.vstack(
         [t[list(LABEL_FAULTS)].iloc[rows].to_numpy(dtype=float).T for t in tables.values()]
     )  # table-major: base 3ph, slg, ll, llg, then each case's
-    filled = np.where(np.isnan(stack), -np.inf, stack)
-    worst = np.argmax(filled, axis=0) if len(rows) else np.zeros(0, dtype=np.int64)
-    value = filled[worst, np.arange(len(rows))]
+    worst, value = _largest(stack)
     kinds = len(LABEL_FAULTS)
     return pd.DataFrame(
         {
             "bus": base.bus.iloc[rows].to_numpy(dtype=object),
             "description": [descriptions[b] for b in service],
-            "kv": base.kv.iloc[rows].to_numpy(dtype=float),
-            "label_ka": np.where(np.isinf(value), np.nan, value),
+            # a bus in service only in a case has its kV in that case's table alone
+            "kv": np.fmax.reduce([t.kv.iloc[rows].to_numpy(dtype=float) for t in tables.values()]),
+            "label_ka": value,
             "label_fault": np.array(faults.FAULT_TYPES, dtype=object)[worst % kinds],
             "label_case": np.array(names, dtype=object)[worst // kinds],
         },
@@ -692,8 +699,8 @@ def _study(system: System, contributions, calculated_at, progress: Progress) -> 
                     for p in exc.problems
                 ]
             ) from None
-    tables = {"base": buses, **case_tables}
     order, descriptions, service = _all_buses(system)
+    tables = _aligned({"base": buses, **case_tables}, order)  # once: the steps below find it so
     envelope = _envelope(tables, order) if case_tables else None
     left_out = tuple(name for name, case_system in system.cases if not case_system.in_labels)
     labels = _labels(

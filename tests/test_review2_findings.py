@@ -161,3 +161,10 @@ def test_large_study_equipment_duty_keeps_every_description(monkeypatch, tmp_pat
     ws = load_workbook(out)["Equipment duty"]
     got = {r[0]: r[1] for r in ws.iter_rows(min_row=2, values_only=True) if r[0] in wanted}
     assert got == wanted
+
+
+def test_the_label_of_a_bus_in_service_only_in_a_case_has_its_kv(make_input):
+    # Found when the label figures were taken through one alignment: the base case has no row
+    # for SPARE, so its kV comes from the case (0.48 kV, the input's own value).
+    labels = run_study(read_system(make_input(spare_back_sheets()))).labels.set_index("bus")
+    assert labels.loc["SPARE", "kv"] == 0.48

@@ -253,12 +253,14 @@ def _check_refs(
     bus_kv: dict[str, float],
     out: Collector,
     named: set[str] | None = None,
+    folded: dict[str, str] | None = None,
 ) -> None:
     """Every bus reference names a bus with a usable kV. ``named`` holds the names of buses
-    whose own row has a problem: a reference to one is not ok, without a second message."""
-    folded = {name.casefold(): name for name in bus_kv}
+    whose own row has a problem: a reference to one is not ok, without a second message.
+    ``folded`` maps each bus name ignoring case to the name (made here when not given)."""
+    if folded is None:
+        folded = {name.casefold(): name for name in bus_kv}
     named = named or set()
-    known = sorted(set(bus_kv) | named)
     for record in records:
         for column in columns:
             name = record.values.get(column)
@@ -283,7 +285,7 @@ def _check_refs(
                 column,
                 name,
                 "no bus of that name on the 'buses' sheet"
-                + (_suggestion(name, known) if len(out.problems) < MAX_SUGGESTIONS else ""),
+                + (_suggestion(name, bus_kv, named) if len(out.problems) < MAX_SUGGESTIONS else ""),
             )
             record.ok = False
         if len(columns) == 2:
@@ -306,12 +308,13 @@ MAX_SUGGESTIONS = 20
 MAX_SUGGESTION_NAMES = 5_000
 
 
-def _suggestion(name: str, known: list[str]) -> str:
-    """'; did you mean X?' for the nearest known name, or nothing when none is near."""
+def _suggestion(name: str, bus_kv: dict[str, float], named: set[str]) -> str:
+    """'; did you mean X?' for the nearest known bus name, or nothing when none is near."""
     import difflib
 
-    if len(known) > MAX_SUGGESTION_NAMES:  # the nearest of very many is not worth the time
+    if len(bus_kv) + len(named) > MAX_SUGGESTION_NAMES:  # not worth the time among so many
         return ""
+    known = sorted(set(bus_kv) | named)
     by_fold = {k.casefold(): k for k in known}
     near = difflib.get_close_matches(name.casefold(), list(by_fold), n=1, cutoff=0.6)
     return f"; did you mean {by_fold[near[0]]!r}?" if near else ""
@@ -709,17 +712,16 @@ def read_tables(raw: RawInput, with_cases: bool = True) -> model.System:
             for c in cs
             if r.values.get(c) is not None
         }
-    _check_refs("sources", ("bus",), recs["sources"], bus_kv, out, unusable)
-    _check_refs("transformers", ("hv_bus", "lv_bus"), recs["transformers"], bus_kv, out, unusable)
-    _check_refs("cables", ("from_bus", "to_bus"), recs["cables"], bus_kv, out, unusable)
-    _check_refs("impedances", ("from_bus", "to_bus"), recs["impedances"], bus_kv, out, unusable)
+    folded = {name.casefold(): name for name in bus_kv}
+    for sheet, columns in BUS_REFERENCES[:4]:  # machines after the cable tables, as before
+        _check_refs(sheet, columns, recs[sheet], bus_kv, out, unusable, folded)
     _check_same_kv("cables", recs["cables"], bus_kv, out)
     _check_same_kv("impedances", recs["impedances"], bus_kv, out)
     check_transformers(recs["transformers"], bus_kv, out)
     check_clock(recs["transformers"], out)
     _check_cable_impedance(recs["cables"], out)
     _fill_cables_from_tables(recs["cables"], settings, bus_kv, out)
-    _check_refs("machines", ("bus",), recs["machines"], bus_kv, out, unusable)
+    _check_refs("machines", ("bus",), recs["machines"], bus_kv, out, unusable, folded)
     check_machines(recs["machines"], bus_kv, out)
     check_sources(recs["sources"], raw.sheets.get("sources"), out, bus_kv)
     generators = [r for r in recs["machines"] if r.values.get("kind") == "generator"]

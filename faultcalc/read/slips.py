@@ -89,7 +89,7 @@ class Slip:
 
     index: int
     column: str
-    value: float
+    value: float | str  # the number found, or the bus name for swapped buses
     message: str
 
 

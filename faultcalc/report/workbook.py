@@ -846,7 +846,8 @@ def build_workbook(result: StudyResult) -> Workbook:
     titles = _label_titles(result.service_buses, book.sheetnames)
     for bus, title in zip(result.service_buses, titles, strict=True):
         label = book.create_sheet(title)
-        assert label.title == title  # unique: openpyxl would otherwise rename it
+        if label.title != title:  # titles are made unique: openpyxl renamed it all the same
+            raise RuntimeError(f"label sheet {title!r} was named {label.title!r}")
         _page_setup(label, result)
         _label_sheet(label, result, bus)
     _text_cells(book)

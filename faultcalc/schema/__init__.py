@@ -87,11 +87,13 @@ class Sheet:
         return tuple(c.name for c in self.columns)
 
 
-def _in_service(what: str) -> Column:
+def _in_service(what: str, help_text: str = "") -> Column:
+    """The in_service column of a sheet (``help_text`` replaces the usual help)."""
     return Column(
         "in_service",
         CHOICE,
-        f"no: {what} is out of service in the base case (checked like any row, then left out "
+        help_text
+        or f"no: {what} is out of service in the base case (checked like any row, then left out "
         "of the study; a case can put it in service). Blank: yes.",
         default="yes",
         choices=("yes", "no"),
@@ -239,14 +241,11 @@ BUSES = Sheet(
             default="no",
             choices=("yes", "no"),
         ),
-        Column(
-            "in_service",
-            CHOICE,
+        _in_service(
+            "the bus",
             "no: the bus is out of service in the base case, with the elements connected to it "
             "and whatever is fed only through it (said in a warning); a case can put it back. "
             "Blank: yes.",
-            default="yes",
-            choices=("yes", "no"),
         ),
     ),
     required=True,

@@ -130,7 +130,8 @@ def test_placement_without_hard_links(tmp_path, monkeypatch):
     assert "Fault currents" in openpyxl.load_workbook(out, read_only=True).sheetnames
     umask = os.umask(0)
     os.umask(umask)
-    assert stat.S_IMODE(out.stat().st_mode) == 0o666 & ~umask  # an ordinary file
+    # an ordinary file: 0666 less the umask, as open(2) creates one (POSIX; common practice)
+    assert stat.S_IMODE(out.stat().st_mode) == 0o666 & ~umask
     other = tmp_path / "s.xlsx"
     _appears_while_writing(monkeypatch, other)
     result = run("study", sample_path(), "-o", other)
