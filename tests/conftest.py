@@ -74,3 +74,11 @@ def pytest_report_header(config):
         "version unknown",
     )
     return f"cross-check simulator: {version} ({path})"
+
+
+def without_origin(system):
+    """A System without the input's name and SHA-256 (to compare one network read from two
+    files)."""
+    import dataclasses
+
+    return dataclasses.replace(system, input_name="", input_sha256="")

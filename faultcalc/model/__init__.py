@@ -290,14 +290,18 @@ class System:
         kept = memo.get(id(names))
         if kept is not None and kept[0] is names:
             return kept[1]
-        index = self.__dict__.get("_bus_index")
-        if index is None:  # the last row of a name wins (only a hand-built System repeats)
-            index = {name: i for i, name in enumerate(self.buses.column("bus"))}
-            object.__setattr__(self, "_bus_index", index)
-        get = index.get
-        positions = np.fromiter((get(n, -1) for n in names), np.int64, len(names))
+        positions = _positions(self.bus_index(), names)
         self.remember_positions(names, positions)
         return positions
+
+    def bus_index(self) -> dict[str, int]:
+        """The map from bus name to position on the buses sheet."""
+        index = self.__dict__.get("_bus_index")
+        if index is None:  # the last row of a name wins (only a hand-built System repeats)
+            bus_names = self.buses.column("bus")
+            index = dict(zip(bus_names, range(len(bus_names)), strict=True))
+            object.__setattr__(self, "_bus_index", index)
+        return index
 
     def remember_bus_index(self, index: dict[str, int]) -> None:
         """Record the map from bus name to position already built (by the reader)."""
@@ -310,6 +314,20 @@ class System:
 
     def bus_kv(self) -> dict[str, float]:
         return dict(zip(self.buses.column("bus"), self.buses.column("kv"), strict=True))
+
+
+def _positions(index: dict[str, int], names) -> np.ndarray:
+    """Position of each of ``names`` in ``index`` (-1 where absent), by a hash join (pandas)
+    for long lists."""
+    if len(names) < 1000:
+        get = index.get
+        return np.fromiter((get(n, -1) for n in names), np.int64, len(names))
+    import pandas as pd
+
+    keys = pd.Index(list(index), dtype=object)
+    rows = np.fromiter(index.values(), np.int64, len(index))
+    found = keys.get_indexer(pd.Index(list(names), dtype=object))
+    return np.where(found >= 0, rows[found], -1)
 
 
 ELEMENT_KINDS = {

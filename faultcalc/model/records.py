@@ -15,6 +15,7 @@ from __future__ import annotations
 
 import dataclasses
 import math
+import operator
 from collections.abc import Iterator, Sequence
 from typing import Any, Generic, TypeVar
 
@@ -110,12 +111,16 @@ class Records(Sequence, Generic[T]):
     def subset(self, indices) -> Records[T]:
         """New Records of the rows at ``indices``, in that order."""
         picked = np.asarray(indices, dtype=np.int64)
+        positions = picked.tolist()
+        take = operator.itemgetter(*positions) if len(positions) > 1 else None
         out = {}
         for name, values in self._all_columns().items():
             if isinstance(values, np.ndarray):
                 out[name] = values[picked]
+            elif take is not None:
+                out[name] = list(take(values))
             else:
-                out[name] = [values[i] for i in picked.tolist()]
+                out[name] = [values[i] for i in positions]
         return Records(self.cls, out, len(picked))
 
     def take(self, indices) -> list[T]:

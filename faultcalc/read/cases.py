@@ -1,33 +1,37 @@
-"""The `cases` sheet: named variations of the system, each validated as a whole System.
+"""The `cases` sheet: named variations of the system, each read as overrides of the base's columns.
 
-Each case starts from the base input's raw sheets and applies its overrides (one row each:
-element, column, value). ``in_service`` on an element sets its ``in_service`` column either way;
-``in_service`` = no on a bus removes the bus and what hangs only on it, after the case is read
-(``service.without_buses``), and says so. The result is read by the
-same validation as the base, so a case's bad value is reported like any other, with the case
-named and the cases row that caused it. A case whose rows say ``label`` = no is left out of the
-service labels' maximum (``System.in_labels`` False); it is studied all the same.
+A case's rows (element, column, value) set cells of the base input's typed columns: only the
+columns it changes are copied, each value is typed by the column's own parser, and the rules
+run again only on the rows it changes and the rows that hang on them (the elements connected
+to a bus it changes). So a case costs what it changes, not a new reading; and it is checked by
+the same rules as the base, its problems said with the case named and the element's own sheet
+and row. ``in_service`` on an element sets its ``in_service`` column either way; ``in_service``
+= no on a bus removes the bus and what hangs only on it, after the case is read
+(``service.without_buses``), and says so. A case whose rows say ``label`` = no is left out of
+the service labels' maximum (``System.in_labels`` False); it is studied all the same.
 """
 
 from __future__ import annotations
 
-import copy
 import dataclasses
 from typing import Any
 
+import numpy as np
+
 from .. import schema
 from ..errors import InputError, Problem
-from . import cells
+from . import cells, columns, rules
+from .collect import Collector
 from .service import IN_SERVICE
-from .tables import RawInput
 
 LABEL = "label"
+SHEETS = (schema.BUSES, *schema.ELEMENT_SHEETS)
 
 
-def _in_labels(name: str, records, problems: list[Problem]) -> bool:
+def _in_labels(name: str, said: list[tuple[int, Any]], problems: list[Problem]) -> bool:
     """Whether the case counts in the service labels: no when a row of it says label = no.
     Rows that say yes and no disagree: a problem located at the first row that differs."""
-    said = [(r.row, r.values.get(LABEL)) for r in records if r.values.get(LABEL) is not None]
+    said = [(row, value) for row, value in said if value is not None]
     if not said:
         return True
     first_row, first = said[0]
@@ -47,51 +51,170 @@ def _in_labels(name: str, records, problems: list[Problem]) -> bool:
     return first != "no"
 
 
-def _find(raw: RawInput, name: str, column: str):
-    """(sheet, index in its rows, message) of the element or bus called ``name`` (matched as
-    typed, else ignoring case, as bus references are). A name that is both a bus and an element
-    is taken where ``column`` is a column; where it is one of both, the message says so."""
-    found = []
-    for match in (lambda text: text == name, lambda text: text.casefold() == name.casefold()):
-        for sheet in (schema.BUSES, *schema.ELEMENT_SHEETS):
-            table = raw.sheets.get(sheet.name)
-            if table is None:
-                continue
-            key = sheet.columns[0].name
-            for i, (_, values) in enumerate(table.rows):
-                if not cells.is_blank(values.get(key)) and match(
-                    cells.as_text(values[key]).strip()
-                ):
-                    found.append((sheet, i))
+class _Names:
+    """Where each bus and element name is: as typed, and ignoring case (as bus references).
+    Each sheet's names are indexed when a case first looks one up."""
+
+    def __init__(self, sheets: dict[str, columns.Typed]):
+        self.sheets = sheets
+        self._exact: dict[str, dict[str, int]] = {}
+        self._folded: dict[str, dict[str, int]] = {}
+
+    def _lookup(self, spec: schema.Sheet, name: str, folded: bool) -> int | None:
+        table = self._folded if folded else self._exact
+        if spec.name not in table:
+            values = self.sheets[spec.name].values[spec.columns[0].name]
+            keys = [v.casefold() if v is not None else None for v in values] if folded else values
+            table[spec.name] = {k: i for i, k in enumerate(keys) if k is not None}
+        return table[spec.name].get(name.casefold() if folded else name)
+
+    def _all(self, name: str, folded: bool) -> list[tuple[schema.Sheet, int]]:
+        found = []
+        for spec in SHEETS:
+            i = self._lookup(spec, name, folded)
+            if i is not None:
+                found.append((spec, i))
+        return found
+
+    def find(self, name: str, column: str):
+        """(sheet, row index, message) of the bus or element called ``name``. A name that is
+        both a bus and an element is taken where ``column`` is a column; where it is one of
+        both, the message says so."""
+        found = self._all(name, False) or self._all(name, True)
+        if len(found) > 1:
+            fitting = [f for f in found if column in f[0].names]
+            if len(fitting) == 1:
+                return (*fitting[0], "")
+            where = " and ".join(f"a row of '{sheet.name}'" for sheet, _ in found)
+            return None, None, f"the name is {where}: rename one so that the case names one thing"
         if found:
-            break
-    if len(found) > 1:
-        fitting = [f for f in found if column in f[0].names]
-        if len(fitting) == 1:
-            return (*fitting[0], "")
-        where = " and ".join(f"a row of '{sheet.name}'" for sheet, _ in found)
-        return None, None, f"the name is {where}: rename one so that the case names one thing"
-    if found:
-        return (*found[0], "")
-    return None, None, "no bus or element of that name"
+            return (*found[0], "")
+        return None, None, "no bus or element of that name"
 
 
-def read_cases(raw: RawInput, records, read_tables) -> tuple[tuple[str, Any], ...]:
-    """Every case as (name, System), in order of first appearance on the cases sheet."""
-    if not records:
+def _copy_on_write(sheets, case_sheets, name: str) -> columns.Typed:
+    """The case's own Typed of sheet ``name`` (value columns still shared with the base)."""
+    if name not in case_sheets:
+        base = sheets[name]
+        case_sheets[name] = dataclasses.replace(
+            base,
+            values=dict(base.values),
+            filled=dict(base.filled),
+            ok=np.ones(base.n, bool),
+        )
+    return case_sheets[name]
+
+
+def _own_column(sheet: columns.Typed, base: columns.Typed, column: str) -> None:
+    """Give the case's sheet its own copy of a column before a cell of it is set."""
+    if sheet.values[column] is base.values[column]:
+        values = base.values[column]
+        sheet.values[column] = values.copy() if isinstance(values, np.ndarray) else list(values)
+        sheet.filled[column] = base.filled[column].copy()
+
+
+def _set(sheet, base, i: int, column: schema.Column, value, found: list) -> bool:
+    """Set one cell of the case: typed by the column's parser; False (with a problem in
+    ``found``: (column, is problem, value, message)) when the value does not fit. Columns
+    that take their blank from this one follow it."""
+    _own_column(sheet, base, column.name)
+    blank = cells.is_blank(value)
+    target = sheet.values[column.name]
+    sheet.filled[column.name][i] = not blank
+    typed = column.default
+    fits = True
+    if blank and column.required:
+        found.append((column.name, True, None, f"a value is required: {column.expected()}"))
+        fits = False
+    elif not blank:
+        notes: list[str] = []
+        try:
+            typed = cells.parse(value, column, notes)
+        except cells.CellError as exc:
+            found.append((column.name, True, value, str(exc)))
+            typed, fits = None, False
+        found.extend((column.name, False, value, note) for note in notes)
+    if isinstance(target, np.ndarray):
+        target[i] = np.nan if typed is None else float(typed)
+    else:
+        target[i] = typed
+    if blank and column.default_from:
+        target[i] = sheet.values[column.default_from][i]
+    for other in sheet.spec.columns:
+        if other.default_from == column.name and not sheet.filled[other.name][i]:
+            _own_column(sheet, base, other.name)
+            sheet.values[other.name][i] = sheet.values[column.name][i]
+    return fits
+
+
+def _affected(sheets, case_sheets, changed: dict[str, set[int]], buses: rules.Buses):
+    """Row indices per sheet that the case's rules must look at again: the rows it changed,
+    and every element connected to a bus it changed."""
+    at = {name: set(rows) for name, rows in changed.items()}
+    bus_rows = np.array(sorted(changed.get("buses", ())), np.int64)
+    if len(bus_rows):
+        for (sheet, _), positions in buses.ends.items():
+            at.setdefault(sheet, set()).update(
+                np.flatnonzero(np.isin(positions, bus_rows)).tolist()
+            )
+    for name in at:
+        _copy_on_write(sheets, case_sheets, name)
+    return {name: np.array(sorted(rows), np.int64) for name, rows in at.items()}
+
+
+def _still_holding(base: Collector, setting: dict, at: dict, sheets) -> list[str]:
+    """The base's warnings that a case leaves as they are: not about a cell it sets, nor about
+    a row whose rules it runs again (those say their own)."""
+    cells_set = {(name, int(sheets[name].rows[i]), column) for name, i, column in setting}
+    rows_checked = {
+        (name, int(row)) for name, indices in at.items() for row in sheets[name].rows[indices]
+    }
+    return [
+        warning
+        for warning, (sheet, row, column, cell) in zip(base.warnings, base.origins, strict=True)
+        if not ((sheet, row, column) in cells_set if cell else (sheet, row) in rows_checked)
+    ]
+
+
+def _refresh_cables(sheet: columns.Typed, base: columns.Typed, at: np.ndarray) -> None:
+    """Cables the case looks at again take R and X from the tables afresh (where not given)."""
+    if not len(at):
+        return
+    from_tables = at[~sheet.filled["r_ohm_per_kft"][at] & ~sheet.filled["r_ohm_per_km"][at]]
+    if not len(from_tables):
+        return
+    for column in ("r_ohm_per_kft", "x_ohm_per_kft", "impedance_source"):
+        if column in sheet.values and sheet.values[column] is base.values.get(column):
+            values = base.values[column]
+            sheet.values[column] = values.copy() if isinstance(values, np.ndarray) else list(values)
+    for i in from_tables.tolist():
+        for column in ("r_ohm_per_kft", "x_ohm_per_kft"):
+            if not sheet.filled[column][i]:
+                sheet.values[column][i] = np.nan
+        sheet.values["impedance_source"][i] = ""
+
+
+def read_cases(sheets: dict[str, columns.Typed], buses: rules.Buses, settings, raw=None, base=None):
+    """Every case as (name, System), in order of first appearance on the cases sheet. Each
+    case's warnings are those of the base (``base``, a Collector) that still hold, and those
+    of what the case changes."""
+    from .reader import in_service, system_of, with_doubts
+
+    table = sheets["cases"]
+    if not table.n:
         return ()
     problems: list[Problem] = []
     order: list[str] = []
-    overrides: dict[str, list] = {}
-    for record in records:
-        if not record.ok:
+    overrides: dict[str, list[int]] = {}
+    for i in range(table.n):
+        if not table.ok[i]:
             continue
-        name = record.values["case"].strip()
+        name = table.values["case"][i].strip()
         if name.lower() == "base":
             problems.append(
                 Problem(
                     "cases",
-                    record.row,
+                    int(table.rows[i]),
                     "case",
                     name,
                     "'base' names the system as entered; choose another name",
@@ -101,53 +224,99 @@ def read_cases(raw: RawInput, records, read_tables) -> tuple[tuple[str, Any], ..
         if name not in overrides:
             order.append(name)
             overrides[name] = []
-        overrides[name].append(record)
+        overrides[name].append(i)
+    where = _Names(sheets)
     systems = []
     for name in order:
-        in_labels = _in_labels(name, overrides[name], problems)
-        case_raw = copy.deepcopy(raw)
-        case_raw.sheets.pop("cases", None)
-        case_raw.problems = []
-        for record in overrides[name]:
-            element = record.values["element"].strip()
-            column = record.values["column"].strip().lower()
-            value = record.values.get("value")
-            sheet, index, message = _find(case_raw, element, column)
-            if sheet is None:
-                problems.append(Problem("cases", record.row, "element", element, message))
+        rows = overrides[name]
+        in_labels = _in_labels(
+            name, [(int(table.rows[i]), table.values[LABEL][i]) for i in rows], problems
+        )
+        out = Collector()
+        case_sheets: dict[str, columns.Typed] = {}
+        changed: dict[str, set[int]] = {}
+        findings: list[tuple] = []  # the cells the case sets: typing and alternatives
+        setting: dict[tuple[str, int, str], Any] = {}  # (sheet, row index, column) -> cell
+        for i in rows:
+            row = int(table.rows[i])
+            element = table.values["element"][i].strip()
+            column = table.values["column"][i].strip().lower()
+            value = table.values["value"][i]
+            spec, index, message = where.find(element, column)
+            if spec is None:
+                problems.append(Problem("cases", row, "element", element, message))
                 continue
             if column == IN_SERVICE:
                 text = (value or "").strip().lower()
                 if text not in ("yes", "no"):
                     problems.append(
-                        Problem("cases", record.row, "value", value, "in_service takes yes or no")
+                        Problem("cases", row, "value", value, "in_service takes yes or no")
                     )
                     continue
                 value = text  # the in_service column, set like any other
-            if column not in sheet.names or column == sheet.columns[0].name:
+            if column not in spec.names or column == spec.columns[0].name:
                 problems.append(
                     Problem(
                         "cases",
-                        record.row,
+                        row,
                         "column",
                         column,
-                        f"not a column of the '{sheet.name}' sheet that a case can change; "
-                        f"columns are {', '.join(n for n in sheet.names[1:] if n != IN_SERVICE)}"
+                        f"not a column of the '{spec.name}' sheet that a case can change; "
+                        f"columns are {', '.join(n for n in spec.names[1:] if n != IN_SERVICE)}"
                         f", or {IN_SERVICE}",
                     )
                 )
                 continue
-            table = case_raw.sheets[sheet.name]
-            number, values = table.rows[index]
-            values = dict(values)
-            values[column] = value
-            table.rows[index] = (number, values)
-            if column not in table.headers:
-                table.headers.append(column)
-        try:
-            system = read_tables(case_raw, with_cases=False)
-        except InputError as exc:
-            for p in exc.problems:
+            setting[(spec.name, index, column)] = value  # a cell set twice: the last row's
+        for (sheet_name, index, column), value in setting.items():
+            spec = next(s for s in SHEETS if s.name == sheet_name)
+            sheet = _copy_on_write(sheets, case_sheets, sheet_name)
+            found: list = []
+            if not _set(sheet, sheets[sheet_name], index, spec.column(column), value, found):
+                sheet.ok[index] = False
+            position = spec.names.index(column)
+            for column_name, problem, cell, message in found:
+                findings.append((sheet_name, index, position, problem, column_name, cell, message))
+            if sheet.given is None:
+                sheet.given = {}
+            sheet.given[(column, index)] = value
+            changed.setdefault(sheet_name, set()).add(index)
+        at = _affected(sheets, case_sheets, changed, buses)
+        for sheet_name, indices in at.items():
+            sheet = case_sheets[sheet_name]
+            for k, alternative in enumerate(sheet.spec.alternatives, start=len(sheet.spec.columns)):
+                found = columns.alternative_findings(
+                    alternative, sheet.filled, sheet.raw_cell, indices
+                )
+                for i, column_name, cell, message in found:
+                    findings.append((sheet_name, i, k, True, column_name, cell, message))
+                    sheet.ok[i] = False
+        order_of = {spec.name: k for k, spec in enumerate(SHEETS)}
+        findings.sort(key=lambda f: (order_of[f[0]], f[1], f[2]))
+        for sheet_name, i, _, problem, column_name, cell, message in findings:
+            row = int(case_sheets[sheet_name].rows[i])
+            (out.problem if problem else out.warn)(sheet_name, row, column_name, cell, message)
+        if "cables" in at:
+            _refresh_cables(case_sheets["cables"], sheets["cables"], at["cables"])
+        merged = {**sheets, **case_sheets}
+        case_buses = rules.check(merged, settings, out, at=at, buses=buses)
+        if base is not None:
+            out.warnings[:0] = _still_holding(base, setting, at, merged)
+        if not out.problems:
+            try:
+                system = system_of(
+                    merged,
+                    case_buses,
+                    settings,
+                    input_name=getattr(raw, "display_name", ""),
+                    input_sha256=getattr(raw, "sha256", ""),
+                    warnings=tuple(dict.fromkeys(out.warnings)),  # the base's said once
+                )
+                system = with_doubts(in_service(system))
+            except InputError as exc:
+                out.problems.extend(exc.problems)
+        if out.problems:
+            for p in out.problems:
                 problems.append(
                     Problem(p.sheet, p.row, p.column, p.value, f"in case '{name}': {p.message}")
                 )

@@ -13,9 +13,12 @@ import math
 import re
 from typing import Any
 
+import numpy as np
+
 from .. import schema
 from . import names
-from .tables import FormulaCell, PercentCell, is_blank  # noqa: F401 - is_blank used as cells.is_blank
+from .marked import FormulaCell, PercentCell
+from .raw import is_blank  # noqa: F401 - used as cells.is_blank
 
 
 class CellError(ValueError):
@@ -108,8 +111,29 @@ def _text_number(text: str, column: schema.Column, notes: list[str] | None) -> f
         raise CellError(f"expected {expected}") from None
 
 
+def within(column: schema.Column, x: np.ndarray) -> np.ndarray:
+    """Where the numbers ``x`` are what ``column`` takes: finite, 0 or between MIN_MAGNITUDE
+    and MAX_MAGNITUDE in size, within the column's bound, whole for an integer column. The one
+    statement of these rules: whole columns are checked with it, and ``as_number`` explains
+    with it why a cell is refused."""
+    with np.errstate(invalid="ignore"):
+        size = np.abs(x)
+        ok = np.isfinite(x) & (((size >= MIN_MAGNITUDE) & (size <= MAX_MAGNITUDE)) | (x == 0))
+        bound = column.bound
+        if bound == schema.POSITIVE:
+            ok &= x > 0
+        elif bound == schema.NON_NEGATIVE:
+            ok &= x >= 0
+        elif bound == schema.AT_LEAST_ONE:
+            ok &= x >= 1
+        if column.kind == schema.INTEGER:
+            ok &= x == np.round(x)
+    return ok
+
+
 def _plain(value: Any, column: schema.Column) -> float | None:
-    """The fast path: a plain finite number within bounds, or None to take the careful one."""
+    """A plain number (an int or float, or text Python's float() reads) that ``column``
+    takes, or None to take the careful path."""
     if type(value) is str:
         try:
             number = float(value)
@@ -119,18 +143,7 @@ def _plain(value: Any, column: schema.Column) -> float | None:
         number = float(value)
     else:
         return None
-    if not (MIN_MAGNITUDE <= abs(number) <= MAX_MAGNITUDE or number == 0.0):
-        return None  # includes nan and inf
-    bound = column.bound
-    if (
-        (bound == schema.POSITIVE and number <= 0)
-        or (bound == schema.NON_NEGATIVE and number < 0)
-        or (bound == schema.AT_LEAST_ONE and number < 1)
-    ):
-        return None
-    if column.kind == schema.INTEGER and not number.is_integer():
-        return None
-    return number
+    return number if within(column, np.array([number]))[0] else None
 
 
 def as_number(value: Any, column: schema.Column, notes: list[str] | None = None) -> float:
@@ -159,6 +172,8 @@ def as_number(value: Any, column: schema.Column, notes: list[str] | None = None)
         number = float(value)
     else:
         number = _text_number(str(value), column, notes)
+    if within(column, np.array([number]))[0]:
+        return number
     if not math.isfinite(number):
         raise CellError(f"expected {expected}, a finite value")
     if abs(number) > MAX_MAGNITUDE or 0 < abs(number) < MIN_MAGNITUDE:
@@ -166,16 +181,7 @@ def as_number(value: Any, column: schema.Column, notes: list[str] | None = None)
             f"expected {expected}; {number:g} is outside {MIN_MAGNITUDE:g} to "
             f"{MAX_MAGNITUDE:g}, where every real value of this tool's inputs lies"
         )
-    if column.kind == schema.INTEGER and not number.is_integer():
-        raise CellError(f"expected {expected}")
-    bound = column.bound
-    if (
-        (bound == schema.POSITIVE and number <= 0)
-        or (bound == schema.NON_NEGATIVE and number < 0)
-        or (bound == schema.AT_LEAST_ONE and number < 1)
-    ):
-        raise CellError(f"expected {expected}")
-    return number
+    raise CellError(f"expected {expected}")  # the bound, or not whole in an integer column
 
 
 def as_choice(value: Any, column: schema.Column) -> str:

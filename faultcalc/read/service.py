@@ -39,11 +39,10 @@ def in_service(system: System) -> tuple[System, list[str]]:
     readers call this on the System they built, so they say the same things."""
     gone = {}
     for sheet in schema.ELEMENT_SHEETS:
-        items = getattr(system, sheet.name)
-        flags = np.array([f == "no" for f in items.column(IN_SERVICE)], bool)
+        flags = _out(getattr(system, sheet.name))
         if flags.any():
             gone[sheet.name] = flags
-    bus_off = np.array([f == "no" for f in system.buses.column(IN_SERVICE)], bool)
+    bus_off = _out(system.buses)
     if not gone and not bus_off.any():
         return system, []
     notes = []
@@ -68,11 +67,41 @@ def in_service(system: System) -> tuple[System, list[str]]:
             )
         changes[sheet.name] = items.subset(np.flatnonzero(~flags))
     switched = dataclasses.replace(system, **changes) if changes else system
+    if changes:
+        _carry_positions(system, switched, {s: np.flatnonzero(~gone[s]) for s in changes})
     if bus_off.any():
         bus_names = system.buses.column("bus")
         switched, note = without_buses(switched, [bus_names[k] for k in np.flatnonzero(bus_off)])
         notes.append(f"sheet 'buses': {note}")
     return switched, notes
+
+
+# The bus columns of each element sheet.
+BUS_COLUMNS = {
+    "sources": ("bus",),
+    "transformers": ("hv_bus", "lv_bus"),
+    "cables": ("from_bus", "to_bus"),
+    "impedances": ("from_bus", "to_bus"),
+    "machines": ("bus",),
+}
+
+
+def _carry_positions(before: System, after: System, kept: dict[str, np.ndarray]) -> None:
+    """``after`` (``before`` with the rows ``kept`` of some element sheets, the same buses)
+    knows its bus positions without looking the names up again."""
+    after.remember_bus_index(before.bus_index())
+    for sheet, rows in kept.items():
+        for column in BUS_COLUMNS[sheet]:
+            old = before.bus_positions(getattr(before, sheet).column(column))
+            after.remember_positions(getattr(after, sheet).column(column), old[rows])
+
+
+def _out(items) -> np.ndarray:
+    """Which rows say in_service = no."""
+    column = items.column(IN_SERVICE)
+    if "no" not in column:
+        return np.zeros(len(items), bool)
+    return np.array([f == "no" for f in column], bool)
 
 
 def _live(system: System, bus_in: np.ndarray) -> np.ndarray:

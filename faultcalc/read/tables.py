@@ -6,15 +6,18 @@ number of every data row; cell values stay as the file holds them.
 
 from __future__ import annotations
 
-import csv
 import hashlib
 import zipfile
-from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
 from ..errors import InputError, Problem
 from . import sheetnames, xlsxparts
+from .csvload import csv_files, load_folder
+from .marked import FormulaCell, PercentCell
+from .raw import RawInput, RawSheet, is_blank, sheet_from_rows  # noqa: F401 - imported from here
+
+_sheet_from_rows = sheet_from_rows  # the workbook loader's name for it
 
 WORKBOOK_SUFFIXES = (".xlsx", ".xlsm")
 # The sheets a workbook loader parses: the known ones and those named close to one (the reader
@@ -31,92 +34,6 @@ MAX_COMPRESSION_RATIO = 400  # a part unpacking to more than this is a decompres
 # strings). A workbook of any size may hold MIN_XML_ELEMENTS (a few seconds of reading).
 MAX_XML_ELEMENTS_PER_BYTE = 4
 MIN_XML_ELEMENTS = 1_000_000
-
-
-class PercentCell(float):
-    """A number from a cell formatted as a percentage (0.0575 shown as 5.75%)."""
-
-
-class FormulaCell(str):
-    """A formula cell whose value was never saved (the file was written by a program that does
-    not calculate): its text is the formula."""
-
-
-@dataclass
-class RawSheet:
-    """One sheet: normalised header names and the data rows as {header: raw value}."""
-
-    name: str
-    headers: list[str]
-    rows: list[tuple[int, dict[str, Any]]]
-    blank_header_columns: list[int]  # 1-based columns with data under an empty header
-
-
-@dataclass
-class RawInput:
-    sheets: dict[str, RawSheet]
-    display_name: str
-    sha256: str
-    problems: list[Problem]
-    notes: list[str] = field(default_factory=list)  # warnings found while loading
-
-
-def is_blank(value: Any) -> bool:
-    """An empty cell: None or only white space (a formula without a saved value is not)."""
-    if value is None:
-        return True
-    if type(value) is str:
-        return not value or value.isspace()
-    return False
-
-
-def _column_letter(index: int) -> str:
-    letters = ""
-    while index:
-        index, rem = divmod(index - 1, 26)
-        letters = chr(65 + rem) + letters
-    return letters
-
-
-def _sheet_from_rows(name: str, rows: list[tuple[int, list[Any]]], problems: list[Problem]):
-    """Build a RawSheet from (row number, cell values) with the header first."""
-    if not rows:
-        return RawSheet(name, [], [], [])
-    _, header_cells = rows[0]
-    headers: list[str] = []
-    seen: dict[str, int] = {}
-    for position, cell in enumerate(header_cells, start=1):
-        text = "" if is_blank(cell) else str(cell).strip().lower()
-        if text and text in seen:
-            problems.append(
-                Problem(
-                    name,
-                    1,
-                    text,
-                    cell,
-                    f"the header appears twice (columns {_column_letter(seen[text])}"
-                    f" and {_column_letter(position)}); keep one",
-                )
-            )
-        elif text:
-            seen[text] = position
-        headers.append(text)
-    data: list[tuple[int, dict[str, Any]]] = []
-    blank_header_columns: set[int] = set()
-    for number, cells in rows[1:]:
-        if all(is_blank(c) for c in cells):
-            continue
-        record: dict[str, Any] = {}
-        for position, cell in enumerate(cells, start=1):
-            header = headers[position - 1] if position <= len(headers) else ""
-            if not header:
-                if not is_blank(cell):
-                    blank_header_columns.add(position)
-                continue
-            if header not in record:
-                record[header] = cell
-        data.append((number, record))
-    return RawSheet(name, [h for h in headers if h], data, sorted(blank_header_columns))
 
 
 def _refuse(path: Path, message: str) -> InputError:
@@ -218,7 +135,7 @@ def _read_book(path: Path, book, survey, problems, notes) -> dict[str, RawSheet]
         for facts in survey.sheets:
             name = facts.name.strip().lower()
             if not facts.read:
-                sheets[name] = RawSheet(name, [], [], [])  # named, never parsed
+                sheets[name] = sheet_from_rows(name, [], problems)  # named, never parsed
                 continue
             ws = next(streamed, None)  # the reader must open the part that was checked
             if ws is None or (ws.title, getattr(ws, "_worksheet_path", facts.part)) != (
@@ -253,46 +170,6 @@ def _read_book(path: Path, book, survey, problems, notes) -> dict[str, RawSheet]
             sheets[name] = _sheet_from_rows(name, rows, problems)
     finally:
         book.close()
-    return sheets
-
-
-def csv_files(folder: Path) -> list[Path]:
-    """The CSV files of an input folder, in name order (`.csv` in any capitals)."""
-    return sorted(p for p in folder.iterdir() if p.suffix.lower() == ".csv" and p.is_file())
-
-
-def _load_csv_folder(path: Path, problems: list[Problem]) -> dict[str, RawSheet]:
-    sheets: dict[str, RawSheet] = {}
-    files: dict[str, str] = {}
-    for file in csv_files(path):
-        name = file.stem.strip().lower()
-        if name in files:
-            problems.append(
-                Problem(
-                    name,
-                    None,
-                    None,
-                    file.name,
-                    f"a second file for the sheet (with {files[name]}); keep one",
-                )
-            )
-            continue
-        files[name] = file.name
-        try:
-            with file.open(newline="", encoding="utf-8-sig") as handle:
-                reader = csv.reader(handle)
-                rows = []
-                for cells in reader:
-                    rows.append((reader.line_num, cells))
-        except UnicodeDecodeError:
-            problems.append(
-                Problem(name, None, None, file.name, "is not UTF-8 text; save it as 'CSV UTF-8'")
-            )
-            continue
-        except csv.Error as exc:
-            problems.append(Problem(name, None, None, file.name, f"is not valid CSV ({exc})"))
-            continue
-        sheets[name] = _sheet_from_rows(name, rows, problems)
     return sheets
 
 
@@ -336,9 +213,12 @@ def load_input(path: str | Path) -> RawInput:
             raise InputError(
                 [Problem(path.name, None, None, str(path), "the folder holds no <sheet>.csv files")]
             )
-        sheets = _load_csv_folder(path, problems)
+        digest = hashlib.sha256()
+        sheets = load_folder(path, problems, lambda name, data: add_file(digest, name, data))
+        sha256 = digest.hexdigest()
     elif path.suffix.lower() in WORKBOOK_SUFFIXES:
         sheets = _load_workbook(path, problems, notes)
+        sha256 = input_sha256(path)
     else:
         raise InputError(
             [
@@ -351,4 +231,4 @@ def load_input(path: str | Path) -> RawInput:
                 )
             ]
         )
-    return RawInput(sheets, path.name, input_sha256(path), problems, notes)
+    return RawInput(sheets, path.name, sha256, problems, notes)

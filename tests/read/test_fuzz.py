@@ -9,9 +9,11 @@ run through real .xlsx files, whose bytes must not change. Common practice (no s
 from __future__ import annotations
 
 import copy
+import dataclasses
 import datetime as dt
 import hashlib
 import random
+from dataclasses import dataclass
 from pathlib import Path
 
 import pytest
@@ -19,8 +21,9 @@ from conftest import write_csv_folder, write_xlsx
 from networks import random_sheets
 
 from faultcalc import InputError, run_study, sample_path
+from faultcalc.read.raw import RawInput, RawSheet
 from faultcalc.read.reader import read_tables
-from faultcalc.read.tables import RawSheet, load_input
+from faultcalc.read.tables import load_input
 from faultcalc.report.workbook import build_workbook
 
 pytestmark = pytest.mark.slow  # fuzzing and scale: `make test` runs them, `make quick` not
@@ -66,10 +69,41 @@ HOSTILE = [
 ]
 
 
-def _mutate(raw, rng: random.Random) -> str:
+@dataclass
+class RowSheet:
+    """A raw sheet as rows of {header: cell}, for mutating."""
+
+    headers: list[str]
+    rows: list[tuple[int, dict]]
+    blank_header_columns: list[int]
+
+
+@dataclass
+class RowInput:
+    sheets: dict[str, RowSheet]
+    raw: RawInput  # the rest of the loaded input (name, SHA-256, problems, notes)
+
+
+def as_rows(raw: RawInput) -> RowInput:
+    sheets = {
+        name: RowSheet(list(s.headers), s.records(), list(s.blank_header_columns))
+        for name, s in raw.sheets.items()
+    }
+    return RowInput(sheets, raw)
+
+
+def as_raw(edited: RowInput) -> RawInput:
+    sheets = {
+        name: RawSheet.from_records(name, s.headers, s.rows, s.blank_header_columns)
+        for name, s in edited.sheets.items()
+    }
+    return dataclasses.replace(edited.raw, sheets=sheets, problems=list(edited.raw.problems))
+
+
+def _mutate(raw: RowInput, rng: random.Random) -> str:
     names = [n for n in raw.sheets if raw.sheets[n].rows or raw.sheets[n].headers]
     name = rng.choice(names)
-    sheet: RawSheet = raw.sheets[name]
+    sheet: RowSheet = raw.sheets[name]
     kind = rng.choice(
         [
             "blank",
@@ -125,7 +159,7 @@ def _mutate(raw, rng: random.Random) -> str:
 
 def _check(raw) -> str:
     try:
-        system = read_tables(raw)
+        system = read_tables(as_raw(raw))
         result = run_study(system)
     except InputError as exc:
         assert exc.problems
@@ -140,12 +174,12 @@ def _check(raw) -> str:
 @pytest.fixture(scope="module")
 def bases(tmp_path_factory):
     folder = tmp_path_factory.mktemp("bases")
-    raws = [load_input(sample_path(name)) for name in ("plant_480v", "double_ended_480v")]
+    raws = [as_rows(load_input(sample_path(name))) for name in ("plant_480v", "double_ended_480v")]
     for seed in (1, 2):
         sheets = random_sheets(
             seed=seed, n_mv=4, n_lv=6, loops=1, sources=2, ties=1, zero_sequence=True, machines=3
         )
-        raws.append(load_input(write_csv_folder(folder / f"net{seed}", sheets)))
+        raws.append(as_rows(load_input(write_csv_folder(folder / f"net{seed}", sheets))))
     return raws
 
 
@@ -163,7 +197,7 @@ def test_table_mutations(bases):
             ) from exc
         if i % 97 == 0 and outcomes["result"]:
             try:
-                build_workbook(run_study(read_tables(raw)))
+                build_workbook(run_study(read_tables(as_raw(raw))))
             except InputError:
                 pass
     print(f"{MUTATIONS} table mutations: {outcomes}")
@@ -172,7 +206,7 @@ def test_table_mutations(bases):
 
 def test_file_mutations_never_change_the_input(tmp_path):
     rng = random.Random(7)
-    base = load_input(sample_path("plant_480v"))
+    base = as_rows(load_input(sample_path("plant_480v")))
     for i in range(FILE_MUTATIONS):
         raw = copy.deepcopy(base)
         _mutate(raw, rng)

@@ -27,13 +27,10 @@ import openpyxl
 import pytest
 from builders import transformer
 from click.testing import CliRunner
-from conftest import write_csv_folder, write_xlsx
+from conftest import without_origin, write_csv_folder, write_xlsx
 
 from faultcalc import InputError, cli, read_system, run_study
 from faultcalc.netlist import build_netlist
-from faultcalc.read import columnar
-from faultcalc.read.reader import read_tables
-from faultcalc.read.tables import load_input
 from faultcalc.report import csvout, outputs
 from faultcalc.report.workbook import build_workbook
 
@@ -116,17 +113,16 @@ def where(problems) -> set:
     return {(p.sheet, p.row, p.column) for p in problems}
 
 
-def test_the_good_system_is_read_by_both_readers(make_input):
+def test_the_good_system_is_read_alike_from_csv_and_workbook(make_input):
     folder = make_input(GOOD)
-    fast = columnar.read_columns(folder)
-    assert fast is not None and fast == read_tables(load_input(folder))
+    book = make_input(GOOD, name="book", kind="xlsx")
+    assert without_origin(read_system(folder)) == without_origin(read_system(book))
 
 
 @pytest.mark.parametrize("char", CONTROLS, ids=[repr(c) for c in CONTROLS])
 def test_a_control_character_in_a_bus_name_is_a_located_error(make_input, char):
     name = f"L{char}V"
     folder = make_input(renamed(GOOD, "LV", name))
-    assert columnar.read_columns(folder) is None  # the careful reader reports
     problems = problems_of(folder)
     expected = {  # the bus row and every reference to it
         ("buses", 3, "bus"),
@@ -205,7 +201,6 @@ def test_names_alike_after_nfkc_and_invisible_characters_collide(make_input, nam
     sheets = copy.deepcopy(GOOD)
     sheets["buses"].append({"bus": name, "kv": 0.48})
     folder = make_input(sheets)
-    assert columnar.read_columns(folder) is None  # the careful reader reports it
     problems = problems_of(folder)
     assert where(problems) == {("buses", 6, "bus")}
     message = problems[0].message
@@ -219,7 +214,6 @@ def test_element_names_alike_across_sheets_collide(make_input):
     sheets["impedances"][0]["element"] = "\u2126-1"  # OHM SIGN: NFKC gives GREEK CAPITAL OMEGA
     sheets["cables"].append(dict(sheets["cables"][0], cable="\u03a9-1"))
     folder = make_input(sheets)
-    assert columnar.read_columns(folder) is None
     problems = problems_of(folder)
     assert where(problems) == {("impedances", 2, "element"), ("machines", 2, "machine")}
     by_sheet = {p.sheet: p.message for p in problems}
@@ -238,19 +232,18 @@ def test_names_differing_only_in_case_keep_their_message(make_input):
     )
 
 
-def test_distinct_non_ascii_names_are_read_alike_by_both_readers(make_input):
+def test_distinct_non_ascii_names_are_read_alike_from_csv_and_workbook(make_input):
     sheets = renamed(renamed(GOOD, "PNL", "Verteiler-\u00c4"), "MCC", "Verteiler-A")
     sheets = renamed(sheets, "C", "Kabel-\u03a9")
     folder = make_input(sheets)
-    fast = columnar.read_columns(folder)
-    assert fast is not None  # the fast path still takes names that do not collide
-    assert fast == read_tables(load_input(folder))
+    fast = read_system(folder)  # names that do not collide are taken as they are
+    book = read_system(make_input(sheets, name="book", kind="xlsx"))
+    assert without_origin(fast) == without_origin(book)
     assert [b.bus for b in fast.buses] == ["HV", "LV", "Verteiler-\u00c4", "Verteiler-A"]
 
 
-def test_a_tab_inside_an_ascii_name_is_left_to_the_careful_reader(make_input):
+def test_a_tab_inside_an_ascii_name_is_a_located_error(make_input):
     folder = make_input(renamed(GOOD, "C", "C\t1"))
-    assert columnar.read_columns(folder) is None
     assert where(problems_of(folder)) == {("cables", 2, "cable")}
 
 

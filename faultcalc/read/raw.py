@@ -1,0 +1,178 @@
+"""The raw cells of an input, column by column, as a loader found them.
+
+A loader (a workbook, a CSV folder) hands the reader one ``RawSheet`` per sheet: the header
+names (stripped, lower case), the cells of each named column, and the spreadsheet row number of
+every data row (rows with no cell filled are left out; their numbers are skipped). Cells stay
+as the file holds them: text, numbers, dates, booleans, ``PercentCell`` and ``FormulaCell``, or
+None for an empty cell. A column is a Python list, or an Arrow string array when a CSV file was
+parsed by Arrow (empty cells are then empty strings).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+
+from ..errors import Problem
+from .marked import FormulaCell, PercentCell  # noqa: F401 - the marked cells, importable here
+
+
+def is_blank(value: Any) -> bool:
+    """An empty cell: None or only white space (a formula without a saved value is not)."""
+    if value is None:
+        return True
+    if type(value) is str:
+        return not value or value.isspace()
+    return False
+
+
+def is_arrow(column: Any) -> bool:
+    return not isinstance(column, list)
+
+
+@dataclass
+class RawSheet:
+    """One sheet: header names, the cells of each named column, and the row numbers."""
+
+    name: str
+    headers: list[str]
+    columns: dict[str, Any]  # header -> cells (a list, or an Arrow string array)
+    row_numbers: np.ndarray  # spreadsheet row of each data row (int64)
+    blank_header_columns: list[int] = field(default_factory=list)  # 1-based, data, no header
+
+    @property
+    def n(self) -> int:
+        return len(self.row_numbers)
+
+    def cells(self, header: str) -> list:
+        """The cells of a column as Python values ([None] * n when the column is absent)."""
+        column = self.columns.get(header)
+        if column is None:
+            return [None] * self.n
+        return column if isinstance(column, list) else column.to_pylist()
+
+    def cell(self, header: str, i: int) -> Any:
+        column = self.columns.get(header)
+        if column is None:
+            return None
+        return column[i] if isinstance(column, list) else column[i].as_py()
+
+    def records(self) -> list[tuple[int, dict[str, Any]]]:
+        """The data rows as (row number, {header: cell}) (for tests and small sheets)."""
+        columns = {h: self.cells(h) for h in self.headers}
+        return [
+            (int(number), {h: values[k] for h, values in columns.items()})
+            for k, number in enumerate(self.row_numbers.tolist())
+        ]
+
+    @classmethod
+    def from_records(
+        cls,
+        name: str,
+        headers: list[str],
+        rows: list[tuple[int, dict[str, Any]]],
+        blank_header_columns: list[int] | None = None,
+    ) -> RawSheet:
+        """A sheet from (row number, {header: cell}) rows (cells of other headers ignored)."""
+        columns = {h: [values.get(h) for _, values in rows] for h in dict.fromkeys(headers)}
+        numbers = np.array([number for number, _ in rows], dtype=np.int64)
+        return cls(name, list(headers), columns, numbers, list(blank_header_columns or []))
+
+
+@dataclass
+class RawInput:
+    sheets: dict[str, RawSheet]
+    display_name: str
+    sha256: str
+    problems: list[Problem]
+    notes: list[str] = field(default_factory=list)  # warnings found while loading
+
+
+def column_letter(index: int) -> str:
+    letters = ""
+    while index:
+        index, rem = divmod(index - 1, 26)
+        letters = chr(65 + rem) + letters
+    return letters
+
+
+def header_names(name: str, header_cells: list[Any], problems: list[Problem]) -> list[str]:
+    """Normalised header names ('' where a header cell is blank); a name twice is a problem."""
+    headers: list[str] = []
+    seen: dict[str, int] = {}
+    for position, cell in enumerate(header_cells, start=1):
+        text = "" if is_blank(cell) else str(cell).strip().lower()
+        if text and text in seen:
+            problems.append(
+                Problem(
+                    name,
+                    1,
+                    text,
+                    cell,
+                    f"the header appears twice (columns {column_letter(seen[text])}"
+                    f" and {column_letter(position)}); keep one",
+                )
+            )
+        elif text:
+            seen[text] = position
+        headers.append(text)
+    return headers
+
+
+def sheet_from_rows(name: str, rows: list[tuple[int, list[Any]]], problems: list[Problem]):
+    """A RawSheet from (row number, cell values) with the header row first. Rows with no cell
+    filled are left out; cells under no header are dropped (their columns are noted)."""
+    if not rows:
+        return RawSheet(name, [], {}, np.zeros(0, np.int64), [])
+    _, header_cells = rows[0]
+    headers = header_names(name, header_cells, problems)
+    data = rows[1:]
+    width = max([len(headers), *(len(cells) for _, cells in data)]) if data else len(headers)
+    grid = [
+        cells if len(cells) == width else [*cells, *[None] * (width - len(cells))]
+        for _, cells in data
+    ]
+    columns = (
+        [list(column) for column in zip(*grid, strict=True)] if grid else [[] for _ in range(width)]
+    )
+    filled = np.zeros(len(data), bool)
+    blank_of = [blank_cells(column) for column in columns]
+    for blank in blank_of:
+        filled |= ~blank
+    blank_header_columns = sorted(
+        position
+        for position, blank in enumerate(blank_of, start=1)
+        if (position > len(headers) or not headers[position - 1]) and (~blank & filled).any()
+    )
+    keep = np.flatnonzero(filled)
+    every = len(keep) == len(data)
+    named: dict[str, list] = {}
+    for position, header in enumerate(headers):
+        if header and header not in named:
+            column = columns[position]
+            named[header] = column if every else [column[k] for k in keep.tolist()]
+    numbers = np.array([number for number, _ in data], dtype=np.int64)[keep]
+    return RawSheet(name, [h for h in headers if h], named, numbers, blank_header_columns)
+
+
+def blank_cells(column) -> np.ndarray:
+    """Which cells of a column are blank (see ``is_blank``), for a list or an Arrow array."""
+    if not isinstance(column, list):
+        import pyarrow.compute as pc
+
+        empty = pc.equal(column, "")
+        spaces = pc.utf8_is_space(column)
+        return pc.or_(empty, spaces).to_numpy(zero_copy_only=False).astype(bool)
+    if not column:
+        return np.zeros(0, bool)
+    values = np.array(column, dtype=object)
+    blank = (values == None) | (values == "")  # noqa: E711 - elementwise
+    text = np.array(list(map(type, column)), dtype=object) == str  # noqa: E721 - elementwise
+    text &= ~blank
+    if text.any():  # white space only is blank too
+        at = np.flatnonzero(text)
+        strings = column if len(at) == len(column) else [column[k] for k in at.tolist()]
+        blank[at] |= np.char.isspace(np.array(strings, dtype=str))
+    return blank

@@ -1,0 +1,537 @@
+"""The rules across rows and sheets, each written once on whole columns.
+
+Every rule looks at the typed columns (``columns.Typed``) of the rows ``at`` of a sheet (all
+rows when the base input is read; the rows a case changes, and those that hang on them, when a
+case is read), says a located problem or warning for each row it rejects or doubts, and marks
+rejected rows not ok. Rules run in a fixed order (``check``), each on the rows still ok, so a
+row's first problem is said and what follows from it is not said again.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .. import conductors, schema
+from . import names, slips
+from .collect import Collector
+from .columns import Typed
+
+# Rated winding kV against bus kV: beyond this the off-nominal ratio is worth a warning.
+KV_MISMATCH_WARN = 0.05
+# Nearest names are looked for while there are fewer problems than this, among at most
+# MAX_SUGGESTION_NAMES buses (a look costs about 12 us per known name, measured: 0.24 s against
+# 20,000 names; a sheet of wrong names gets suggestions for its first rows only).
+MAX_SUGGESTIONS = 20
+MAX_SUGGESTION_NAMES = 5_000
+
+# The bus references of each element sheet.
+BUS_REFERENCES = (
+    ("sources", ("bus",)),
+    ("transformers", ("hv_bus", "lv_bus")),
+    ("cables", ("from_bus", "to_bus")),
+    ("impedances", ("from_bus", "to_bus")),
+    ("machines", ("bus",)),
+)
+
+
+@dataclass
+class Buses:
+    """The buses that references may name: position of each usable bus by exact name, the
+    names ignoring case, the names of buses whose own row has a problem, and each bus row's
+    kV."""
+
+    index: dict[str, int]
+    folded: dict[str, str]
+    unusable: set[str]
+    kv: np.ndarray
+    names: list
+    readable: bool
+    ends: dict[tuple[str, str], np.ndarray] = field(default_factory=dict)
+    _lookup: object = None  # a pandas Index of the usable names (made on first use)
+    _rows: np.ndarray | None = None
+
+    def positions(self, values: list, at: np.ndarray) -> np.ndarray:
+        """Bus row of each name of ``values`` at ``at`` (exact match; -1 where none)."""
+        import pandas as pd
+
+        if not self.index:
+            return np.full(len(at), -1, np.int64)
+        if self._lookup is None:
+            self._lookup = pd.Index(list(self.index), dtype=object)
+            self._rows = np.fromiter(self.index.values(), np.int64, len(self.index))
+        picked = values if len(at) == len(values) else [values[i] for i in at.tolist()]
+        found = self._lookup.get_indexer(pd.Index(picked, dtype=object))
+        return np.where(found >= 0, self._rows[found], -1)
+
+
+def every(sheet: Typed) -> np.ndarray:
+    return np.arange(sheet.n)
+
+
+def _ok(sheet: Typed, at: np.ndarray) -> np.ndarray:
+    return at[sheet.ok[at]]
+
+
+def unique_names(sheets: list[tuple[Typed, str]], out: Collector, at=None) -> None:
+    """No two names alike (``names.key``: ignoring case, compatibility forms and invisible
+    characters) on these sheets taken together; the second of two is the problem. ``at``: per
+    sheet the rows whose names to compare (all when None)."""
+    keys: list[str] = []
+    where: list[tuple[Typed, list[int]]] = []
+    for sheet, column in sheets:
+        values = sheet.values[column]
+        rows = range(sheet.n) if at is None else at[sheet.spec.name]
+        picked = [i for i in rows if values[i] is not None] if None in values else list(rows)
+        keys += [values[i] for i in picked] if len(picked) != len(values) else values
+        where.append((sheet, picked))
+    if not keys:
+        return
+    joined = "".join(keys)
+    folded = [k.lower() for k in keys] if joined.isascii() else [names.key(k) for k in keys]
+    if len(set(folded)) == len(folded):
+        return
+    where = [(sheet, i) for sheet, picked in where for i in picked]
+    taken: dict[str, int] = {}
+    for k, key in enumerate(folded):
+        if key not in taken:
+            taken[key] = k
+            continue
+        first_sheet, first_i = where[taken[key]]
+        sheet, i = where[k]
+        column = sheet.spec.columns[0].name
+        first = keys[taken[key]]
+        name = keys[k]
+        why = names.collision(first, name)
+        same = f" as {first!r} ({why})" if why else ""
+        out.problem(
+            sheet.spec.name,
+            int(sheet.rows[i]),
+            column,
+            name,
+            f"the name is already used on sheet '{first_sheet.spec.name}' row "
+            f"{int(first_sheet.rows[first_i])}{same}; names must be unique",
+        )
+        sheet.ok[i] = False
+
+
+def refuse_slips(sheet: Typed, at: np.ndarray, found, out: Collector) -> None:
+    """Located problems for the gross mistakes ``slips`` found among the rows ``at``."""
+    for slip in found:
+        i = int(at[slip.index])
+        out.problem(sheet.spec.name, int(sheet.rows[i]), slip.column, slip.value, slip.message)
+        sheet.ok[i] = False
+
+
+def bus_voltages(buses: Typed, out: Collector, at: np.ndarray) -> None:
+    named = at[np.array([buses.values["bus"][i] is not None for i in at.tolist()], bool)]
+    with_kv = named[~np.isnan(buses.values["kv"][named])]
+    refuse_slips(buses, with_kv, slips.bus_slips(buses.values["kv"][with_kv]), out)
+
+
+def bus_table(buses: Typed, readable: bool) -> Buses:
+    """The usable buses (named, with a kV, no problem of their own) of the buses sheet."""
+    values = buses.values["bus"]
+    kv = buses.values["kv"]
+    usable = buses.ok & ~np.isnan(kv)
+    if usable.all() and None not in values:
+        index = dict(zip(values, range(len(values)), strict=True))
+        unusable: set[str] = set()
+    else:
+        index = {}
+        for i in np.flatnonzero(usable).tolist():
+            if values[i] is not None:
+                index.setdefault(values[i], i)
+        unusable = {name for name in values if name is not None} - set(index)
+    folded = {name.casefold(): name for name in index}
+    return Buses(index, folded, unusable, kv, values, readable)
+
+
+def devices(buses: Typed, out: Collector, at: np.ndarray) -> None:
+    """A device rating check needs both the device and its rating."""
+    v = buses.values
+    device = np.array([v["device"][i] is not None for i in at.tolist()], bool)
+    rating = ~np.isnan(v["rating_ka"][at])
+    xr = ~np.isnan(v["rating_xr"][at])
+    for k in np.flatnonzero((device != rating) | (xr & ~device)).tolist():
+        i = int(at[k])
+        if device[k] != rating[k]:
+            missing = "rating_ka" if device[k] else "device"
+            message = "device and rating_ka go together: give both to check the rating, or neither"
+        else:
+            missing = "device"
+            message = "rating_xr is given but no device: give device and rating_ka"
+        out.problem("buses", int(buses.rows[i]), missing, None, message)
+        buses.ok[i] = False
+
+
+def references(
+    sheet: Typed, columns: tuple[str, ...], buses: Buses, out: Collector, at: np.ndarray
+) -> None:
+    """Every bus reference names a bus with a usable kV; both ends of a branch differ. The
+    position of each end's bus goes into ``buses.ends``; a name matched ignoring case is
+    replaced by the bus's name, with a warning."""
+    name = sheet.spec.name
+    ends = []
+    for column in columns:
+        values = sheet.values[column]
+        positions = buses.ends.setdefault((name, column), np.full(sheet.n, -1, np.int64))
+        positions[at] = buses.positions(values, at)
+        ends.append(positions)
+    missing = at[np.any([positions[at] < 0 for positions in ends], axis=0)] if len(at) else at
+    for i in missing.tolist():
+        for column, positions in zip(columns, ends, strict=True):
+            values = sheet.values[column]
+            value = values[i]
+            if value is None or positions[i] >= 0:
+                continue
+            if value in buses.unusable:
+                sheet.ok[i] = False
+                continue
+            match = buses.folded.get(value.casefold())
+            if match is not None:
+                values[i] = match
+                positions[i] = buses.index[match]
+                out.warn(
+                    name, int(sheet.rows[i]), column, value, f"matched bus {match!r} ignoring case"
+                )
+                continue
+            suggestion = _suggestion(value, buses) if len(out.problems) < MAX_SUGGESTIONS else ""
+            out.problem(
+                name,
+                int(sheet.rows[i]),
+                column,
+                value,
+                "no bus of that name on the 'buses' sheet" + suggestion,
+            )
+            sheet.ok[i] = False
+    if len(columns) == 2:
+        a, b = (sheet.values[c] for c in columns)
+        for i in at.tolist():
+            if a[i] is not None and a[i] == b[i]:
+                out.problem(
+                    name,
+                    int(sheet.rows[i]),
+                    columns[1],
+                    b[i],
+                    f"both ends are the same bus; {columns[0]} and {columns[1]} must differ",
+                )
+                sheet.ok[i] = False
+
+
+def _suggestion(name: str, buses: Buses) -> str:
+    """'; did you mean X?' for the nearest known bus name, or nothing when none is near."""
+    import difflib
+
+    if len(buses.index) + len(buses.unusable) > MAX_SUGGESTION_NAMES:
+        return ""  # not worth the time among so many
+    known = sorted(set(buses.index) | buses.unusable)
+    by_fold = {k.casefold(): k for k in known}
+    near = difflib.get_close_matches(name.casefold(), list(by_fold), n=1, cutoff=0.6)
+    return f"; did you mean {by_fold[near[0]]!r}?" if near else ""
+
+
+def _kv_at(sheet: Typed, column: str, buses: Buses, at: np.ndarray) -> np.ndarray:
+    return buses.kv[buses.ends[(sheet.spec.name, column)][at]]
+
+
+def same_voltage(sheet: Typed, buses: Buses, out: Collector, at: np.ndarray) -> None:
+    """A cable or impedance joins buses of one voltage; different kVs mean a missing
+    transformer."""
+    at = _ok(sheet, at)
+    a, b = _kv_at(sheet, "from_bus", buses, at), _kv_at(sheet, "to_bus", buses, at)
+    for k in np.flatnonzero(np.abs(a - b) > 1e-9 * np.maximum(a, b)).tolist():
+        i = int(at[k])
+        one, two = sheet.values["from_bus"][i], sheet.values["to_bus"][i]
+        out.problem(
+            sheet.spec.name,
+            int(sheet.rows[i]),
+            "to_bus",
+            two,
+            f"the two ends are at different voltages ({one}: {a[k]:g} kV, "
+            f"{two}: {b[k]:g} kV); only a transformer joins voltage levels",
+        )
+        sheet.ok[i] = False
+
+
+def transformers(sheet: Typed, buses: Buses, out: Collector, at: np.ndarray) -> None:
+    at = _ok(sheet, at)
+    v = sheet.values
+    kva, hv_kv, lv_kv, z_pct = (v[c][at] for c in ("kva", "hv_kv", "lv_kv", "z_pct"))
+    hv_bus = [v["hv_bus"][i] for i in at.tolist()]
+    lv_bus = [v["lv_bus"][i] for i in at.tolist()]
+    hv_bus_kv, lv_bus_kv = _kv_at(sheet, "hv_bus", buses, at), _kv_at(sheet, "lv_bus", buses, at)
+    found = slips.transformer_slips(kva, hv_kv, lv_kv, z_pct, hv_bus_kv, lv_bus_kv, hv_bus, lv_bus)
+    refuse_slips(sheet, at, found, out)
+    for k in np.flatnonzero(hv_kv < lv_kv).tolist():  # equal: an isolation transformer
+        i = int(at[k])
+        if sheet.ok[i]:
+            out.problem(
+                "transformers",
+                int(sheet.rows[i]),
+                "hv_kv",
+                float(hv_kv[k]),
+                f"hv_kv must not be lower than lv_kv ({lv_kv[k]:g}); "
+                "list the high-voltage winding's bus as hv_bus",
+            )
+            sheet.ok[i] = False
+    with np.errstate(divide="ignore", invalid="ignore"):
+        off_hv = np.abs(hv_kv / hv_bus_kv - 1.0) > KV_MISMATCH_WARN
+        off_lv = np.abs(lv_kv / lv_bus_kv - 1.0) > KV_MISMATCH_WARN
+    for k in np.flatnonzero(off_hv | off_lv).tolist():
+        i = int(at[k])
+        if not sheet.ok[i]:
+            continue
+        for side, off, rated, nominal, bus in (
+            ("hv", off_hv, hv_kv, hv_bus_kv, hv_bus),
+            ("lv", off_lv, lv_kv, lv_bus_kv, lv_bus),
+        ):
+            if off[k]:
+                out.warn(
+                    "transformers",
+                    int(sheet.rows[i]),
+                    f"{side}_kv",
+                    float(rated[k]),
+                    f"winding rated {rated[k]:g} kV on bus {bus[k]} of {nominal[k]:g} kV "
+                    f"(differs by {100 * (rated[k] / nominal[k] - 1):+.1f}%); modelled as an "
+                    "off-nominal ratio; check the nameplate and the bus voltage",
+                )
+
+
+def clock_numbers(sheet: Typed, out: Collector, at: np.ndarray) -> None:
+    at = _ok(sheet, at)
+    v = sheet.values
+    clock = v["clock_number"][at]
+    given = ~np.isnan(clock)
+    for k in np.flatnonzero(given).tolist():
+        i = int(at[k])
+        hv, lv = v["hv_winding"][i], v["lv_winding"][i]
+        number = int(clock[k])
+        mixed = (hv == "D") != (lv == "D")
+        if number > 11 or (number % 2 == 1) != mixed:
+            parity = "odd (1, 5, 7 or 11)" if mixed else "even (0, 2, ..., 10)"
+            out.problem(
+                "transformers",
+                int(sheet.rows[i]),
+                "clock_number",
+                number,
+                f"a {hv}-{lv} transformer has an {parity} "
+                "clock number from 0 to 11 (IEC 60076-1 vector groups)",
+            )
+            sheet.ok[i] = False
+
+
+def cable_impedance(sheet: Typed, out: Collector, at: np.ndarray) -> None:
+    v = sheet.values
+    for r, x in (("r_ohm_per_kft", "x_ohm_per_kft"), ("r_ohm_per_km", "x_ohm_per_km")):
+        zero = (v[r][at] == 0) & (v[x][at] == 0)
+        for i in at[zero].tolist():
+            if sheet.ok[i]:
+                out.problem(
+                    "cables",
+                    int(sheet.rows[i]),
+                    r,
+                    0,
+                    "R and X are both 0; a cable has impedance (use the 'impedances' sheet "
+                    "with r_ohm = x_ohm = 0 for a closed tie)",
+                )
+                sheet.ok[i] = False
+
+
+def cables_from_tables(sheet: Typed, settings, buses: Buses, out: Collector, at) -> None:
+    """R and X from the conductor tables where the user left both blank."""
+    v, f = sheet.values, sheet.filled
+    source = v.setdefault("impedance_source", [""] * sheet.n)
+    at = _ok(sheet, at)
+    need = at[~f["r_ohm_per_kft"][at] & ~f["r_ohm_per_km"][at]]
+    if not len(need):
+        return
+    kv = _kv_at(sheet, "from_bus", buses, need)
+    found: dict[tuple, object] = {}
+    for k, i in enumerate(need.tolist()):
+        row = int(sheet.rows[i])
+        if kv[k] > conductors.MAX_TABLE_KV:
+            out.problem(
+                "cables",
+                row,
+                "r_ohm_per_kft",
+                None,
+                f"the conductor tables are for cables of 1 kV and below; this cable is at "
+                f"{kv[k]:g} kV: give r_ohm_per_kft + x_ohm_per_kft (or per km) from its data "
+                "sheet",
+            )
+            sheet.ok[i] = False
+            continue
+        key = (v["size"][i], v["material"][i], v["raceway"][i])
+        missing = [
+            c for c, value in zip(("size", "material", "raceway"), key, strict=True) if not value
+        ]
+        for column in missing:
+            out.problem(
+                "cables",
+                row,
+                column,
+                None,
+                "needed to take R and X from the conductor tables; or give r_ohm_per_kft + "
+                "x_ohm_per_kft (or the per-km pair)",
+            )
+        if missing:
+            sheet.ok[i] = False
+            continue
+        if key not in found:
+            try:
+                found[key] = conductors.lookup(
+                    *key, settings.conductor_temp_c, settings.frequency_hz
+                )
+            except conductors.SizeError as exc:
+                found[key] = exc
+        value = found[key]
+        if isinstance(value, conductors.SizeError):
+            out.problem("cables", row, "size", key[0], str(value))
+            sheet.ok[i] = False
+            continue
+        v["r_ohm_per_kft"][i] = value.r_ohm_per_kft
+        v["x_ohm_per_kft"][i] = value.x_ohm_per_kft
+        source[i] = value.source
+
+
+def machines(sheet: Typed, buses: Buses, out: Collector, at: np.ndarray) -> None:
+    v, f = sheet.values, sheet.filled
+    for i in at.tolist():
+        if v["kind"][i] == "generator" and not np.isnan(v["hp"][i]):
+            out.problem(
+                "machines",
+                int(sheet.rows[i]),
+                "hp",
+                float(v["hp"][i]),
+                "a generator is rated in kVA: give kva instead of hp",
+            )
+            sheet.ok[i] = False
+    at = _ok(sheet, at)
+    kv, xd_pct, kva, hp = (v[c][at] for c in ("kv", "xd_pct", "kva", "hp"))
+    bus = [v["bus"][i] for i in at.tolist()]
+    bus_kv = _kv_at(sheet, "bus", buses, at)
+    refuse_slips(sheet, at, slips.machine_slips(kv, xd_pct, bus_kv, bus, kva, hp), out)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        off = np.abs(kv / bus_kv - 1.0) > KV_MISMATCH_WARN
+    flagged = off | (f["neutral_ohm"][at] & ~f["x0_pct"][at])
+    for k in np.flatnonzero(flagged).tolist():
+        i = int(at[k])
+        if not sheet.ok[i]:
+            continue
+        row = int(sheet.rows[i])
+        if off[k]:
+            out.warn(
+                "machines",
+                row,
+                "kv",
+                float(kv[k]),
+                f"machine rated {kv[k]:g} kV on bus {bus[k]} of {bus_kv[k]:g} kV; its "
+                "impedance is changed to the bus voltage base; check the rating",
+            )
+        if f["neutral_ohm"][i] and not f["x0_pct"][i]:
+            out.warn(
+                "machines",
+                row,
+                "x0_pct",
+                None,
+                "grounded neutral but no zero-sequence reactance: X0 taken equal to xd_pct; "
+                "a generator's X0 is usually lower, so its ground-fault contribution may be "
+                "understated; enter x0_pct from the manufacturer's data",
+            )
+
+
+def sources(sheet: Typed, buses: Buses, out: Collector, at: np.ndarray) -> None:
+    v, f = sheet.values, sheet.filled
+    ok = _ok(sheet, at)
+    kv = _kv_at(sheet, "bus", buses, ok)
+    found = slips.source_slips(v["sc_mva"][ok], v["sc_ka"][ok], v["slg_ka"][ok], kv)
+    refuse_slips(sheet, ok, found, out)
+    for i in at[np.isnan(v["slg_ka"][at]) & f["slg_xr"][at]].tolist():
+        out.warn(
+            "sources",
+            int(sheet.rows[i]),
+            "slg_xr",
+            sheet.raw_cell("slg_xr", i),
+            "slg_xr is used only with slg_ka; ignored",
+        )
+
+
+def some_source(sheets: dict[str, Typed], out: Collector) -> None:
+    generators = sum(1 for k in sheets["machines"].values["kind"] if k == "generator")
+    if not sheets["sources"].n and not generators and not out.problems:
+        out.problem(
+            "sources",
+            None,
+            None,
+            None,
+            "no utility source (sources sheet) and no generator (machines sheet): at "
+            "least one is needed to feed a fault",
+        )
+
+
+def check(sheets: dict[str, Typed], settings, out: Collector, at=None, buses=None) -> Buses:
+    """Every rule across rows and sheets, in order, on the rows ``at`` of each sheet (all when
+    None; a dict of sheet name to row indices otherwise), after the cells were typed. Returns
+    the bus table with the bus position of every reference."""
+
+    def rows(name):
+        return every(sheets[name]) if at is None else np.asarray(at.get(name, ()), np.int64)
+
+    if at is None:  # a case cannot change a name
+        unique_names([(sheets["buses"], "bus")], out)
+    bus_voltages(sheets["buses"], out, rows("buses"))
+    if buses is None:
+        buses = bus_table(sheets["buses"], sheets["buses"].readable)
+        if not buses.readable:  # one problem says so already; no second one per reference
+            for sheet, columns in BUS_REFERENCES:
+                for c in columns:
+                    buses.unusable |= {n for n in sheets[sheet].values[c] if n is not None}
+    else:
+        buses = _update_buses(buses, sheets["buses"], rows("buses"))
+    if at is None:
+        unique_names([(sheets[s.name], s.columns[0].name) for s in schema.ELEMENT_SHEETS], out)
+    devices(sheets["buses"], out, rows("buses"))
+    for sheet, columns in BUS_REFERENCES[:4]:  # machines after the cable tables, as before
+        references(sheets[sheet], columns, buses, out, rows(sheet))
+    same_voltage(sheets["cables"], buses, out, rows("cables"))
+    same_voltage(sheets["impedances"], buses, out, rows("impedances"))
+    transformers(sheets["transformers"], buses, out, rows("transformers"))
+    clock_numbers(sheets["transformers"], out, rows("transformers"))
+    cable_impedance(sheets["cables"], out, rows("cables"))
+    cables_from_tables(sheets["cables"], settings, buses, out, rows("cables"))
+    references(sheets["machines"], ("bus",), buses, out, rows("machines"))
+    machines(sheets["machines"], buses, out, rows("machines"))
+    sources(sheets["sources"], buses, out, rows("sources"))
+    some_source(sheets, out)
+    return buses
+
+
+def _update_buses(buses: Buses, sheet: Typed, at: np.ndarray) -> Buses:
+    """The bus table of a case: the base's, with the buses at ``at`` made unusable where their
+    row now has a problem."""
+    gone = [sheet.values["bus"][i] for i in at.tolist() if not sheet.ok[i]]
+    ends = {key: positions.copy() for key, positions in buses.ends.items()}  # the base's stay
+    if not gone:
+        return Buses(
+            buses.index,
+            buses.folded,
+            buses.unusable,
+            sheet.values["kv"],
+            buses.names,
+            buses.readable,
+            ends,
+            buses._lookup,
+            buses._rows,
+        )
+    index = {k: p for k, p in buses.index.items() if k not in set(gone)}
+    return Buses(
+        index,
+        {name.casefold(): name for name in index},
+        buses.unusable | set(gone),
+        sheet.values["kv"],
+        buses.names,
+        buses.readable,
+        ends,
+    )
