@@ -101,6 +101,7 @@ def _copy_on_write(sheets, case_sheets, name: str) -> columns.Typed:
             values=dict(base.values),
             filled=dict(base.filled),
             ok=np.ones(base.n, bool),
+            arrow={},
         )
     return case_sheets[name]
 

@@ -53,6 +53,9 @@ class Typed:
     given: dict | None = None  # a case's cells: (column, row index) -> cell, over the raw ones
     # text columns with '' for blank, kept for the cases: column -> (values, with '')
     emptied: dict = field(default_factory=dict)
+    # name columns as Arrow arrays ('' where blank), where every cell took the fast path; for
+    # the base input's whole-column joins only (a case's copy has none)
+    arrow: dict = field(default_factory=dict)
 
     @property
     def n(self) -> int:
@@ -108,6 +111,7 @@ def type_sheet(spec: schema.Sheet, raw: RawSheet, out: Collector) -> Typed:
     findings: list[tuple[int, int, bool, str, Any, str]] = []  # (i, position, problem, ...)
     values: dict[str, Any] = {}
     filled: dict[str, np.ndarray] = {}
+    arrow: dict[str, Any] = {}
     bad = np.zeros(n, bool)
     for position, column in enumerate(spec.columns):
         cells_ = raw.columns.get(column.name)
@@ -118,7 +122,13 @@ def type_sheet(spec: schema.Sheet, raw: RawSheet, out: Collector) -> Typed:
                     findings.append(_required(i, position, column))
                 bad[:] = True
             continue
-        typed, was_filled, found = type_column(column, cells_)
+        typed, was_filled, found = type_column(
+            column, cells_, raw.blank.get(column.name), raw.controls
+        )
+        if isinstance(typed, _Texts):
+            if typed.array is not None and column.kind in (schema.ID, schema.BUS_REF):
+                arrow[column.name] = typed.array
+            typed = typed.values
         values[column.name], filled[column.name] = typed, was_filled
         for i, problem, value, message in found:
             findings.append((i, position, problem, column.name, value, message))
@@ -140,7 +150,7 @@ def type_sheet(spec: schema.Sheet, raw: RawSheet, out: Collector) -> Typed:
             out.problem(spec.name, int(rows[i]), column_name, value, message)
         else:
             out.warn(spec.name, int(rows[i]), column_name, value, message, cell=True)
-    return Typed(spec, rows, values, filled, ~bad, raw)
+    return Typed(spec, rows, values, filled, ~bad, raw, arrow=arrow)
 
 
 def _required(i: int, position: int, column: schema.Column):
@@ -154,13 +164,17 @@ def _blank_column(column: schema.Column, n: int):
     return [column.default] * n, np.zeros(n, bool)
 
 
-def type_column(column: schema.Column, raw_cells) -> tuple[Any, np.ndarray, list]:
-    """(typed values, filled, findings [(index, is problem, cell, message)]) of one column."""
+def type_column(
+    column: schema.Column, raw_cells, blank=None, controls: bool = True
+) -> tuple[Any, np.ndarray, list]:
+    """(typed values, filled, findings [(index, is problem, cell, message)]) of one column.
+    ``blank``: which cells are blank, when the loader knows; ``controls`` False: the loader
+    found no control character other than tab and line ends."""
     if column.kind in (schema.NUMBER, schema.INTEGER):
-        return _numbers(column, raw_cells)
+        return _numbers(column, raw_cells, blank)
     if column.kind == schema.CHOICE:
-        return _choices(column, raw_cells)
-    return _texts(column, raw_cells)
+        return _choices(column, raw_cells, blank)
+    return _texts(column, raw_cells, controls)
 
 
 def _as_arrow(raw_cells):
@@ -190,7 +204,7 @@ def _slow(column: schema.Column, raw_cells, at, typed, found) -> None:
         found.extend((i, False, cell, note) for note in notes)
 
 
-def _numbers(column: schema.Column, raw_cells):
+def _numbers(column: schema.Column, raw_cells, blank=None):
     import pyarrow as pa
     import pyarrow.compute as pc
 
@@ -204,15 +218,18 @@ def _numbers(column: schema.Column, raw_cells):
     else:
         array = _as_arrow(raw_cells)
         if array is not None:
-            blank = blank_cells(array)
-            plain = pc.match_substring_regex(array, PLAIN_NUMBER)
-            as_number = pc.cast(
-                pc.if_else(plain, array, pa.scalar(None, pa.string())), pa.float64()
-            )
+            blank = blank_cells(array) if blank is None else blank
+            null = pa.scalar(None, pa.string())
+            try:  # every cell a number Arrow reads (as Python's float() does) or empty
+                as_number = pc.cast(pc.if_else(pc.equal(array, ""), null, array), pa.float64())
+                plain = ~blank
+            except (pa.ArrowInvalid, pa.ArrowNotImplementedError):  # some other text
+                text_number = pc.match_substring_regex(array, PLAIN_NUMBER)
+                as_number = pc.cast(pc.if_else(text_number, array, null), pa.float64())
+                plain = text_number.to_numpy(zero_copy_only=False).astype(bool)
             x = as_number.to_numpy(zero_copy_only=False).astype(float, copy=True)
-            plain = plain.to_numpy(zero_copy_only=False).astype(bool)
         else:  # text and numbers mixed (a workbook): the numbers are plain
-            blank = blank_cells(raw_cells)
+            blank = blank_cells(raw_cells) if blank is None else blank
             x = np.full(n, math.nan)
             plain = np.zeros(n, bool)
             for i, v in enumerate(raw_cells):
@@ -229,13 +246,13 @@ def _numbers(column: schema.Column, raw_cells):
     return x, ~blank, found
 
 
-def _choices(column: schema.Column, raw_cells):
+def _choices(column: schema.Column, raw_cells, blank=None):
     import pyarrow.compute as pc
 
     found: list = []
     array = _as_arrow(raw_cells)
     if array is None:  # not only text: cell by cell
-        blank = blank_cells(raw_cells)
+        blank = blank_cells(raw_cells) if blank is None else blank
         typed: list = [column.default] * len(raw_cells)
         _slow(column, raw_cells, np.flatnonzero(~blank).tolist(), typed, found)
         return typed, ~blank, found
@@ -266,7 +283,13 @@ def _choices(column: schema.Column, raw_cells):
     return typed, ~blank, found
 
 
-def _texts(column: schema.Column, raw_cells):
+@dataclass
+class _Texts:
+    values: list
+    array: Any  # the stripped Arrow array, when no cell needed the per-cell parser
+
+
+def _texts(column: schema.Column, raw_cells, controls: bool = True):
     """Texts stripped (blank -> the default), a note for each one with spaces around it, a
     problem for each that is no valid name (or free text)."""
     import pyarrow.compute as pc
@@ -285,9 +308,13 @@ def _texts(column: schema.Column, raw_cells):
     else:
         other = []
     ascii_ = pc.string_is_ascii(array)
-    unclean = pc.match_substring_regex(
-        array, UNCLEAN_NAME if column.kind in (schema.ID, schema.BUS_REF) else UNCLEAN_TEXT
-    )
+    name = column.kind in (schema.ID, schema.BUS_REF)
+    if controls:
+        unclean = pc.match_substring_regex(array, UNCLEAN_NAME if name else UNCLEAN_TEXT)
+    elif name:  # only tab and line ends can be there, and a name holds none of them
+        unclean = pc.match_substring_regex(array, "[\t\n\r]")
+    else:
+        unclean = pc.equal(ascii_, False)
     slow_mask = pc.or_(pc.invert(ascii_), unclean).to_numpy(zero_copy_only=False).astype(bool)
     stripped = pc.ascii_trim_whitespace(array)
     filled = pc.not_equal(stripped, "").to_numpy(zero_copy_only=False).astype(bool)
@@ -306,7 +333,7 @@ def _texts(column: schema.Column, raw_cells):
     if not filled.all():
         default = column.default
         texts = [t if f else default for t, f in zip(texts, filled.tolist(), strict=True)]
-    return texts, filled, found
+    return _Texts(texts, None if slow else stripped), filled, found
 
 
 def fill_from(values: dict[str, Any], name: str, source: str, at=None) -> None:

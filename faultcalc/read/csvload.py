@@ -127,14 +127,16 @@ def _with_arrow(name: str, body: bytes, problems: list[Problem]) -> RawSheet | N
     if b'"' in rest and not _same_as_python_csv(rest, arrays):
         return None
     numbers = np.arange(2, lines + 2, dtype=np.int64)
+    blank = {h: blank_cells(a) for h, a in arrays.items()}
     filled = np.zeros(lines, bool)
-    for array in arrays.values():
-        filled |= ~blank_cells(array)
+    for mask in blank.values():
+        filled |= ~mask
     if not filled.all():  # rows of empty cells (",,,") are left out, as by the csv path
         keep = np.flatnonzero(filled)
         arrays = {h: a.take(keep) for h, a in arrays.items()}
+        blank = {h: mask[keep] for h, mask in blank.items()}
         numbers = numbers[keep]
-    return RawSheet(name, headers, arrays, numbers)
+    return RawSheet(name, headers, arrays, numbers, [], blank, controls=False)
 
 
 def _same_as_python_csv(body: bytes, arrays: dict[str, Any]) -> bool:

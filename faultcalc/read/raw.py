@@ -41,6 +41,8 @@ class RawSheet:
     columns: dict[str, Any]  # header -> cells (a list, or an Arrow string array)
     row_numbers: np.ndarray  # spreadsheet row of each data row (int64)
     blank_header_columns: list[int] = field(default_factory=list)  # 1-based, data, no header
+    blank: dict[str, np.ndarray] = field(default_factory=dict)  # header -> blank cells, if known
+    controls: bool = True  # False: the loader found no control character but tab and line ends
 
     @property
     def n(self) -> int:
@@ -149,12 +151,14 @@ def sheet_from_rows(name: str, rows: list[tuple[int, list[Any]]], problems: list
     keep = np.flatnonzero(filled)
     every = len(keep) == len(data)
     named: dict[str, list] = {}
+    blank: dict[str, np.ndarray] = {}
     for position, header in enumerate(headers):
         if header and header not in named:
             column = columns[position]
             named[header] = column if every else [column[k] for k in keep.tolist()]
+            blank[header] = blank_of[position][keep]
     numbers = np.array([number for number, _ in data], dtype=np.int64)[keep]
-    return RawSheet(name, [h for h in headers if h], named, numbers, blank_header_columns)
+    return RawSheet(name, [h for h in headers if h], named, numbers, blank_header_columns, blank)
 
 
 def blank_cells(column) -> np.ndarray:

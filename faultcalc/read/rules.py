@@ -43,7 +43,7 @@ class Buses:
     kV."""
 
     index: dict[str, int]
-    folded: dict[str, str]
+    _folded: dict[str, str] | None
     unusable: set[str]
     kv: np.ndarray
     names: list
@@ -51,13 +51,27 @@ class Buses:
     ends: dict[tuple[str, str], np.ndarray] = field(default_factory=dict)
     _lookup: object = None  # a pandas Index of the usable names (made on first use)
     _rows: np.ndarray | None = None
+    _names: object = None  # every bus name as an Arrow array, when every bus is usable
+    joined: dict = field(default_factory=dict)  # (sheet, column) -> positions, by one join
 
-    def positions(self, values: list, at: np.ndarray) -> np.ndarray:
+    @property
+    def folded(self) -> dict[str, str]:
+        """Each usable bus name ignoring case -> the name (made when a reference misses)."""
+        if self._folded is None:
+            self._folded = {name.casefold(): name for name in self.index}
+        return self._folded
+
+    def positions(self, values: list, at: np.ndarray, array=None) -> np.ndarray:
         """Bus row of each name of ``values`` at ``at`` (exact match; -1 where none)."""
         import pandas as pd
 
-        if not self.index:
+        if not self.index or not len(at):
             return np.full(len(at), -1, np.int64)
+        if array is not None and self._names is not None and len(at) == len(values):
+            import pyarrow.compute as pc  # a hash join in C++: the base's whole columns
+
+            found = pc.fill_null(pc.index_in(array, value_set=self._names), -1)
+            return found.to_numpy(zero_copy_only=False).astype(np.int64)
         if self._lookup is None:
             self._lookup = pd.Index(list(self.index), dtype=object)
             self._rows = np.fromiter(self.index.values(), np.int64, len(self.index))
@@ -78,6 +92,8 @@ def unique_names(sheets: list[tuple[Typed, str]], out: Collector, at=None) -> No
     """No two names alike (``names.key``: ignoring case, compatibility forms and invisible
     characters) on these sheets taken together; the second of two is the problem. ``at``: per
     sheet the rows whose names to compare (all when None)."""
+    if at is None and _unique_by_arrow(sheets):
+        return
     keys: list[str] = []
     where: list[tuple[Typed, list[int]]] = []
     for sheet, column in sheets:
@@ -116,6 +132,23 @@ def unique_names(sheets: list[tuple[Typed, str]], out: Collector, at=None) -> No
         sheet.ok[i] = False
 
 
+def _unique_by_arrow(sheets: list[tuple[Typed, str]]) -> bool:
+    """True when the names are plain ASCII, each typed on the fast path, and no two alike
+    ignoring case (for ASCII, ``names.key`` is lower case); False when that cannot be said
+    so quickly (the Python path then looks, and names the rows)."""
+    import pyarrow as pa
+    import pyarrow.compute as pc
+
+    arrays = [sheet.arrow.get(column) for sheet, column in sheets if sheet.n]
+    if not arrays or any(a is None for a in arrays):
+        return not arrays
+    together = pa.chunked_array(arrays, pa.string())
+    if not pc.all(pc.string_is_ascii(together)).as_py():
+        return False
+    named = pc.filter(together, pc.not_equal(together, ""))
+    return len(pc.unique(pc.ascii_lower(named))) == len(named)
+
+
 def refuse_slips(sheet: Typed, at: np.ndarray, found, out: Collector) -> None:
     """Located problems for the gross mistakes ``slips`` found among the rows ``at``."""
     for slip in found:
@@ -124,8 +157,15 @@ def refuse_slips(sheet: Typed, at: np.ndarray, found, out: Collector) -> None:
         sheet.ok[i] = False
 
 
+def _given(values: list, at: np.ndarray) -> np.ndarray:
+    """Which of the rows ``at`` of a list column hold a value (not None)."""
+    if None not in values:
+        return np.ones(len(at), bool)
+    return np.array([values[i] is not None for i in at.tolist()], bool)
+
+
 def bus_voltages(buses: Typed, out: Collector, at: np.ndarray) -> None:
-    named = at[np.array([buses.values["bus"][i] is not None for i in at.tolist()], bool)]
+    named = at[_given(buses.values["bus"], at)]
     with_kv = named[~np.isnan(buses.values["kv"][named])]
     refuse_slips(buses, with_kv, slips.bus_slips(buses.values["kv"][with_kv]), out)
 
@@ -144,14 +184,15 @@ def bus_table(buses: Typed, readable: bool) -> Buses:
             if values[i] is not None:
                 index.setdefault(values[i], i)
         unusable = {name for name in values if name is not None} - set(index)
-    folded = {name.casefold(): name for name in index}
-    return Buses(index, folded, unusable, kv, values, readable)
+    names = buses.arrow.get("bus") if len(index) == len(values) else None
+    return Buses(index, None, unusable, kv, values, readable, _names=names)
 
 
 def devices(buses: Typed, out: Collector, at: np.ndarray) -> None:
     """A device rating check needs both the device and its rating."""
     v = buses.values
-    device = np.array([v["device"][i] is not None for i in at.tolist()], bool)
+    given = v["device"]
+    device = np.zeros(len(at), bool) if given.count(None) == len(given) else _given(given, at)
     rating = ~np.isnan(v["rating_ka"][at])
     xr = ~np.isnan(v["rating_xr"][at])
     for k in np.flatnonzero((device != rating) | (xr & ~device)).tolist():
@@ -171,16 +212,26 @@ def references(
 ) -> None:
     """Every bus reference names a bus with a usable kV; both ends of a branch differ. The
     position of each end's bus goes into ``buses.ends``; a name matched ignoring case is
-    replaced by the bus's name, with a warning."""
+    replaced by the bus's name, with a warning. Said row by row, each row's ends in order."""
     name = sheet.spec.name
     ends = []
     for column in columns:
         values = sheet.values[column]
         positions = buses.ends.setdefault((name, column), np.full(sheet.n, -1, np.int64))
-        positions[at] = buses.positions(values, at)
+        joined = buses.joined.pop((name, column), None)
+        if joined is not None and len(at) == sheet.n:
+            positions[:] = joined
+        else:
+            positions[at] = buses.positions(values, at, sheet.arrow.get(column))
         ends.append(positions)
-    missing = at[np.any([positions[at] < 0 for positions in ends], axis=0)] if len(at) else at
-    for i in missing.tolist():
+    if not len(at):
+        return
+    missing = np.any([positions[at] < 0 for positions in ends], axis=0)
+    same = np.zeros(len(at), bool)
+    if len(columns) == 2:
+        one, two = ends[0][at], ends[1][at]
+        same = (one == two) & (one >= 0)
+    for i in at[missing | same].tolist():
         for column, positions in zip(columns, ends, strict=True):
             values = sheet.values[column]
             value = values[i]
@@ -206,18 +257,47 @@ def references(
                 "no bus of that name on the 'buses' sheet" + suggestion,
             )
             sheet.ok[i] = False
-    if len(columns) == 2:
-        a, b = (sheet.values[c] for c in columns)
-        for i in at.tolist():
-            if a[i] is not None and a[i] == b[i]:
+        if len(columns) == 2:
+            a, b = (sheet.values[c][i] for c in columns)
+            if a is not None and a == b:
                 out.problem(
                     name,
                     int(sheet.rows[i]),
                     columns[1],
-                    b[i],
+                    b,
                     f"both ends are the same bus; {columns[0]} and {columns[1]} must differ",
                 )
                 sheet.ok[i] = False
+
+
+def join_references(sheets: dict[str, Typed], buses: Buses) -> None:
+    """The bus position of every reference of the base input, in one hash join of all the
+    reference columns against the bus names (Arrow), where every bus is usable and every
+    column was typed on the fast path; ``references`` takes them from ``buses.joined``."""
+    import pyarrow as pa
+    import pyarrow.compute as pc
+
+    if buses._names is None:
+        return
+    keys, arrays = [], []
+    for sheet, columns in BUS_REFERENCES:
+        if not sheets[sheet].n:
+            continue
+        for column in columns:
+            array = sheets[sheet].arrow.get(column)
+            if array is None:
+                return
+            if len(array):
+                keys.append((sheet, column, len(array)))
+                arrays.append(array)
+    if not arrays:
+        return
+    found = pc.fill_null(pc.index_in(pa.chunked_array(arrays), value_set=buses._names), -1)
+    positions = found.to_numpy(zero_copy_only=False).astype(np.int64)
+    start = 0
+    for sheet, column, n in keys:
+        buses.joined[(sheet, column)] = positions[start : start + n]
+        start += n
 
 
 def _suggestion(name: str, buses: Buses) -> str:
@@ -492,6 +572,7 @@ def check(sheets: dict[str, Typed], settings, out: Collector, at=None, buses=Non
         buses = _update_buses(buses, sheets["buses"], rows("buses"))
     if at is None:
         unique_names([(sheets[s.name], s.columns[0].name) for s in schema.ELEMENT_SHEETS], out)
+        join_references(sheets, buses)
     devices(sheets["buses"], out, rows("buses"))
     for sheet, columns in BUS_REFERENCES[:4]:  # machines after the cable tables, as before
         references(sheets[sheet], columns, buses, out, rows(sheet))
@@ -528,7 +609,7 @@ def _update_buses(buses: Buses, sheet: Typed, at: np.ndarray) -> Buses:
     index = {k: p for k, p in buses.index.items() if k not in set(gone)}
     return Buses(
         index,
-        {name.casefold(): name for name in index},
+        None,
         buses.unusable | set(gone),
         sheet.values["kv"],
         buses.names,
