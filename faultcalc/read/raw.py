@@ -125,20 +125,26 @@ def header_names(name: str, header_cells: list[Any], problems: list[Problem]) ->
 
 def sheet_from_rows(name: str, rows: list[tuple[int, list[Any]]], problems: list[Problem]):
     """A RawSheet from (row number, cell values) with the header row first. Rows with no cell
-    filled are left out; cells under no header are dropped (their columns are noted)."""
+    filled are left out; cells under no header are dropped (their columns are noted); blank
+    cells (None, or only white space) are None."""
     if not rows:
         return RawSheet(name, [], {}, np.zeros(0, np.int64), [])
-    _, header_cells = rows[0]
+    numbers = np.array([number for number, _ in rows[1:]], dtype=np.int64)
+    return sheet_from_grid(name, rows[0][1], numbers, [cells for _, cells in rows[1:]], problems)
+
+
+def sheet_from_grid(
+    name: str, header_cells: list, numbers: np.ndarray, lines: list[list], problems: list[Problem]
+) -> RawSheet:
+    """A RawSheet from the header row's cells and the data rows' cells (``lines``, of row
+    numbers ``numbers``); see ``sheet_from_rows``."""
     headers = header_names(name, header_cells, problems)
-    data = rows[1:]
-    width = max([len(headers), *(len(cells) for _, cells in data)]) if data else len(headers)
-    grid = [
-        cells if len(cells) == width else [*cells, *[None] * (width - len(cells))]
-        for _, cells in data
-    ]
-    columns = (
-        [list(column) for column in zip(*grid, strict=True)] if grid else [[] for _ in range(width)]
-    )
+    data = lines
+    widths = set(map(len, lines))
+    width = max([len(headers), *widths])
+    if widths - {width}:
+        lines = [c if len(c) == width else [*c, *[None] * (width - len(c))] for c in lines]
+    columns = list(map(list, zip(*lines, strict=True))) if lines else [[] for _ in range(width)]
     filled = np.zeros(len(data), bool)
     blank_of = [blank_cells(column) for column in columns]
     for blank in blank_of:
@@ -155,28 +161,34 @@ def sheet_from_rows(name: str, rows: list[tuple[int, list[Any]]], problems: list
     for position, header in enumerate(headers):
         if header and header not in named:
             column = columns[position]
+            empty = blank_of[position]
+            for k in np.flatnonzero(empty).tolist():
+                column[k] = None
             named[header] = column if every else [column[k] for k in keep.tolist()]
-            blank[header] = blank_of[position][keep]
-    numbers = np.array([number for number, _ in data], dtype=np.int64)[keep]
-    return RawSheet(name, [h for h in headers if h], named, numbers, blank_header_columns, blank)
+            blank[header] = empty[keep]
+    return RawSheet(
+        name, [h for h in headers if h], named, numbers[keep], blank_header_columns, blank
+    )
 
 
 def blank_cells(column) -> np.ndarray:
     """Which cells of a column are blank (see ``is_blank``), for a list or an Arrow array."""
-    if not isinstance(column, list):
-        import pyarrow.compute as pc
+    import pyarrow as pa
+    import pyarrow.compute as pc
 
+    if not isinstance(column, list):
         empty = pc.equal(column, "")
         spaces = pc.utf8_is_space(column)
         return pc.or_(empty, spaces).to_numpy(zero_copy_only=False).astype(bool)
     if not column:
         return np.zeros(0, bool)
-    values = np.array(column, dtype=object)
-    blank = (values == None) | (values == "")  # noqa: E711 - elementwise
-    text = np.array(list(map(type, column)), dtype=object) == str  # noqa: E721 - elementwise
-    text &= ~blank
-    if text.any():  # white space only is blank too
-        at = np.flatnonzero(text)
-        strings = column if len(at) == len(column) else [column[k] for k in at.tolist()]
-        blank[at] |= np.char.isspace(np.array(strings, dtype=str))
+    n = len(column)
+    blank = np.fromiter(column, dtype=object, count=n) == None  # noqa: E711 - elementwise
+    types = np.fromiter(map(type, column), dtype=object, count=n)
+    text = np.flatnonzero(types == str)  # noqa: E721 - elementwise
+    if len(text):  # empty or white space only is blank too
+        strings = column if len(text) == len(column) else [column[k] for k in text.tolist()]
+        array = pa.array(strings, pa.string())
+        space = pc.or_(pc.equal(array, ""), pc.utf8_is_space(array))
+        blank[text] |= space.to_numpy(zero_copy_only=False).astype(bool)
     return blank
