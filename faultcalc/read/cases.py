@@ -20,7 +20,7 @@ import numpy as np
 
 from .. import schema
 from ..errors import InputError, Problem
-from . import cells, columns, rules
+from . import cells, columns, names, rules
 from .collect import Collector
 from .service import IN_SERVICE
 
@@ -52,7 +52,8 @@ def _in_labels(name: str, said: list[tuple[int, Any]], problems: list[Problem]) 
 
 
 class _Names:
-    """Where each bus and element name is: as typed, and ignoring case (as bus references).
+    """Where each bus and element name is: as typed, and as ``names.key`` compares names
+    (ignoring case, compatibility forms and invisible characters), as bus references are.
     Each sheet's names are indexed when a case first looks one up."""
 
     def __init__(self, sheets: dict[str, columns.Typed]):
@@ -64,9 +65,9 @@ class _Names:
         table = self._folded if folded else self._exact
         if spec.name not in table:
             values = self.sheets[spec.name].values[spec.columns[0].name]
-            keys = [v.casefold() if v is not None else None for v in values] if folded else values
+            keys = [names.key(v) if v is not None else None for v in values] if folded else values
             table[spec.name] = {k: i for i, k in enumerate(keys) if k is not None}
-        return table[spec.name].get(name.casefold() if folded else name)
+        return table[spec.name].get(names.key(name) if folded else name)
 
     def _all(self, name: str, folded: bool) -> list[tuple[schema.Sheet, int]]:
         found = []

@@ -56,9 +56,10 @@ class Buses:
 
     @property
     def folded(self) -> dict[str, str]:
-        """Each usable bus name ignoring case -> the name (made when a reference misses)."""
+        """Each usable bus name's ``names.key`` (case, compatibility forms and invisible
+        characters ignored) -> the name; made when a reference first misses."""
         if self._folded is None:
-            self._folded = {name.casefold(): name for name in self.index}
+            self._folded = {names.key(name): name for name in self.index}
         return self._folded
 
     def positions(self, values: list, at: np.ndarray, array=None) -> np.ndarray:
@@ -240,13 +241,12 @@ def references(
             if value in buses.unusable:
                 sheet.ok[i] = False
                 continue
-            match = buses.folded.get(value.casefold())
+            match = buses.folded.get(names.key(value))
             if match is not None:
                 values[i] = match
                 positions[i] = buses.index[match]
-                out.warn(
-                    name, int(sheet.rows[i]), column, value, f"matched bus {match!r} ignoring case"
-                )
+                how = names.collision(match, value).removeprefix("names are matched ")
+                out.warn(name, int(sheet.rows[i]), column, value, f"matched bus {match!r} {how}")
                 continue
             suggestion = _suggestion(value, buses) if len(out.problems) < MAX_SUGGESTIONS else ""
             out.problem(

@@ -589,3 +589,25 @@ def test_hostile_names_end_in_a_located_error_or_safe_outputs(tmp_path):
         _check_lines(build_netlist(system, system.buses[0].bus, "slg"))
     print(outcomes)
     assert outcomes["result"] > 5 and outcomes["input error"] > 10, outcomes
+
+
+def test_a_reference_alike_after_nfkc_names_its_bus_with_a_warning(make_input):
+    # Full-width letters (NFKC folds them to ASCII: Unicode Standard Annex #15) and a zero-width
+    # space name the same bus as the plain name: the reference is matched, and said so.
+    sheets = copy.deepcopy(GOOD)
+    sheets["cables"][0]["to_bus"] = "\uff30\uff2e\uff2c"  # full-width PNL
+    sheets["impedances"][0]["to_bus"] = "M\u200bCC"
+    system = read_system(make_input(sheets))
+    assert system.cables[0].to_bus == "PNL" and system.impedances[0].to_bus == "MCC"
+    said = [w for w in system.warnings if "matched bus" in w]
+    assert len(said) == 2 and all("compatibility forms (NFKC)" in w for w in said)
+
+
+def test_a_case_names_an_element_alike_after_nfkc(make_input):
+    sheets = copy.deepcopy(GOOD)
+    sheets["cases"] = [
+        {"case": "short cable", "element": "\uff23", "column": "length_ft", "value": 10}
+    ]  # full-width C: the cable C
+    system = read_system(make_input(sheets))
+    ((name, case),) = system.cases
+    assert case.cables[0].length_ft == 10 and system.cables[0].length_ft == 100
