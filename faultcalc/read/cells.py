@@ -15,7 +15,8 @@ from typing import Any
 
 from .. import schema
 from . import names
-from .tables import FormulaCell, PercentCell, is_blank  # noqa: F401 - is_blank used as cells.is_blank
+from .marked import FormulaCell, PercentCell  # noqa: F401 - re-exported: cells.PercentCell
+from .tables import is_blank  # noqa: F401 - is_blank used as cells.is_blank
 
 
 class CellError(ValueError):
