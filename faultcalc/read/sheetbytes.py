@@ -34,6 +34,7 @@ _PAD = b"\0" * 32  # so that a window read past the last byte stays in the array
 _DELIM = np.zeros(256, dtype=bool)  # what may follow a tag's name
 _DELIM[list(b" \t\r\n/>")] = True
 _ROOT = re.compile(rb"<worksheet(?=[\s>])[^>]*?\sxmlns=\"" + re.escape(MAIN) + rb'"')
+_STRINGS_ROOT = re.compile(rb"<sst(?=[\s>])[^>]*?\sxmlns=\"" + re.escape(MAIN) + rb'"')
 _ENCODING = re.compile(rb'^(?:\xef\xbb\xbf)?<\?xml[^>]*?\sencoding=["\']([^"\']*)')
 # a number both readers read alike (an optional sign, digits, a point, an exponent); any other
 # value text of a number cell is given by openpyxl's cell parser (a text, an error)
@@ -97,6 +98,22 @@ def element_count(data: bytes) -> int:
     """XML elements of a part (start and empty tags); Irregular if it holds a declaration,
     comment or CDATA section, or its tags do not pair."""
     return _Tags(data).elements
+
+
+def scan_strings(data: bytes) -> tuple[int, bool]:
+    """A shared-strings part: its XML elements, and whether the compiled reader reads its
+    text as openpyxl does (the root in the main namespace, no prefixed tag, no text with
+    white space at an end and no xml:space, no _xHHHH_ escape); Irregular as element_count."""
+    tags = _Tags(data)
+    if not data.rstrip().endswith(b"</sst>"):
+        raise Irregular("not closed")
+    faithful = (
+        _STRINGS_ROOT.search(data, 0, 4096) is not None
+        and not _prefixed(tags.a, tags.lt, tags.gt, 0, len(data))
+        and _TRIMMED.search(data) is None
+        and _ESCAPE.search(data) is None
+    )
+    return tags.elements, faithful
 
 
 def _key(text: bytes) -> np.uint64:
@@ -450,7 +467,7 @@ def _columns(head: bytes, facts: SheetBytes) -> None:
         raise Irregular("a column entry in another form")
     hidden: dict[str, bool] = {}
     for attributes in found:
-        attrs = {k: _text(v) for k, v in _ATTRIBUTE.findall(attributes)}
+        attrs = {k.decode(): _text(v) for k, v in _ATTRIBUTE.findall(attributes)}
         try:
             letter = get_column_letter(int(attrs["min"]))
         except (KeyError, ValueError):

@@ -130,16 +130,14 @@ class _Strings:
 
     def check(self, archive: zipfile.ZipFile, part: str, budget: xlsxparts.Budget) -> None:
         try:
-            data = archive.read(part)
-            count = sheetbytes.element_count(data)
-            if not data.rstrip().endswith(b"</sst>") or count > budget.left:
-                raise sheetbytes.Irregular("not closed, or over the budget")
+            count, self.faithful = sheetbytes.scan_strings(archive.read(part))
+            if count > budget.left:
+                raise sheetbytes.Irregular("over the budget")
         except (sheetbytes.Irregular, *_UNPACK_ERRORS, RuntimeError):
             self.faithful = False
             xlsxparts.check_strings_part(archive, part, budget)  # its message, or accepted
             return
         budget.left -= count
-        self.faithful = sheetbytes.strings_faithful(data)
 
 
 @dataclass
