@@ -1,4 +1,9 @@
-"""Cells a loader marks for what their value alone does not say."""
+"""Cell values that carry what a workbook says beside the value (a percent format, a formula).
+
+Its own module so that the workbook loader (``read/xlsx.py``) and the cell reader
+(``read/cells.py``) share them without importing each other; ``read/tables.py`` and
+``read/cells.py`` re-export them.
+"""
 
 from __future__ import annotations
 

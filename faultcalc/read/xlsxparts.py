@@ -1,7 +1,10 @@
-"""Check the XML parts of a workbook before openpyxl parses them, and note what it does not say.
+"""Check the XML parts of a workbook with expat, and note what the cell values do not say.
 
-The workbook is read by openpyxl's streaming reader. Every part that reader will parse is read
-here first by expat (C code; about a tenth of openpyxl's time on a sheet), so that:
+The careful scan of the workbook loader (``read/xlsx.py``): the small parts (content types,
+workbook, relationships, styles, properties) always, a shared-strings or worksheet part when
+the light pass over its bytes (``read/sheetbytes.py``) finds it in another form than the usual
+one, and every part when ``survey`` is called. Each part is read by expat (C code, a Python call
+per element), so that:
 
 * malformed XML is an input error naming the part (and its sheet), the line and the column;
 * a document type declaration, the route of entity-expansion attacks, is refused in any part;
@@ -14,12 +17,14 @@ here first by expat (C code; about a tenth of openpyxl's time on a sheet), so th
   and no saved value, merged cells, hidden rows and columns.
 
 Which parts are read, and how sheet references and relationship targets resolve, follows
-openpyxl's reader (``openpyxl.reader.excel``), so that the parts checked are the parts parsed.
+openpyxl's reader (``openpyxl.reader.excel``), which reads the values of a sheet in another form
+than the usual one, so that the parts checked are the parts parsed.
 """
 
 from __future__ import annotations
 
 import posixpath
+import re
 import zipfile
 import zlib
 from collections.abc import Container
@@ -56,6 +61,7 @@ MAX_COLUMNS = 16_384
 # stays well inside it).
 SPREAD_PER_CELL = 8
 TRANSLATED_FORMULAS = 1_000  # shared formulas translated for messages, per sheet
+_PLAIN_TARGET = re.compile(r"(?:/xl/)?worksheets/[^/]+\.xml")
 
 _WORKBOOK_TYPES = (XLTM, XLTX, XLSM, XLSX)  # openpyxl.reader.excel._find_workbook_part's order
 _ROW = f"{SHEET_MAIN_NS} row"
@@ -71,6 +77,7 @@ _RELATIONSHIP = f"{PKG_REL_NS} Relationship"
 _OVERRIDE = f"{CONTYPES_NS} Override"
 _DEFAULT = f"{CONTYPES_NS} Default"
 _SHEET_RID = f"{REL_NS} id"
+_WORKBOOK_PR = f"{SHEET_MAIN_NS} workbookPr"
 
 
 class Refused(Exception):
@@ -89,6 +96,8 @@ class SheetFacts:
     merged: list[str] = field(default_factory=list)
     hidden_rows: list[int] = field(default_factory=list)
     hidden_columns: list[str] = field(default_factory=list)
+    # its relationship's target names a part in xl/worksheets/ as every reader resolves it
+    plain_target: bool = False
 
 
 @dataclass
@@ -97,7 +106,9 @@ class Survey:
     skipped: set[str]  # parts of the sheets not read: the reader must not open them
 
 
-class _Budget:
+class Budget:
+    """The XML elements left to read in all the parts of a workbook."""
+
     def __init__(self, elements: int, file_bytes: int):
         self.left = self.total = elements
         self.file_bytes = file_bytes
@@ -144,7 +155,7 @@ def _parse(archive: zipfile.ZipFile, part: str, label: str, start, end=None, set
         raise Refused(f"{label} is missing from the file") from None
 
 
-def _plain(archive: zipfile.ZipFile, part: str, budget: _Budget) -> None:
+def _plain(archive: zipfile.ZipFile, part: str, budget: Budget) -> None:
     def start(name, attrs):
         budget.spend()
 
@@ -152,7 +163,7 @@ def _plain(archive: zipfile.ZipFile, part: str, budget: _Budget) -> None:
 
 
 def _collect(
-    archive: zipfile.ZipFile, part: str, budget: _Budget, paths: set[tuple[str, ...]]
+    archive: zipfile.ZipFile, part: str, budget: Budget, paths: set[tuple[str, ...]]
 ) -> list[tuple[str, dict]]:
     """(tag, attributes) of the elements at one of ``paths`` below the root, in file order."""
     found: list[tuple[str, dict]] = []
@@ -172,7 +183,7 @@ def _collect(
     return found
 
 
-def _relationships(archive: zipfile.ZipFile, part: str, budget: _Budget) -> dict[str, dict]:
+def _relationships(archive: zipfile.ZipFile, part: str, budget: Budget) -> dict[str, dict]:
     """Id -> {Target (resolved as openpyxl's get_dependents does), Type, TargetMode}."""
     folder = posixpath.dirname(part)
     parent = posixpath.split(folder)[0]
@@ -185,13 +196,34 @@ def _relationships(archive: zipfile.ZipFile, part: str, budget: _Budget) -> dict
                 if target.startswith("/")
                 else posixpath.normpath(posixpath.join(parent, target))
             )
-        rels[attrs.get("Id", "")] = {**attrs, "Target": target}
+        rels[attrs.get("Id", "")] = {**attrs, "Target": target, "Raw": attrs.get("Target", "")}
     return rels
+
+
+def check_part(archive: zipfile.ZipFile, part: str, budget: Budget) -> None:
+    """Any part read by expat: well-formed, no document type, within the budget."""
+    _plain(archive, part, budget)
+
+
+def rels_path(part: str) -> str:
+    """The relationships part of a part."""
+    return _rels_path(part)
 
 
 def _rels_path(part: str) -> str:
     folder, name = posixpath.split(part)
     return posixpath.join(folder, "_rels", f"{name}.rels")
+
+
+@dataclass
+class Book:
+    """A workbook's small parts checked: its worksheets, and where its shared strings are."""
+
+    sheets: list[SheetFacts]  # every worksheet, in workbook order (none scanned yet)
+    skipped: set[str]  # parts of the sheets not read: the reader must not open them
+    workbook: str  # the workbook part
+    strings: str | None  # the shared-strings part
+    date1904: bool  # dates count from 1904 (workbookPr date1904)
 
 
 def survey(
@@ -202,8 +234,35 @@ def survey(
     ``read_names`` are the sheet names (stripped, lower case) the tool reads; at most
     ``max_elements`` XML elements are read in all (``file_bytes`` is for the message).
     """
+    budget = Budget(max_elements, file_bytes)
+    book = open_book(archive, read_names, budget)
+    for facts in book.sheets:
+        if facts.read:
+            check_sheet_part(archive, facts, budget)
+    return Survey(book.sheets, book.skipped)
+
+
+def check_strings_part(archive: zipfile.ZipFile, part: str, budget: Budget) -> None:
+    """A shared-strings part read by expat (well-formed, no document type, within budget)."""
+    _plain(archive, part, budget)
+
+
+def check_sheet_part(archive: zipfile.ZipFile, facts: SheetFacts, budget: Budget) -> None:
+    """A worksheet read by expat, its relationships part first: its facts, or Refused."""
+    if _rels_path(facts.part) in archive.NameToInfo:
+        _plain(archive, _rels_path(facts.part), budget)
+    scan_sheet(archive, facts, budget)
+
+
+def open_book(
+    archive: zipfile.ZipFile, read_names: Container[str], budget: Budget, strings=None
+) -> Book:
+    """Check the parts read before any worksheet, in openpyxl's order, and find the sheets.
+
+    ``strings(archive, part, budget)`` checks the shared-strings part (by default
+    ``check_strings_part``).
+    """
     members = set(archive.namelist())
-    budget = _Budget(max_elements, file_bytes)
     types = _collect(archive, ARC_CONTENT_TYPES, budget, {(_OVERRIDE,), (_DEFAULT,)})
     overrides = [a for tag, a in types if tag == _OVERRIDE]
     defaults = [a for tag, a in types if tag == _DEFAULT]
@@ -220,14 +279,17 @@ def survey(
         if not {a.get("ContentType") for a in defaults} & set(_WORKBOOK_TYPES):
             raise Refused(f"part {ARC_CONTENT_TYPES} names no workbook part")
         workbook = ARC_WORKBOOK
-    entries = _collect(archive, workbook, budget, {(_SHEETS, _SHEET)})
+    found = _collect(archive, workbook, budget, {(_SHEETS, _SHEET), (_WORKBOOK_PR,)})
+    entries = [(tag, a) for tag, a in found if tag == _SHEET]
+    date1904 = any(true(a.get("date1904")) for tag, a in found if tag == _WORKBOOK_PR)
     rels = _relationships(archive, _rels_path(workbook), budget)
-    strings = next(
+    rels_raw = {rid: rel.get("Raw", "") for rid, rel in rels.items()}
+    part_of_strings = next(
         (a.get("PartName", "")[1:] for a in overrides if a.get("ContentType") == SHARED_STRINGS),
         None,
     )
-    if strings is not None:
-        _plain(archive, strings, budget)
+    if part_of_strings is not None:
+        (strings or check_strings_part)(archive, part_of_strings, budget)
     for part in (ARC_STYLE, ARC_CORE, ARC_CUSTOM):
         if part in members:
             _plain(archive, part, budget)
@@ -252,13 +314,13 @@ def survey(
         read = not chart and name.strip().lower() in read_names
         (kept if read else skipped).add(target)
         if not chart:
-            sheets.append(SheetFacts(name, target, attrs.get("state") or "visible", read))
-    for facts in sheets:
-        if facts.read:
-            if _rels_path(facts.part) in members:
-                _plain(archive, _rels_path(facts.part), budget)
-            _scan_sheet(archive, facts, budget)
-    return Survey(sheets, skipped - kept)
+            facts = SheetFacts(name, target, attrs.get("state") or "visible", read)
+            raw = rels_raw[rid]
+            facts.plain_target = _PLAIN_TARGET.fullmatch(raw) is not None and (
+                target == "xl/" + raw.removeprefix("/xl/")
+            )
+            sheets.append(facts)
+    return Book(sheets, skipped - kept, workbook, part_of_strings, date1904)
 
 
 def _whole(text: str) -> int | None:
@@ -274,7 +336,7 @@ def _whole(text: str) -> int | None:
     return int(value) if value.is_integer() else None
 
 
-def _true(value: str | None) -> bool:
+def true(value: str | None) -> bool:
     """openpyxl's reading of an XML boolean attribute (anything but false, f, 0 or empty)."""
     return value is not None and value not in ("false", "f", "0", "")
 
@@ -287,7 +349,35 @@ def _cell_reference(ref: str) -> tuple[int, int] | None:
         return None
 
 
-def _scan_sheet(archive: zipfile.ZipFile, facts: SheetFacts, budget: _Budget) -> None:
+class FormulaTexts:
+    """A sheet's formula texts as openpyxl gives them: a shared formula's cells take the text
+    of its first cell, translated to their place (the first TRANSLATED_FORMULAS of a sheet)."""
+
+    def __init__(self):
+        self.masters: dict[str, tuple[str, str]] = {}  # shared formula si -> (text, origin)
+        self.translated = 0
+
+    def text(self, raw: str, kind: str | None, index: str | None, ref: str | None, needed=True):
+        """The text of one formula cell (``raw``, its formula element's text); ``needed``
+        False when it serves no message (no translation is made, but it is counted)."""
+        text = "=" + raw.strip()
+        if kind == "shared":  # as openpyxl's parse_formula
+            if index in self.masters:
+                origin_text, origin = self.masters[index]
+                text = origin_text
+                if ref and self.translated < TRANSLATED_FORMULAS:
+                    self.translated += 1
+                    if needed:
+                        try:
+                            text = Translator(origin_text, origin).translate_formula(ref)
+                        except Exception:  # noqa: BLE001 - the text serves a message only
+                            pass
+            elif text != "=" and ref:
+                self.masters[index] = (text, ref)
+        return text
+
+
+def scan_sheet(archive: zipfile.ZipFile, facts: SheetFacts, budget: Budget) -> None:
     """Check one worksheet part and collect its facts, as openpyxl's WorkSheetParser reads it.
 
     Only start tags are handled (this runs on every element of every sheet read): a row ends
@@ -305,29 +395,16 @@ def _scan_sheet(archive: zipfile.ZipFile, facts: SheetFacts, budget: _Budget) ->
     value: list[str] | None = None
     formula_type = formula_index = None
     has_value = collecting = False
-    masters: dict[str, tuple[str, str]] = {}  # shared formula si -> (text, origin)
-    translated = 0
+    texts = FormulaTexts()
     hidden_columns: dict[str, bool] = {}
 
     def refuse(message: str):
         raise Refused(f"{label}: {message}")
 
     def close_cell():
-        nonlocal translated
-        text = "=" + "".join(formula).strip()
-        if formula_type == "shared":  # as openpyxl's parse_formula
-            if formula_index in masters:
-                origin_text, origin = masters[formula_index]
-                text = origin_text
-                if ref and translated < TRANSLATED_FORMULAS:
-                    translated += 1
-                    try:
-                        text = Translator(origin_text, origin).translate_formula(ref)
-                    except Exception:  # noqa: BLE001 - the text serves a message only
-                        pass
-            elif text != "=" and ref:
-                masters[formula_index] = (text, ref)
-        if not (has_value or (value is not None and "".join(value).strip())):
+        saved = has_value or (value is not None and "".join(value).strip())
+        text = texts.text("".join(formula), formula_type, formula_index, ref, needed=not saved)
+        if not saved:
             facts.formulas[(row, column)] = text
 
     def start(name, attrs):
@@ -394,7 +471,7 @@ def _scan_sheet(archive: zipfile.ZipFile, facts: SheetFacts, budget: _Budget) ->
                     "spreadsheet program never writes; open the file in one and save it"
                 )
             row, column, row_text = number, 0, str(number)
-            if _true(attrs.get("hidden")):
+            if true(attrs.get("hidden")):
                 facts.hidden_rows.append(number)
         elif name == _FORMULA:
             if formula is None:
@@ -414,7 +491,7 @@ def _scan_sheet(archive: zipfile.ZipFile, facts: SheetFacts, budget: _Budget) ->
                 letter = get_column_letter(int(attrs["min"]))
             except (KeyError, ValueError):
                 refuse(f"a column entry with min={attrs.get('min')!r}, not a column number")
-            hidden_columns[letter] = _true(attrs.get("hidden"))
+            hidden_columns[letter] = true(attrs.get("hidden"))
 
     def setup(p):
         nonlocal parser
