@@ -121,14 +121,19 @@ def _with_arrow(name: str, body: bytes, problems: list[Problem]) -> RawSheet | N
         )
     except (pa.ArrowInvalid, pa.ArrowNotImplementedError):
         return None
-    if table.num_rows != lines:
-        return None  # blank lines, which Arrow skips and the row numbers count
+    starts, ends = _lines(rest, lines)
+    data = np.frombuffer(rest, np.uint8)
+    length = ends - starts
+    empty = (length == 0) | ((length == 1) & (data[np.minimum(starts, len(data) - 1)] == 13))
+    if table.num_rows != lines - int(empty.sum()):
+        return None  # a line Arrow reads otherwise (white space only: a row of one cell)
     arrays = {h: table.column(k).combine_chunks() for h, k in zip(headers, keys, strict=True)}
-    if b'"' in rest and not _same_as_python_csv(rest, arrays):
+    kept_lines = np.flatnonzero(~empty)  # Arrow skips empty lines; their numbers are counted
+    if b'"' in rest and not _same_as_python_csv(rest, arrays, starts, ends, kept_lines):
         return None
-    numbers = np.arange(2, lines + 2, dtype=np.int64)
+    numbers = kept_lines.astype(np.int64) + 2
     blank = {h: blank_cells(a) for h, a in arrays.items()}
-    filled = np.zeros(lines, bool)
+    filled = np.zeros(len(numbers), bool)
     for mask in blank.values():
         filled |= ~mask
     if not filled.all():  # rows of empty cells (",,,") are left out, as by the csv path
@@ -139,21 +144,34 @@ def _with_arrow(name: str, body: bytes, problems: list[Problem]) -> RawSheet | N
     return RawSheet(name, headers, arrays, numbers, [], blank, controls=False)
 
 
-def _same_as_python_csv(body: bytes, arrays: dict[str, Any]) -> bool:
-    """Rows with quotes, parsed again by Python's csv module one line at a time: True when
-    every one reads the same."""
-    lines = body.split(b"\n")
-    quoted = [k for k, line in enumerate(lines) if b'"' in line]
+def _lines(body: bytes, count: int) -> tuple[np.ndarray, np.ndarray]:
+    """Start and end (before the line feed) of each of the ``count`` lines of ``body``."""
+    data = np.frombuffer(body, np.uint8)
+    feeds = np.flatnonzero(data == 10)
+    starts = np.concatenate([[0], feeds + 1])[:count]
+    ends = np.concatenate([feeds, [len(body)]])[:count]
+    return starts, ends
+
+
+def _same_as_python_csv(body: bytes, arrays: dict[str, Any], starts, ends, kept) -> bool:
+    """Lines with quotes, parsed again by Python's csv module one at a time: True when every
+    one reads as Arrow read its row (``kept``: the line of each of Arrow's rows)."""
+    quotes = np.flatnonzero(np.frombuffer(body, np.uint8) == 34)
+    quoted = np.unique(np.searchsorted(ends, quotes))  # the line holding each quote
+    row_of = np.full(len(starts), -1, np.int64)
+    row_of[kept] = np.arange(len(kept))
     columns = [a.to_pylist() if len(quoted) > 1000 else a for a in arrays.values()]
 
     def cell(column, k):
         return column[k] if isinstance(column, list) else column[k].as_py()
 
-    for k in quoted:
+    for line in quoted.tolist():
+        text = body[starts[line] : ends[line]].rstrip(b"\r")
         try:
-            row = next(csv.reader([lines[k].rstrip(b"\r").decode("utf-8")], strict=True))
+            row = next(csv.reader([text.decode("utf-8")], strict=True))
         except (csv.Error, UnicodeDecodeError, StopIteration):
             return False
-        if row != [cell(c, k) for c in columns]:
+        k = row_of[line]
+        if k < 0 or row != [cell(c, k) for c in columns]:
             return False
     return True

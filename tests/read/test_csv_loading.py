@@ -227,3 +227,22 @@ def test_the_plain_number_pattern_reads_as_python_float_reads_it():
     assert len(plain) > 500
     values = pc.cast(pa.array(plain), pa.float64()).to_pylist()
     assert values == [float(t) for t in plain]
+
+
+@pytest.mark.parametrize(
+    "change",
+    [
+        lambda t: t.replace("\r\n", "\r\n\r\n", 3),  # blank lines (the writer's CR LF)
+        lambda t: t.replace("\r\n", "\n").replace("\n", "\n\n", 2),  # LF, blank lines
+        lambda t: t.replace("M0,", '"M0",', 1).replace("\r\n", "\r\n\r\n", 2),  # a quote too
+        lambda t: t + "\r\n\r\n",  # blank lines at the end
+    ],
+)
+def test_blank_lines_give_the_csv_modules_cells_and_rows(tmp_path, monkeypatch, change):
+    # Reference: Python's csv module, which counts every line (an empty one is an empty row).
+    sheets = random_sheets(5, n_mv=4, n_lv=4)
+    folder = write_csv_folder(tmp_path / "net", sheets)
+    path = folder / "buses.csv"
+    path.write_bytes(change(path.read_bytes().decode()).encode())
+    assert csvload._with_arrow("buses", path.read_bytes(), []) is not None  # Arrow took it
+    _same_cells(load_input(folder), _with_csv_module(monkeypatch, folder))
