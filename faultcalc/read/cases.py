@@ -22,6 +22,7 @@ from .. import schema
 from ..errors import InputError, Problem
 from . import cells, columns, names, rules
 from .collect import Collector
+from .references import Buses
 from .service import IN_SERVICE
 
 LABEL = "label"
@@ -149,7 +150,7 @@ def _set(sheet, base, i: int, column: schema.Column, value, found: list) -> bool
     return fits
 
 
-def _affected(sheets, case_sheets, changed: dict[str, set[int]], buses: rules.Buses):
+def _affected(sheets, case_sheets, changed: dict[str, set[int]], buses: Buses):
     """Row indices per sheet that the case's rules must look at again: the rows it changed,
     and every element connected to a bus it changed."""
     at = {name: set(rows) for name, rows in changed.items()}
@@ -196,7 +197,7 @@ def _refresh_cables(sheet: columns.Typed, base: columns.Typed, at: np.ndarray) -
         sheet.values["impedance_source"][i] = ""
 
 
-def read_cases(sheets: dict[str, columns.Typed], buses: rules.Buses, settings, raw=None, base=None):
+def read_cases(sheets: dict[str, columns.Typed], buses: Buses, settings, raw=None, base=None):
     """Every case as (name, System), in order of first appearance on the cases sheet. Each
     case's warnings are those of the base (``base``, a Collector) that still hold, and those
     of what the case changes."""

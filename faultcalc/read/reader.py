@@ -22,7 +22,8 @@ from . import cells, columns, plausibility, rules, service, sheetnames, slips
 from .cases import read_cases
 from .collect import Collector
 from .raw import RawInput, RawSheet
-from .rules import BUS_REFERENCES, KV_MISMATCH_WARN  # noqa: F401 - the reader's rule names
+from .references import BUS_REFERENCES, Buses
+from .rules import KV_MISMATCH_WARN  # noqa: F401 - importable from the reader
 from .tables import load_input
 
 
@@ -243,7 +244,7 @@ def _records(cls, sheet: columns.Typed) -> Records:
     return Records(cls, data, sheet.n)
 
 
-def system_of(sheets: dict[str, columns.Typed], buses: rules.Buses, settings, **fields):
+def system_of(sheets: dict[str, columns.Typed], buses: Buses, settings, **fields):
     """The System of typed sheets whose rows are all ok, with the bus positions it needs."""
     system = model.System(
         settings=settings,
