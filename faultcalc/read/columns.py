@@ -28,13 +28,13 @@ from .raw import RawSheet, blank_cells, is_arrow
 PLAIN_NUMBER = r"^[+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]+)?$"
 NUMBER_TYPES = frozenset({float, int, type(None)})
 TEXT_TYPES = frozenset({str, type(None)})
-# Characters a clean name never holds: the forbidden ones (names.py) and the invisible ones.
-UNCLEAN_NAME = (
-    "[\\x00-\\x1f\\x7f-\\x9f\\x{2028}\\x{2029}\\x{202a}-\\x{202e}\\x{2066}-\\x{2069}"
-    + "".join(f"\\x{{{ord(c):04x}}}" for c in names.INVISIBLE)
-    + "]"
+# Characters a clean name never holds: the forbidden ones (names.py) and the invisible ones;
+# and what free text may not hold. In RE2's syntax, from the ranges names.py states.
+_RE2 = "\\x{{{:04x}}}".format
+UNCLEAN_NAME = names.character_class(
+    (*names.NAME_FORBIDDEN, *((ord(c), ord(c)) for c in names.INVISIBLE)), _RE2
 )
-UNCLEAN_TEXT = "[\\x00-\\x08\\x0b\\x0c\\x0e-\\x1f]"
+UNCLEAN_TEXT = names.character_class(names.TEXT_FORBIDDEN, _RE2)
 
 
 @dataclass

@@ -26,13 +26,23 @@ from __future__ import annotations
 import re
 import unicodedata
 
-# Control characters a name may not hold (see the module docstring).
-_NAME_FORBIDDEN = re.compile("[\x00-\x1f\x7f-\x9f\u2028\u2029\u202a-\u202e\u2066-\u2069]")
+# Control characters a name may not hold (see the module docstring), as code point ranges.
+NAME_FORBIDDEN = ((0x00, 0x1F), (0x7F, 0x9F), (0x2028, 0x2029), (0x202A, 0x202E), (0x2066, 0x2069))
 # What no workbook can hold (XML 1.0): C0 controls other than tab, line feed, carriage return.
-_TEXT_FORBIDDEN = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f]")
+TEXT_FORBIDDEN = ((0x00, 0x08), (0x0B, 0x0C), (0x0E, 0x1F))
 # Characters that show as nothing: removed before names are compared.
 INVISIBLE = "\u200b\u200c\u200d\u2060\ufeff\u00ad\u200e\u200f"
 _DROP = dict.fromkeys(map(ord, INVISIBLE))
+
+
+def character_class(ranges, escape) -> str:
+    """A regular-expression class of the code point ``ranges``, each written by ``escape``
+    (Python's re and Arrow's RE2 spell code points differently)."""
+    return "[" + "".join(f"{escape(a)}-{escape(b)}" for a, b in ranges) + "]"
+
+
+_NAME_FORBIDDEN = re.compile(character_class(NAME_FORBIDDEN, lambda c: f"\\U{c:08x}"))
+_TEXT_FORBIDDEN = re.compile(character_class(TEXT_FORBIDDEN, lambda c: f"\\U{c:08x}"))
 
 
 def _where(match: re.Match) -> str:

@@ -246,3 +246,23 @@ def test_blank_lines_give_the_csv_modules_cells_and_rows(tmp_path, monkeypatch, 
     path.write_bytes(change(path.read_bytes().decode()).encode())
     assert csvload._with_arrow("buses", path.read_bytes(), []) is not None  # Arrow took it
     _same_cells(load_input(folder), _with_csv_module(monkeypatch, folder))
+
+
+def test_the_fast_name_check_flags_what_the_per_cell_parser_refuses_or_folds():
+    """Every code point up to U+3000 (and the invisible ones): Arrow's check of a name
+    (columns.UNCLEAN_NAME) flags exactly the characters names.py refuses or drops, so a name
+    it passes is one the per-cell parser takes as it is. Reference: names.py's own rules."""
+    import pyarrow as pa
+    import pyarrow.compute as pc
+
+    from faultcalc.read import names
+    from faultcalc.read.columns import UNCLEAN_NAME, UNCLEAN_TEXT
+
+    chars = [chr(c) for c in range(0x3000) if not 0xD800 <= c <= 0xDFFF]
+    chars += list(names.INVISIBLE)
+    texts = [f"A{c}B" for c in chars]
+    flagged = pc.match_substring_regex(pa.array(texts), UNCLEAN_NAME).to_pylist()
+    refused = [names.name_problem(t) is not None or t.translate(names._DROP) != t for t in texts]
+    assert flagged == refused
+    flagged = pc.match_substring_regex(pa.array(texts), UNCLEAN_TEXT).to_pylist()
+    assert flagged == [names.text_problem(t) is not None for t in texts]
