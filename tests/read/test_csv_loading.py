@@ -266,3 +266,24 @@ def test_the_fast_name_check_flags_what_the_per_cell_parser_refuses_or_folds():
     assert flagged == refused
     flagged = pc.match_substring_regex(pa.array(texts), UNCLEAN_TEXT).to_pylist()
     assert flagged == [names.text_problem(t) is not None for t in texts]
+
+
+def test_blank_and_trim_on_whole_columns_agree_with_python():
+    """A cell is blank when Python's str.isspace() says so (raw.is_blank); the whole-column
+    form (raw.blank_cells, Arrow's utf8_is_space) agrees on every code point to U+3000 and the
+    Unicode spaces above it; Arrow's ASCII trim agrees with str.strip() wherever the fast path
+    uses it (ASCII without the control characters U+001C to U+001F, which go cell by cell).
+    Reference: Python's str methods."""
+    import pyarrow as pa
+    import pyarrow.compute as pc
+
+    from faultcalc.read.raw import blank_cells
+
+    codes = [c for c in range(0x3000) if not 0xD800 <= c <= 0xDFFF]
+    codes += [0x3000, 0x205F, 0xFEFF, 0x180E]
+    texts = [chr(c) * 2 for c in codes] + ["", " x ", "x"]
+    assert blank_cells(texts).tolist() == [is_blank(t) for t in texts]
+    assert blank_cells(pa.array(texts)).tolist() == [is_blank(t) for t in texts]
+    padded = [chr(c) + "x" + chr(c) for c in range(128) if c not in range(0x1C, 0x20)]
+    trimmed = pc.ascii_trim_whitespace(pa.array(padded)).to_pylist()
+    assert trimmed == [t.strip() for t in padded]
