@@ -31,8 +31,18 @@ class Problem:
     def __str__(self) -> str:
         text = f"{self.location()}: {self.message}"
         if self.value is not None and self.value != "":
-            text += f" (found {self.value!r})"
+            text += f" (found {_found(self.value)!r})"
         return text
+
+
+def _found(value):
+    """A cell's value as a message shows it: a whole number without '.0' (a workbook stores
+    every number as a float; a spreadsheet shows 500, not 500.0), in a group of cells too."""
+    if isinstance(value, dict):
+        return {k: _found(v) for k, v in value.items()}
+    if type(value) is float and value.is_integer() and abs(value) < 2**53:
+        return int(value)
+    return value
 
 
 def _shown(name: str) -> str:

@@ -175,26 +175,18 @@ def _still_holding(base: Collector, setting: dict, at: dict, sheets) -> list[str
     return [
         warning
         for warning, (sheet, row, column, cell) in zip(base.warnings, base.origins, strict=True)
-        if not ((sheet, row, column) in cells_set if cell else (sheet, row) in rows_checked)
+        if sheet != "cases"  # the cases sheet's own notes are the base reading's
+        and not ((sheet, row, column) in cells_set if cell else (sheet, row) in rows_checked)
     ]
 
 
-def _refresh_cables(sheet: columns.Typed, base: columns.Typed, at: np.ndarray) -> None:
-    """Cables the case looks at again take R and X from the tables afresh (where not given)."""
-    if not len(at):
-        return
-    from_tables = at[~sheet.filled["r_ohm_per_kft"][at] & ~sheet.filled["r_ohm_per_km"][at]]
-    if not len(from_tables):
-        return
+def _own_table_columns(sheet: columns.Typed, base: columns.Typed) -> None:
+    """The case's own copies of the columns the conductor-table rule writes (it takes R and X
+    afresh for every cable the case looks at again)."""
     for column in ("r_ohm_per_kft", "x_ohm_per_kft", "impedance_source"):
         if column in sheet.values and sheet.values[column] is base.values.get(column):
             values = base.values[column]
             sheet.values[column] = values.copy() if isinstance(values, np.ndarray) else list(values)
-    for i in from_tables.tolist():
-        for column in ("r_ohm_per_kft", "x_ohm_per_kft"):
-            if not sheet.filled[column][i]:
-                sheet.values[column][i] = np.nan
-        sheet.values["impedance_source"][i] = ""
 
 
 def read_cases(sheets: dict[str, columns.Typed], buses: Buses, settings, raw=None, base=None):
@@ -244,7 +236,8 @@ def read_cases(sheets: dict[str, columns.Typed], buses: Buses, settings, raw=Non
             row = int(table.rows[i])
             element = table.values["element"][i].strip()
             column = table.values["column"][i].strip().lower()
-            value = table.values["value"][i]
+            value = table.values["value"][i]  # as text
+            cell = table.raw_cell("value", i)  # as the sheet holds it (a percent format kept)
             spec, index, message = where.find(element, column)
             if spec is None:
                 problems.append(Problem("cases", row, "element", element, message))
@@ -256,7 +249,7 @@ def read_cases(sheets: dict[str, columns.Typed], buses: Buses, settings, raw=Non
                         Problem("cases", row, "value", value, "in_service takes yes or no")
                     )
                     continue
-                value = text  # the in_service column, set like any other
+                cell = text  # the in_service column, set like any other
             if column not in spec.names or column == spec.columns[0].name:
                 problems.append(
                     Problem(
@@ -270,7 +263,7 @@ def read_cases(sheets: dict[str, columns.Typed], buses: Buses, settings, raw=Non
                     )
                 )
                 continue
-            setting[(spec.name, index, column)] = value  # a cell set twice: the last row's
+            setting[(spec.name, index, column)] = cell  # a cell set twice: the last row's
         for (sheet_name, index, column), value in setting.items():
             spec = next(s for s in SHEETS if s.name == sheet_name)
             sheet = _copy_on_write(sheets, case_sheets, sheet_name)
@@ -300,7 +293,7 @@ def read_cases(sheets: dict[str, columns.Typed], buses: Buses, settings, raw=Non
             row = int(case_sheets[sheet_name].rows[i])
             (out.problem if problem else out.warn)(sheet_name, row, column_name, cell, message)
         if "cables" in at:
-            _refresh_cables(case_sheets["cables"], sheets["cables"], at["cables"])
+            _own_table_columns(case_sheets["cables"], sheets["cables"])
         merged = {**sheets, **case_sheets}
         case_buses = rules.check(merged, settings, out, at=at, buses=buses)
         if base is not None:

@@ -183,6 +183,8 @@ def _as_arrow(raw_cells):
     import pyarrow.compute as pc
 
     if is_arrow(raw_cells):
+        if raw_cells.type != pa.string():  # a loader's column of another type (all blank)
+            return pc.fill_null(raw_cells.cast(pa.string()), "")
         return raw_cells
     if not set(map(type, raw_cells)) <= TEXT_TYPES:
         return None

@@ -105,6 +105,8 @@ def header_names(name: str, header_cells: list[Any], problems: list[Problem]) ->
     headers: list[str] = []
     seen: dict[str, int] = {}
     for position, cell in enumerate(header_cells, start=1):
+        if type(cell) is float and cell.is_integer():
+            cell = int(cell)  # a number typed as a header: 5, not 5.0
         text = "" if is_blank(cell) else str(cell).strip().lower()
         if text and text in seen:
             problems.append(

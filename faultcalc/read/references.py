@@ -135,7 +135,8 @@ def references(
                 values[i] = match
                 positions[i] = buses.index[match]
                 how = names.collision(match, value).removeprefix("names are matched ")
-                out.warn(name, int(sheet.rows[i]), column, value, f"matched bus {match!r} {how}")
+                message = f"matched bus {match!r} {how}"  # about the cell's own text
+                out.warn(name, int(sheet.rows[i]), column, value, message, cell=True)
                 continue
             suggestion = _suggestion(value, buses) if len(out.problems) < MAX_SUGGESTIONS else ""
             out.problem(

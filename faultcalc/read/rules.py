@@ -248,6 +248,12 @@ def cables_from_tables(sheet: Typed, settings, buses: Buses, out: Collector, at)
     """R and X from the conductor tables where the user left both blank."""
     v, f = sheet.values, sheet.filled
     source = v.setdefault("impedance_source", [""] * sheet.n)
+    for i in (i for i in at.tolist() if source[i]) if any(source) else ():
+        # from the tables before (a case looks at the row again): taken afresh, or not at all
+        for column in ("r_ohm_per_kft", "x_ohm_per_kft"):
+            if not f[column][i]:
+                v[column][i] = np.nan
+        source[i] = ""
     at = _ok(sheet, at)
     need = at[~f["r_ohm_per_kft"][at] & ~f["r_ohm_per_km"][at]]
     if not len(need):

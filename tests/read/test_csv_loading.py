@@ -19,9 +19,10 @@ from conftest import without_origin, write_csv_folder, write_xlsx
 from networks import random_sheets
 from test_fuzz import _mutate, as_rows
 
-from faultcalc import read_system, sample_path
+from faultcalc import InputError, read_system, sample_path
 from faultcalc.read import csvload
 from faultcalc.read.raw import is_blank
+from faultcalc.read.reader import read_tables
 from faultcalc.read.tables import load_input
 
 
@@ -56,6 +57,15 @@ def _with_csv_module(monkeypatch, folder):
     with monkeypatch.context() as m:
         m.setattr(csvload, "_with_arrow", lambda *args: None)
         return load_input(folder)
+
+
+def _outcome(raw) -> tuple:
+    """("system", System, warnings) or ("problems", their text, warnings) of a raw input."""
+    try:
+        system = read_tables(raw)
+    except InputError as exc:
+        return ("problems", [str(p) for p in exc.problems], exc.warnings)
+    return ("system", system, system.warnings)
 
 
 def _same_cells(one, two) -> None:
@@ -125,7 +135,7 @@ def test_mutated_files_give_the_same_cells_with_either_parser(tmp_path, monkeypa
         )
         bases.append(as_rows(load_input(write_csv_folder(tmp_path / f"net{seed}", sheets))))
     rng = random.Random(11)
-    by_arrow = 0
+    by_arrow = studied = 0
     for i in range(400):
         raw = copy.deepcopy(bases[i % len(bases)])
         for _ in range(rng.randint(1, 2)):
@@ -137,16 +147,21 @@ def test_mutated_files_give_the_same_cells_with_either_parser(tmp_path, monkeypa
         folder = write_csv_folder(tmp_path / f"m{i}", sheets)
         text = (folder / "buses.csv").read_bytes() if (folder / "buses.csv").exists() else b""
         by_arrow += csvload._with_arrow("buses", text, []) is not None
-        _same_cells(load_input(folder), _with_csv_module(monkeypatch, folder))
-    print(f"400 mutations: buses.csv parsed by Arrow in {by_arrow}")
-    assert by_arrow > 100
+        arrow, module = load_input(folder), _with_csv_module(monkeypatch, folder)
+        _same_cells(arrow, module)
+        # and the same System, warnings and problems (Arrow columns and lists typed alike)
+        one, two = _outcome(arrow), _outcome(module)
+        assert one == two, f"mutation {i}"
+        studied += one[0] == "system"
+    print(f"400 mutations: buses.csv parsed by Arrow in {by_arrow}, {studied} read")
+    assert by_arrow > 100 and studied > 40
 
 
 @pytest.mark.parametrize(
     "file, change, note",
     [
         ("buses", lambda t: t.replace("\n", "\n\n", 2), None),  # a blank line
-        ("buses", lambda t: t.replace("\n", "\r", 1), None),  # an old line ending
+        ("buses", lambda t: t.replace("\r\n", "\r", 1), None),  # an old (lone CR) line end
         ("buses", lambda t: t.replace(",13.8", ",13.8 kV", 1), "unit 'kV' after the number"),
         ("transformers", lambda t: t.replace(",1500.0,", ',"1,500.0",', 1), "thousands separator"),
     ],
