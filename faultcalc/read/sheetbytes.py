@@ -226,8 +226,10 @@ def prepare(data: bytes, max_rows: int, max_columns: int, spread_per_cell: int) 
         raise Irregular("not a worksheet in the main namespace")
     body = data.find(b">", opening) + 1
     closing = body if data[body - 2 : body - 1] == b"/" else data.rfind(b"</sheetData>")
-    if closing < body or _prefixed(a, lt, gt, body, closing):
-        raise Irregular("a namespace prefix in the sheet data")
+    # from the start: the compiled reader matches names without their prefix and reads the
+    # first <x:sheetData> it meets, even one before this one
+    if closing < body or _prefixed(a, lt, gt, 0, closing):
+        raise Irregular("a namespace prefix in the sheet data or before it")
     g = Grid(tags, body, closing)
     rows, cells = tags.named(b"row"), tags.named(b"c")
     if (rows.size and (rows[0] < body or rows[-1] >= closing)) or (
@@ -349,20 +351,22 @@ def scan_sheet(
     return scan(prepare(data, max_rows, max_columns, spread_per_cell), formats)
 
 
-def _prefixed(a, lt, gt, body, closing) -> bool:
-    """Whether a tag of the sheet data has a prefixed name (a colon before its first
-    delimiter); prefixed attributes (xml:space, x14ac:dyDescent) are fine."""
-    colons = np.flatnonzero(a[body:closing] == 58) + body
-    opened = lt[np.maximum(np.searchsorted(lt, colons) - 1, 0)]
-    shut = gt[np.maximum(np.searchsorted(gt, colons) - 1, 0)]
-    in_tag = (opened > shut) & (opened >= body)
+def _prefixed(a, lt, gt, start, end) -> bool:
+    """Whether a tag between ``start`` and ``end`` has a prefixed name (a colon before its
+    first delimiter), or a name longer than any the format has; prefixed attributes
+    (xml:space, x14ac:dyDescent) are fine."""
+    colons = np.flatnonzero(a[start:end] == 58) + start
+    k, j = np.searchsorted(lt, colons) - 1, np.searchsorted(gt, colons) - 1
+    opened = np.where(k >= 0, lt[np.maximum(k, 0)], -1)
+    shut = np.where(j >= 0, gt[np.maximum(j, 0)], -1)
+    in_tag = (opened > shut) & (opened >= start)
     colons, opened = colons[in_tag], opened[in_tag]
     if not len(colons):
         return False
-    span = colons - opened
-    reach = np.arange(1, 1 + int(span.max()))
-    window = a[opened[:, None] + reach]
-    return bool((~(_DELIM[window] & (reach < span[:, None])).any(axis=1)).any())
+    reach = np.arange(1, 1 + len(_PAD))  # the window stays in the padded array
+    window = _windows(a, opened + 1, len(_PAD))
+    named = _DELIM[window] & (reach < (colons - opened)[:, None])
+    return bool((~named.any(axis=1)).any())
 
 
 def _attributes(a, body, closing, cells, tag_end, styles_known):

@@ -200,6 +200,21 @@ def test_a_stray_cell_far_away_is_read_quickly(tmp_path):
     assert read_system(path).buses == read_system(SAMPLE).buses
 
 
+def test_a_long_attribute_full_of_colons_is_read(tmp_path):
+    # An attribute no reader uses, holding 250,000 colons in 1 MB (random letters between
+    # them, so that the part is not refused as a bomb): the light pass looked at every colon
+    # as far as the tag's start and asked for 1.8 TiB (a MemoryError, not a message).
+    rng = random.Random(3)
+    note = "".join(":" + "".join(rng.choices("abcdefgh", k=3)) for _ in range(250_000))
+    buses = sheet_parts()["buses"]
+
+    def noted(data: bytes) -> bytes:
+        return data.replace(b'<c r="A2"', f'<c r="A2" note="{note}"'.encode(), 1)
+
+    path = build(tmp_path / "colons.xlsx", change={buses: noted})
+    assert read_system(path).buses == read_system(SAMPLE).buses
+
+
 def test_cells_spread_over_the_grid_are_refused(tmp_path):
     rows = "".join(f'<row r="{r}"><c r="XFD{r}"><v>1</v></c></row>' for r in range(100, 5100))
     path = build(tmp_path / "spread.xlsx", change={sheet_parts()["cases"]: in_sheet(rows)})

@@ -384,6 +384,25 @@ def test_calamine_is_not_given_a_sheet_it_would_fill_to_the_last_cell(tmp_path, 
     assert "buses" not in given and "cables" in given
 
 
+def test_calamine_is_not_given_a_sheet_with_a_prefixed_sheet_data_first(tmp_path, monkeypatch):
+    # calamine matches element names without their prefix and reads the first sheetData it
+    # meets: an empty <x:sheetData/> (the main namespace under a prefix) before the real one
+    # gave it no cells, and one holding a cell at XFD1048576 made it fill 17e9 positions. Such
+    # a sheet goes to the careful reader, which reads both as XML says.
+    def prefixed(data: bytes) -> bytes:
+        data = data.replace(b"<worksheet ", f'<worksheet xmlns:x="{MAIN}" '.encode(), 1)
+        return data.replace(b"<sheetData>", b"<x:sheetData/><sheetData>", 1)
+
+    path = _sheet_changed(tmp_path, prefixed)
+    expected = read_system(SAMPLES / "plant_480v.xlsx").buses
+    given: list[str] = []
+    real = xlsx._Calamine.submit
+    monkeypatch.setattr(xlsx._Calamine, "submit", lambda self, n: (given.append(n), real(self, n)))
+    scanned = _expat_scans(monkeypatch)
+    assert read_system(path).buses == expected
+    assert "buses" not in given and "cables" in given and scanned == ["buses"]
+
+
 def test_element_counts_are_expat_counts(tmp_path):
     # The light pass counts elements as expat does (the element budget is spent alike).
     from xml.parsers import expat
