@@ -48,6 +48,7 @@ _SPACE[list(b" \t\r\n")] = True
 # shared text with spaces at an end and no xml:space="preserve": the compiled reader trims it
 _TRIMMED = re.compile(rb"<t>(?:\s+[^\s<]|[^<]*[^\s<]\s+</t>)")
 _ESCAPE = re.compile(rb"_x[0-9A-Fa-f]{4}_")  # read as a character by one reader, not the other
+_UNIQUE_COUNT = re.compile(rb'uniqueCount="(\d{1,9})"')  # strings the compiled reader reserves
 _HIDDEN = re.compile(rb'\shidden="([^"]*)"')
 _COLUMN_TAG = re.compile(rb"<col[\s/>]")
 _COLUMN = re.compile(rb"<col\s([^>]*?)/?>")
@@ -101,9 +102,10 @@ def element_count(data: bytes) -> int:
 
 
 def scan_strings(data: bytes) -> tuple[int, bool]:
-    """A shared-strings part: its XML elements, and whether the compiled reader reads its
-    text as openpyxl does (the root in the main namespace, no prefixed tag, no text with
-    white space at an end and no xml:space, no _xHHHH_ escape); Irregular as element_count."""
+    """A shared-strings part: its XML elements, and whether the compiled reader reads it as
+    openpyxl does, and safely (the root in the main namespace, no prefixed tag, no text with
+    white space at an end and no xml:space, no _xHHHH_ escape, a stated count of strings no
+    larger than the part); Irregular as element_count."""
     tags = _Tags(data)
     if not data.rstrip().endswith(b"</sst>"):
         raise Irregular("not closed")
@@ -112,8 +114,22 @@ def scan_strings(data: bytes) -> tuple[int, bool]:
         and not _prefixed(tags.a, tags.lt, tags.gt, 0, len(data))
         and _TRIMMED.search(data) is None
         and _ESCAPE.search(data) is None
+        and _counted(data, tags.elements)
     )
     return tags.elements, faithful
+
+
+def _counted(data: bytes, elements: int) -> bool:
+    """Whether every uniqueCount in the part is a plain number of at most ``elements``: the
+    compiled reader reserves room for that many strings before it reads one (4e9 asked for
+    96 GB and ended the process)."""
+    at = data.find(b"uniqueCount")
+    while at >= 0:
+        m = _UNIQUE_COUNT.match(data, at)
+        if m is None or int(m.group(1)) > elements:
+            return False
+        at = data.find(b"uniqueCount", at + 1)
+    return True
 
 
 def _key(text: bytes) -> np.uint64:

@@ -18,7 +18,7 @@ from pathlib import Path
 import pytest
 
 from faultcalc import InputError, read_system
-from faultcalc.read import tables
+from faultcalc.read import tables, xlsx
 from faultcalc.read.cells import FORMULA_MESSAGE
 from tests.conftest import REPO
 
@@ -125,6 +125,30 @@ def test_dense_small_elements_are_bounded(tmp_path):
         worst = max(i.file_size / i.compress_size for i in z.infolist() if i.compress_size)
     assert worst < tables.MAX_COMPRESSION_RATIO  # the element bound refuses it, not the ratio
     assert "XML elements" in refusal(path)
+
+
+@pytest.mark.parametrize("count, compiled", [("1", True), ("4000000000", False)])
+def test_a_count_of_strings_beyond_the_part_is_not_given_to_calamine(
+    tmp_path, monkeypatch, count, compiled
+):
+    # calamine reserves room for the shared strings' stated uniqueCount before it reads one:
+    # 4e9 asked for 96 GB and ended the process. Such a workbook is read the careful way.
+    strings = f'<sst xmlns="{MAIN}" count="1" uniqueCount="{count}"><si><t>x</t></si></sst>'
+    path = build(tmp_path / "count.xlsx", strings=strings.encode())
+    expected = read_system(SAMPLE).buses
+    opened: list[bool] = []
+    real = xlsx._Calamine
+
+    class Calamine(real):
+        def __init__(self, data):
+            opened.append(True)
+            if not compiled:
+                raise AssertionError("calamine was given the workbook")
+            super().__init__(data)
+
+    monkeypatch.setattr(xlsx, "_Calamine", Calamine)
+    assert read_system(path).buses == expected
+    assert opened == ([True] if compiled else [])
 
 
 # --- malformed XML: the part is named, in small and large workbooks alike --------------------
