@@ -31,7 +31,19 @@ from openpyxl.worksheet.cell_range import CellRange
 
 from . import xlsxparts
 from .sheetgrid import Grid, bound, rules
-from .xmltags import MAIN, Irregular, Tags, digits, element_count, inside, owners, windows
+from .xmltags import (
+    MAIN,
+    Irregular,
+    Tags,
+    digits,
+    element_count,
+    inside,
+    key,
+    mask,
+    owners,
+    windows,
+    words,
+)
 
 __all__ = ["MAIN", "Formats", "Grid", "Irregular", "SheetBytes", "bound", "element_count"]
 __all__ += ["prepare", "rules", "scan", "scan_sheet", "scan_strings"]
@@ -63,6 +75,7 @@ _FORMULA_ATTRIBUTE = re.compile(rb'\s(t|si)="([^"]*)"')
 # boolean, error, ISO date, inline string
 NUMBER, SHARED, STR, BOOL, ERROR, DATE, INLINE = range(7)
 _TYPES = {b'n"': NUMBER, b's"': SHARED, b'str"': STR, b'b"': BOOL, b'e"': ERROR, b'd"': DATE}
+_TYPE_LENGTH = np.array([1, 1, 3, 1, 1, 1, 9])  # of each type's value (inlineStr: 9)
 
 
 @dataclass
@@ -153,7 +166,7 @@ def scan(g: Grid, formats: Formats) -> SheetBytes:
     cells, cell_rows, column = g.cells, g.cell_rows, g.columns
     cell_tag_end = tags.ends(g.cell_index)
     cell_of = _cell_of(g)
-    kinds, styles = _attributes(a, body, closing, cells, cell_tag_end, len(formats.redo))
+    kinds, styles = _attributes(g, cell_tag_end, len(formats.redo))
     numeric = kinds == NUMBER
     redo = (numeric & formats.redo[styles]) | (kinds == ERROR) | (kinds == DATE)
     odd, valued = _odd_values(tags, g.span, cell_of)
@@ -202,8 +215,81 @@ def _owners(cell_of: np.ndarray, index: np.ndarray) -> np.ndarray:
     return k[k >= 0]
 
 
-def _attributes(a, body, closing, cells, tag_end, styles_known):
+def _attributes(g: Grid, tag_end: np.ndarray, styles_known: int):
     """Type and style of every cell, from its t and s attributes."""
+    found = _attributes_in_place(g, tag_end, styles_known)
+    if found is not None:
+        return found
+    return _attributes_anywhere(g.tags.a, g.body, g.closing, g.cells, tag_end, styles_known)
+
+
+def _type_codes(words: np.ndarray, a: np.ndarray, at: np.ndarray) -> np.ndarray:
+    """The cell type whose value (t="...") begins at each of ``at``; Irregular for another."""
+    key = words[at]  # the value's first 8 bytes
+    code = np.full(len(at), -1, dtype=np.int8)
+    for text, kind in _TYPES.items():
+        mask = (1 << (8 * len(text))) - 1
+        code[(key & np.uint64(mask)) == np.uint64(int.from_bytes(text, "little"))] = kind
+    inline = key == np.uint64(int.from_bytes(b"inlineSt", "little"))
+    inline &= (a[at + 8] == ord("r")) & (a[at + 9] == ord('"'))
+    code[inline] = INLINE
+    if (code < 0).any():
+        raise Irregular("a cell type that is not one")
+    return code
+
+
+def _style_numbers(a: np.ndarray, at: np.ndarray, styles_known: int) -> np.ndarray:
+    """The cell style whose number (s="...") begins at each of ``at``; Irregular for another."""
+    values, ok = digits(a, at, 6, zero=True)
+    if not ok or (values >= styles_known).any():
+        raise Irregular("a style that is not one")
+    return values
+
+
+def _attributes_in_place(g: Grid, tag_end: np.ndarray, styles_known: int):
+    """Type and style of every cell as ``_attributes_anywhere`` finds them, when every cell
+    tag is <c r="A1"> followed by t and s attributes only (in either order, one space before
+    each, then > or />): read in place, attribute after attribute; None for a sheet whose cell
+    tags are in another form."""
+    tags, columns = g.tags, g.columns
+    a, words = tags.a, tags.words
+    # right after the reference's closing quote: its letters and its row's digits
+    at = g.cells + 6 + 1 + (columns > 26) + (columns > 702)
+    at += 2 + np.searchsorted(_POWERS, g.cell_rows, side="right")
+    kinds = np.zeros(len(at), dtype=np.int8)
+    styles = np.zeros(len(at), dtype=np.int64)
+    given = np.zeros((2, len(at)), dtype=bool)  # a t, an s attribute seen
+    left = np.arange(len(at))  # the cells whose tag goes on
+    for _ in range(3):
+        p = at[left]
+        w = words[p]  # the next 8 bytes of each
+        first = w & mask(1)
+        shut = (first == 62) | ((w & mask(2)) == key(b"/>"))
+        if (np.where(first == 62, p, p + 1)[shut] != tag_end[left[shut]]).any():
+            return None
+        left, p, w = left[~shut], p[~shut], w[~shut]
+        if not len(left):
+            return kinds, styles
+        head = w & mask(4)
+        typed, styled = head == key(b' t="'), head == key(b' s="')
+        if not (typed | styled).all():
+            return None
+        for row, chosen in ((0, typed), (1, styled)):
+            if given[row, left[chosen]].any():
+                raise Irregular("an attribute twice")
+            given[row, left[chosen]] = True
+        t, s = left[typed], left[styled]
+        code = _type_codes(words, a, p[typed] + 4)
+        kinds[t] = code
+        at[t] = p[typed] + 5 + _TYPE_LENGTH[code]
+        style = _style_numbers(a, p[styled] + 4, styles_known)
+        styles[s] = style
+        at[s] = p[styled] + 6 + np.searchsorted(_POWERS, style, side="right")
+    return None  # more than two attributes
+
+
+def _attributes_anywhere(a, body, closing, cells, tag_end, styles_known):
+    """Type and style of every cell, from its t and s attributes wherever in its tag."""
     equals = np.flatnonzero(a[body:closing] == 61) + body
     letter = a[equals - 1]
     equals = equals[
@@ -219,22 +305,9 @@ def _attributes(a, body, closing, cells, tag_end, styles_known):
         if (np.diff(held) == 0).any():  # owners rise with the positions
             raise Irregular("an attribute twice")
         if name == 115:
-            values, ok = digits(a, at + 2, 6, zero=True)
-            if not ok or (values >= styles_known).any():
-                raise Irregular("a style that is not one")
-            store[held] = values
-            continue
-        key = windows(a, at + 2, 8).view("<u8").ravel()  # the value's first 8 bytes
-        code = np.full(len(at), -1, dtype=np.int8)
-        for text, kind in _TYPES.items():
-            mask = (1 << (8 * len(text))) - 1
-            code[(key & np.uint64(mask)) == np.uint64(int.from_bytes(text, "little"))] = kind
-        inline = key == np.uint64(int.from_bytes(b"inlineSt", "little"))
-        inline &= (a[at + 10] == ord("r")) & (a[at + 11] == ord('"'))
-        code[inline] = INLINE
-        if (code < 0).any():
-            raise Irregular("a cell type that is not one")
-        store[held] = code
+            store[held] = _style_numbers(a, at + 2, styles_known)
+        else:
+            store[held] = _type_codes(words(a), a, at + 2)
     return kinds, styles
 
 
@@ -250,12 +323,15 @@ def _odd_values(tags: Tags, span: tuple[int, int], cell_of: np.ndarray):
     """Cells whose <v> text is not a number in the form both readers read alike, and the
     cells whose <v> holds a text."""
     a = tags.a
-    values = tags.lt[tags.find(b"v", span)]
-    plain = (a[values + 2] == 62) | ((a[values + 2] == 47) & (a[values + 3] == 62))
-    plain |= (a[values + 2] == 32) & (a[values + 3] == 47) & (a[values + 4] == 62)
-    if not plain.all():
+    index = tags.find(b"v", span)
+    values = tags.lt[index]
+    after = a[values + 2]
+    shut = (after == 47) & (a[values + 3] == 62)
+    shut |= (after == 32) & (a[values + 3] == 47) & (a[values + 4] == 62)
+    if not ((after == 62) | shut).all():
         raise Irregular("a value tag with attributes")
-    index, starts, ends = _text_spans(tags, b"<v>", span)
+    index = index[after == 62]  # <v>, followed by its text
+    starts, ends = values[after == 62] + 3, tags.lt[np.minimum(index + 1, len(tags.lt) - 1)]
     length = ends - starts
     kind = _CHARACTER[windows(a, starts, _SHORT)]  # 1 a digit, 16 a point, 64 anything else
     kind *= np.arange(_SHORT) < length[:, None]

@@ -1,6 +1,6 @@
 """Every tag of an XML part found at once with numpy: the primitives of the light pass.
 
-``Tags`` holds where each tag's '<' and '>' are and its first 8 bytes as one number, so that
+``Tags`` holds where each tag's '<' and '>' are, and the bytes from any place as numbers, so that
 ``sheetgrid.py`` and ``sheetbytes.py`` check a worksheet on whole arrays (no Python call per
 XML element). A tag is named by its index into ``Tags.lt`` (the tags in file order), a place in
 the part by its byte position. Anything not in the plain form these read raises ``Irregular``.
@@ -16,6 +16,15 @@ MAIN = b"http://schemas.openxmlformats.org/spreadsheetml/2006/main"
 PAD = b"\0" * 32  # so that a window read past the last byte stays in the array
 DELIM = np.zeros(256, dtype=bool)  # what may follow a tag's name
 DELIM[list(b" \t\r\n/>")] = True
+# bytes taken 8 at a time (``digits``)
+_EIGHT = np.uint64(8)
+_ONES = np.uint64(0x0101010101010101)
+_ZEROS = _ONES * np.uint64(48)  # '0' in every byte
+_HIGH = _ONES * np.uint64(128)
+_LOW7 = _ONES * np.uint64(127)
+_PAIRS = np.uint64(0x000000FF000000FF)
+_MUL1 = np.uint64(100 + (1_000_000 << 32))
+_MUL2 = np.uint64(1 + (10_000 << 32))
 
 
 class Irregular(Exception):
@@ -23,7 +32,7 @@ class Irregular(Exception):
 
 
 def key(text: bytes) -> np.uint64:
-    """Up to 8 bytes as the number ``Tags.key`` holds for a tag beginning with them."""
+    """Up to 8 bytes as the number ``Tags.words`` gives where they begin (the rest masked)."""
     return np.uint64(int.from_bytes(text, "little"))
 
 
@@ -33,7 +42,7 @@ def mask(length: int) -> np.uint64:
 
 class Tags:
     """Every tag of a part: where its '<' is and its second byte, at once; where its '>' is
-    and its first 8 bytes as one number, when first asked (``gt``, ``key``)."""
+    when first asked (``gt``). ``words`` gives the 8 bytes from any position as one number."""
 
     def __init__(self, data: bytes):
         n = len(data)
@@ -41,7 +50,7 @@ class Tags:
         padded = data + PAD
         self.a = a = np.frombuffer(padded, np.uint8)
         # the 8 bytes from each position as one little-endian number (a view, not a copy)
-        self.words = np.ndarray((n + 1,), "<u8", padded, 0, (1,))
+        self.words = words(self.a)
         self.lt = lt = np.flatnonzero(a[:n] == 60)
         self.second = second = a[lt + 1]
         if (second == 33).any():  # <!DOCTYPE, <!ENTITY, <!-- -->, <![CDATA[
@@ -50,8 +59,8 @@ class Tags:
         self.elements = len(lt) - self.closing - int((second == 63).sum())
 
     @functools.cached_property
-    def key(self) -> np.ndarray:
-        return self.words[self.lt]
+    def third(self) -> np.ndarray:
+        return self.a[self.lt + 2]
 
     @functools.cached_property
     def gt(self) -> np.ndarray:
@@ -79,22 +88,25 @@ class Tags:
         text = b"<" + name
         first, stop = span or (0, len(self.lt))
         hit = np.flatnonzero(self.second[first:stop] == text[1]) + first
-        words = self.words[self.lt[hit]]
-        if len(text) <= 8:
-            hit = hit[(words & mask(len(text))) == key(text)]
-        else:
-            hit = hit[words == key(text[:8])]
-            hit = hit[[self.data.startswith(text, p) for p in self.lt[hit].tolist()]]
-        return hit[DELIM[self.a[self.lt[hit] + len(text)]]]
+        at = self.lt[hit]
+        words = self.words[at]
+        if len(text) < 8:  # the byte after the name is in the same 8
+            after = (words >> np.uint64(8 * len(text))) & mask(1)
+            return hit[((words & mask(len(text))) == key(text)) & DELIM[after]]
+        at = at[words == key(text[:8])]
+        at = at[[self.data.startswith(text, p) for p in at.tolist()]]
+        return np.searchsorted(self.lt, at[DELIM[self.a[at + len(text)]]])
 
     def named(self, name: bytes) -> np.ndarray:
         """Positions of the start tags <name in the whole part."""
         return self.lt[self.find(name)]
 
     def exactly(self, text: bytes, span: tuple[int, int]) -> np.ndarray:
-        """Indices of the tags beginning with ``text`` (up to 8 bytes) in a span."""
+        """Indices of the tags beginning with ``text`` (3 to 8 bytes) in a span."""
         first, stop = span
-        return np.flatnonzero((self.key[first:stop] & mask(len(text))) == key(text)) + first
+        chosen = (self.second[first:stop] == text[1]) & (self.third[first:stop] == text[2])
+        hit = np.flatnonzero(chosen) + first
+        return hit[(self.words[self.lt[hit]] & mask(len(text))) == key(text)]
 
     def ends(self, index: np.ndarray) -> np.ndarray:
         """Position of the '>' that closes each tag of ``index``."""
@@ -133,20 +145,41 @@ def windows(a: np.ndarray, starts: np.ndarray, width: int) -> np.ndarray:
 
 
 def digits(a: np.ndarray, starts: np.ndarray, width: int, zero: bool = False):
-    """Decimal numbers of up to ``width`` digits at ``starts``, each closed by a quote: the
-    values and whether every one is so (no leading zero unless ``zero``)."""
-    values = np.zeros(len(starts), dtype=np.int64)
-    count = np.zeros(len(starts), dtype=np.int64)
-    alive = np.ones(len(starts), dtype=bool)
-    for j in range(width):
-        byte = a[starts + j]
-        alive &= (byte >= 48) & (byte <= 57)
-        values = np.where(alive, values * 10 + (byte.astype(np.int64) - 48), values)
-        count += alive
-    ok = (count >= 1) & ~alive & (a[starts + count] == 34)  # closed within the width
-    first = a[starts]
-    ok &= (first != 48) | (zero & (count == 1))
-    return values, bool(ok.all())
+    """Decimal numbers at ``starts``, each closed by a quote within ``width`` bytes (at most 8):
+    the values and whether every one is so (no leading zero unless ``zero``).
+
+    Each start's 8 bytes are read as one number and worked on whole (no loop over digits):
+    the digits end at the first byte that is not one; shifted to the top, after zeros, they
+    are the number's 8-digit form, read in three multiplications (the usual way of parsing 8
+    digits at once, as in D. Lemire's fast_float).
+    """
+    w = words(a)[starts]
+    x = w ^ _ZEROS  # each digit byte holds its digit's value, every other byte 10 or more
+    other = _at_least(x, 10)  # the high bit of each byte that is not a digit
+    first = other & (~other + np.uint64(1))  # the first of them, 0 if none
+    count = ((np.frexp(first.astype(np.float64))[1] - 8) // 8).astype(np.uint64)
+    count = np.where(first == 0, np.uint64(8), count)  # digits before it
+    shift = _EIGHT * np.minimum(count, np.uint64(7))
+    ok = (count >= 1) & (count < width) & (((w >> shift) & mask(1)) == 34)
+    ok &= ((w & mask(1)) != 48) | (zero & (count == 1))
+    number = (x & ((np.uint64(1) << shift) - np.uint64(1))) << (
+        _EIGHT * (_EIGHT - np.maximum(count, np.uint64(1)))
+    )
+    number = number * np.uint64(10) + (number >> _EIGHT)  # pairs of digits
+    number = ((number & _PAIRS) * _MUL1 + ((number >> np.uint64(16)) & _PAIRS) * _MUL2) >> (
+        np.uint64(32)
+    )
+    return number.astype(np.int64), bool(ok.all())
+
+
+def words(a: np.ndarray) -> np.ndarray:
+    """The 8 bytes from each position of a padded array as one little-endian number (a view)."""
+    return np.ndarray((len(a) - 7,), "<u8", a, 0, (1,))
+
+
+def _at_least(x: np.ndarray, n: int) -> np.ndarray:
+    """The high bit of each byte of ``x`` that is ``n`` (1 to 128) or more."""
+    return (((x & _LOW7) + _ONES * np.uint64(128 - n)) | x) & _HIGH
 
 
 def inside(starts: np.ndarray, ends: np.ndarray, points: np.ndarray) -> np.ndarray:

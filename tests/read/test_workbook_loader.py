@@ -248,6 +248,37 @@ def test_both_loaders_give_the_same_cells(tmp_path, no_expat_scan):
             assert not wrong, (path.name, name, wrong)
 
 
+@pytest.mark.parametrize(
+    "change",
+    [
+        lambda x: x,
+        lambda x: x.replace('<c r="B2" s="5">', '<c r="B2" s="5" t="n">'),
+        lambda x: x.replace('<c r="D3" t="e">', '<c r="D3" s="4" t="e">'),
+        lambda x: x.replace('<c r="C2" s="1">', '<c r="C2" t="n" s="1">'),
+        lambda x: x.replace('<c r="C6" s="1">', '<c r="C6" cm="1" s="1">'),  # another attribute
+    ],
+    ids=["as Excel writes", "s then t", "s then an error type", "t then s", "another attribute"],
+)
+def test_cell_types_and_styles_read_in_place_or_anywhere(tmp_path, no_expat_scan, change):
+    # A cell tag's t and s attributes are read in place after its reference when they are
+    # all it holds, else wherever they are in the tag: the same, and what openpyxl reads.
+    path = excel_like_book(tmp_path / "excel.xlsx", sheet=change(SHEET))
+    expected, found = reference(path)["buses"], loaded(path)["buses"]
+    assert found.keys() == expected.keys()
+    assert all(same(v, found[k]) for k, v in expected.items())
+    with zipfile.ZipFile(path) as archive:
+        grid = sheetbytes.prepare(archive.read("xl/worksheets/sheet1.xml"), 1_048_576, 16_384, 8)
+    tag_end = grid.tags.ends(grid.cell_index)
+    anywhere = sheetbytes._attributes_anywhere(
+        grid.tags.a, grid.body, grid.closing, grid.cells, tag_end, 6
+    )
+    in_place = sheetbytes._attributes_in_place(grid, tag_end, 6)
+    if "cm=" in change(SHEET):
+        assert in_place is None
+    else:
+        assert all((x == y).all() for x, y in zip(in_place, anywhere, strict=True))
+
+
 def test_the_excel_like_book_says_what_values_do_not(tmp_path, no_expat_scan):
     # What the sheet above holds, as its XML says: the merge, the hidden row 3 and column D.
     notes: list[str] = []
