@@ -183,6 +183,13 @@ def blank_cells(column) -> np.ndarray:
     if not column:
         return np.zeros(0, bool)
     n = len(column)
+    kinds = set(map(type, column))
+    if str not in kinds and type(None) not in kinds:  # numbers and other values: none blank
+        return np.zeros(n, bool)
+    if kinds == {str}:
+        array = pa.array(column, pa.string())
+        blank = pc.or_(pc.equal(array, ""), pc.utf8_is_space(array))
+        return blank.to_numpy(zero_copy_only=False).astype(bool)
     blank = np.fromiter(column, dtype=object, count=n) == None  # noqa: E711 - elementwise
     types = np.fromiter(map(type, column), dtype=object, count=n)
     text = np.flatnonzero(types == str)  # noqa: E721 - elementwise
