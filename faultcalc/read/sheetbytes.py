@@ -117,7 +117,7 @@ def scan_strings(data: bytes) -> tuple[int, bool]:
         raise Irregular("not closed")
     faithful = (
         _STRINGS_ROOT.search(data, 0, 4096) is not None
-        and not tags.prefixed(0, len(data))
+        and not tags.prefixed(len(data))
         and _TRIMMED.search(data) is None
         and _ESCAPE.search(data) is None
         and _counted(data, tags.elements)

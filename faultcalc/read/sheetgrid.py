@@ -66,7 +66,7 @@ def bound(data: bytes, max_rows: int, max_columns: int, spread_per_cell: int) ->
     closing = body if data[body - 2 : body - 1] == b"/" else data.rfind(b"</sheetData>")
     # from the start: the compiled reader matches names without their prefix and reads the
     # first <x:sheetData> it meets, even one before this one
-    if closing < body or tags.prefixed(0, closing):
+    if closing < body or tags.prefixed(closing):
         raise Irregular("a namespace prefix in the sheet data or before it")
     g = Grid(tags, body, closing, tags.span(body, closing))
     first, stop = g.span

@@ -9,6 +9,7 @@ the part by its byte position. Anything not in the plain form these read raises 
 from __future__ import annotations
 
 import functools
+import re
 
 import numpy as np
 
@@ -16,6 +17,7 @@ MAIN = b"http://schemas.openxmlformats.org/spreadsheetml/2006/main"
 PAD = b"\0" * 32  # so that a window read past the last byte stays in the array
 DELIM = np.zeros(256, dtype=bool)  # what may follow a tag's name
 DELIM[list(b" \t\r\n/>")] = True
+_NAME = re.compile(rb"[^ \t\r\n/>]*")  # a tag's name, up to its first delimiter
 # bytes taken 8 at a time (``digits``)
 _EIGHT = np.uint64(8)
 _ONES = np.uint64(0x0101010101010101)
@@ -114,21 +116,36 @@ class Tags:
             return self.gt[index]
         return self.gt[np.searchsorted(self.gt, self.lt[index])]
 
-    def prefixed(self, start: int, end: int) -> bool:
-        """Whether a tag beginning between ``start`` and ``end`` has a prefixed name (a colon
-        before the first delimiter after its '<': a colon in an attribute or a text has one
-        before it), or a name longer than any the format has; prefixed attributes (xml:space,
-        x14ac:dyDescent) are fine."""
-        a, lt = self.a, self.lt
-        colons = np.flatnonzero(a[start:end] == 58) + start
-        k = np.searchsorted(lt, colons) - 1
-        colons, opened = colons[k >= 0], lt[k[k >= 0]]
-        colons, opened = colons[opened >= start], opened[opened >= start]
+    def prefixed(self, end: int) -> bool:
+        """Whether a tag before byte ``end`` has a prefixed name: a colon with its tag's '<'
+        before it and no delimiter between (a colon in an attribute or a text has one:
+        x14ac:dyDescent, xml:space are fine). Each colon is looked at over the 32 bytes before
+        it; one with neither a '<' nor a delimiter there, from its tag's '<'."""
+        a = self.a
+        colons = np.flatnonzero(a[:end] == 58)
         if not len(colons):
             return False
-        reach = np.arange(1, 1 + len(PAD))  # the window stays in the padded array
-        named = DELIM[windows(a, opened + 1, len(PAD))] & (reach < (colons - opened)[:, None])
-        return bool((~named.any(axis=1)).any())
+        width = len(PAD)
+        window = windows(a, np.maximum(colons - width, 0), width)
+        opened, ended = window == 60, DELIM[window]
+        near = np.flatnonzero(colons < width)  # the window runs past the colon
+        if len(near):
+            past = np.arange(width) >= colons[near, None]
+            opened[near] &= ~past
+            ended[near] &= ~past
+        last = width - 1 - np.arange(width)  # the last '<' and delimiter in each window
+        last_open = np.where(opened.any(axis=1), last[opened[:, ::-1].argmax(axis=1)], -1)
+        last_end = np.where(ended.any(axis=1), last[ended[:, ::-1].argmax(axis=1)], -1)
+        if (last_open > last_end).any():
+            return True
+        far = colons[(last_open < 0) & (last_end < 0)]  # deep in a name or a text
+        k = np.searchsorted(self.lt, far) - 1
+        far, tag = far[k >= 0], self.lt[k[k >= 0]]
+        if not len(far):
+            return False
+        tags, which = np.unique(tag, return_inverse=True)
+        names = [_NAME.match(self.data, t + 1).end() for t in tags.tolist()]
+        return bool((far < np.array(names)[which]).any())
 
 
 def element_count(data: bytes) -> int:

@@ -56,3 +56,20 @@ def test_digits_of_every_row_number():
     values, ok = xmltags.digits(a, starts, 8)
     assert ok and (values == numbers).all()
     assert not xmltags.digits(a, starts, 7)[1]  # 1,000,000 on: 7 digits, not within 7 bytes
+
+
+def prefixed_plainly(data: bytes) -> bool:
+    """Whether a tag's name (after its '<', up to the first delimiter) holds a colon."""
+    return any(b":" in m.group(1) for m in re.finditer(rb"<([^ \t\r\n/>]*)", data))
+
+
+@settings(max_examples=300, deadline=None)
+@given(
+    pieces=st.lists(
+        st.sampled_from([b"<", b">", b":", b" ", b"/", b"a", b"x14ac", b'="1"', b"t" * 40])
+    )
+)
+def test_prefixed_names_found_as_python_finds_them(pieces):
+    # colons in names, attributes and texts, near the start and far from any '<' or delimiter
+    data = b"".join(pieces)
+    assert xmltags.Tags(data).prefixed(len(data)) == prefixed_plainly(data)
