@@ -216,7 +216,8 @@ def _styles(archive: zipfile.ZipFile) -> _Styles:
 
 
 class _Calamine(threading.Thread):
-    """python-calamine in a thread of its own: the sheets submitted, parsed in turn."""
+    """python-calamine in a thread of its own: the sheets submitted, parsed in turn (a sheet
+    dropped before its turn, or any left when the loader stops, is not parsed)."""
 
     def __init__(self, data: bytes):
         super().__init__(daemon=True)
@@ -224,6 +225,8 @@ class _Calamine(threading.Thread):
         self.jobs: SimpleQueue[str | None] = SimpleQueue()
         self.results: dict[str, Any] = {}
         self.ready: dict[str, threading.Event] = {}
+        self.dropped: set[str] = set()
+        self.stopping = False
 
     def submit(self, name: str) -> None:
         self.ready[name] = threading.Event()
@@ -239,6 +242,8 @@ class _Calamine(threading.Thread):
         except BaseException as exc:  # noqa: BLE001 - a Rust panic is a BaseException
             failure = exc
         while (name := self.jobs.get()) is not None:
+            if self.stopping or name in self.dropped:
+                continue
             try:
                 if failure is not None:
                     raise failure
@@ -259,7 +264,12 @@ class _Calamine(threading.Thread):
         self.ready[name].wait()
         return self.results.pop(name)
 
+    def drop(self, name: str) -> None:
+        """The sheet's values are not wanted (it is read the careful way)."""
+        self.dropped.add(name)
+
     def stop(self) -> None:
+        self.stopping = True  # only the sheet being parsed is waited for
         self.jobs.put(None)
         self.join()
 
@@ -317,6 +327,7 @@ class _Loader:
                         continue
                     except sheetbytes.Irregular:
                         del grids[facts.name]
+                        worker.drop(facts.name)
                         self.budget.left += grid.elements  # read again, by expat
                 self._settle(worker, tables, read[:k], build)
                 self._careful(facts, scanned_rels=facts.name in tried)
