@@ -334,6 +334,31 @@ def test_the_light_pass_finds_percent_formula_hidden_and_merged(tmp_path, no_exp
     assert any("hidden row 3" in n for n in notes)
 
 
+def test_an_empty_row_is_left_out_and_its_number_skipped(tmp_path, no_expat_scan):
+    # An empty row inside the buses table, then one holding only spaces (blank too), and a
+    # name cell of spaces in a row with values (read as blank: a located problem): every bus
+    # keeps its name and its spreadsheet row.
+    book = openpyxl.load_workbook(SAMPLES / "plant_480v.xlsx")
+    ws = book["buses"]
+    ws.insert_rows(4)
+    book.save(tmp_path / "gap.xlsx")
+    expected = [
+        (b.bus, b.row + (b.row >= 4)) for b in read_system(SAMPLES / "plant_480v.xlsx").buses
+    ]
+    assert [(b.bus, b.row) for b in read_system(tmp_path / "gap.xlsx").buses] == expected
+    ws["A4"] = "  "
+    book.save(tmp_path / "spaces.xlsx")
+    assert [(b.bus, b.row) for b in read_system(tmp_path / "spaces.xlsx").buses] == expected
+    ws["A5"] = "   "
+    book.save(tmp_path / "blank.xlsx")
+    with pytest.raises(InputError) as info:
+        read_system(tmp_path / "blank.xlsx")
+    assert any(
+        (p.sheet, p.row, p.column) == ("buses", 5, "bus") and "required" in p.message
+        for p in info.value.problems
+    )
+
+
 def test_a_hidden_sheet_is_noted(tmp_path, no_expat_scan):
     book = openpyxl.load_workbook(SAMPLES / "plant_480v.xlsx")
     book["machines"].sheet_state = "hidden"
