@@ -123,7 +123,7 @@ def type_sheet(spec: schema.Sheet, raw: RawSheet, out: Collector) -> Typed:
                 bad[:] = True
             continue
         typed, was_filled, found = type_column(
-            column, cells_, raw.blank.get(column.name), raw.controls
+            column, cells_, raw.blank.get(column.name), raw.controls, raw.text.get(column.name)
         )
         if isinstance(typed, _Texts):
             if typed.array is not None and column.kind in (schema.ID, schema.BUS_REF):
@@ -165,20 +165,22 @@ def _blank_column(column: schema.Column, n: int):
 
 
 def type_column(
-    column: schema.Column, raw_cells, blank=None, controls: bool = True
+    column: schema.Column, raw_cells, blank=None, controls: bool = True, text=None
 ) -> tuple[Any, np.ndarray, list]:
     """(typed values, filled, findings [(index, is problem, cell, message)]) of one column.
     ``blank``: which cells are blank, when the loader knows; ``controls`` False: the loader
-    found no control character other than tab and line ends."""
+    found no control character other than tab and line ends; ``text``: the cells as an Arrow
+    string array, when the loader made one (``RawSheet.text``)."""
     if column.kind in (schema.NUMBER, schema.INTEGER):
-        return _numbers(column, raw_cells, blank)
+        return _numbers(column, raw_cells, blank, text)
     if column.kind == schema.CHOICE:
-        return _choices(column, raw_cells, blank)
-    return _texts(column, raw_cells, controls)
+        return _choices(column, raw_cells, blank, text)
+    return _texts(column, raw_cells, controls, text)
 
 
-def _as_arrow(raw_cells):
-    """An Arrow string array of a column that holds only text (None as ''), else None."""
+def _as_arrow(raw_cells, text=None):
+    """An Arrow string array of a column that holds only text (None as ''), else None
+    (``text``, the loader's, when it made one)."""
     import pyarrow as pa
     import pyarrow.compute as pc
 
@@ -186,6 +188,8 @@ def _as_arrow(raw_cells):
         if raw_cells.type != pa.string():  # a loader's column of another type (all blank)
             return pc.fill_null(raw_cells.cast(pa.string()), "")
         return raw_cells
+    if text is not None:
+        return text
     if not set(map(type, raw_cells)) <= TEXT_TYPES:
         return None
     return pc.fill_null(pa.array(raw_cells, pa.string()), "")
@@ -206,7 +210,7 @@ def _slow(column: schema.Column, raw_cells, at, typed, found) -> None:
         found.extend((i, False, cell, note) for note in notes)
 
 
-def _numbers(column: schema.Column, raw_cells, blank=None):
+def _numbers(column: schema.Column, raw_cells, blank=None, text=None):
     import pyarrow as pa
     import pyarrow.compute as pc
 
@@ -218,7 +222,7 @@ def _numbers(column: schema.Column, raw_cells, blank=None):
         blank = np.isnan(x)
         plain = ~blank
     else:
-        array = _as_arrow(raw_cells)
+        array = _as_arrow(raw_cells, text)
         if array is not None:
             blank = blank_cells(array) if blank is None else blank
             null = pa.scalar(None, pa.string())
@@ -248,11 +252,11 @@ def _numbers(column: schema.Column, raw_cells, blank=None):
     return x, ~blank, found
 
 
-def _choices(column: schema.Column, raw_cells, blank=None):
+def _choices(column: schema.Column, raw_cells, blank=None, text=None):
     import pyarrow.compute as pc
 
     found: list = []
-    array = _as_arrow(raw_cells)
+    array = _as_arrow(raw_cells, text)
     if array is None:  # not only text: cell by cell
         blank = blank_cells(raw_cells) if blank is None else blank
         typed: list = [column.default] * len(raw_cells)
@@ -291,14 +295,14 @@ class _Texts:
     array: Any  # the stripped Arrow array, when no cell needed the per-cell parser
 
 
-def _texts(column: schema.Column, raw_cells, controls: bool = True):
+def _texts(column: schema.Column, raw_cells, controls: bool = True, text=None):
     """Texts stripped (blank -> the default), a note for each one with spaces around it, a
     problem for each that is no valid name (or free text)."""
     import pyarrow.compute as pc
 
     found: list = []
     n = len(raw_cells)
-    array = _as_arrow(raw_cells)
+    array = _as_arrow(raw_cells, text)
     if array is None:  # numbers or other cells among the text: those cell by cell
         kinds = list(map(type, raw_cells))
         text_at = [i for i, t in enumerate(kinds) if t is str or t is type(None)]

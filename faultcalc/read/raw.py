@@ -43,6 +43,9 @@ class RawSheet:
     blank_header_columns: list[int] = field(default_factory=list)  # 1-based, data, no header
     blank: dict[str, np.ndarray] = field(default_factory=dict)  # header -> blank cells, if known
     controls: bool = True  # False: the loader found no control character but tab and line ends
+    # header -> its cells as an Arrow string array, when the loader made one (text only, none
+    # blank): the same cells, not converted again
+    text: dict[str, Any] = field(default_factory=dict)
 
     @property
     def n(self) -> int:
@@ -148,7 +151,8 @@ def sheet_from_grid(
         lines = [c if len(c) == width else [*c, *[None] * (width - len(c))] for c in lines]
     columns = list(map(list, zip(*lines, strict=True))) if lines else [[] for _ in range(width)]
     filled = np.zeros(len(data), bool)
-    blank_of = [blank_cells(column) for column in columns]
+    found = [_blank_and_text(column) for column in columns]
+    blank_of, text_of = [b for b, _ in found], [t for _, t in found]
     for blank in blank_of:
         filled |= ~blank
     blank_header_columns = sorted(
@@ -160,6 +164,7 @@ def sheet_from_grid(
     every = len(keep) == len(data)
     named: dict[str, list] = {}
     blank: dict[str, np.ndarray] = {}
+    text: dict[str, Any] = {}
     for position, header in enumerate(headers):
         if header and header not in named:
             column = columns[position]
@@ -168,23 +173,39 @@ def sheet_from_grid(
                 column[k] = None
             named[header] = column if every else [column[k] for k in keep.tolist()]
             blank[header] = empty[keep]
-    return RawSheet(
-        name, [h for h in headers if h], named, numbers[keep], blank_header_columns, blank
-    )
+            if every and text_of[position] is not None and not empty.any():
+                text[header] = text_of[position]
+    headers = [h for h in headers if h]
+    return RawSheet(name, headers, named, numbers[keep], blank_header_columns, blank, text=text)
 
 
 def blank_cells(column) -> np.ndarray:
     """Which cells of a column are blank (see ``is_blank``), for a list or an Arrow array."""
-    import pyarrow as pa
     import pyarrow.compute as pc
 
     if not isinstance(column, list):
         empty = pc.equal(column, "")
         spaces = pc.utf8_is_space(column)
         return pc.or_(empty, spaces).to_numpy(zero_copy_only=False).astype(bool)
+    return _blank_and_text(column)[0]
+
+
+def _blank_and_text(column: list):
+    """Which cells of a list are blank, and the list as an Arrow string array if it holds
+    text only (else None)."""
+    import pyarrow as pa
+    import pyarrow.compute as pc
+
     if not column:
-        return np.zeros(0, bool)
+        return np.zeros(0, bool), None
     n = len(column)
+    kinds = set(map(type, column))
+    if str not in kinds and type(None) not in kinds:  # numbers and other values: none blank
+        return np.zeros(n, bool), None
+    if kinds == {str}:
+        array = pa.array(column, pa.string())
+        blank = pc.or_(pc.equal(array, ""), pc.utf8_is_space(array))
+        return blank.to_numpy(zero_copy_only=False).astype(bool), array
     blank = np.fromiter(column, dtype=object, count=n) == None  # noqa: E711 - elementwise
     types = np.fromiter(map(type, column), dtype=object, count=n)
     text = np.flatnonzero(types == str)  # noqa: E721 - elementwise
@@ -193,4 +214,4 @@ def blank_cells(column) -> np.ndarray:
         array = pa.array(strings, pa.string())
         space = pc.or_(pc.equal(array, ""), pc.utf8_is_space(array))
         blank[text] |= space.to_numpy(zero_copy_only=False).astype(bool)
-    return blank
+    return blank, None

@@ -10,7 +10,9 @@ expressions, in the form every spreadsheet program writes: ``<row r="N" ...>`` a
 ``<c r="A1" ...>`` with the reference first, no comment, CDATA or document type, no namespace
 prefix in the sheet data, UTF-8.
 
-Anything else raises ``Irregular``: the loader then runs the expat scan
+The grid comes first (``sheetgrid.py``: ``bound``, what calamine must not be given a part
+without, then ``rules``), on the tags ``xmltags.py`` finds; ``scan`` then reads what the cells
+hold. Anything else raises ``Irregular``: the loader then runs the expat scan
 (``xlsxparts.scan_sheet``), whose messages are the careful reader's, and openpyxl for the values.
 What the pass cannot tell from bytes cheaply it hands over as cells whose value openpyxl's own
 cell parser gives (dates and other formats, error cells, inline text that the compiled reader
@@ -28,14 +30,25 @@ from openpyxl.utils.cell import get_column_letter
 from openpyxl.worksheet.cell_range import CellRange
 
 from . import xlsxparts
+from .sheetgrid import Grid, bound, rules
+from .xmltags import (
+    MAIN,
+    Irregular,
+    Tags,
+    digits,
+    element_count,
+    inside,
+    key,
+    mask,
+    owners,
+    windows,
+    words,
+)
 
-MAIN = b"http://schemas.openxmlformats.org/spreadsheetml/2006/main"
-_PAD = b"\0" * 32  # so that a window read past the last byte stays in the array
-_DELIM = np.zeros(256, dtype=bool)  # what may follow a tag's name
-_DELIM[list(b" \t\r\n/>")] = True
-_ROOT = re.compile(rb"<worksheet(?=[\s>])[^>]*?\sxmlns=\"" + re.escape(MAIN) + rb'"')
+__all__ = ["MAIN", "Formats", "Grid", "Irregular", "SheetBytes", "bound", "element_count"]
+__all__ += ["prepare", "rules", "scan", "scan_sheet", "scan_strings"]
+
 _STRINGS_ROOT = re.compile(rb"<sst(?=[\s>])[^>]*?\sxmlns=\"" + re.escape(MAIN) + rb'"')
-_ENCODING = re.compile(rb'^(?:\xef\xbb\xbf)?<\?xml[^>]*?\sencoding=["\']([^"\']*)')
 # a number both readers read alike (an optional sign, digits, a point, an exponent); any other
 # value text of a number cell is given by openpyxl's cell parser (a text, an error)
 _NUMBER = re.compile(rb"[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?")
@@ -48,7 +61,9 @@ _SPACE[list(b" \t\r\n")] = True
 # shared text with spaces at an end and no xml:space="preserve": the compiled reader trims it
 _TRIMMED = re.compile(rb"<t>(?:\s+[^\s<]|[^<]*[^\s<]\s+</t>)")
 _ESCAPE = re.compile(rb"_x[0-9A-Fa-f]{4}_")  # read as a character by one reader, not the other
+_UNIQUE_COUNT = re.compile(rb'uniqueCount="(\d{1,9})"')  # strings the compiled reader reserves
 _HIDDEN = re.compile(rb'\shidden="([^"]*)"')
+_POWERS = 10 ** np.arange(1, 8)  # where a row number gains a digit
 _COLUMN_TAG = re.compile(rb"<col[\s/>]")
 _COLUMN = re.compile(rb"<col\s([^>]*?)/?>")
 _ATTRIBUTE = re.compile(rb'([^\s=]+)="([^"]*)"')
@@ -60,10 +75,7 @@ _FORMULA_ATTRIBUTE = re.compile(rb'\s(t|si)="([^"]*)"')
 # boolean, error, ISO date, inline string
 NUMBER, SHARED, STR, BOOL, ERROR, DATE, INLINE = range(7)
 _TYPES = {b'n"': NUMBER, b's"': SHARED, b'str"': STR, b'b"': BOOL, b'e"': ERROR, b'd"': DATE}
-
-
-class Irregular(Exception):
-    """The part is not in the form this pass reads; ``str()`` says what it saw."""
+_TYPE_LENGTH = np.array([1, 1, 3, 1, 1, 1, 9])  # of each type's value (inlineStr: 9)
 
 
 @dataclass
@@ -94,209 +106,49 @@ class SheetBytes:
     valued: tuple[np.ndarray, np.ndarray] = (np.zeros(0, np.int64), np.zeros(0, np.int64))
 
 
-def element_count(data: bytes) -> int:
-    """XML elements of a part (start and empty tags); Irregular if it holds a declaration,
-    comment or CDATA section, or its tags do not pair."""
-    return _Tags(data).elements
-
-
 def scan_strings(data: bytes) -> tuple[int, bool]:
-    """A shared-strings part: its XML elements, and whether the compiled reader reads its
-    text as openpyxl does (the root in the main namespace, no prefixed tag, no text with
-    white space at an end and no xml:space, no _xHHHH_ escape); Irregular as element_count."""
-    tags = _Tags(data)
+    """A shared-strings part: its XML elements, and whether the compiled reader reads it as
+    openpyxl does, and safely (the root in the main namespace, no prefixed tag, no text with
+    white space at an end and no xml:space, no _xHHHH_ escape, a stated count of strings no
+    larger than the part); Irregular as element_count."""
+    tags = Tags(data)
+    tags.check_pairs()
     if not data.rstrip().endswith(b"</sst>"):
         raise Irregular("not closed")
     faithful = (
         _STRINGS_ROOT.search(data, 0, 4096) is not None
-        and not _prefixed(tags.a, tags.lt, tags.gt, 0, len(data))
+        and not tags.prefixed(len(data))
         and _TRIMMED.search(data) is None
         and _ESCAPE.search(data) is None
+        and _counted(data, tags.elements)
     )
     return tags.elements, faithful
 
 
-def _key(text: bytes) -> np.uint64:
-    return np.uint64(int.from_bytes(text, "little"))
-
-
-def _mask(length: int) -> np.uint64:
-    return np.uint64((1 << (8 * length)) - 1)
-
-
-class _Tags:
-    """Every tag of a part: where its '<' and '>' are, and its first 8 bytes as one number."""
-
-    def __init__(self, data: bytes):
-        n = len(data)
-        self.data = data
-        self.a = a = np.frombuffer(data + _PAD, np.uint8)
-        self.lt = np.flatnonzero(a[:n] == 60)
-        self.key = _windows(a, self.lt, 8).view("<u8").ravel()
-        second = self.key & _mask(2)
-        if (second == _key(b"<!")).any():  # <!DOCTYPE, <!ENTITY, <!-- -->, <![CDATA[
-            raise Irregular("a declaration, comment or CDATA section")
-        self.closing = int((second == _key(b"</")).sum())
-        self.elements = len(self.lt) - self.closing - int((second == _key(b"<?")).sum())
-        self.gt = np.flatnonzero(a[:n] == 62)
-        if self.elements - int((a[self.gt - 1] == 47).sum()) != self.closing:  # '/>' ends one
-            raise Irregular("tags that do not pair")
-
-    def named(self, name: bytes, start: int = 0, end: int | None = None) -> np.ndarray:
-        """Positions of the start tags <name (followed by white space, / or >) in a span."""
-        text = b"<" + name
-        if len(text) < 8:
-            hit = np.flatnonzero((self.key & _mask(len(text))) == _key(text))
-        else:
-            hit = np.flatnonzero(self.key == _key(text[:8]))
-            hit = hit[[self.data.startswith(text, p) for p in self.lt[hit].tolist()]]
-        found = self.lt[hit]
-        found = found[_DELIM[self.a[found + len(text)]]]
-        if start or end is not None:
-            found = found[(found >= start) & (found < (len(self.data) if end is None else end))]
-        return found
-
-    def exactly(self, text: bytes, start: int, end: int) -> np.ndarray:
-        """Indices (into lt) of the tags beginning with ``text`` (up to 8 bytes) in a span."""
-        hit = np.flatnonzero((self.key & _mask(len(text))) == _key(text))
-        return hit[(self.lt[hit] >= start) & (self.lt[hit] < end)]
-
-
-def _digits(a: np.ndarray, starts: np.ndarray, width: int, zero: bool = False):
-    """Decimal numbers of up to ``width`` digits at ``starts``, each closed by a quote: the
-    values and whether every one is so (no leading zero unless ``zero``)."""
-    values = np.zeros(len(starts), dtype=np.int64)
-    count = np.zeros(len(starts), dtype=np.int64)
-    alive = np.ones(len(starts), dtype=bool)
-    for j in range(width):
-        byte = a[starts + j]
-        alive &= (byte >= 48) & (byte <= 57)
-        values = np.where(alive, values * 10 + (byte.astype(np.int64) - 48), values)
-        count += alive
-    ok = (count >= 1) & ~alive & (a[starts + count] == 34)  # closed within the width
-    first = a[starts]
-    ok &= (first != 48) | (zero & (count == 1))
-    return values, bool(ok.all())
-
-
-def _inside(starts: np.ndarray, ends: np.ndarray, points: np.ndarray) -> np.ndarray:
-    """Index of the span [starts[k], ends[k]) holding each point, or -1."""
-    k = np.searchsorted(starts, points, side="right") - 1
-    held = (k >= 0) & (points < ends[np.maximum(k, 0)])
-    return np.where(held, k, -1)
-
-
-@dataclass
-class Grid:
-    """A worksheet part's tags and grid, checked: what the compiled reader may be given."""
-
-    tags: _Tags
-    body: int = 0  # the sheet data runs from body to closing
-    closing: int = 0
-    rows: np.ndarray | None = None  # row tags: position, number, end of the start tag
-    numbers: np.ndarray | None = None
-    row_tag_end: np.ndarray | None = None
-    cells: np.ndarray | None = None  # cell tags: position, row, column
-    cell_rows: np.ndarray | None = None
-    columns: np.ndarray | None = None
-
-    @property
-    def elements(self) -> int:
-        return self.tags.elements
+def _counted(data: bytes, elements: int) -> bool:
+    """Whether every uniqueCount in the part is a plain number of at most ``elements``: the
+    compiled reader reserves room for that many strings before it reads one (4e9 asked for
+    96 GB and ended the process)."""
+    at = data.find(b"uniqueCount")
+    while at >= 0:
+        m = _UNIQUE_COUNT.match(data, at)
+        if m is None or int(m.group(1)) > elements:
+            return False
+        at = data.find(b"uniqueCount", at + 1)
+    return True
 
 
 def prepare(data: bytes, max_rows: int, max_columns: int, spread_per_cell: int) -> Grid:
-    """The tags and the grid of one worksheet part; Irregular for anything not plain.
+    """The tags and the grid of one worksheet part (``sheetgrid.bound``, then
+    ``sheetgrid.rules``); Irregular for anything not plain.
 
     The grid rules are the expat scan's (``xlsxparts.scan_sheet``): rows in order within
     Excel's rows, cells in order within their row and column XFD, cells not spread over many
     more positions than there are cells (``spread_per_cell``). The compiled reader's dense
     grid, from the first cell to the last, is held to the same bound.
     """
-    tags = _Tags(data)
-    a, lt, gt = tags.a, tags.lt, tags.gt
-    declared = _ENCODING.match(data)
-    if declared and declared.group(1).lower() not in (b"utf-8", b"utf8"):
-        raise Irregular("an encoding other than UTF-8")
-    sheet_data = tags.named(b"sheetData")
-    if len(sheet_data) != 1:
-        raise Irregular("no single sheetData")
-    opening = int(sheet_data[0])
-    if not _ROOT.search(data, 0, opening) or not data.rstrip().endswith(b"</worksheet>"):
-        raise Irregular("not a worksheet in the main namespace")
-    body = data.find(b">", opening) + 1
-    closing = body if data[body - 2 : body - 1] == b"/" else data.rfind(b"</sheetData>")
-    if closing < body or _prefixed(a, lt, gt, body, closing):
-        raise Irregular("a namespace prefix in the sheet data")
-    g = Grid(tags, body, closing)
-    rows, cells = tags.named(b"row"), tags.named(b"c")
-    if (rows.size and (rows[0] < body or rows[-1] >= closing)) or (
-        cells.size and (cells[0] < body or cells[-1] >= closing)
-    ):
-        raise Irregular("a row or cell outside the sheet data")
-    if not len(rows):
-        if len(cells):
-            raise Irregular("a cell outside any row")
-        return g
-    # rows: <row r="N" ...> ... </row> or <row r="N" .../>, numbers rising within Excel's
-    if not (_windows(a, rows, 8).view("<u8").ravel() == _key(b'<row r="')).all():
-        raise Irregular("a row without its number first")
-    numbers, ok = _digits(a, rows + 8, 7)
-    if not ok or numbers[-1] > max_rows or (np.diff(numbers) <= 0).any():
-        raise Irregular("row numbers out of order or out of range")
-    row_tag_end = gt[np.searchsorted(gt, rows)]
-    open_rows = np.flatnonzero(a[row_tag_end - 1] != 47)
-    row_closes = lt[tags.exactly(b"</row>", body, closing)]
-    if len(row_closes) != len(open_rows):
-        raise Irregular("rows that do not close")
-    row_end = row_tag_end.copy()
-    row_end[open_rows] = row_closes
-    if (row_end[:-1] > rows[1:]).any() or (row_end < row_tag_end).any():
-        raise Irregular("rows inside rows")
-    g.rows, g.numbers, g.row_tag_end = rows, numbers, row_tag_end
-    if not len(cells):
-        return g
-    # cells: <c r="A1" ...>, the reference first, inside the row it names, columns rising
-    start = _windows(a, cells, 10)
-    if not ((start[:, :8].copy().view("<u8").ravel() & _mask(6)) == _key(b'<c r="')).all():
-        raise Irregular("a cell without its reference first")
-    letters = start[:, 6:10].astype(np.int64) - 64
-    upper = (letters >= 1) & (letters <= 26)
-    two, three = upper[:, 0] & upper[:, 1], upper[:, 0] & upper[:, 1] & upper[:, 2]
-    if not upper[:, 0].all() or (three & upper[:, 3]).any():
-        raise Irregular("a cell reference that is not one")
-    width = 1 + two + three
-    column = np.where(
-        three,
-        letters[:, 0] * 676 + letters[:, 1] * 26 + letters[:, 2],
-        np.where(two, letters[:, 0] * 26 + letters[:, 1], letters[:, 0]),
-    )
-    row_of = _inside(rows, row_end, cells)
-    if (row_of < 0).any():
-        raise Irregular("a cell outside any row")
-    # the digits of each cell's reference, and the quote after them, are its row's
-    size = 1 + np.floor(np.log10(numbers)).astype(np.int64)  # digits of each row number
-    keep = np.where(
-        size >= 7,
-        ~np.uint64(0),
-        (np.uint64(1) << (8 * (size + 1)).astype(np.uint64)) - np.uint64(1),
-    )
-    own = (_windows(a, rows + 8, 8).view("<u8").ravel() & keep)[row_of]
-    written = _windows(a, cells + 6 + width, 8).view("<u8").ravel() & keep[row_of]
-    if (written != own).any():
-        raise Irregular("a cell written inside another row")
-    cell_rows = numbers[row_of]
-    same_row = row_of[1:] == row_of[:-1]
-    if (same_row & (column[1:] <= column[:-1])).any() or column.max() > max_columns:
-        raise Irregular("cells out of order or beyond column XFD")
-    last = np.ones(len(cells), dtype=bool)
-    last[:-1] = ~same_row
-    bound = max_rows + spread_per_cell * len(cells)
-    area = (int(cell_rows.max() - cell_rows.min()) + 1) * (int(column.max() - column.min()) + 1)
-    if int(column[last].sum()) > bound or area > bound:
-        raise Irregular("cells spread over the grid")
-    g.cells, g.cell_rows, g.columns = cells, cell_rows, column
-    return g
+    grid = bound(data, max_rows, max_columns, spread_per_cell)
+    return rules(grid, max_rows, spread_per_cell)
 
 
 def scan(g: Grid, formats: Formats) -> SheetBytes:
@@ -312,21 +164,21 @@ def scan(g: Grid, formats: Formats) -> SheetBytes:
     if g.cells is None:
         return facts
     cells, cell_rows, column = g.cells, g.cell_rows, g.columns
-    cell_tag_end = tags.gt[np.searchsorted(tags.gt, cells)]
-    kinds, styles = _attributes(a, body, closing, cells, cell_tag_end, len(formats.redo))
+    cell_tag_end = tags.ends(g.cell_index)
+    cell_of = _cell_of(g)
+    kinds, styles = _attributes(g, cell_tag_end, len(formats.redo))
     numeric = kinds == NUMBER
     redo = (numeric & formats.redo[styles]) | (kinds == ERROR) | (kinds == DATE)
-    odd, valued = _odd_values(tags, body, closing, cells)
+    odd, valued = _odd_values(tags, g.span, cell_of)
     holds = np.zeros(len(cells), dtype=bool)
     holds[valued] = True
-    holds[_owners(tags.named(b"is", body, closing), cells)] = True
+    holds[_owners(cell_of, tags.find(b"is", g.span))] = True
     facts.valued = (cell_rows[holds], column[holds])
     if np.isin(kinds[odd], (SHARED, BOOL)).any():
         raise Irregular("a shared string or boolean cell whose value is not a number")
     redo[odd[kinds[odd] == NUMBER]] = True
-    redo[_trimmed_texts(tags, body, closing, cells)] = True
-    if data.find(b"_x", body, closing) >= 0:
-        redo[_hits(_ESCAPE, data, body, closing, cells)] = True
+    redo[_trimmed_texts(tags, g.span, cell_of)] = True
+    redo[_escapes(a, data, body, closing, cells)] = True
     percent = numeric & formats.percent[styles] & ~redo
     for k in np.flatnonzero(percent):
         facts.percent.append((int(cell_rows[k]), int(column[k])))
@@ -336,7 +188,7 @@ def scan(g: Grid, formats: Formats) -> SheetBytes:
         if data[end - 2] != 47:  # not <c .../>: up to its </c>
             end = data.find(b"</c>", end) + 4
         facts.redo.append((int(cell_rows[k]), int(column[k]), int(styles[k]), data[start:end]))
-    formulas = tags.named(b"f", body, closing)
+    formulas = tags.lt[tags.find(b"f", g.span)]
     if len(formulas):
         _formulas(data, formulas, cells, cell_tag_end, cell_rows, column, facts)
     return facts
@@ -349,109 +201,176 @@ def scan_sheet(
     return scan(prepare(data, max_rows, max_columns, spread_per_cell), formats)
 
 
-def _prefixed(a, lt, gt, body, closing) -> bool:
-    """Whether a tag of the sheet data has a prefixed name (a colon before its first
-    delimiter); prefixed attributes (xml:space, x14ac:dyDescent) are fine."""
-    colons = np.flatnonzero(a[body:closing] == 58) + body
-    opened = lt[np.maximum(np.searchsorted(lt, colons) - 1, 0)]
-    shut = gt[np.maximum(np.searchsorted(gt, colons) - 1, 0)]
-    in_tag = (opened > shut) & (opened >= body)
-    colons, opened = colons[in_tag], opened[in_tag]
-    if not len(colons):
-        return False
-    span = colons - opened
-    reach = np.arange(1, 1 + int(span.max()))
-    window = a[opened[:, None] + reach]
-    return bool((~(_DELIM[window] & (reach < span[:, None])).any(axis=1)).any())
+def _cell_of(g: Grid) -> np.ndarray:
+    """For every tag of the part, the index of the last cell beginning at or before it (-1
+    before the first)."""
+    starts = np.zeros(len(g.tags.lt), dtype=np.int32)
+    starts[g.cell_index] = 1
+    return np.cumsum(starts, dtype=np.int32) - 1
 
 
-def _attributes(a, body, closing, cells, tag_end, styles_known):
-    """Type and style of every cell, from its t and s attributes."""
-    equals = np.flatnonzero(a[body:closing] == 61) + body
-    named = (a[equals - 2] == 32) & (a[equals + 1] == 34)
-    kinds = np.zeros(len(cells), dtype=np.int8)
-    styles = np.zeros(len(cells), dtype=np.int64)
-    for letter, store in ((116, kinds), (115, styles)):  # t, s
-        at = equals[named & (a[equals - 1] == letter)]
-        owner = _inside(cells, tag_end + 1, at)
-        at, owner = at[owner >= 0], owner[owner >= 0]
-        if (np.diff(owner) == 0).any():  # owners rise with the positions
-            raise Irregular("an attribute twice")
-        if letter == 115:
-            values, ok = _digits(a, at + 2, 6, zero=True)
-            if not ok or (values >= styles_known).any():
-                raise Irregular("a style that is not one")
-            store[owner] = values
-            continue
-        key = _windows(a, at + 2, 8).view("<u8").ravel()  # the value's first 8 bytes
-        code = np.full(len(at), -1, dtype=np.int8)
-        for text, kind in _TYPES.items():
-            mask = (1 << (8 * len(text))) - 1
-            code[(key & np.uint64(mask)) == np.uint64(int.from_bytes(text, "little"))] = kind
-        inline = key == np.uint64(int.from_bytes(b"inlineSt", "little"))
-        inline &= (a[at + 10] == ord("r")) & (a[at + 11] == ord('"'))
-        code[inline] = INLINE
-        if (code < 0).any():
-            raise Irregular("a cell type that is not one")
-        store[owner] = code
-    return kinds, styles
-
-
-def _windows(a: np.ndarray, starts: np.ndarray, width: int) -> np.ndarray:
-    """The ``width`` bytes from each start, one row each (copied row by row, no index array)."""
-    return np.lib.stride_tricks.sliding_window_view(a, width)[starts]
-
-
-def _text_spans(tags: _Tags, opening: bytes, body: int, closing: int):
-    """Where the text after each tag ``opening`` (such as <v>) of the sheet data runs."""
-    index = tags.exactly(opening, body, closing)
-    return tags.lt[index] + len(opening), tags.lt[np.minimum(index + 1, len(tags.lt) - 1)]
-
-
-def _odd_values(tags: _Tags, body: int, closing: int, cells) -> np.ndarray:
-    """Cells whose <v> text is not a number in the form both readers read alike."""
-    a = tags.a
-    values = tags.named(b"v", body, closing)
-    plain = (a[values + 2] == 62) | ((a[values + 2] == 47) & (a[values + 3] == 62))
-    plain |= (a[values + 2] == 32) & (a[values + 3] == 47) & (a[values + 4] == 62)
-    if not plain.all():
-        raise Irregular("a value tag with attributes")
-    starts, ends = _text_spans(tags, b"<v>", body, closing)
-    length = ends - starts
-    kind = _CHARACTER[_windows(a, starts, _SHORT)]  # 1 a digit, 16 a point, 64 anything else
-    kind[np.arange(_SHORT) >= length[:, None]] = 0
-    total = kind.sum(axis=1, dtype=np.uint16)
-    digits, points = total % 16, (total // 16) % 4
-    simple = (length <= _SHORT) & (digits >= 1) & (total < 64) & (points <= 1)
-    odd = [
-        start
-        for start, end in zip(starts[~simple].tolist(), ends[~simple].tolist(), strict=True)
-        if _NUMBER.fullmatch(tags.data, start, end) is None
-    ]
-    return _owners(np.array(odd, dtype=np.int64), cells), _owners(starts[length > 0], cells)
-
-
-def _trimmed_texts(tags: _Tags, body: int, closing: int, cells) -> np.ndarray:
-    """Cells whose <t> text (no xml:space) has white space at an end: calamine trims it."""
-    a = tags.a
-    starts, ends = _text_spans(tags, b"<t>", body, closing)
-    keep = (ends > starts) & (_SPACE[a[starts]] | _SPACE[a[np.maximum(ends - 1, 0)]])
-    return _owners(starts[keep], cells)
-
-
-def _hits(pattern, data, body, closing, cells) -> np.ndarray:
-    """Indices of the cells holding a match of ``pattern``."""
-    found = [m.start() for m in pattern.finditer(data, body, closing)]
-    return _owners(np.array(found, dtype=np.int64), cells)
-
-
-def _owners(points: np.ndarray, cells: np.ndarray) -> np.ndarray:
-    """Index of the cell each point of the sheet data lies in (after its start)."""
-    k = np.searchsorted(cells, points, side="right") - 1
+def _owners(cell_of: np.ndarray, index: np.ndarray) -> np.ndarray:
+    """The cell each tag of ``index`` lies in (tags before the first cell dropped)."""
+    k = cell_of[index]
     return k[k >= 0]
 
 
+def _attributes(g: Grid, tag_end: np.ndarray, styles_known: int):
+    """Type and style of every cell, from its t and s attributes."""
+    found = _attributes_in_place(g, tag_end, styles_known)
+    if found is not None:
+        return found
+    return _attributes_anywhere(g.tags.a, g.body, g.closing, g.cells, tag_end, styles_known)
+
+
+def _type_codes(words: np.ndarray, a: np.ndarray, at: np.ndarray) -> np.ndarray:
+    """The cell type whose value (t="...") begins at each of ``at``; Irregular for another."""
+    key = words[at]  # the value's first 8 bytes
+    code = np.full(len(at), -1, dtype=np.int8)
+    for text, kind in _TYPES.items():
+        mask = (1 << (8 * len(text))) - 1
+        code[(key & np.uint64(mask)) == np.uint64(int.from_bytes(text, "little"))] = kind
+    inline = key == np.uint64(int.from_bytes(b"inlineSt", "little"))
+    inline &= (a[at + 8] == ord("r")) & (a[at + 9] == ord('"'))
+    code[inline] = INLINE
+    if (code < 0).any():
+        raise Irregular("a cell type that is not one")
+    return code
+
+
+def _style_numbers(a: np.ndarray, at: np.ndarray, styles_known: int) -> np.ndarray:
+    """The cell style whose number (s="...") begins at each of ``at``; Irregular for another."""
+    values, ok = digits(a, at, 6, zero=True)
+    if not ok or (values >= styles_known).any():
+        raise Irregular("a style that is not one")
+    return values
+
+
+def _attributes_in_place(g: Grid, tag_end: np.ndarray, styles_known: int):
+    """Type and style of every cell as ``_attributes_anywhere`` finds them, when every cell
+    tag is <c r="A1"> followed by t and s attributes only (in either order, one space before
+    each, then > or />): read in place, attribute after attribute; None for a sheet whose cell
+    tags are in another form."""
+    tags, columns = g.tags, g.columns
+    a, words = tags.a, tags.words
+    # right after the reference's closing quote: its letters and its row's digits
+    at = g.cells + 6 + 1 + (columns > 26) + (columns > 702)
+    at += 2 + np.searchsorted(_POWERS, g.cell_rows, side="right")
+    kinds = np.zeros(len(at), dtype=np.int8)
+    styles = np.zeros(len(at), dtype=np.int64)
+    given = np.zeros((2, len(at)), dtype=bool)  # a t, an s attribute seen
+    left = np.arange(len(at))  # the cells whose tag goes on
+    for _ in range(3):
+        p = at[left]
+        w = words[p]  # the next 8 bytes of each
+        first = w & mask(1)
+        shut = (first == 62) | ((w & mask(2)) == key(b"/>"))
+        if (np.where(first == 62, p, p + 1)[shut] != tag_end[left[shut]]).any():
+            return None
+        left, p, w = left[~shut], p[~shut], w[~shut]
+        if not len(left):
+            return kinds, styles
+        head = w & mask(4)
+        typed, styled = head == key(b' t="'), head == key(b' s="')
+        if not (typed | styled).all():
+            return None
+        for row, chosen in ((0, typed), (1, styled)):
+            if given[row, left[chosen]].any():
+                raise Irregular("an attribute twice")
+            given[row, left[chosen]] = True
+        t, s = left[typed], left[styled]
+        code = _type_codes(words, a, p[typed] + 4)
+        kinds[t] = code
+        at[t] = p[typed] + 5 + _TYPE_LENGTH[code]
+        style = _style_numbers(a, p[styled] + 4, styles_known)
+        styles[s] = style
+        at[s] = p[styled] + 6 + np.searchsorted(_POWERS, style, side="right")
+    return None  # more than two attributes
+
+
+def _attributes_anywhere(a, body, closing, cells, tag_end, styles_known):
+    """Type and style of every cell, from its t and s attributes wherever in its tag."""
+    equals = np.flatnonzero(a[body:closing] == 61) + body
+    letter = a[equals - 1]
+    equals = equals[
+        (a[equals - 2] == 32) & (a[equals + 1] == 34) & ((letter == 116) | (letter == 115))
+    ]
+    owner = inside(cells, tag_end + 1, equals)  # t (116) and s (115) at once
+    equals, owner = equals[owner >= 0], owner[owner >= 0]
+    kinds = np.zeros(len(cells), dtype=np.int8)
+    styles = np.zeros(len(cells), dtype=np.int64)
+    for name, store in ((116, kinds), (115, styles)):  # t, s
+        chosen = a[equals - 1] == name
+        at, held = equals[chosen], owner[chosen]
+        if (np.diff(held) == 0).any():  # owners rise with the positions
+            raise Irregular("an attribute twice")
+        if name == 115:
+            store[held] = _style_numbers(a, at + 2, styles_known)
+        else:
+            store[held] = _type_codes(words(a), a, at + 2)
+    return kinds, styles
+
+
+def _text_spans(tags: Tags, opening: bytes, span: tuple[int, int]):
+    """The tags ``opening`` (such as <v>) of the sheet data, and where the text after each
+    runs."""
+    index = tags.exactly(opening, span)
+    after = tags.lt[np.minimum(index + 1, len(tags.lt) - 1)]
+    return index, tags.lt[index] + len(opening), after
+
+
+def _odd_values(tags: Tags, span: tuple[int, int], cell_of: np.ndarray):
+    """Cells whose <v> text is not a number in the form both readers read alike, and the
+    cells whose <v> holds a text."""
+    a = tags.a
+    index = tags.find(b"v", span)
+    values = tags.lt[index]
+    after = a[values + 2]
+    shut = (after == 47) & (a[values + 3] == 62)
+    shut |= (after == 32) & (a[values + 3] == 47) & (a[values + 4] == 62)
+    if not ((after == 62) | shut).all():
+        raise Irregular("a value tag with attributes")
+    index = index[after == 62]  # <v>, followed by its text
+    starts, ends = values[after == 62] + 3, tags.lt[np.minimum(index + 1, len(tags.lt) - 1)]
+    length = ends - starts
+    kind = _CHARACTER[windows(a, starts, _SHORT)]  # 1 a digit, 16 a point, 64 anything else
+    kind *= np.arange(_SHORT) < length[:, None]
+    total = kind.sum(axis=1, dtype=np.uint16)
+    digit_count, points = total % 16, (total // 16) % 4
+    simple = (length <= _SHORT) & (digit_count >= 1) & (total < 64) & (points <= 1)
+    other = np.flatnonzero(~simple)
+    odd = [
+        k
+        for k, start, end in zip(
+            other.tolist(), starts[other].tolist(), ends[other].tolist(), strict=True
+        )
+        if _NUMBER.fullmatch(tags.data, start, end) is None
+    ]
+    return _owners(cell_of, index[odd]), _owners(cell_of, index[length > 0])
+
+
+def _trimmed_texts(tags: Tags, span: tuple[int, int], cell_of: np.ndarray) -> np.ndarray:
+    """Cells whose <t> text (no xml:space) has white space at an end: calamine trims it."""
+    a = tags.a
+    index, starts, ends = _text_spans(tags, b"<t>", span)
+    keep = (ends > starts) & (_SPACE[a[starts]] | _SPACE[a[np.maximum(ends - 1, 0)]])
+    return _owners(cell_of, index[keep])
+
+
+def _escapes(a, data, body, closing, cells) -> np.ndarray:
+    """Cells holding an _xHHHH_ escape (read as a character by one reader, not the other)."""
+    if data.find(b"_", body, closing) < 0:
+        return np.zeros(0, dtype=np.int64)
+    marks = np.flatnonzero(a[body:closing] == 95) + body
+    found = [p for p in marks[a[marks + 1] == 120].tolist() if _ESCAPE.match(data, p)]
+    return owners(np.array(found, dtype=np.int64), cells)
+
+
 def _hidden_rows(data, body, closing, rows, tag_end, numbers, facts) -> None:
+    # no row tag longer than <row r="N"/>: no row has a hidden attribute
+    size = 1 + np.searchsorted(_POWERS, numbers, side="right")  # digits of each row number
+    if ((tag_end - rows) <= size + 10).all():
+        return
     if data.find(b' hidden="', body, closing) < 0:
         return
     for m in _HIDDEN.finditer(data, body, closing):

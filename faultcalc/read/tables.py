@@ -13,7 +13,13 @@ from ..errors import InputError, Problem
 from . import sheetnames
 from .csvload import csv_files, load_folder
 from .marked import FormulaCell, PercentCell  # noqa: F401 - re-exported: tables.PercentCell
-from .raw import RawInput, RawSheet, is_blank, sheet_from_rows  # noqa: F401 - imported from here
+from .raw import (  # noqa: F401 - imported from here
+    RawInput,
+    RawSheet,
+    is_blank,
+    sheet_from_grid,
+    sheet_from_rows,
+)
 
 _sheet_from_rows = sheet_from_rows  # its former name
 
@@ -41,8 +47,18 @@ def _refuse(path: Path, message: str) -> InputError:
 def _load_workbook(path: Path, problems: list[Problem], notes: list[str]) -> dict[str, RawSheet]:
     from . import xlsx  # the workbook loader (it reads the bounds above)
 
-    rows = xlsx.load_workbook_rows(path, notes)
-    return {name: sheet_from_rows(name, cells or [], problems) for name, cells in rows.items()}
+    def build(name: str, table) -> tuple[RawSheet, list[Problem]]:
+        own: list[Problem] = []  # said in workbook order below, whatever order sheets load in
+        if table.header is None:
+            return sheet_from_rows(name, [], own), own
+        return sheet_from_grid(name, table.header, table.numbers, table.lines, own), own
+
+    sheets = {}
+    for name, built in xlsx.load_workbook(path, notes, build).items():
+        sheet, own = built or (sheet_from_rows(name, [], problems), [])
+        sheets[name] = sheet
+        problems.extend(own)
+    return sheets
 
 
 def input_sha256(path: Path) -> str:

@@ -7,14 +7,18 @@ The careful reader's checks stay, made cheap:
 1. the archive's bounds (unpacked size, compression ratio of every part), then the small parts
    by expat (``xlsxparts.open_book``: content types, workbook, relationships, styles,
    properties; located errors, no document type, the element budget); the shared strings by
-   a pass over their bytes (``sheetbytes.element_count``), by expat when that finds them in
-   another form;
-2. each sheet the tool reads, in workbook order: the light pass over its bytes
-   (``sheetbytes.scan_sheet``: element budget, grid regularity, merged and hidden cells,
-   formulas without a saved value, percent and other formats), then python-calamine parses it
-   in a second thread while the light pass moves on to the next sheet. calamine never sees a
-   sheet the light pass has not passed (its dense grid can exhaust the machine);
-3. a sheet the light pass finds in another form, or that calamine fails on, is read as before:
+   a pass over their bytes (``sheetbytes.scan_strings``), by expat when that finds them in
+   another form or stating more strings than they hold;
+2. each sheet the tool reads, in workbook order: what bounds calamine's dense grid, on the
+   sheet's bytes (``sheetgrid.bound``: the element budget, every cell's reference first and
+   within Excel's grid, the grid from the first cell to the last within the bound of the
+   expat scan; calamine never sees a sheet without it, since that grid can exhaust the
+   machine), then python-calamine parses it in a second thread while the rest of the light
+   pass runs (``sheetgrid.rules``, the other grid rules; ``sheetbytes.scan``: merged and hidden
+   cells, formulas without a saved value, percent and other formats), and each sheet calamine
+   gives back is laid out for the reader (``build``) while it parses the next;
+3. a sheet the light pass finds in another form, or that calamine fails on, is read as before
+   (calamine's result, if any, is not used):
    the expat scan (``xlsxparts.check_sheet_part``, its messages) and openpyxl's streaming
    reader for the values. So are all sheets when the shared strings hold text the two readers
    read differently, or the parts are not where calamine looks for them.
@@ -30,19 +34,18 @@ import contextlib
 import gc
 import io
 import re
-import threading
 import xml.etree.ElementTree as ET
 import zipfile
 import zlib
 from dataclasses import dataclass
 from pathlib import Path
-from queue import SimpleQueue
 from typing import Any
 
 import numpy as np
 
 from ..errors import InputError, Problem
-from . import sheetbytes, tables, xlsxparts
+from . import sheetbytes, sheetgrid, tables, xlsxparts
+from .compiled import Calamine as _Calamine
 from .marked import FormulaCell, PercentCell
 
 Rows = list[tuple[int, list[Any]]]
@@ -82,10 +85,43 @@ def check_workbook_bounds(path: Path, archive: zipfile.ZipFile) -> None:
             )
 
 
+@dataclass
+class Table:
+    """One sheet's cells: row 1's, then the rows below with their spreadsheet row numbers
+    (rows with no cell left out). ``header`` is None for a sheet with no row at all."""
+
+    header: list[Any] | None
+    numbers: np.ndarray  # int64, one per line
+    lines: list[list[Any]]
+
+    @classmethod
+    def of_rows(cls, rows: Rows) -> Table:
+        """From (row number, cells) with row 1 first."""
+        if not rows:
+            return cls(None, np.zeros(0, np.int64), [])
+        numbers = np.array([number for number, _ in rows[1:]], dtype=np.int64)
+        return cls(rows[0][1], numbers, [cells for _, cells in rows[1:]])
+
+    def rows(self) -> Rows:
+        if self.header is None:
+            return []
+        return [(1, self.header), *zip(self.numbers.tolist(), self.lines, strict=True)]
+
+
 def load_workbook_rows(path: str | Path, notes: list[str]) -> dict[str, Rows | None]:
     """Per sheet (name stripped, lower case, workbook order) its (spreadsheet row number, cell
     values) with row 1 first, or None for a sheet named but not read (the tool does not read
     it); what loading notices goes to ``notes``. InputError when the file cannot be read."""
+    return load_workbook(path, notes, lambda name, table: table.rows())
+
+
+def load_workbook(path: str | Path, notes: list[str], build) -> dict[str, Any]:
+    """Per sheet (name stripped, lower case, workbook order) ``build(name, table)`` of its
+    ``Table``, or None for a sheet named but not read (the tool does not read it); what
+    loading notices goes to ``notes``. InputError when the file cannot be read.
+
+    ``build`` runs as each sheet is loaded, while calamine parses the next.
+    """
     path = Path(path)
     data = path.read_bytes()
     try:
@@ -102,7 +138,7 @@ def load_workbook_rows(path: str | Path, notes: list[str]) -> dict[str, Rows | N
             book = xlsxparts.open_book(archive, tables.READ_SHEETS, budget, strings.check)
             loader = _Loader(path, data, archive, book, budget, strings.faithful)
             with _collector_paused():
-                return loader.run(notes)
+                return loader.run(notes, build)
         except xlsxparts.Refused as exc:
             raise refuse(path, f"cannot be read as an .xlsx workbook: {exc}") from None
 
@@ -178,52 +214,6 @@ def _styles(archive: zipfile.ZipFile) -> _Styles:
     return _Styles(sheetbytes.Formats(percent, redo), codes, set(dates), set(durations))
 
 
-class _Calamine(threading.Thread):
-    """python-calamine in a thread of its own: the sheets submitted, parsed in turn."""
-
-    def __init__(self, data: bytes):
-        super().__init__(daemon=True)
-        self.data = data
-        self.jobs: SimpleQueue[str | None] = SimpleQueue()
-        self.results: dict[str, Any] = {}
-        self.ready: dict[str, threading.Event] = {}
-
-    def submit(self, name: str) -> None:
-        self.ready[name] = threading.Event()
-        self.jobs.put(name)
-
-    def run(self) -> None:
-        book = failure = None
-        try:
-            from python_calamine import CalamineWorkbook
-
-            book = CalamineWorkbook.from_filelike(io.BytesIO(self.data))
-            names = book.sheet_names
-        except BaseException as exc:  # noqa: BLE001 - a Rust panic is a BaseException
-            failure = exc
-        while (name := self.jobs.get()) is not None:
-            try:
-                if failure is not None:
-                    raise failure
-                if names.count(name) != 1:
-                    raise LookupError(f"{names.count(name)} sheets named {name!r}")
-                sheet = book.get_sheet_by_name(name)
-                self.results[name] = (sheet.start, sheet.to_python())
-            except BaseException as exc:  # noqa: BLE001 - any failure: the careful reader
-                self.results[name] = exc
-            self.ready[name].set()
-        if book is not None:
-            book.close()
-
-    def result(self, name: str):
-        self.ready[name].wait()
-        return self.results.pop(name)
-
-    def stop(self) -> None:
-        self.jobs.put(None)
-        self.join()
-
-
 class _Loader:
     def __init__(self, path, data, archive, book: xlsxparts.Book, budget, faithful: bool):
         self.path, self.data, self.archive, self.book, self.budget = (
@@ -242,23 +232,23 @@ class _Loader:
         self.light: dict[str, sheetbytes.SheetBytes] = {}  # sheets calamine parses
         self.careful: list[xlsxparts.SheetFacts] = []  # sheets openpyxl reads
 
-    def run(self, notes: list[str]) -> dict[str, Rows | None]:
+    def run(self, notes: list[str], build) -> dict[str, Any]:
         read = [f for f in self.book.sheets if f.read]
         names = [f.name for f in self.book.sheets]
         worker = _Calamine(self.data) if self.calamine_reads and read else None
         if worker is not None:
             worker.start()
-        rows: dict[str, Rows] = {}
-        grids: dict[str, sheetbytes.Grid] = {}
+        tables: dict[str, Any] = {}
+        grids: dict[str, sheetgrid.Grid] = {}
         tried: set[str] = set()
         try:
-            # what calamine needs checked before it parses a sheet, the smallest sheets first
-            # (calamine parses them while the light pass checks the next, larger one)
-            for facts in sorted(read, key=lambda f: self.archive.getinfo(f.part).file_size):
+            # in workbook order, what bounds calamine's grid, each sheet given to calamine as
+            # soon as that has passed (the smaller part of the light pass)
+            for facts in read:
                 if worker is None or not facts.plain_target or names.count(facts.name) != 1:
                     continue
                 tried.add(facts.name)
-                grid = self._prepare(facts)
+                grid = self._bound(facts)
                 if grid is None:
                     continue
                 if grid.elements > self.budget.left:
@@ -266,40 +256,45 @@ class _Loader:
                 self.budget.left -= grid.elements
                 grids[facts.name] = grid
                 worker.submit(facts.name)
-            # in workbook order, the rest of the light pass while calamine parses
+            # in workbook order, the rest of the light pass while calamine parses; each
+            # sheet calamine has given back is taken in turn
             for k, facts in enumerate(read):
                 grid = grids.get(facts.name)
                 if grid is not None:
                     try:
                         self.light[facts.name] = self._scan(facts, grid)
+                        self._settle(worker, tables, read[: k + 1], build, wait=False)
                         continue
                     except sheetbytes.Irregular:
                         del grids[facts.name]
+                        worker.drop(facts.name)
                         self.budget.left += grid.elements  # read again, by expat
-                self._settle(worker, rows, read[:k])
+                self._settle(worker, tables, read[:k], build)
                 self._careful(facts, scanned_rels=facts.name in tried)
-            self._settle(worker, rows, read)
+            self._settle(worker, tables, read, build)
         finally:
             if worker is not None:
                 worker.stop()
-        rows.update(self._openpyxl_rows())
-        sheets: dict[str, Rows | None] = {}
+        for name, rows in self._openpyxl_rows().items():
+            tables[name] = build(name.strip().lower(), Table.of_rows(rows))
+        sheets: dict[str, Any] = {}
         for facts in self.book.sheets:
             name = facts.name.strip().lower()
             if not facts.read:
                 sheets[name] = None
                 continue
             _notes(name, facts, notes)
-            sheets[name] = rows[facts.name]
+            sheets[name] = tables[facts.name]
         return sheets
 
-    def _prepare(self, facts: xlsxparts.SheetFacts) -> sheetbytes.Grid | None:
-        """One sheet's relationships by expat, then its grid checked on its bytes, or None."""
+    def _bound(self, facts: xlsxparts.SheetFacts) -> sheetgrid.Grid | None:
+        """One sheet's relationships by expat, then what bounds calamine's grid on its bytes
+        (``sheetgrid.bound``), or None."""
         rels = xlsxparts.rels_path(facts.part)
         if rels in self.archive.NameToInfo:
             xlsxparts.check_part(self.archive, rels, self.budget)
         try:
-            return sheetbytes.prepare(
+            return sheetgrid.bound(
                 self.archive.read(facts.part),
                 xlsxparts.MAX_ROWS,
                 xlsxparts.MAX_COLUMNS,
@@ -308,7 +303,9 @@ class _Loader:
         except (sheetbytes.Irregular, *_UNPACK_ERRORS, RuntimeError):
             return None
 
-    def _scan(self, facts: xlsxparts.SheetFacts, grid: sheetbytes.Grid) -> sheetbytes.SheetBytes:
+    def _scan(self, facts: xlsxparts.SheetFacts, grid: sheetgrid.Grid) -> sheetbytes.SheetBytes:
+        """The rest of the light pass: the grid rules, then what the cells hold."""
+        sheetgrid.rules(grid, xlsxparts.MAX_ROWS, xlsxparts.SPREAD_PER_CELL)
         light = sheetbytes.scan(grid, self.styles.formats)
         facts.formulas, facts.merged = light.formulas, light.merged
         facts.hidden_rows, facts.hidden_columns = light.hidden_rows, light.hidden_columns
@@ -323,23 +320,29 @@ class _Loader:
             xlsxparts.check_sheet_part(self.archive, facts, self.budget)
         self.careful.append(facts)
 
-    def _settle(self, worker: _Calamine | None, rows: dict[str, Rows], sheets) -> None:
-        """Take calamine's results for these sheets; one it failed on goes to the careful
+    def _settle(self, worker, tables: dict[str, Any], sheets, build, wait: bool = True) -> None:
+        """Take calamine's results for these sheets, in order (without ``wait``, only those
+        it has given back, up to the first it has not); one it failed on goes to the careful
         reader."""
         for facts in sheets:
-            light = self.light.pop(facts.name, None)
+            light = self.light.get(facts.name)
             if light is None:
                 continue
+            if not wait and not worker.done(facts.name):
+                return
+            del self.light[facts.name]
             result = worker.result(facts.name)
             try:
                 if isinstance(result, BaseException):
                     raise sheetbytes.Irregular(f"calamine: {type(result).__name__}")
-                rows[facts.name] = self._grid_rows(facts, light, *result)
+                table = self._grid_table(facts, light, *result)
             except sheetbytes.Irregular:
                 self.budget.left += light.elements  # read again, by expat
                 self._careful(facts, scanned_rels=True)
+                continue
+            tables[facts.name] = build(facts.name.strip().lower(), table)
 
-    def _grid_rows(self, facts, light: sheetbytes.SheetBytes, start, grid) -> Rows:
+    def _grid_table(self, facts, light: sheetbytes.SheetBytes, start, grid) -> Table:
         """calamine's grid as rows from column A, with what the light pass found laid over:
         the values openpyxl's cell parser gives, percent formats, formulas without a value."""
         top, left = start if start is not None else (0, 0)
@@ -369,12 +372,17 @@ class _Loader:
             row = cells(r, c)
             if row[c - 1] is None:
                 row[c - 1] = FormulaCell(text)
-        rows = list(zip(range(top + 1, top + 1 + len(table)), table, strict=True))
-        if extra:
+        if extra:  # cells beyond calamine's grid (a formula without a value): rows in order
+            rows = list(zip(range(top + 1, top + 1 + len(table)), table, strict=True))
             rows = sorted(rows + list(extra.items()))
-        if rows and rows[0][0] != 1:
-            rows.insert(0, (1, []))
-        return rows
+            if rows[0][0] != 1:
+                rows.insert(0, (1, []))
+            return Table.of_rows(rows)
+        if not table:
+            return Table(None, np.zeros(0, np.int64), [])
+        if top:  # row 1 holds no cell
+            return Table([], np.arange(top + 1, top + 1 + len(table)), table)
+        return Table(table[0], np.arange(2, 1 + len(table)), table[1:])
 
     def _redo(self, facts, light: sheetbytes.SheetBytes) -> dict[tuple[int, int], Any]:
         """The values of the cells openpyxl reads differently, by openpyxl's cell parser."""

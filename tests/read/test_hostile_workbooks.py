@@ -18,7 +18,7 @@ from pathlib import Path
 import pytest
 
 from faultcalc import InputError, read_system
-from faultcalc.read import tables
+from faultcalc.read import tables, xlsx
 from faultcalc.read.cells import FORMULA_MESSAGE
 from tests.conftest import REPO
 
@@ -127,6 +127,30 @@ def test_dense_small_elements_are_bounded(tmp_path):
     assert "XML elements" in refusal(path)
 
 
+@pytest.mark.parametrize("count, compiled", [("1", True), ("4000000000", False)])
+def test_a_count_of_strings_beyond_the_part_is_not_given_to_calamine(
+    tmp_path, monkeypatch, count, compiled
+):
+    # calamine reserves room for the shared strings' stated uniqueCount before it reads one:
+    # 4e9 asked for 96 GB and ended the process. Such a workbook is read the careful way.
+    strings = f'<sst xmlns="{MAIN}" count="1" uniqueCount="{count}"><si><t>x</t></si></sst>'
+    path = build(tmp_path / "count.xlsx", strings=strings.encode())
+    expected = read_system(SAMPLE).buses
+    opened: list[bool] = []
+    real = xlsx._Calamine
+
+    class Calamine(real):
+        def __init__(self, data):
+            opened.append(True)
+            if not compiled:
+                raise AssertionError("calamine was given the workbook")
+            super().__init__(data)
+
+    monkeypatch.setattr(xlsx, "_Calamine", Calamine)
+    assert read_system(path).buses == expected
+    assert opened == ([True] if compiled else [])
+
+
 # --- malformed XML: the part is named, in small and large workbooks alike --------------------
 
 
@@ -197,6 +221,21 @@ def test_a_stray_cell_far_away_is_read_quickly(tmp_path):
     buses = sheet_parts()["buses"]
     stray = '<row r="1048576"><c r="XFD1048576" t="inlineStr"><is><t> </t></is></c></row>'
     path = build(tmp_path / "stray.xlsx", change={buses: in_sheet(stray)})
+    assert read_system(path).buses == read_system(SAMPLE).buses
+
+
+def test_a_long_attribute_full_of_colons_is_read(tmp_path):
+    # An attribute no reader uses, holding 250,000 colons in 1 MB (random letters between
+    # them, so that the part is not refused as a bomb): the light pass looked at every colon
+    # as far as the tag's start and asked for 1.8 TiB (a MemoryError, not a message).
+    rng = random.Random(3)
+    note = "".join(":" + "".join(rng.choices("abcdefgh", k=3)) for _ in range(250_000))
+    buses = sheet_parts()["buses"]
+
+    def noted(data: bytes) -> bytes:
+        return data.replace(b'<c r="A2"', f'<c r="A2" note="{note}"'.encode(), 1)
+
+    path = build(tmp_path / "colons.xlsx", change={buses: noted})
     assert read_system(path).buses == read_system(SAMPLE).buses
 
 

@@ -248,6 +248,37 @@ def test_both_loaders_give_the_same_cells(tmp_path, no_expat_scan):
             assert not wrong, (path.name, name, wrong)
 
 
+@pytest.mark.parametrize(
+    "change",
+    [
+        lambda x: x,
+        lambda x: x.replace('<c r="B2" s="5">', '<c r="B2" s="5" t="n">'),
+        lambda x: x.replace('<c r="D3" t="e">', '<c r="D3" s="4" t="e">'),
+        lambda x: x.replace('<c r="C2" s="1">', '<c r="C2" t="n" s="1">'),
+        lambda x: x.replace('<c r="C6" s="1">', '<c r="C6" cm="1" s="1">'),  # another attribute
+    ],
+    ids=["as Excel writes", "s then t", "s then an error type", "t then s", "another attribute"],
+)
+def test_cell_types_and_styles_read_in_place_or_anywhere(tmp_path, no_expat_scan, change):
+    # A cell tag's t and s attributes are read in place after its reference when they are
+    # all it holds, else wherever they are in the tag: the same, and what openpyxl reads.
+    path = excel_like_book(tmp_path / "excel.xlsx", sheet=change(SHEET))
+    expected, found = reference(path)["buses"], loaded(path)["buses"]
+    assert found.keys() == expected.keys()
+    assert all(same(v, found[k]) for k, v in expected.items())
+    with zipfile.ZipFile(path) as archive:
+        grid = sheetbytes.prepare(archive.read("xl/worksheets/sheet1.xml"), 1_048_576, 16_384, 8)
+    tag_end = grid.tags.ends(grid.cell_index)
+    anywhere = sheetbytes._attributes_anywhere(
+        grid.tags.a, grid.body, grid.closing, grid.cells, tag_end, 6
+    )
+    in_place = sheetbytes._attributes_in_place(grid, tag_end, 6)
+    if "cm=" in change(SHEET):
+        assert in_place is None
+    else:
+        assert all((x == y).all() for x, y in zip(in_place, anywhere, strict=True))
+
+
 def test_the_excel_like_book_says_what_values_do_not(tmp_path, no_expat_scan):
     # What the sheet above holds, as its XML says: the merge, the hidden row 3 and column D.
     notes: list[str] = []
@@ -301,6 +332,31 @@ def test_the_light_pass_finds_percent_formula_hidden_and_merged(tmp_path, no_exp
     loaded(path, notes)
     assert any("C4:C5 are merged" in n for n in notes)
     assert any("hidden row 3" in n for n in notes)
+
+
+def test_an_empty_row_is_left_out_and_its_number_skipped(tmp_path, no_expat_scan):
+    # An empty row inside the buses table, then one holding only spaces (blank too), and a
+    # name cell of spaces in a row with values (read as blank: a located problem): every bus
+    # keeps its name and its spreadsheet row.
+    book = openpyxl.load_workbook(SAMPLES / "plant_480v.xlsx")
+    ws = book["buses"]
+    ws.insert_rows(4)
+    book.save(tmp_path / "gap.xlsx")
+    expected = [
+        (b.bus, b.row + (b.row >= 4)) for b in read_system(SAMPLES / "plant_480v.xlsx").buses
+    ]
+    assert [(b.bus, b.row) for b in read_system(tmp_path / "gap.xlsx").buses] == expected
+    ws["A4"] = "  "
+    book.save(tmp_path / "spaces.xlsx")
+    assert [(b.bus, b.row) for b in read_system(tmp_path / "spaces.xlsx").buses] == expected
+    ws["A5"] = "   "
+    book.save(tmp_path / "blank.xlsx")
+    with pytest.raises(InputError) as info:
+        read_system(tmp_path / "blank.xlsx")
+    assert any(
+        (p.sheet, p.row, p.column) == ("buses", 5, "bus") and "required" in p.message
+        for p in info.value.problems
+    )
 
 
 def test_a_hidden_sheet_is_noted(tmp_path, no_expat_scan):
@@ -382,6 +438,25 @@ def test_calamine_is_not_given_a_sheet_it_would_fill_to_the_last_cell(tmp_path, 
     monkeypatch.setattr(xlsx._Calamine, "submit", lambda self, n: (given.append(n), real(self, n)))
     assert read_system(path).buses == expected
     assert "buses" not in given and "cables" in given
+
+
+def test_calamine_is_not_given_a_sheet_with_a_prefixed_sheet_data_first(tmp_path, monkeypatch):
+    # calamine matches element names without their prefix and reads the first sheetData it
+    # meets: an empty <x:sheetData/> (the main namespace under a prefix) before the real one
+    # gave it no cells, and one holding a cell at XFD1048576 made it fill 17e9 positions. Such
+    # a sheet goes to the careful reader, which reads both as XML says.
+    def prefixed(data: bytes) -> bytes:
+        data = data.replace(b"<worksheet ", f'<worksheet xmlns:x="{MAIN}" '.encode(), 1)
+        return data.replace(b"<sheetData>", b"<x:sheetData/><sheetData>", 1)
+
+    path = _sheet_changed(tmp_path, prefixed)
+    expected = read_system(SAMPLES / "plant_480v.xlsx").buses
+    given: list[str] = []
+    real = xlsx._Calamine.submit
+    monkeypatch.setattr(xlsx._Calamine, "submit", lambda self, n: (given.append(n), real(self, n)))
+    scanned = _expat_scans(monkeypatch)
+    assert read_system(path).buses == expected
+    assert "buses" not in given and "cables" in given and scanned == ["buses"]
 
 
 def test_element_counts_are_expat_counts(tmp_path):
