@@ -85,15 +85,6 @@ class Typed:
             return self.given[(column, i)]
         return self.raw.cell(column, i) if self.raw is not None else None
 
-    def value(self, name: str, i: int) -> Any:
-        """One typed value as Python has it (None where blank)."""
-        v = self.values[name][i]
-        if isinstance(v, float) and math.isnan(v):
-            return None
-        if self.spec.column(name).kind == schema.INTEGER and v is not None:
-            return int(v)
-        return v.item() if isinstance(v, np.generic) else v
-
 
 def empty(spec: schema.Sheet, readable: bool = False) -> Typed:
     values = {
@@ -330,10 +321,9 @@ def _texts(column: schema.Column, raw_cells, controls: bool = True, text=None):
         found.append((i, False, array[i].as_py(), cells.SPACES_NOTE))
     slow = sorted(set(np.flatnonzero(slow_mask).tolist()) | set(other))
     if slow:
-        for i in slow:
-            filled[i] = not cells.is_blank(raw_cells[i] if isinstance(raw_cells, list) else None)
-            if not isinstance(raw_cells, list):
-                filled[i] = not cells.is_blank(array[i].as_py())
+        for i in slow:  # blank as Python says (str.isspace), from the cell as given
+            cell = raw_cells[i] if isinstance(raw_cells, list) else array[i].as_py()
+            filled[i] = not cells.is_blank(cell)
         _slow(column, raw_cells, [i for i in slow if filled[i]], texts, found)
         found.sort(key=lambda f: f[0])
     if not filled.all():

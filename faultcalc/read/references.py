@@ -10,6 +10,7 @@ name suggested.
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -44,7 +45,6 @@ class Buses:
     _folded: dict[str, str] | None
     unusable: set[str]
     kv: np.ndarray
-    names: list
     readable: bool
     ends: dict[tuple[str, str], np.ndarray] = field(default_factory=dict)
     _lookup: object = None  # a pandas Index of the usable names (made on first use)
@@ -94,7 +94,7 @@ def bus_table(buses: Typed, readable: bool) -> Buses:
                 index.setdefault(values[i], i)
         unusable = {name for name in values if name is not None} - set(index)
     names = buses.arrow.get("bus") if len(index) == len(values) else None
-    return Buses(index, None, unusable, kv, values, readable, _names=names)
+    return Buses(index, None, unusable, kv, readable, _names=names)
 
 
 def references(
@@ -205,27 +205,18 @@ def _suggestion(name: str, buses: Buses) -> str:
 def update_buses(buses: Buses, sheet: Typed, at: np.ndarray) -> Buses:
     """The bus table of a case: the base's, with the buses at ``at`` made unusable where their
     row now has a problem."""
-    gone = [sheet.values["bus"][i] for i in at.tolist() if not sheet.ok[i]]
+    gone = {sheet.values["bus"][i] for i in at.tolist() if not sheet.ok[i]}
     ends = {key: positions.copy() for key, positions in buses.ends.items()}  # the base's stay
+    kept = dataclasses.replace(buses, kv=sheet.values["kv"], ends=ends, joined={})
     if not gone:
-        return Buses(
-            buses.index,
-            buses.folded,
-            buses.unusable,
-            sheet.values["kv"],
-            buses.names,
-            buses.readable,
-            ends,
-            buses._lookup,
-            buses._rows,
-        )
-    index = {k: p for k, p in buses.index.items() if k not in set(gone)}
-    return Buses(
-        index,
-        None,
-        buses.unusable | set(gone),
-        sheet.values["kv"],
-        buses.names,
-        buses.readable,
-        ends,
+        return kept  # the name index, its folded form and lookups shared with the base
+    index = {k: p for k, p in buses.index.items() if k not in gone}
+    return dataclasses.replace(
+        kept,
+        index=index,
+        _folded=None,
+        unusable=buses.unusable | gone,
+        _lookup=None,
+        _rows=None,
+        _names=None,
     )

@@ -21,8 +21,6 @@ from .raw import (  # noqa: F401 - imported from here
     sheet_from_rows,
 )
 
-_sheet_from_rows = sheet_from_rows  # its former name
-
 WORKBOOK_SUFFIXES = (".xlsx", ".xlsm")
 # The sheets a workbook loader parses: the known ones and those named close to one (the reader
 # looks at their header row to refuse them); a workbook's other sheets are not parsed.
@@ -44,7 +42,9 @@ def _refuse(path: Path, message: str) -> InputError:
     return InputError([Problem(path.name, None, None, None, message)])
 
 
-def _load_workbook(path: Path, problems: list[Problem], notes: list[str]) -> dict[str, RawSheet]:
+def _load_workbook(
+    path: Path, problems: list[Problem], notes: list[str], data: bytes | None = None
+) -> dict[str, RawSheet]:
     from . import xlsx  # the workbook loader (it reads the bounds above)
 
     def build(name: str, table) -> tuple[RawSheet, list[Problem]]:
@@ -54,25 +54,15 @@ def _load_workbook(path: Path, problems: list[Problem], notes: list[str]) -> dic
         return sheet_from_grid(name, table.header, table.numbers, table.lines, own), own
 
     sheets = {}
-    for name, built in xlsx.load_workbook(path, notes, build).items():
+    for name, built in xlsx.load_workbook(path, notes, build, data).items():
         sheet, own = built or (sheet_from_rows(name, [], problems), [])
         sheets[name] = sheet
         problems.extend(own)
     return sheets
 
 
-def input_sha256(path: Path) -> str:
-    """SHA-256 of a workbook file; for a CSV folder, of each file's name and bytes in name order."""
-    if path.is_dir():
-        digest = hashlib.sha256()
-        for file in csv_files(path):
-            add_file(digest, file.name, file.read_bytes())
-        return digest.hexdigest()
-    return hashlib.sha256(path.read_bytes()).hexdigest()
-
-
 def add_file(digest, name: str, data: bytes) -> None:
-    """Add one CSV file of a folder to its SHA-256 (files in name order; see input_sha256)."""
+    """Add one CSV file of a folder to its SHA-256 (files in name order)."""
     digest.update(name.encode() + b"\0")
     digest.update(data)
 
@@ -105,8 +95,9 @@ def load_input(path: str | Path) -> RawInput:
         sheets = load_folder(path, problems, lambda name, data: add_file(digest, name, data))
         sha256 = digest.hexdigest()
     elif path.suffix.lower() in WORKBOOK_SUFFIXES:
-        sheets = _load_workbook(path, problems, notes)
-        sha256 = input_sha256(path)
+        data = path.read_bytes()  # read once: hashed, and given to the loader
+        sha256 = hashlib.sha256(data).hexdigest()
+        sheets = _load_workbook(path, problems, notes, data)
     else:
         raise InputError(
             [

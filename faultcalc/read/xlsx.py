@@ -115,15 +115,16 @@ def load_workbook_rows(path: str | Path, notes: list[str]) -> dict[str, Rows | N
     return load_workbook(path, notes, lambda name, table: table.rows())
 
 
-def load_workbook(path: str | Path, notes: list[str], build) -> dict[str, Any]:
+def load_workbook(path: str | Path, notes: list[str], build, data: bytes | None = None):
     """Per sheet (name stripped, lower case, workbook order) ``build(name, table)`` of its
     ``Table``, or None for a sheet named but not read (the tool does not read it); what
     loading notices goes to ``notes``. InputError when the file cannot be read.
 
-    ``build`` runs as each sheet is loaded, while calamine parses the next.
+    ``build`` runs as each sheet is loaded, while calamine parses the next; ``data``: the
+    file's bytes, when the caller has read them already.
     """
     path = Path(path)
-    data = path.read_bytes()
+    data = path.read_bytes() if data is None else data
     try:
         archive = zipfile.ZipFile(io.BytesIO(data))
     except (zipfile.BadZipFile, OSError, ValueError) as exc:
