@@ -47,8 +47,9 @@ class Buses:
     kv: np.ndarray
     readable: bool
     ends: dict[tuple[str, str], np.ndarray] = field(default_factory=dict)
-    _lookup: object = None  # a pandas Index of the usable names (made on first use)
-    _rows: np.ndarray | None = None
+    # the pandas Index of the usable names and their rows, made on first use and shared by
+    # the cases that leave the index as it is
+    _lookup: dict = field(default_factory=dict)
     _names: object = None  # every bus name as an Arrow array, when every bus is usable
     joined: dict = field(default_factory=dict)  # (sheet, column) -> positions, by one join
 
@@ -71,12 +72,13 @@ class Buses:
 
             found = pc.fill_null(pc.index_in(array, value_set=self._names), -1)
             return found.to_numpy(zero_copy_only=False).astype(np.int64)
-        if self._lookup is None:
-            self._lookup = pd.Index(list(self.index), dtype=object)
-            self._rows = np.fromiter(self.index.values(), np.int64, len(self.index))
+        if not self._lookup:
+            self._lookup["names"] = pd.Index(list(self.index), dtype=object)
+            self._lookup["rows"] = np.fromiter(self.index.values(), np.int64, len(self.index))
+        lookup, rows = self._lookup["names"], self._lookup["rows"]
         picked = values if len(at) == len(values) else [values[i] for i in at.tolist()]
-        found = self._lookup.get_indexer(pd.Index(picked, dtype=object))
-        return np.where(found >= 0, self._rows[found], -1)
+        found = lookup.get_indexer(pd.Index(picked, dtype=object))
+        return np.where(found >= 0, rows[found], -1)
 
 
 def bus_table(buses: Typed, readable: bool) -> Buses:
@@ -216,7 +218,6 @@ def update_buses(buses: Buses, sheet: Typed, at: np.ndarray) -> Buses:
         index=index,
         _folded=None,
         unusable=buses.unusable | gone,
-        _lookup=None,
-        _rows=None,
+        _lookup={},
         _names=None,
     )
