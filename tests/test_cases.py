@@ -138,3 +138,19 @@ def test_json_and_workbook_carry_cases_envelope_and_labels(make_input, tmp_path)
     worst = max(env[k] for k in ("i3ph_ka", "islg_ka", "ill_ka", "illg_ka"))
     assert f"{worst:.1f} kA" in label
     assert "110.24" in label and doc["study"]["calculated_at"][:10] in label
+
+
+@pytest.mark.parametrize("kind", ["csv", "xlsx"])
+def test_a_case_names_its_element_as_names_are_compared(make_input, kind):
+    # "tb" and "t\u200bb" (a zero-width space inside) name TB as names.key compares names;
+    # the case reads as if it said TB (common practice, no source).
+    said = [
+        {"case": "low", "element": "TB", "column": "z_pct", "value": 5.32},
+        {"case": "low, lower case", "element": "tb", "column": "z_pct", "value": 5.32},
+        {"case": "low, hidden", "element": "t\u200bb", "column": "z_pct", "value": 5.32},
+    ]
+    result = run_study(read_system(make_input(sheets(said), kind=kind)))
+    low = result.cases["low"].i3ph_ka.tolist()
+    assert result.cases["low, lower case"].i3ph_ka.tolist() == low
+    assert result.cases["low, hidden"].i3ph_ka.tolist() == low
+    assert low != result.buses.i3ph_ka.tolist()

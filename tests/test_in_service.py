@@ -171,3 +171,31 @@ def test_a_bus_out_of_service_in_the_base_case_and_back_in_a_case(make_input, ki
     everything = run_study(read_system(make_input(copy.deepcopy(BASE), kind=kind)))
     back = result.cases["B back"].set_index("bus")
     assert back.loc["PNL", "i3ph_ka"] == pytest.approx(_i3(everything, "PNL"), rel=1e-12)
+
+
+def test_bus_positions_carried_past_a_removed_bus_are_those_looked_up_afresh(make_input):
+    # B (and PNL with it) listed first, so every bus after them moves up when they go: the
+    # positions a case keeps for its references must follow (renumbered, not looked up again).
+    sheets = copy.deepcopy(BASE)
+    sheets["buses"] = [sheets["buses"][2], sheets["buses"][3], *sheets["buses"][:2]]
+    sheets["cases"] = [
+        {"case": "B out", "element": "B", "column": "in_service", "value": "no"},
+        {"case": "B out", "element": "GEN", "column": "in_service", "value": "no"},
+    ]
+    system = read_system(make_input(sheets))
+    ((_, case),) = system.cases
+    assert [b.bus for b in case.buses] == ["HV", "A"]
+    fresh = {b.bus: k for k, b in enumerate(case.buses)}
+    for sheet, columns in (("sources", ("bus",)), ("transformers", ("hv_bus", "lv_bus"))):
+        for column in columns:
+            names = getattr(case, sheet).column(column)
+            assert case.bus_positions(names).tolist() == [fresh[n] for n in names]
+    # And the case studies as the input without those rows (common practice, no source).
+    without = copy.deepcopy(BASE)
+    del without["impedances"], without["cables"], without["machines"]
+    without["buses"] = without["buses"][:2]
+    without["transformers"] = without["transformers"][:1]
+    expected = run_study(read_system(make_input(without, name="without")))
+    got = run_study(system).cases["B out"].set_index("bus")
+    for bus in ("HV", "A"):
+        assert got.loc[bus, "i3ph_ka"] == pytest.approx(_i3(expected, bus), rel=1e-12)

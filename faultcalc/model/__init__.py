@@ -282,11 +282,10 @@ class System:
     def bus_positions(self, names) -> np.ndarray:
         """Position of each named bus on the buses sheet (-1 where there is none).
 
-        Answers for one list object are kept (a column is looked up by several steps)."""
-        memo = self.__dict__.get("_positions")
-        if memo is None:
-            memo = {}
-            object.__setattr__(self, "_positions", memo)
+        Answers for one list object are kept with the buses (``Records.memo``): every System
+        that has these very buses (a case that leaves them as they are, a System with some
+        elements left out) shares them, since a column is looked up by several steps."""
+        memo = self.buses.memo()
         kept = memo.get(id(names))
         if kept is not None and kept[0] is names:
             return kept[1]
@@ -296,21 +295,21 @@ class System:
 
     def bus_index(self) -> dict[str, int]:
         """The map from bus name to position on the buses sheet."""
-        index = self.__dict__.get("_bus_index")
+        memo = self.buses.memo()
+        index = memo.get("bus index")
         if index is None:  # the last row of a name wins (only a hand-built System repeats)
             bus_names = self.buses.column("bus")
             index = dict(zip(bus_names, range(len(bus_names)), strict=True))
-            object.__setattr__(self, "_bus_index", index)
+            memo["bus index"] = index
         return index
 
     def remember_bus_index(self, index: dict[str, int]) -> None:
         """Record the map from bus name to position already built (by the reader)."""
-        object.__setattr__(self, "_bus_index", index)
+        self.buses.memo()["bus index"] = index
 
     def remember_positions(self, names, positions: np.ndarray) -> None:
         """Record the bus positions of a list of names already looked up (by the reader)."""
-        memo = self.__dict__.setdefault("_positions", {})
-        memo[id(names)] = (names, positions)
+        self.buses.memo()[id(names)] = (names, positions)
 
     def bus_kv(self) -> dict[str, float]:
         return dict(zip(self.buses.column("bus"), self.buses.column("kv"), strict=True))

@@ -49,7 +49,7 @@ def plain_values(column: Any, integer: bool = False, indices: list[int] | None =
 class Records(Sequence, Generic[T]):
     """A read-only sequence of ``cls`` objects stored as columns (see the module docstring)."""
 
-    __slots__ = ("cls", "_n", "_columns", "_objects")
+    __slots__ = ("cls", "_n", "_columns", "_objects", "_memo")
 
     def __init__(self, cls: type[T], columns: dict[str, Any], n: int | None = None):
         fields = [f.name for f in dataclasses.fields(cls)]
@@ -65,6 +65,7 @@ class Records(Sequence, Generic[T]):
         self._n = n
         self._columns = dict(columns)
         self._objects: tuple[T, ...] | None = None
+        self._memo: dict | None = None
 
     @classmethod
     def of(cls, kind: type[T], items: Sequence[T]) -> Records[T]:
@@ -74,6 +75,13 @@ class Records(Sequence, Generic[T]):
         out = cls(kind, {}, len(items))
         out._objects = tuple(items)
         return out
+
+    def memo(self) -> dict:
+        """A place for answers that depend on these rows only (the System keeps the bus
+        positions of its references with its buses), made on first use."""
+        if self._memo is None:
+            self._memo = {}
+        return self._memo
 
     def column(self, name: str) -> Any:
         """The field ``name`` of every row, as stored (a list or an array)."""

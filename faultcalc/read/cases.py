@@ -53,22 +53,26 @@ def _in_labels(name: str, said: list[tuple[int, Any]], problems: list[Problem]) 
 
 
 class _Names:
-    """Where each bus and element name is: as typed, and as ``names.key`` compares names
-    (ignoring case, compatibility forms and invisible characters), as bus references are.
-    Each sheet's names are indexed when a case first looks one up."""
+    """Where each bus and element name that the cases sheet names is: as typed, and as
+    ``names.key`` compares names (ignoring case, compatibility forms and invisible
+    characters), as bus references are. The names asked for are looked for in every sheet
+    at once (an Arrow hash join against the few names where the sheet's names were typed on
+    the fast path); a sheet's names are folded only when a name is not found as typed."""
 
-    def __init__(self, sheets: dict[str, columns.Typed]):
+    def __init__(self, sheets: dict[str, columns.Typed], wanted):
         self.sheets = sheets
-        self._exact: dict[str, dict[str, int]] = {}
+        wanted = sorted({w for w in wanted if w})
+        self._exact = {spec.name: _rows_named(sheets[spec.name], spec, wanted) for spec in SHEETS}
         self._folded: dict[str, dict[str, int]] = {}
 
     def _lookup(self, spec: schema.Sheet, name: str, folded: bool) -> int | None:
-        table = self._folded if folded else self._exact
-        if spec.name not in table:
+        if not folded:
+            return self._exact[spec.name].get(name)
+        if spec.name not in self._folded:
             values = self.sheets[spec.name].values[spec.columns[0].name]
-            keys = [names.key(v) if v is not None else None for v in values] if folded else values
-            table[spec.name] = {k: i for i, k in enumerate(keys) if k is not None}
-        return table[spec.name].get(names.key(name) if folded else name)
+            keys = [names.key(v) if v is not None else None for v in values]
+            self._folded[spec.name] = {k: i for i, k in enumerate(keys) if k is not None}
+        return self._folded[spec.name].get(names.key(name))
 
     def _all(self, name: str, folded: bool) -> list[tuple[schema.Sheet, int]]:
         found = []
@@ -92,6 +96,23 @@ class _Names:
         if found:
             return (*found[0], "")
         return None, None, "no bus or element of that name"
+
+
+def _rows_named(sheet: columns.Typed, spec: schema.Sheet, wanted) -> dict[str, int]:
+    """The row index of each name of ``wanted`` on the sheet (the last row of a name)."""
+    import pyarrow as pa
+    import pyarrow.compute as pc
+
+    values = sheet.values[spec.columns[0].name]
+    array = sheet.arrow.get(spec.columns[0].name)
+    if not wanted or not sheet.n:
+        return {}
+    if array is not None and len(array) == sheet.n:
+        found = pc.index_in(array, value_set=pa.array(wanted, pa.string()))
+        at = np.flatnonzero(found.is_valid().to_numpy(zero_copy_only=False))
+        return {values[i]: i for i in at.tolist()}
+    wanted_set = set(wanted)
+    return {v: i for i, v in enumerate(values) if v in wanted_set}
 
 
 def _copy_on_write(sheets, case_sheets, name: str) -> columns.Typed:
@@ -127,7 +148,7 @@ def _set(sheet, base, i: int, column: schema.Column, value, found: list) -> bool
     typed = column.default
     fits = True
     if blank and column.required:
-        found.append((column.name, True, None, f"a value is required: {column.expected()}"))
+        found.append((column.name, True, None, columns.required_message(column)))
         fits = False
     elif not blank:
         notes: list[str] = []
@@ -220,7 +241,8 @@ def read_cases(sheets: dict[str, columns.Typed], buses: Buses, settings, raw=Non
             order.append(name)
             overrides[name] = []
         overrides[name].append(i)
-    where = _Names(sheets)
+    named = {table.values["element"][i].strip() for i in range(table.n) if table.ok[i]}
+    where = _Names(sheets, named)
     systems = []
     for name in order:
         rows = overrides[name]

@@ -144,8 +144,13 @@ def type_sheet(spec: schema.Sheet, raw: RawSheet, out: Collector) -> Typed:
     return Typed(spec, rows, values, filled, ~bad, raw, arrow=arrow)
 
 
+def required_message(column: schema.Column) -> str:
+    """What a blank cell of a required column is told (a case's cell too)."""
+    return f"a value is required: {column.expected()}"
+
+
 def _required(i: int, position: int, column: schema.Column):
-    return (i, position, True, column.name, None, f"a value is required: {column.expected()}")
+    return (i, position, True, column.name, None, required_message(column))
 
 
 def _blank_column(column: schema.Column, n: int):

@@ -86,14 +86,33 @@ BUS_COLUMNS = {
 }
 
 
-def _carry_positions(before: System, after: System, kept: dict[str, np.ndarray]) -> None:
-    """``after`` (``before`` with the rows ``kept`` of some element sheets, the same buses)
-    knows its bus positions without looking the names up again."""
-    after.remember_bus_index(before.bus_index())
-    for sheet, rows in kept.items():
-        for column in BUS_COLUMNS[sheet]:
-            old = before.bus_positions(getattr(before, sheet).column(column))
-            after.remember_positions(getattr(after, sheet).column(column), old[rows])
+# The order in which the note names the elements left out with a bus.
+REMOVAL_ORDER = ("transformers", "cables", "impedances", "sources", "machines")
+
+
+def _carry_positions(
+    before: System, after: System, kept: dict[str, np.ndarray], bus_kept: np.ndarray | None = None
+) -> None:
+    """``after`` knows its bus positions without looking the names up again: it is ``before``
+    with the rows ``kept`` of some element sheets (the other sheets the same Records), and,
+    when ``bus_kept`` is given, only the buses at those positions (in order)."""
+    if bus_kept is None:
+        after.remember_bus_index(before.bus_index())
+        renumber = None
+    else:
+        renumber = np.full(len(before.buses), -1, np.int64)
+        renumber[bus_kept] = np.arange(len(bus_kept))
+    for sheet, columns in BUS_COLUMNS.items():
+        items, rows = getattr(after, sheet), kept.get(sheet)
+        if rows is None and items is not getattr(before, sheet):
+            continue
+        for column in columns:
+            positions = before.bus_positions(getattr(before, sheet).column(column))
+            if rows is not None:
+                positions = positions[rows]
+            if renumber is not None:
+                positions = renumber[positions]
+            after.remember_positions(items.column(column), positions)
 
 
 def _out(items) -> np.ndarray:
@@ -144,22 +163,24 @@ def without_buses(system: System, names: list[str]) -> tuple[System, str]:
     bus_names = system.buses.column("bus")
     removed_buses = [bus_names[k] for k in np.flatnonzero(gone & bus_in).tolist()]
     keep_bus = ~gone
-    changes: dict[str, object] = {"buses": system.buses.subset(np.flatnonzero(keep_bus))}
+    bus_kept = np.flatnonzero(keep_bus)
+    changes: dict[str, object] = {"buses": system.buses.subset(bus_kept)}
     removed: list[str] = []
-    for sheet, one, two in SERIES:
-        items = getattr(system, sheet)
-        i, j = system.bus_positions(items.column(one)), system.bus_positions(items.column(two))
-        keep = keep_bus[i] & keep_bus[j]
+    kept: dict[str, np.ndarray] = {}
+    for sheet in REMOVAL_ORDER:
+        items, columns = getattr(system, sheet), BUS_COLUMNS[sheet]
+        keep = np.ones(len(items), bool)
+        for column in columns:
+            keep &= keep_bus[system.bus_positions(items.column(column))]
         removed += [items.column(NAME_COLUMN[sheet])[k] for k in np.flatnonzero(~keep).tolist()]
-        changes[sheet] = items.subset(np.flatnonzero(keep))
-    for sheet in ("sources", "machines"):
-        items = getattr(system, sheet)
-        keep = keep_bus[system.bus_positions(items.column("bus"))]
-        removed += [items.column(NAME_COLUMN[sheet])[k] for k in np.flatnonzero(~keep).tolist()]
-        changes[sheet] = items.subset(np.flatnonzero(keep))
+        if not keep.all():
+            kept[sheet] = np.flatnonzero(keep)
+            changes[sheet] = items.subset(kept[sheet])
     note = f"out of service: bus {', '.join(names)}"
     if removed_buses:
         note += f"; removed with it, fed only through it: bus(es) {', '.join(removed_buses)}"
     if removed:
         note += f"; elements connected to the removed buses left out: {', '.join(removed)}"
-    return dataclasses.replace(system, **changes), note
+    after = dataclasses.replace(system, **changes)
+    _carry_positions(system, after, kept, bus_kept)
+    return after, note
