@@ -210,10 +210,13 @@ def _own_table_columns(sheet: columns.Typed, base: columns.Typed) -> None:
             sheet.values[column] = values.copy() if isinstance(values, np.ndarray) else list(values)
 
 
-def read_cases(sheets: dict[str, columns.Typed], buses: Buses, settings, raw=None, base=None):
+def read_cases(
+    sheets: dict[str, columns.Typed], buses: Buses, settings, raw=None, base=None, records=None
+):
     """Every case as (name, System), in order of first appearance on the cases sheet. Each
     case's warnings are those of the base (``base``, a Collector) that still hold, and those
-    of what the case changes."""
+    of what the case changes. ``records``: the base's Records by sheet, shared by the cases
+    that leave a sheet as it is."""
     from .reader import in_service, system_of, with_doubts
 
     table = sheets["cases"]
@@ -326,6 +329,7 @@ def read_cases(sheets: dict[str, columns.Typed], buses: Buses, settings, raw=Non
                     merged,
                     case_buses,
                     settings,
+                    {k: v for k, v in (records or {}).items() if k not in case_sheets},
                     input_name=getattr(raw, "display_name", ""),
                     input_sha256=getattr(raw, "sha256", ""),
                     warnings=tuple(dict.fromkeys(out.warnings)),  # the base's said once

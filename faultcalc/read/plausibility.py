@@ -60,9 +60,33 @@ def _where(sheet: str, row: int | None, column: str) -> str:
 
 def warnings(system: System) -> list[str]:
     """The warnings, in sheet and row order (whole columns checked; objects made for the rows
-    flagged only)."""
+    flagged only). Each sheet's are kept with its Records (``Records.memo``), so a case that
+    leaves a sheet as it is shares the base's."""
+    out = _kept(system.buses, "doubts", lambda: _bus_doubts(system.buses))
+    out += _kept(system.transformers, "doubts", lambda: _transformer_doubts(system.transformers))
+    out += _kept(system.sources, "doubts", lambda: _infinite_doubts(system.sources))
+    for sheet in ("sources", "transformers", "machines"):
+        items = getattr(system, sheet)
+        out += _kept(items, "xr doubts", lambda items=items, sheet=sheet: _xr_doubts(sheet, items))
+    cables = system.cables
+    if cables:  # they depend on the buses too: kept for these very buses
+        kept = _kept(cables, "doubts by buses", dict)
+        if id(system.buses) not in kept or kept[id(system.buses)][0] is not system.buses:
+            kept[id(system.buses)] = (system.buses, _cable_doubts(system))
+        out += kept[id(system.buses)][1]
+    return out
+
+
+def _kept(records, key: str, make):
+    """``make()``, worked out once per Records."""
+    memo = records.memo()
+    if key not in memo:
+        memo[key] = make()
+    return list(memo[key]) if isinstance(memo[key], list) else memo[key]
+
+
+def _bus_doubts(buses) -> list[str]:
     out = []
-    buses = system.buses
     volts = np.isin(buses.array("kv"), sorted(COMMON_VOLTS))
     for b in buses.take(np.flatnonzero(volts)):
         if b.kv in COMMON_VOLTS:
@@ -71,7 +95,12 @@ def warnings(system: System) -> list[str]:
                 f"volts; kv is in kilovolts ({b.kv / 1000:g} for {b.kv:g} V) (found "
                 f"{b.kv:g})"
             )
-    for t in system.transformers:
+    return out
+
+
+def _transformer_doubts(transformers) -> list[str]:
+    out = []
+    for t in transformers:
         low, high = Z_RANGE_SMALL if t.kva <= 10_000 else Z_RANGE_LARGE
         if not low <= t.z_pct <= high:
             out.append(
@@ -86,28 +115,39 @@ def warnings(system: System) -> list[str]:
                     f"{_where('transformers', t.row, column)}: {value:g} kV looks like "
                     "volts; the column is in kilovolts"
                 )
-    infinite = infinite_sources(system.sources.array("sc_mva"), system.sources.array("sc_ka"))
-    for s in system.sources.take(np.flatnonzero(infinite)):
+    return out
+
+
+def _infinite_doubts(sources) -> list[str]:
+    out = []
+    infinite = infinite_sources(sources.array("sc_mva"), sources.array("sc_ka"))
+    for s in sources.take(np.flatnonzero(infinite)):
         column = "sc_mva" if s.sc_mva is not None else "sc_ka"
         out.append(
             f"{_where('sources', s.row, column)}: {getattr(s, column):g} is taken as an "
             "infinite bus, an idealization that overstates every current below it; use the "
             "utility's figure for the study you sign"
         )
-    for sheet in ("sources", "transformers", "machines"):
-        items = getattr(system, sheet)
-        xr = items.array("xr")
-        outside = ~((xr >= XR_RANGE[0]) & (xr <= XR_RANGE[1]))
-        for e in items.take(np.flatnonzero(outside)):
-            if not XR_RANGE[0] <= e.xr <= XR_RANGE[1]:
-                out.append(
-                    f"{_where(sheet, e.row, 'xr')}: X/R {e.xr:g} is outside "
-                    f"{XR_RANGE[0]:g} to {XR_RANGE[1]:g}, where real equipment lies "
-                    "(common practice, no source)"
-                )
-    cables = system.cables
-    if not cables:
-        return out
+    return out
+
+
+def _xr_doubts(sheet: str, items) -> list[str]:
+    out = []
+    xr = items.array("xr")
+    outside = ~((xr >= XR_RANGE[0]) & (xr <= XR_RANGE[1]))
+    for e in items.take(np.flatnonzero(outside)):
+        if not XR_RANGE[0] <= e.xr <= XR_RANGE[1]:
+            out.append(
+                f"{_where(sheet, e.row, 'xr')}: X/R {e.xr:g} is outside "
+                f"{XR_RANGE[0]:g} to {XR_RANGE[1]:g}, where real equipment lies "
+                "(common practice, no source)"
+            )
+    return out
+
+
+def _cable_doubts(system: System) -> list[str]:
+    out = []
+    buses, cables = system.buses, system.cables
     ft = cables.array("length_ft")
     feet = np.where(np.isnan(ft), cables.array("length_m") / M_PER_FT, ft)
     kv_from = buses.array("kv")[system.bus_positions(cables.column("from_bus"))]

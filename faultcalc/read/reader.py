@@ -244,16 +244,24 @@ def _records(cls, sheet: columns.Typed) -> Records:
     return Records(cls, data, sheet.n)
 
 
-def system_of(sheets: dict[str, columns.Typed], buses: Buses, settings, **fields):
-    """The System of typed sheets whose rows are all ok, with the bus positions it needs."""
+def records_of(sheets: dict[str, columns.Typed]) -> dict[str, Records]:
+    """The Records of every sheet of a System, by sheet name."""
+    return {name: _records(kind, sheets[name]) for name, kind in model.ELEMENT_KINDS.items()}
+
+
+def system_of(
+    sheets: dict[str, columns.Typed], buses: Buses, settings, records=None, **fields
+) -> model.System:
+    """The System of typed sheets whose rows are all ok, with the bus positions it needs.
+    ``records``: Records already made for some of the sheets (a case takes the base's for the
+    sheets it leaves as they are, and with them what was worked out on them)."""
+    records = records or {}
     system = model.System(
         settings=settings,
-        buses=_records(model.Bus, sheets["buses"]),
-        sources=_records(model.Source, sheets["sources"]),
-        transformers=_records(model.Transformer, sheets["transformers"]),
-        cables=_records(model.Cable, sheets["cables"]),
-        impedances=_records(model.Impedance, sheets["impedances"]),
-        machines=_records(model.Machine, sheets["machines"]),
+        **{
+            name: records[name] if name in records else _records(kind, sheets[name])
+            for name, kind in model.ELEMENT_KINDS.items()
+        },
         **fields,
     )
     system.remember_bus_index(buses.index)
@@ -294,14 +302,16 @@ def read_tables(raw: RawInput, with_cases: bool = True) -> model.System:
     settings, sheets, buses = read_sheets(raw, out)
     if out.problems:
         raise InputError(out.problems, out.warnings)
+    records = records_of(sheets)
     try:
-        cases = read_cases(sheets, buses, settings, raw, out) if with_cases else ()
+        cases = read_cases(sheets, buses, settings, raw, out, records) if with_cases else ()
     except InputError as exc:
         raise InputError(exc.problems, out.warnings) from None
     system = system_of(
         sheets,
         buses,
         settings,
+        records,
         cases=cases,
         input_name=raw.display_name,
         input_sha256=raw.sha256,

@@ -107,6 +107,8 @@ def refuse_slips(sheet: Typed, at: np.ndarray, found, out: Collector) -> None:
 
 def _given(values: list, at: np.ndarray) -> np.ndarray:
     """Which of the rows ``at`` of a list column hold a value (not None)."""
+    if len(at) < len(values) // 8:  # a case's few rows: look at them, not the whole column
+        return np.array([values[i] is not None for i in at.tolist()], bool)
     if None not in values:
         return np.ones(len(at), bool)
     return np.array([values[i] is not None for i in at.tolist()], bool)

@@ -116,11 +116,18 @@ def _carry_positions(
 
 
 def _out(items) -> np.ndarray:
-    """Which rows say in_service = no."""
-    column = items.column(IN_SERVICE)
-    if "no" not in column:
-        return np.zeros(len(items), bool)
-    return np.array([f == "no" for f in column], bool)
+    """Which rows say in_service = no (kept with the Records: the cases that leave a sheet
+    as it is share the base's)."""
+    memo = items.memo()
+    flags = memo.get(IN_SERVICE)
+    if flags is None:
+        column = items.column(IN_SERVICE)
+        if "no" not in column:
+            flags = np.zeros(len(items), bool)
+        else:
+            flags = np.array([f == "no" for f in column], bool)
+        memo[IN_SERVICE] = flags
+    return flags
 
 
 def _live(system: System, bus_in: np.ndarray) -> np.ndarray:
