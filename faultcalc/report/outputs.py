@@ -322,6 +322,33 @@ def write_netlist(
     return text
 
 
+def write_diagram(
+    system,
+    result,
+    output: str | Path | OutputFiles,
+    *,
+    overwrite: bool = False,
+    input_path: str | Path | None = None,
+):
+    """Write the one-line diagram of ``system``, annotated with ``result`` (a StudyResult, or
+    None for the topology alone), atomically, as .svg, .pdf or .png by the file's suffix;
+    returns the drawing (its shapes and size).
+
+    ``output`` is the file, or the :class:`OutputFiles` checked before ``system`` was read;
+    ``overwrite`` and ``input_path`` as for :class:`OutputFiles`.
+    """
+    from ..diagram import FORMATS, draw, save
+
+    files = _files(output, input_path, overwrite)
+    (path,) = files.paths
+    if path.suffix.lower() not in FORMATS:
+        raise OutputError(f"a diagram is written as {', '.join(FORMATS)}; got {path.name}")
+    drawing = draw(system, result)
+    with files.staged() as (temp,):
+        save(drawing, temp, path.suffix)
+    return drawing
+
+
 def write_cable_checks(
     checks,
     output: str | Path | OutputFiles,

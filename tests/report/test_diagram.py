@@ -1,0 +1,209 @@
+"""The one-line diagram's geometry: every bus, element and label drawn, nothing overlapping,
+the figures printed those of the study, text kept as text (#14).
+
+Expectations are common practice for a one-line (no source), on the bundled invented samples
+and on random invented networks (tests/networks.py)."""
+
+from __future__ import annotations
+
+import itertools
+
+import numpy as np
+import pytest
+from click.testing import CliRunner
+from defusedxml import ElementTree
+from networks import random_sheets
+
+from faultcalc import read_system, run_study, sample_path, write_diagram
+from faultcalc.cli import main
+from faultcalc.diagram import draw
+from faultcalc.diagram.layout import OVER
+
+NAMES = {
+    "buses": "bus",
+    "sources": "source",
+    "transformers": "transformer",
+    "cables": "cable",
+    "impedances": "element",
+    "machines": "machine",
+}
+
+
+def _boxes(items) -> np.ndarray:
+    return np.array([i.box() for i in items], float).reshape(-1, 4)
+
+
+def _overlapping(a: np.ndarray, b: np.ndarray, same: bool) -> list[tuple[int, int]]:
+    """Index pairs of boxes of ``a`` and ``b`` whose interiors meet."""
+    hit = (
+        (a[:, None, 0] < b[None, :, 2])
+        & (b[None, :, 0] < a[:, None, 2])
+        & (a[:, None, 1] < b[None, :, 3])
+        & (b[None, :, 1] < a[:, None, 3])
+    )
+    if same:
+        hit &= np.triu(np.ones(hit.shape, bool), 1)
+    return list(zip(*np.nonzero(hit), strict=True))
+
+
+def assert_no_overlap(drawing) -> None:
+    texts, symbols = _boxes(drawing.texts), _boxes(drawing.symbols)
+    lines = _boxes(drawing.lines)
+    found = _overlapping(texts, texts, True)
+    assert not found, [(drawing.texts[i].text, drawing.texts[j].text) for i, j in found[:5]]
+    found = _overlapping(symbols, symbols, True)
+    assert not found, [(drawing.symbols[i].owner, drawing.symbols[j].owner) for i, j in found]
+    found = _overlapping(texts, symbols, False)
+    assert not found, [(drawing.texts[i].text, drawing.symbols[j].owner) for i, j in found]
+    found = _overlapping(texts, lines, False)
+    assert not found, [(drawing.texts[i].text, drawing.lines[j].owner) for i, j in found[:5]]
+    everything = np.vstack([texts, symbols, lines])
+    assert everything[:, :2].min() >= 0
+    assert everything[:, 2].max() <= drawing.width and everything[:, 3].max() <= drawing.height
+
+
+def assert_everything_drawn(system, drawing) -> None:
+    texts = {t.text for t in drawing.texts}
+    for sheet, column in NAMES.items():
+        for name in getattr(system, sheet).column(column):
+            assert name in texts, f"{sheet} {name} is not on the diagram"
+    drawn = {s.owner for s in drawing.symbols}
+    for sheet in ("sources", "transformers", "cables", "impedances", "machines"):
+        for name in getattr(system, sheet).column(NAMES[sheet]):
+            assert name in drawn, f"{sheet} {name} has no symbol"
+
+
+@pytest.mark.parametrize("sample", ["plant_480v", "double_ended_480v"])
+def test_the_samples_are_drawn_whole_without_overlap(sample):
+    system = read_system(sample_path(sample))
+    result = run_study(system)
+    drawing = draw(system, result)
+    assert_everything_drawn(system, drawing)
+    assert_no_overlap(drawing)
+    # Each bus's printed figures are the study's largest over the base and the cases, as
+    # printed (two decimals).
+    worst = result.buses.set_index("bus")[["i3ph_ka", "islg_ka"]]
+    if result.envelope is not None:
+        envelope = result.envelope.set_index("bus")[["i3ph_ka", "islg_ka"]]
+        worst = np.fmax(worst, envelope)
+    for bus, row in worst.iterrows():
+        line = f"3ph {row.i3ph_ka:.2f} kA  SLG {row.islg_ka:.2f} kA"
+        assert line in drawing.text_of(bus), (bus, drawing.text_of(bus))
+
+
+def test_a_tie_between_buses_side_by_side_runs_straight_across():
+    system = read_system(sample_path("double_ended_480v"))
+    drawing = draw(system, run_study(system))
+    bar = {ln.owner: ln.y1 for ln in drawing.lines if ln.width > 3}
+    symbol = {s.owner: s for s in drawing.symbols}
+    # TIE-1 joins SUB-A and SUB-B, LOOP-2 joins RMU-A and RMU-B: each drawn at its bars' height
+    assert symbol["TIE-1"].y == bar["SUB-A"] == bar["SUB-B"]
+    assert symbol["LOOP-2"].y == bar["RMU-A"] == bar["RMU-B"]
+    assert symbol["TIE-1"].turned and not symbol["TX-A"].turned
+
+
+@pytest.mark.parametrize(
+    "case",
+    [
+        {"seed": 1, "n_mv": 10, "n_lv": 40, "machines": 6},
+        {"seed": 2, "n_mv": 12, "n_lv": 30, "loops": 3, "ties": 2, "machines": 4, "sources": 2},
+        {"seed": 3, "n_mv": 30, "n_lv": 120, "loops": 2, "machines": 10},
+    ],
+)
+def test_random_networks_are_drawn_whole_without_overlap(make_input, case):
+    system = read_system(make_input(random_sheets(**case)))
+    drawing = draw(system, run_study(system))
+    assert_everything_drawn(system, drawing)
+    assert_no_overlap(drawing)
+
+
+def test_a_device_over_its_rating_is_marked(make_input):
+    system = read_system(sample_path("double_ended_480v"))
+    result = run_study(system)
+    over = set(result.over_rating().bus)
+    assert over  # the invented sample's 65 kA breakers see about 77 kA
+    drawing = draw(system, result)
+    for bus in over:
+        assert any("EXCEEDS RATING" in t for t in drawing.text_of(bus))
+        assert [ln.colour for ln in drawing.lines if ln.owner == bus and ln.width > 3] == [OVER]
+
+
+def test_text_stays_text_in_svg_and_pdf(tmp_path):
+    system = read_system(sample_path("plant_480v"))
+    result = run_study(system)
+    svg = tmp_path / "one-line.svg"
+    write_diagram(system, result, svg)
+    root = ElementTree.parse(svg).getroot()
+    words = {"".join(e.itertext()) for e in root.iter() if e.tag.endswith("text")}
+    assert set(system.buses.column("bus")) <= words
+    pdf = tmp_path / "one-line.pdf"
+    write_diagram(system, result, pdf)
+    data = pdf.read_bytes()
+    assert data.startswith(b"%PDF") and b"/FontFile2" in data  # TrueType embedded, not paths
+
+
+def test_the_command_writes_a_diagram_and_refuses_a_wrong_suffix(tmp_path):
+    out = tmp_path / "plant.png"
+    done = CliRunner().invoke(main, ["diagram", str(sample_path("plant_480v")), "-o", str(out)])
+    assert done.exit_code == 0, done.output
+    assert out.read_bytes().startswith(b"\x89PNG")
+    bad = tmp_path / "plant.docx"
+    done = CliRunner().invoke(main, ["diagram", str(sample_path("plant_480v")), "-o", str(bad)])
+    assert done.exit_code == 2 and ".svg, .pdf or .png" in done.output
+    assert not bad.exists() and sorted(p.name for p in tmp_path.iterdir()) == ["plant.png"]
+
+
+def test_overlap_check_itself_finds_an_overlap():
+    # The check must be able to fail: two texts placed on one another are found.
+    from faultcalc.diagram.layout import Drawing
+    from faultcalc.diagram.shapes import Text
+
+    drawing = Drawing(100, 100, texts=[Text(10, 10, "SWBD-1"), Text(20, 12, "MCC-1")])
+    with pytest.raises(AssertionError):
+        assert_no_overlap(drawing)
+    assert list(itertools.chain(_overlapping(_boxes(drawing.texts), _boxes(drawing.texts), True)))
+
+
+def test_hostile_names_are_drawn_as_plain_text(make_input, tmp_path):
+    # A $ would start matplotlib's mathematics and an unclosed \frac would fail; markup must
+    # stay text in the SVG (common practice, no source).
+    odd = ["$\\frac{", '=HYPERLINK("x")', "<svg onload=alert(1)>&amp;"]
+    sheets = {
+        "buses": [
+            {"bus": odd[0], "kv": 12.47},
+            {"bus": odd[1], "kv": 0.48},
+            {"bus": odd[2], "kv": 0.48},
+        ],
+        "sources": [{"source": "$U$", "bus": odd[0], "sc_mva": 300, "xr": 10, "slg_ka": 12}],
+        "transformers": [
+            {
+                "transformer": "T$1",
+                "hv_bus": odd[0],
+                "lv_bus": odd[1],
+                "kva": 1000,
+                "hv_kv": 12.47,
+                "lv_kv": 0.48,
+                "z_pct": 5.75,
+                "xr": 6,
+                "hv_winding": "D",
+                "lv_winding": "YN",
+            }
+        ],
+        "impedances": [
+            {
+                "element": "Z<b>",
+                "from_bus": odd[1],
+                "to_bus": odd[2],
+                "r_ohm": 0.001,
+                "x_ohm": 0.002,
+            }
+        ],
+    }
+    system = read_system(make_input(sheets))
+    result = run_study(system)
+    for suffix in ("svg", "pdf", "png"):
+        write_diagram(system, result, tmp_path / f"odd.{suffix}")
+    root = ElementTree.parse(tmp_path / "odd.svg").getroot()
+    words = {"".join(e.itertext()) for e in root.iter() if e.tag.endswith("text")}
+    assert set(odd) | {"$U$", "T$1", "Z<b>"} <= words
+    assert not [e for e in root.iter() if e.tag.endswith("svg")][1:]  # no nested svg element
