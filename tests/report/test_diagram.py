@@ -207,3 +207,20 @@ def test_hostile_names_are_drawn_as_plain_text(make_input, tmp_path):
     words = {"".join(e.itertext()) for e in root.iter() if e.tag.endswith("text")}
     assert set(odd) | {"$U$", "T$1", "Z<b>"} <= words
     assert not [e for e in root.iter() if e.tag.endswith("svg")][1:]  # no nested svg element
+
+
+def test_text_boxes_are_never_narrower_than_the_font_lays_the_text_out():
+    # The boxes the overlap checks use must hold the text as the renderer lays it out
+    # (matplotlib's FT2Font layout, hinted, with kerning): compared on every text of both
+    # samples' diagrams, in regular and bold.
+    from faultcalc.diagram.shapes import laid_out_width, text_width
+
+    strings = set()
+    for sample in ("plant_480v", "double_ended_480v"):
+        system = read_system(sample_path(sample))
+        strings |= {t.text for t in draw(system, run_study(system)).texts}
+    strings |= {"AVAVAV Wo", "WWWWWWWW", "iiiiiiii", '=HYPERLINK("x")', "Ty.Te"}
+    for text in sorted(strings):
+        for size in (8.0, 9.0):
+            for bold in (False, True):
+                assert text_width(text, size, bold) >= laid_out_width(text, size, bold), text
