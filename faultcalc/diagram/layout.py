@@ -187,7 +187,58 @@ def draw(system: System, result=None) -> Drawing:
         drawing.notes.append(
             "not fed from any source or generator (drawn apart): " + ", ".join(tree.unreached)
         )
+    _footer(drawing, system, result)
     return drawing
+
+
+FOOTER_MIN_WIDTH = 6.5 * 72  # the cautions stay readable on a letter page's width
+
+
+def _wrapped(text: str, width: float, size: float, bold: bool = False) -> list[str]:
+    lines, line = [], ""
+    for word in text.split():
+        trial = f"{line} {word}".strip()
+        if line and text_width(trial, size, bold) > width:
+            lines.append(line)
+            line = word
+        else:
+            line = trial
+    return [*lines, line] if line else lines
+
+
+def _footer(drawing: Drawing, system: System, result) -> None:
+    """The title block under the diagram: the study's title and basis, the notes and every
+    caution (SAFETY.md): a diagram handed on alone still carries them."""
+    from ..cautions import CAUTIONS
+
+    drawing.width = max(drawing.width, FOOTER_MIN_WIDTH + 2 * MARGIN)
+    width = drawing.width - 2 * MARGIN
+    y = drawing.height + 4
+    drawing.lines.append(Line(MARGIN, y, drawing.width - MARGIN, y, 0.8, INK, owner="footer"))
+    y += 6
+    title = system.settings.title or "One-line diagram"
+    lines: list[tuple[str, float, bool]] = [
+        (t, NAME_SIZE, True) for t in _wrapped(title, width, NAME_SIZE, True)
+    ]
+    if result is not None:
+        b = result.basis
+        basis = (
+            f"Calculated {b.calculated_at} by {b.tool_name} {b.tool_version}, method "
+            f"{b.settings.method} (see the results workbook's basis); input "
+            f"{b.input_name or '-'}, SHA-256 {b.input_sha256 or '-'}. Currents are the "
+            "largest over the base case and the cases; X/R of the base case."
+        )
+    else:
+        basis = "Topology only: no study figures."
+    lines += [(t, SIZE, False) for t in _wrapped(basis, width, SIZE)]
+    for note in drawing.notes:
+        lines += [(t, SIZE, False) for t in _wrapped(f"Note: {note}", width, SIZE)]
+    for caution in CAUTIONS:
+        lines += [(t, SIZE, False) for t in _wrapped(caution, width, SIZE)]
+    for text, size, bold in lines:
+        drawing.texts.append(Text(MARGIN, y, text, size, bold, INK, "footer"))
+        y += size * LINE_PT
+    drawing.height = y + MARGIN
 
 
 def _result_rows(result) -> dict[str, dict]:

@@ -10,6 +10,7 @@ import itertools
 
 import numpy as np
 import pytest
+from builders import transformer
 from click.testing import CliRunner
 from defusedxml import ElementTree
 from networks import random_sheets
@@ -175,20 +176,7 @@ def test_hostile_names_are_drawn_as_plain_text(make_input, tmp_path):
             {"bus": odd[2], "kv": 0.48},
         ],
         "sources": [{"source": "$U$", "bus": odd[0], "sc_mva": 300, "xr": 10, "slg_ka": 12}],
-        "transformers": [
-            {
-                "transformer": "T$1",
-                "hv_bus": odd[0],
-                "lv_bus": odd[1],
-                "kva": 1000,
-                "hv_kv": 12.47,
-                "lv_kv": 0.48,
-                "z_pct": 5.75,
-                "xr": 6,
-                "hv_winding": "D",
-                "lv_winding": "YN",
-            }
-        ],
+        "transformers": [transformer(transformer="T$1", hv_bus=odd[0], lv_bus=odd[1])],
         "impedances": [
             {
                 "element": "Z<b>",
@@ -224,3 +212,15 @@ def test_text_boxes_are_never_narrower_than_the_font_lays_the_text_out():
         for size in (8.0, 9.0):
             for bold in (False, True):
                 assert text_width(text, size, bold) >= laid_out_width(text, size, bold), text
+
+
+def test_the_diagram_carries_every_caution_and_the_input_it_was_drawn_from():
+    # SAFETY.md: every output carries the cautions; a diagram may be handed on alone.
+    from faultcalc.cautions import CAUTIONS
+
+    system = read_system(sample_path("plant_480v"))
+    result = run_study(system)
+    footer = " ".join(draw(system, result).text_of("footer"))
+    for caution in CAUTIONS:
+        assert caution in footer
+    assert result.basis.input_sha256 in footer and system.settings.title in footer
