@@ -14,7 +14,7 @@ import math
 from dataclasses import dataclass, field
 
 from ..model import System
-from .shapes import LINE_PT, Line, Symbol, Text, text_width
+from .shapes import FONT, LINE_PT, Line, Symbol, Text, lacks, text_width
 from .topology import Branch, Tree, tree_of
 
 SIZE = 8.0  # every label at 8 pt or more (the report's floor)
@@ -112,18 +112,21 @@ def draw(system: System, result=None) -> Drawing:
         text = max(text_width(t, s, b) for t, s, b, _ in texts[bus])
         branch = tree.parent.get(bus)
         if branch is not None:
-            text = max(text, SYMBOL / 2 + max(text_width(t, SIZE) for t in branch.text))
+            text = max(text, SYMBOL / 2 + _block_width(branch.text))
         sources = tree.sources.get(bus, [])
-        over = sum(_source_width(lines) for _, lines in sources)
-        return max(LEFT + TEXT_GAP + text + MARGIN, over)
+        own = LEFT + TEXT_GAP + text + MARGIN
+        if not sources:
+            return own
+        xs = _source_xs(LEFT, _bus_text_width(texts[bus]), sources)
+        return max(own, xs[-1] - LEFT + _source_width(sources[-1][1]))
 
     def columns(bus: str) -> list[_Column]:
         out = [_Column("bus", 0.0, c) for c in tree.children[bus]]
         for name, _letter, lines in tree.machines.get(bus, []):
-            w = LEFT + SYMBOL / 2 + TEXT_GAP + max(text_width(t, SIZE) for t in lines) + MARGIN
+            w = LEFT + SYMBOL / 2 + TEXT_GAP + _block_width(lines) + MARGIN
             out.append(_Column("machine", w, name))
         for tie, other in stubs.get(bus, []):
-            text = max(text_width(t, SIZE) for t in _stub_text(tie, other))
+            text = _block_width(_stub_text(tie, other))
             w = LEFT + SYMBOL / 2 + TEXT_GAP + text + MARGIN
             out.append(_Column("stub", w, tie.name + "\0" + other))
         return out
@@ -186,6 +189,11 @@ def draw(system: System, result=None) -> Drawing:
     if tree.unreached:
         drawing.notes.append(
             "not fed from any source or generator (drawn apart): " + ", ".join(tree.unreached)
+        )
+    if any(lacks(t.text) for t in drawing.texts):
+        drawing.notes.append(
+            f"some names hold characters the diagram's font ({FONT}) does not have; they print "
+            "as boxes here (the results workbook holds them as typed)"
         )
     _footer(drawing, system, result)
     return drawing
@@ -345,15 +353,35 @@ def _tie_text(tie: Branch) -> tuple[str, ...]:
 
 
 def _tie_gap(tie: Branch) -> float:
-    return max(SYMBOL, max(text_width(t, SIZE) for t in _tie_text(tie))) + 2 * MARGIN
+    return max(SYMBOL, _block_width(_tie_text(tie))) + 2 * MARGIN
 
 
 def _stub_text(tie: Branch, other: str) -> tuple[str, ...]:
     return (tie.name, f"{tie.kind} to {other}")
 
 
+def _block_width(lines) -> float:
+    """The width of an element's text block: its first line (the name) is bold."""
+    return max(text_width(t, SIZE, k == 0) for k, t in enumerate(lines))
+
+
+def _source_xs(x: float, bus_text: float, sources) -> list[float]:
+    """The drops of a bus's sources: the first on the bus's own drop, the others to the right
+    of both the bus's text and the sources before them, so no drop crosses a text."""
+    xs = [x] if sources else []
+    for k in range(1, len(sources)):
+        after_text = x + TEXT_GAP + bus_text + MARGIN + LEFT
+        after_source = xs[-1] + _source_width(sources[k - 1][1])
+        xs.append(max(after_text, after_source))
+    return xs
+
+
 def _source_width(lines) -> float:
-    return LEFT + SYMBOL / 2 + TEXT_GAP + max(text_width(t, SIZE) for t in lines) + MARGIN
+    return LEFT + SYMBOL / 2 + TEXT_GAP + _block_width(lines) + MARGIN
+
+
+def _bus_text_width(lines) -> float:
+    return max(text_width(t, size, bold) for t, size, bold, _ in lines)
 
 
 def _texts(drawing: Drawing, x: float, y: float, lines, owner: str) -> float:
@@ -377,8 +405,10 @@ def _draw_bus(drawing, tree, bus, where, lines, kids, stubs, colour) -> None:
     zone_top = y - LEVEL if branch is not None else y - BUS_ZONE - SOURCE_ZONE
     if branch is not None:
         _draw_on_drop(drawing, branch.kind, x, zone_top, y, branch.text, branch.name)
-    for k, (name, text) in enumerate(tree.sources.get(bus, [])):
-        sx = x + sum(_source_width(t) for _, t in tree.sources[bus][:k])
+    sources = tree.sources.get(bus, [])
+    for (name, text), sx in zip(
+        sources, _source_xs(x, _bus_text_width(lines), sources), strict=True
+    ):
         _draw_on_drop(drawing, "source", sx, zone_top, y, text, name)
     for c in kids:
         cx = c.left + LEFT

@@ -3,6 +3,7 @@ elements; TrueType fonts embedded in the PDF), so that it can be searched and se
 
 from __future__ import annotations
 
+import warnings
 from pathlib import Path
 
 from .layout import Drawing
@@ -111,7 +112,8 @@ def save(drawing: Drawing, path: str | Path, suffix: str | None = None) -> None:
         raise ValueError(f"a diagram is written as {', '.join(FORMATS)}; got {path.name}")
     fig = figure_of(drawing)
     settings = {"svg.fonttype": "none", "pdf.fonttype": 42, "hatch.linewidth": 0.6}
-    with matplotlib.rc_context(settings):
+    with matplotlib.rc_context(settings), warnings.catch_warnings():
+        warnings.filterwarnings("ignore", message=r"Glyph \d+ .* missing")  # said in the notes
         fig.savefig(path, format=suffix[1:], dpi=RASTER_DPI, metadata=_metadata(suffix))
 
 

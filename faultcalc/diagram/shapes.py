@@ -96,9 +96,17 @@ def _advance(char: str, size: float, bold: bool) -> float:
 
     font = _font(bold)
     font.set_size(size, RASTER_DPI)
+    if not font.get_char_index(ord(char)):  # not in the font: drawn as a box, about 1 em
+        return size
     glyph = font.load_char(ord(char), flags=LoadFlags.FORCE_AUTOHINT)
     hinted = glyph.horiAdvance / 64.0 * 72.0 / RASTER_DPI
     return max(hinted, glyph.linearHoriAdvance / 65536.0 * 72.0 / RASTER_DPI)
+
+
+def lacks(text: str) -> bool:
+    """Whether the font has no glyph for some character of ``text`` (it prints as a box)."""
+    font = _font(False)
+    return any(not font.get_char_index(ord(c)) for c in set(text) if not c.isspace())
 
 
 def laid_out_width(text: str, size: float, bold: bool = False) -> float:

@@ -224,3 +224,79 @@ def test_the_diagram_carries_every_caution_and_the_input_it_was_drawn_from():
     for caution in CAUTIONS:
         assert caution in footer
     assert result.basis.input_sha256 in footer and system.settings.title in footer
+
+
+def _bus(n, kv=0.48):
+    return {"bus": n, "kv": kv}
+
+
+def _source(n, b):
+    return {"source": n, "bus": b, "sc_mva": 500, "xr": 10}
+
+
+def _motor(n, b):
+    return {
+        "machine": n,
+        "bus": b,
+        "kind": "induction_motor",
+        "hp": 10,
+        "kv": 0.46,
+        "xd_pct": 16.7,
+        "xr": 8,
+    }
+
+
+@pytest.mark.parametrize(
+    "sheets",
+    [
+        # long bold names side by side (three motors, a straight tie of 60 letters)
+        {
+            "buses": [_bus("MV", 13.8), _bus("MCC")],
+            "sources": [_source("U", "MV")],
+            "transformers": [transformer(transformer="T1", hv_bus="MV", lv_bus="MCC", hv_kv=13.8)],
+            "machines": [
+                _motor(f"CHILLED WATER PUMP P-10{i}A NORTH PUMPHOUSE MCC-1 BUCKET 3B", "MCC")
+                for i in range(3)
+            ],
+        },
+        {
+            "buses": [_bus("MV", 13.8), _bus("a"), _bus("b")],
+            "sources": [_source("U", "MV")],
+            "transformers": [
+                transformer(transformer="X1", hv_bus="MV", lv_bus="a", hv_kv=13.8),
+                transformer(transformer="X2", hv_bus="MV", lv_bus="b", hv_kv=13.8),
+            ],
+            "impedances": [
+                {
+                    "element": "T" * 60,
+                    "from_bus": "a",
+                    "to_bus": "b",
+                    "r_ohm": 0.001,
+                    "x_ohm": 0.001,
+                }
+            ],
+        },
+        # three sources on one bus: no drop through the bus's text
+        {
+            "buses": [_bus("MV", 13.8)],
+            "sources": [_source("A", "MV"), _source("B", "MV"), _source("C", "MV")],
+        },
+        # names the font has no glyph for (drawn as boxes, measured as one em each)
+        {
+            "buses": [_bus("変電所MV", 13.8), _bus("配電盤")],
+            "sources": [_source("🔌", "変電所MV")],
+            "transformers": [
+                transformer(transformer="変圧器", hv_bus="変電所MV", lv_bus="配電盤", hv_kv=13.8)
+            ],
+        },
+    ],
+    ids=["long names", "long straight tie", "three sources", "glyphs not in the font"],
+)
+def test_a_reviewers_hostile_one_lines_are_drawn_without_overlap(make_input, sheets):
+    # Found by an independent hostile pass over the diagram (common practice, no source).
+    system = read_system(make_input(sheets))
+    drawing = draw(system, run_study(system))
+    assert_everything_drawn(system, drawing)
+    assert_no_overlap(drawing)
+    lacking = any(ord(c) > 0x2FFF for n in system.buses.column("bus") for c in n)
+    assert lacking == any("font" in note for note in drawing.notes)
