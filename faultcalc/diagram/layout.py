@@ -97,16 +97,17 @@ def draw(system: System, result=None) -> Drawing:
     rows = _result_rows(result)
     status = _statuses(result)
     buses = {b.bus: b for b in system.buses}
-    ties_straight, stubs = _straight_ties(tree)
+    order = _dfs(tree)
+    position = {bus: k for k, bus in enumerate(order)}
+    ties_straight, stubs = _straight_ties(tree, order)
     texts = {
         b: bus_lines(buses[b], rows.get(b), status.get(b, "")) for b in buses if b in tree.level
     }
     width: dict[str, float] = {}
     gap_before: dict[str, float] = {}
     for tie in ties_straight:
-        gap_before[_gap_owner(tree, tie)] = max(
-            gap_before.get(_gap_owner(tree, tie), 0.0), _tie_gap(tie)
-        )
+        owner = _gap_owner(tree, tie, position)
+        gap_before[owner] = max(gap_before.get(owner, 0.0), _tie_gap(tie))
 
     def own_width(bus: str) -> float:
         text = max(text_width(t, s, b) for t, s, b, _ in texts[bus])
@@ -131,34 +132,26 @@ def draw(system: System, result=None) -> Drawing:
             out.append(_Column("stub", w, tie.name + "\0" + other))
         return out
 
-    kids: dict[str, list[_Column]] = {}
-
-    def measure(bus: str) -> float:
-        kids[bus] = columns(bus)
-        total = 0.0
+    # widths from the leaves up, then lefts from the roots down (loops, not recursion: a
+    # feeder of a thousand buses in series is a thousand levels deep)
+    kids = {bus: columns(bus) for bus in order}
+    for bus in reversed(order):  # every child comes after its parent in ``order``
         for c in kids[bus]:
             if c.kind == "bus":
-                c.width = measure(c.name) + gap_before.get(c.name, 0.0)
-            total += c.width
-        width[bus] = max(own_width(bus), total)
-        return width[bus]
-
+                c.width = width[c.name] + gap_before.get(c.name, 0.0)
+        width[bus] = max(own_width(bus), sum(c.width for c in kids[bus]))
     left_of: dict[str, float] = {}
-
-    def place(bus: str, left: float) -> None:
-        left_of[bus] = left
-        x = left
-        for c in kids[bus]:
-            c.left = x
-            if c.kind == "bus":
-                place(c.name, x + gap_before.get(c.name, 0.0))
-            x += c.width
-
     x = MARGIN
     for root in tree.roots:
-        measure(root)
-        place(root, x + gap_before.get(root, 0.0))
+        left_of[root] = x + gap_before.get(root, 0.0)
         x += width[root] + gap_before.get(root, 0.0)
+    for bus in order:  # a parent is placed before its children
+        at = left_of[bus]
+        for c in kids[bus]:
+            c.left = at
+            if c.kind == "bus":
+                left_of[c.name] = at + gap_before.get(c.name, 0.0)
+            at += c.width
     depth = max(tree.level.values(), default=0)
     top = MARGIN + SOURCE_ZONE
     height = top + BUS_ZONE + depth * LEVEL + SYMBOL_ZONE + MARGIN
@@ -286,20 +279,14 @@ def _statuses(result) -> dict[str, tuple[str, str]]:
     return out
 
 
-def _straight_ties(tree: Tree):
+def _straight_ties(tree: Tree, order: list[str]):
     """The ties drawn straight across (two buses next to each other in one row) and, per bus,
-    the other ties' stubs (tie, the bus at the other end)."""
-    order: dict[int, list[str]] = {}
-
-    def walk(bus: str) -> None:
-        order.setdefault(tree.level[bus], []).append(bus)
-        for c in tree.children[bus]:
-            walk(c)
-
-    for root in tree.roots:
-        walk(root)
+    the other ties' stubs (tie, the bus at the other end). ``order``: the buses depth first."""
+    rows: dict[int, list[str]] = {}
+    for bus in order:
+        rows.setdefault(tree.level[bus], []).append(bus)
     next_to = {}
-    for row in order.values():
+    for row in rows.values():
         for a, b in zip(row, row[1:], strict=False):
             next_to[(a, b)] = next_to[(b, a)] = True
     straight, stubs, used = [], {}, set()
@@ -314,9 +301,10 @@ def _straight_ties(tree: Tree):
     return straight, stubs
 
 
-def _gap_owner(tree: Tree, tie: Branch) -> str:
+def _gap_owner(tree: Tree, tie: Branch, position: dict[str, int]) -> str:
     """The bus whose span the gap for a straight tie goes before: the right one's ancestor
-    that is a child of the two buses' lowest common ancestor (or a root)."""
+    that is a child of the two buses' lowest common ancestor (or a root). ``position``: each
+    bus's place depth first."""
 
     def chain(bus):
         out = [bus]
@@ -325,8 +313,7 @@ def _gap_owner(tree: Tree, tie: Branch) -> str:
         return out
 
     a, b = chain(tie.one), chain(tie.two)
-    order = {bus: k for k, bus in enumerate(_dfs(tree))}
-    if order[tie.one] > order[tie.two]:
+    if position[tie.one] > position[tie.two]:
         a, b = b, a
     ancestors_a = set(a)
     for k, bus in enumerate(b):
@@ -336,15 +323,13 @@ def _gap_owner(tree: Tree, tie: Branch) -> str:
 
 
 def _dfs(tree: Tree) -> list[str]:
-    out = []
-
-    def walk(bus):
+    """Every bus depth first (pre-order, children in their drawing order), root by root."""
+    out: list[str] = []
+    stack = list(reversed(tree.roots))
+    while stack:
+        bus = stack.pop()
         out.append(bus)
-        for c in tree.children[bus]:
-            walk(c)
-
-    for r in tree.roots:
-        walk(r)
+        stack.extend(reversed(tree.children[bus]))
     return out
 
 

@@ -300,3 +300,28 @@ def test_a_reviewers_hostile_one_lines_are_drawn_without_overlap(make_input, she
     assert_no_overlap(drawing)
     lacking = any(ord(c) > 0x2FFF for n in system.buses.column("bus") for c in n)
     assert lacking == any("font" in note for note in drawing.notes)
+
+
+def test_a_feeder_deeper_than_the_recursion_limit_is_drawn(make_input):
+    # 1,200 buses in series (Python's default recursion limit is 1,000): the layout walks
+    # the tree with loops (common practice, no source).
+    n = 1200
+    sheets = {
+        "buses": [_bus("MV", 13.8)] + [_bus(f"B{i}", 13.8) for i in range(n)],
+        "sources": [_source("U", "MV")],
+        "impedances": [
+            {
+                "element": f"Z{i}",
+                "from_bus": "MV" if i == 0 else f"B{i - 1}",
+                "to_bus": f"B{i}",
+                "r_ohm": 0.001,
+                "x_ohm": 0.002,
+            }
+            for i in range(n)
+        ],
+    }
+    system = read_system(make_input(sheets))
+    drawing = draw(system, run_study(system))
+    assert_everything_drawn(system, drawing)
+    bars = sorted(ln.y1 for ln in drawing.lines if ln.width > 3)
+    assert len(bars) == n + 1 and all(b > a for a, b in zip(bars, bars[1:], strict=False))
