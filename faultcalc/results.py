@@ -84,6 +84,21 @@ LABEL_COLUMNS = (
     "label_case",  # base, or the case that gave it
 )
 
+# Columns of StudyResult.maximum: each bus's maximum available fault current over the base case
+# and every case, what gives it, and its duty status (the Summary sheet and the report's table).
+MAXIMUM_COLUMNS = (
+    "bus",
+    "description",
+    "kv",
+    "max_ka",  # largest of the four fault currents over the base case and every case
+    "max_fault",  # 3ph, slg, ll or llg: the fault type that gave it
+    "max_case",  # base, or the case that gave it
+    "xr",  # the bus's X/R in that case
+    "ip_ka",  # worst peak (three-phase) over the base case and every case
+    "iasym_ka",  # worst half-cycle asymmetrical RMS (three-phase) over them
+    "duty_status",  # worst duty status over them (no rating given where no device)
+)
+
 # Columns of StudyResult.elements, the echo of every element on the common base.
 ELEMENT_COLUMNS = (
     "element",
@@ -135,6 +150,7 @@ class StudyResult:
     duty: pd.DataFrame | None = None  # DUTY_COLUMNS, one row per rated bus (worst over cases)
     labels: pd.DataFrame | None = None  # LABEL_COLUMNS, one row per service bus
     label_cases_left_out: tuple[str, ...] = ()  # cases whose rows say label = no
+    maximum: pd.DataFrame | None = None  # MAXIMUM_COLUMNS, one row per bus of any case
 
     def over_rating(self) -> pd.DataFrame:
         """Rows of ``duty`` whose worst duty exceeds the rating, the largest duty first."""
@@ -177,6 +193,11 @@ class StudyResult:
                 else None
             ),
             cases={k: v[v.bus.isin(names)] for k, v in self.cases.items()},
+            maximum=(
+                self.maximum.set_index("bus").reindex(b.bus.iloc[keep]).reset_index()
+                if self.maximum is not None
+                else None
+            ),
             envelope=(
                 self.envelope[self.envelope.bus.isin(names)] if self.envelope is not None else None
             ),

@@ -16,7 +16,15 @@ from .conductors import cablecheck
 from .errors import InputError, Problem
 from .model import System
 from .progress import Progress, reporter, without_gc
-from .results import BUS_COLUMNS, DUTY_COLUMNS, ELEMENT_COLUMNS, LABEL_COLUMNS, Basis, StudyResult
+from .results import (
+    BUS_COLUMNS,
+    DUTY_COLUMNS,
+    ELEMENT_COLUMNS,
+    LABEL_COLUMNS,
+    MAXIMUM_COLUMNS,
+    Basis,
+    StudyResult,
+)
 from .solve import asymmetry, duty, faults, methods, perunit, standards
 from .solve.contributions import Phasors, as_table, contribution_phasors
 from .solve.network import Network, build_network, positive_matrix_variant, zone_angles_deg
@@ -504,22 +512,65 @@ def _labels(
     rows = pd.Index(np.array(order, dtype=object)).get_indexer(service)
     names = list(tables)
     base = tables[names[0]]
+    table, value, fault = _largest_fault(tables, rows)
+    return pd.DataFrame(
+        {
+            "bus": base.bus.iloc[rows].to_numpy(dtype=object),
+            "description": [descriptions[b] for b in service],
+            "kv": _kv(tables, rows),
+            "label_ka": value,
+            "label_fault": fault,
+            "label_case": np.array(names, dtype=object)[table],
+        },
+        columns=list(LABEL_COLUMNS),
+    )
+
+
+def _kv(tables: dict[str, pd.DataFrame], rows) -> np.ndarray:
+    """The nominal kV at ``rows`` (a bus in service only in a case has its kV in that case's
+    table alone)."""
+    return np.fmax.reduce([t.kv.iloc[rows].to_numpy(dtype=float) for t in tables.values()])
+
+
+def _largest_fault(tables: dict[str, pd.DataFrame], rows) -> tuple[np.ndarray, ...]:
+    """At ``rows`` of the aligned ``tables``: the index of the table holding the largest of the
+    four fault currents (the first on equal values: the base case, then three-phase, ...),
+    that current (NaN if none) and its fault type."""
     stack = np.vstack(
         [t[list(LABEL_FAULTS)].iloc[rows].to_numpy(dtype=float).T for t in tables.values()]
     )  # table-major: base 3ph, slg, ll, llg, then each case's
     worst, value = _largest(stack)
     kinds = len(LABEL_FAULTS)
+    fault = np.array(faults.FAULT_TYPES, dtype=object)[worst % kinds]
+    return worst // kinds, value, np.where(np.isfinite(value), fault, "")
+
+
+def _maximum(
+    tables: dict[str, pd.DataFrame], order: list[str], descriptions, worst_duty: pd.DataFrame
+) -> pd.DataFrame:
+    """Per bus, the maximum available fault current over the base case and every case: the
+    largest of the four fault types, the type and the case that give it and that case's X/R;
+    the worst peak and half-cycle asymmetrical current over all; the worst duty status."""
+    tables = _aligned(tables, order)
+    names = list(tables)
+    rows = np.arange(len(order))
+    table, value, fault = _largest_fault(tables, rows)
+    xr = np.vstack([t.xr.to_numpy(dtype=float) for t in tables.values()])[table, rows]
+    status = dict(zip(worst_duty.bus, worst_duty.duty_status, strict=True))
     return pd.DataFrame(
         {
-            "bus": base.bus.iloc[rows].to_numpy(dtype=object),
-            "description": [descriptions[b] for b in service],
-            # a bus in service only in a case has its kV in that case's table alone
-            "kv": np.fmax.reduce([t.kv.iloc[rows].to_numpy(dtype=float) for t in tables.values()]),
-            "label_ka": value,
-            "label_fault": np.array(faults.FAULT_TYPES, dtype=object)[worst % kinds],
-            "label_case": np.array(names, dtype=object)[worst // kinds],
+            "bus": np.array(order, dtype=object),
+            "description": [descriptions[b] for b in order],
+            "kv": _kv(tables, rows),
+            "max_ka": value,
+            "max_fault": fault,
+            "max_case": np.where(np.isfinite(value), np.array(names, dtype=object)[table], ""),
+            "xr": np.where(np.isfinite(value), xr, np.nan),
+            "ip_ka": _worst(tables, "ip_ka")[1],
+            "iasym_ka": _worst(tables, "iasym_ka")[1],
+            "duty_status": [status.get(b, duty.STATUS_NONE) for b in order],
         },
-        columns=list(LABEL_COLUMNS),
+        columns=list(MAXIMUM_COLUMNS),
     )
 
 
@@ -707,6 +758,7 @@ def _study(system: System, contributions, calculated_at, progress: Progress) -> 
         {n: t for n, t in tables.items() if n not in left_out}, order, service, descriptions
     )
 
+    worst_duty = _worst_duty(tables, order, descriptions)
     stamp = (calculated_at or _dt.datetime.now().astimezone()).isoformat(timespec="seconds")
     method = METHOD.format(
         method=methods.describe(system),
@@ -730,7 +782,8 @@ def _study(system: System, contributions, calculated_at, progress: Progress) -> 
         cases=case_tables,
         envelope=envelope,
         service_buses=tuple(service),
-        duty=_worst_duty(tables, order, descriptions),
+        duty=worst_duty,
         labels=labels,
+        maximum=_maximum(tables, order, descriptions, worst_duty),
         label_cases_left_out=left_out,
     )
