@@ -160,12 +160,22 @@ def _run(
     json_path: Path | None,
     contributions: str | None = None,
     overwrite: bool = False,
+    report_path: Path | None = None,
 ):
     """Study and write; returns the StudyResult (after every output is written)."""
     from . import ResultFiles, contribution_bus_names, read_system, run_study
 
+    if report_path is not None and report_path.suffix.lower() != ".pdf":
+        raise click.BadParameter(
+            f"{report_path.name}: the report is written as .pdf", param_hint="--report"
+        )
     files = ResultFiles(
-        output, json_path, input_path=input_path, overwrite=overwrite, on_placed=_mark_placed
+        output,
+        json_path,
+        report_path=report_path,
+        input_path=input_path,
+        overwrite=overwrite,
+        on_placed=_mark_placed,
     )
     bar = TerminalProgress()
     system = read_system(input_path, progress=bar)
@@ -181,7 +191,7 @@ def _run(
                 "give bus names separated by commas, or all", param_hint="--contributions"
             )
     result = run_study(system, contributions=contributions, progress=bar)
-    written = files.write(result, progress=bar)
+    written = files.write(result, system=system, progress=bar)
     _disarm()
     if written.removed is not None:
         click.echo(f"removed {written.removed.name}, left by an earlier, larger study", err=True)
@@ -196,6 +206,8 @@ def _run(
         click.echo(f"bus results (every bus): {written.bus_csv.resolve()}")
     if json_path:
         click.echo(f"results JSON: {json_path.resolve()}")
+    if report_path:
+        click.echo(f"study report: {report_path.resolve()}")
     click.echo("Caution: for review by a qualified engineer; see the 'Basis and cautions' sheet.")
     return result
 
@@ -230,6 +242,14 @@ def main() -> None:
     help="Also write the results as JSON.",
 )
 @click.option(
+    "--report",
+    "report_path",
+    type=click.Path(path_type=Path),
+    metavar="REPORT.pdf",
+    help="Also write the study report (PDF): title page, cautions, basis, the one-line, the "
+    "tables and the service labels, for print and review.",
+)
+@click.option(
     "--contributions",
     metavar="BUS[,BUS...]|all",
     help="Add the current from every source, machine and branch for three-phase and "
@@ -246,6 +266,7 @@ def study(
     input_path: Path,
     output: Path,
     json_path: Path | None,
+    report_path: Path | None,
     contributions: str | None,
     fail_on_overduty: bool,
     overwrite: bool,
@@ -255,6 +276,7 @@ def study(
     \b
     Example:
       faultcalc study plant.xlsx -o plant-results.xlsx --json plant-results.json
+      faultcalc study plant.xlsx -o plant-results.xlsx --report plant-report.pdf
       faultcalc study plant.xlsx -o plant-results.xlsx --contributions SWBD-1,MCC-1
       faultcalc study plant.xlsx -o plant-results.xlsx --fail-on-overduty
 
@@ -264,7 +286,9 @@ def study(
     in the base case or a case, every output written; 143 or 129 stopped by
     SIGTERM or SIGHUP (nothing written).
     """
-    result = _guarded(lambda: _run(input_path, output, json_path, contributions, overwrite))
+    result = _guarded(
+        lambda: _run(input_path, output, json_path, contributions, overwrite, report_path)
+    )
     if fail_on_overduty and not result.over_rating().empty:
         sys.exit(EXIT_OVER_RATING)
 

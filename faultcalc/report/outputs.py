@@ -141,6 +141,7 @@ class WrittenResults:
 
     workbook: Path  # the results workbook (a summary when ``bus_csv`` is set)
     json: Path | None  # the JSON, when asked for
+    report: Path | None  # the study report (PDF), when asked for
     bus_csv: Path | None  # every bus, when the study had more than ``big_above_buses``
     removed: Path | None  # a bus CSV of an earlier, larger study, removed
     big_above_buses: int  # the number of buses above which the workbook is a summary
@@ -162,6 +163,9 @@ class ResultFiles:
         a study of more than BIG_OUTPUT_BUSES buses.
     json_path : str or Path, optional
         Also write the results as JSON.
+    report_path : str or Path, optional
+        Also write the study report (``.pdf``): title page, cautions, basis, the one-line
+        diagram, the tables and the service labels (:meth:`write` then needs the system).
     input_path : str or Path, optional
         The study's input: refused as an output.
     overwrite : bool, default False
@@ -182,6 +186,7 @@ class ResultFiles:
         output: str | Path,
         json_path: str | Path | None = None,
         *,
+        report_path: str | Path | None = None,
         input_path: str | Path | None = None,
         overwrite: bool = False,
         on_placed: Callable[[], None] | None = None,
@@ -189,6 +194,9 @@ class ResultFiles:
         self.on_placed = on_placed
         self.output = Path(output)
         self.json_path = None if json_path is None else Path(json_path)
+        self.report_path = None if report_path is None else Path(report_path)
+        if self.report_path is not None and self.report_path.suffix.lower() != ".pdf":
+            raise OutputError(f"the report is written as .pdf; got {self.report_path.name}")
         self.input_path = None if input_path is None else Path(input_path)
         self.overwrite = overwrite
         self.bus_csv = bus_csv_path(self.output)
@@ -199,24 +207,33 @@ class ResultFiles:
         # A bus CSV left by an earlier run is a target too: replaced by a large study, removed
         # by a smaller one, so that none is left beside a workbook it does not belong to.
         self._companion = [self.bus_csv] if os.path.lexists(self.bus_csv) else []
-        named = [t for t in (self.output, self.json_path) if t]
+        named = [t for t in (self.output, self.json_path, self.report_path) if t]
         self._existing = _check_targets(self.input_path, named + self._companion, overwrite)
-        if self.json_path is not None and same_file(self.output, self.json_path):
-            raise OutputError("the results workbook and the JSON file must be different files")
+        for i, one in enumerate(named):
+            for other in named[i + 1 :] + self._companion:
+                if same_file(one, other):
+                    raise OutputError(
+                        f"{one.name} is named for two outputs: the results workbook, the JSON "
+                        "and the report must be different files"
+                    )
 
-    def write(self, result, *, progress: Progress | None = None) -> WrittenResults:
-        """Write ``result`` (a :class:`faultcalc.StudyResult`): the workbook, the JSON if
-        asked for, and for a large study the bus CSV; all or none.
+    def write(self, result, *, system=None, progress: Progress | None = None) -> WrittenResults:
+        """Write ``result`` (a :class:`faultcalc.StudyResult`): the workbook, the JSON and the
+        report if asked for, and for a large study the bus CSV; all or none.
 
-        ``progress`` is told the phase "writing the results" and its steps.
+        ``system`` is the studied :class:`faultcalc.System`: the report draws its one-line
+        (required with a report). ``progress`` is told the phase "writing the results" and
+        its steps.
         """
         from .csvout import write_bus_csv_to
         from .jsonout import write_json_to
         from .workbook import write_workbook_to
 
+        if self.report_path is not None and system is None:
+            raise ValueError("a report draws the one-line: give the studied system")
         big_above = BIG_OUTPUT_BUSES
         big = len(result.buses) > big_above
-        targets = [self.output] + ([self.json_path] if self.json_path else [])
+        targets = [self.output] + [t for t in (self.json_path, self.report_path) if t]
         if big:
             _check_targets(self.input_path, [self.bus_csv], self.overwrite)
             targets.append(self.bus_csv)
@@ -234,16 +251,34 @@ class ResultFiles:
             if self.json_path:
                 progress.step("JSON")
                 write_json_to(result, temps[1])
+            if self.report_path:
+                from .pdf import write_report_to
+
+                progress.step("report")
+                write_report_to(
+                    result,
+                    temps[targets.index(self.report_path)],
+                    sheets=_sheets(system, result),
+                    summary_of=self.bus_csv.name if big else None,
+                )
             if big:
                 progress.step("every bus as CSV")
                 write_bus_csv_to(result, temps[-1])
         return WrittenResults(
             workbook=self.output,
             json=self.json_path,
+            report=self.report_path,
             bus_csv=self.bus_csv if big else None,
             removed=stale[0] if stale else None,
             big_above_buses=big_above,
         )
+
+
+def _sheets(system, result) -> list:
+    """The one-line diagram's pages for the report."""
+    from ..diagram import draw
+
+    return [draw(system, result)]
 
 
 def write_results(
@@ -251,6 +286,8 @@ def write_results(
     output: str | Path,
     json_path: str | Path | None = None,
     *,
+    report_path: str | Path | None = None,
+    system=None,
     overwrite: bool = False,
     input_path: str | Path | None = None,
     progress: Progress | None = None,
@@ -266,8 +303,10 @@ def write_results(
     ----------
     result : StudyResult
         As returned by :func:`faultcalc.run_study`.
-    output, json_path, overwrite, input_path
+    output, json_path, report_path, overwrite, input_path
         As for :class:`ResultFiles`.
+    system : System, optional
+        The studied system: required with ``report_path`` (the report draws its one-line).
     progress : Progress, optional
         Told the phase "writing the results" and its steps (default: nothing is reported).
 
@@ -294,8 +333,10 @@ def write_results(
     (False, ['r.json', 'r.xlsx'])
     >>> tmp.cleanup()
     """
-    files = ResultFiles(output, json_path, input_path=input_path, overwrite=overwrite)
-    return files.write(result, progress=progress)
+    files = ResultFiles(
+        output, json_path, report_path=report_path, input_path=input_path, overwrite=overwrite
+    )
+    return files.write(result, system=system, progress=progress)
 
 
 def write_netlist(

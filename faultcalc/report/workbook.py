@@ -16,6 +16,7 @@ from ..cautions import SHORT_CAUTION
 from ..read.names import key as name_key
 from ..results import StudyResult
 from ..solve import duty
+from .basis import basis_items
 from .files import staged
 
 HEADER_FILL = PatternFill("solid", fgColor="DCE6F0")
@@ -787,27 +788,7 @@ def _basis_sheet(ws, result: StudyResult) -> None:
     row += 1
     ws.cell(row=row, column=1, value="Basis of the calculation").font = BOLD
     row += 1
-    items = [
-        ("Input file", b.input_name),
-        ("Input SHA-256", b.input_sha256),
-        ("Calculated at", b.calculated_at),
-        ("Tool", f"{b.tool_name} {b.tool_version}"),
-        ("MVA base", f"{s.base_mva:g} MVA"),
-        ("Frequency", f"{s.frequency_hz} Hz"),
-        ("Prefault voltage", f"{s.prefault_pu:g} per-unit of each bus's nominal kV"),
-        (
-            "Fault impedance",
-            f"{s.fault_ohm:g} ohm" + (" (bolted faults)" if not s.fault_ohm else ""),
-        ),
-        (
-            "Conductor temperature",
-            f"{s.conductor_temp_c:g} C for cable resistances taken from "
-            "the tables; typed resistances used as typed",
-        ),
-        ("Calculation method", f"{s.method} (X/R for asymmetry and duty: {s.xr_method})"),
-        ("Method", b.method),
-        ("Warnings", f"{len(result.warnings)} (see sheet 'Warnings')"),
-    ]
+    items = basis_items(result)
     for label, value in items:
         label_cell = ws.cell(row=row, column=1, value=label)
         label_cell.font = BOLD

@@ -1,0 +1,45 @@
+"""The report's typeface: DejaVu Sans (the face the diagram uses, shipped with matplotlib, so no
+system font is needed), embedded in the PDF as TrueType subsets."""
+
+from __future__ import annotations
+
+import functools
+from pathlib import Path
+
+REGULAR = "DejaVuSans"
+BOLD = "DejaVuSans-Bold"
+ITALIC = "DejaVuSans-Oblique"
+BOLD_ITALIC = "DejaVuSans-BoldOblique"
+FAMILY = REGULAR
+FILES = {
+    REGULAR: "DejaVuSans.ttf",
+    BOLD: "DejaVuSans-Bold.ttf",
+    ITALIC: "DejaVuSans-Oblique.ttf",
+    BOLD_ITALIC: "DejaVuSans-BoldOblique.ttf",
+}
+
+
+@functools.cache
+def register() -> str:
+    """Register the four faces with reportlab (once) and return the family name."""
+    import matplotlib
+    from reportlab.lib.fonts import addMapping
+    from reportlab.pdfbase import pdfmetrics
+    from reportlab.pdfbase.ttfonts import TTFont
+
+    folder = Path(matplotlib.get_data_path()) / "fonts" / "ttf"
+    for name, file in FILES.items():
+        pdfmetrics.registerFont(TTFont(name, str(folder / file)))
+    addMapping(FAMILY, 0, 0, REGULAR)
+    addMapping(FAMILY, 1, 0, BOLD)
+    addMapping(FAMILY, 0, 1, ITALIC)
+    addMapping(FAMILY, 1, 1, BOLD_ITALIC)
+    return FAMILY
+
+
+def has_glyph(ch: str) -> bool:
+    """True when the regular face draws ``ch`` (a name in a script it lacks prints as boxes)."""
+    from reportlab.pdfbase import pdfmetrics
+
+    register()
+    return ord(ch) in pdfmetrics.getFont(REGULAR).face.charToGlyph

@@ -1,0 +1,618 @@
+"""The report's sections as reportlab flowables, from a StudyResult; nothing computed here.
+
+Every text from the input (names, descriptions, titles) is escaped before it reaches a
+Paragraph: reportlab reads '<' and '&' in a paragraph as markup.
+"""
+
+from __future__ import annotations
+
+import math
+from xml.sax.saxutils import escape
+
+from reportlab.lib import colors
+from reportlab.lib.enums import TA_RIGHT
+from reportlab.lib.styles import ParagraphStyle
+from reportlab.platypus import (
+    KeepTogether,
+    LongTable,
+    NextPageTemplate,
+    PageBreak,
+    Paragraph,
+    Spacer,
+    Table,
+    TableStyle,
+)
+
+from ...results import StudyResult
+from ...solve import duty
+from ..basis import basis_items
+from ..labeltext import FAULT_WORDS as LABEL_FAULT_WORDS
+from ..labeltext import label_lines
+from . import fonts
+from .pages import LANDSCAPE, MARGIN_PT, PORTRAIT, SMALL_PT
+
+FAULT_WORDS = {**LABEL_FAULT_WORDS, "": ""}
+NO_PATH = "no path"
+OVER_FILL = colors.HexColor("#F9D3CF")
+NEAR_FILL = colors.HexColor("#FCE7C2")
+HEADER_FILL = colors.HexColor("#DCE6F0")
+RULE = colors.HexColor("#8EA9C1")
+STATUS_FILL = {duty.STATUS_OVER: OVER_FILL, duty.STATUS_NEAR: NEAR_FILL}
+PORTRAIT_WIDTH_PT = PORTRAIT[0] - 2 * MARGIN_PT
+LANDSCAPE_WIDTH_PT = LANDSCAPE[0] - 2 * MARGIN_PT
+
+
+def _style(name: str, size: float, *, bold=False, lead=1.25, **kw) -> ParagraphStyle:
+    return ParagraphStyle(
+        name,
+        fontName=fonts.BOLD if bold else fonts.REGULAR,
+        fontSize=size,
+        leading=size * lead,
+        textColor=colors.HexColor("#1f2d3d"),
+        **kw,
+    )
+
+
+BODY = _style("body", 9.5, spaceAfter=5)
+SMALL = _style("small", SMALL_PT)
+CELL = _style("cell", SMALL_PT, lead=1.2)
+CELL_NUMBER = _style("number", SMALL_PT, lead=1.2, alignment=TA_RIGHT)
+HEAD_CELL = _style("head", SMALL_PT, bold=True, lead=1.2)
+H1 = _style("h1", 15, bold=True, spaceBefore=4, spaceAfter=8)
+H2 = _style("h2", 11, bold=True, spaceBefore=8, spaceAfter=5)
+TITLE = _style("title", 22, bold=True, lead=1.2, spaceAfter=10)
+
+
+def text(value) -> str:
+    """A value from the input as paragraph text (escaped)."""
+    return escape("" if value is None else str(value))
+
+
+def ka(value) -> str:
+    """A current as the workbook prints it (two decimals), 'no path' where there is none."""
+    return NO_PATH if _blank(value) else f"{value:.2f}"
+
+
+def fixed(value, digits: int) -> str:
+    return "" if _blank(value) else f"{value:.{digits}f}"
+
+
+def _blank(value) -> bool:
+    return value is None or (isinstance(value, float) and math.isnan(value))
+
+
+def heading(title: str, *, landscape: bool = False) -> list:
+    """A new section on a new page (landscape for the wide tables)."""
+    return [
+        NextPageTemplate("landscape" if landscape else "portrait"),
+        PageBreak(),
+        Paragraph(text(title), H1),
+    ]
+
+
+def table(
+    head: list[str],
+    rows: list[list],
+    widths: list[float],
+    numbers: set[int],
+    fills=(),
+    *,
+    width_pt: float = LANDSCAPE_WIDTH_PT,
+):
+    """A table whose header row repeats on every page; ``widths`` are fractions of
+    ``width_pt`` (the frame the table lands in) that add up to 1; columns in ``numbers``
+    right-aligned; ``fills`` a colour (or None) per row."""
+    cells = [[Paragraph(text(h), HEAD_CELL) for h in head]]
+    for row in rows:
+        cells.append(
+            [Paragraph(text(v), CELL_NUMBER if j in numbers else CELL) for j, v in enumerate(row)]
+        )
+    style = [
+        ("BACKGROUND", (0, 0), (-1, 0), HEADER_FILL),
+        ("LINEBELOW", (0, 0), (-1, 0), 0.8, RULE),
+        ("LINEBELOW", (0, 1), (-1, -1), 0.25, RULE),
+        ("VALIGN", (0, 0), (-1, -1), "TOP"),
+        ("FONTNAME", (0, 0), (-1, -1), fonts.REGULAR),
+        ("LEFTPADDING", (0, 0), (-1, -1), 3),
+        ("RIGHTPADDING", (0, 0), (-1, -1), 3),
+        ("TOPPADDING", (0, 0), (-1, -1), 2),
+        ("BOTTOMPADDING", (0, 0), (-1, -1), 2),
+    ]
+    for i, fill in enumerate(fills, start=1):
+        if fill is not None:
+            style.append(("BACKGROUND", (0, i), (-1, i), fill))
+    out = LongTable(cells, colWidths=column_widths(head, rows, widths, width_pt), repeatRows=1)
+    out.setStyle(TableStyle(style))
+    return out
+
+
+PAD_PT = 6.0  # a cell's left and right padding together
+
+
+def _longest_word_pt(value, font: str) -> float:
+    from reportlab.pdfbase.pdfmetrics import stringWidth
+
+    words = str(value).split() or [""]
+    return max(stringWidth(w, font, SMALL_PT) for w in words) + PAD_PT + 0.5
+
+
+def column_widths(head, rows, fractions, width_pt: float) -> list[float]:
+    """Column widths from ``fractions`` of ``width_pt``, each widened to hold the longest word
+    of its header and of its cells (a word is never broken while it fits a third of the
+    width), the room taken from the columns with most to spare."""
+    need = [_longest_word_pt(h, fonts.BOLD) for h in head]
+    for row in rows:
+        for j, v in enumerate(row):
+            need[j] = max(need[j], min(_longest_word_pt(v, fonts.REGULAR), width_pt / 3))
+    widths = [f * width_pt for f in fractions]
+    short = sum(max(0.0, n - w) for n, w in zip(need, widths, strict=True))
+    if short <= 0:
+        return widths
+    spare = [max(0.0, w - n) for n, w in zip(need, widths, strict=True)]
+    room = sum(spare)
+    if room <= 0:
+        return widths
+    take = min(1.0, short / room)
+    return [
+        max(n, w) if w < n else w - take * sp for n, w, sp in zip(need, widths, spare, strict=True)
+    ]
+
+
+def title_page(result: StudyResult, counts: dict[str, int]) -> list:
+    b = result.basis
+    s = b.settings
+    title = s.title or "Short-circuit study"
+    rows = [
+        ("Input file", b.input_name),
+        ("Input SHA-256", b.input_sha256),
+        ("Calculated at", b.calculated_at),
+        ("Tool", f"{b.tool_name} {b.tool_version}"),
+        ("Method", f"{s.method} (X/R for asymmetry and duty: {s.xr_method})"),
+        ("Buses studied", f"{counts['buses']:,}"),
+        (
+            "Cases",
+            f"the base case and {counts['cases']} case(s)" if counts["cases"] else "the base case",
+        ),
+        ("Devices over their rating", f"{counts['over']} (in any case)"),
+        ("Devices within 10 % of it", f"{counts['near']}"),
+    ]
+    facts = Table(
+        [[Paragraph(text(k), HEAD_CELL), Paragraph(text(v), CELL)] for k, v in rows],
+        colWidths=[1.9 * 72, PORTRAIT_WIDTH_PT - 1.9 * 72],
+    )
+    facts.setStyle(
+        TableStyle(
+            [
+                ("VALIGN", (0, 0), (-1, -1), "TOP"),
+                ("FONTNAME", (0, 0), (-1, -1), fonts.REGULAR),
+                ("LINEBELOW", (0, 0), (-1, -1), 0.25, RULE),
+                ("TOPPADDING", (0, 0), (-1, -1), 3),
+                ("BOTTOMPADDING", (0, 0), (-1, -1), 3),
+            ]
+        )
+    )
+    review = Table(
+        [
+            [Paragraph("Reviewed by (name)", SMALL), ""],
+            [Paragraph("Licence or registration no. and jurisdiction", SMALL), ""],
+            [Paragraph("Signature and seal", SMALL), ""],
+            [Paragraph("Date of review", SMALL), ""],
+            [Paragraph("Remarks", SMALL), ""],
+        ],
+        colWidths=[2.2 * 72, PORTRAIT_WIDTH_PT - 2.2 * 72],
+        rowHeights=[24, 24, 60, 24, 48],
+    )
+    review.setStyle(
+        TableStyle(
+            [
+                ("BOX", (0, 0), (-1, -1), 1.0, colors.black),
+                ("INNERGRID", (0, 0), (-1, -1), 0.4, colors.grey),
+                ("VALIGN", (0, 0), (-1, -1), "TOP"),
+                ("FONTNAME", (0, 0), (-1, -1), fonts.REGULAR),
+            ]
+        )
+    )
+    return [
+        Spacer(1, 36),
+        Paragraph(text(title), TITLE),
+        Paragraph(
+            "Short-circuit study report: available fault current and Thevenin "
+            "impedance at every bus",
+            BODY,
+        ),
+        Spacer(1, 14),
+        facts,
+        Spacer(1, 18),
+        Paragraph(
+            "This report is an engineering calculation for review and acceptance by a qualified, "
+            "licensed engineer. The local electrical code, the authority having jurisdiction and "
+            "licensed engineering review govern; see the cautions on the next page.",
+            _style("warn", 9.5, bold=True, spaceAfter=8),
+        ),
+        Spacer(1, 6),
+        Paragraph("Engineering review (to be completed by the reviewing engineer)", H2),
+        review,
+    ]
+
+
+def cautions(result: StudyResult) -> list:
+    out = heading("Cautions")
+    for i, c in enumerate(result.cautions, start=1):
+        out.append(Paragraph(f"{i}. {text(c)}", BODY))
+    return out
+
+
+def basis(result: StudyResult) -> list:
+    out = [Spacer(1, 10), Paragraph("Basis and method", H1)]
+    rows = [(label, value) for label, value in basis_items(result) if label != "Warnings"]
+    rows.append(("Warnings", f"{len(result.warnings)} (see the section 'Warnings')"))
+    out.append(
+        table(
+            ["Item", "Basis"],
+            [list(r) for r in rows],
+            [0.24, 0.76],
+            set(),
+            width_pt=PORTRAIT_WIDTH_PT,
+        )
+    )
+    return out
+
+
+def _duty_words(status: str) -> str:
+    return "" if status == duty.STATUS_NONE else status
+
+
+def summary(result: StudyResult, note: str | None) -> list:
+    out = heading("Maximum available fault current at each bus", landscape=True)
+    out.append(
+        Paragraph(
+            "The largest of the three-phase, line-to-ground, line-to-line and double "
+            "line-to-ground currents (symmetrical RMS, kA) over the base case"
+            + (" and every case" if result.cases else "")
+            + ", the fault type and case giving it, and the bus's X/R in that case. Peak and "
+            "half-cycle asymmetrical currents are the three-phase fault's, the worst over "
+            "all cases. Duty: the worst over all cases (see 'Equipment evaluation').",
+            BODY,
+        )
+    )
+    if note:
+        out.append(Paragraph(text(note), BODY))
+    rows, fills = [], []
+    for r in result.maximum.itertuples(index=False):
+        rows.append(
+            [
+                r.bus,
+                r.description,
+                fixed(r.kv, 3),
+                ka(r.max_ka),
+                FAULT_WORDS[r.max_fault],
+                r.max_case,
+                fixed(r.xr, 2),
+                ka(r.ip_ka),
+                ka(r.iasym_ka),
+                _duty_words(r.duty_status),
+            ]
+        )
+        fills.append(STATUS_FILL.get(r.duty_status))
+    out.append(
+        table(
+            [
+                "Bus",
+                "Description",
+                "Nominal kV",
+                "Maximum available, kA",
+                "Fault type",
+                "Case",
+                "X/R",
+                "Peak ip, kA",
+                "Half-cycle asym., kA",
+                "Duty",
+            ],
+            rows,
+            [0.11, 0.20, 0.06, 0.08, 0.09, 0.15, 0.05, 0.07, 0.08, 0.11],
+            {2, 3, 6, 7, 8},
+            fills,
+        )
+    )
+    return out
+
+
+def equipment(result: StudyResult) -> list:
+    out = heading("Equipment evaluation", landscape=True)
+    with_cases = bool(result.cases)
+    out.append(
+        Paragraph(
+            "Each device's duty against its rating: the multiplying factor for the X/R of the "
+            "fault giving the duty times the larger of the three-phase and line-to-ground "
+            "currents"
+            + (", the worst over the base case and every case" if with_cases else "")
+            + ". Red: the duty exceeds the rating. Amber: within 10 % of it. The comparison is of "
+            "numbers only; equipment suitability is for the engineer of record.",
+            BODY,
+        )
+    )
+    table_ = result.duty
+    if table_ is None or table_.empty:
+        out.append(Paragraph("No bus has a device and rating_ka on the buses sheet.", BODY))
+        return out
+    rows, fills = [], []
+    for r in table_.itertuples(index=False):
+        row = [
+            r.bus,
+            duty.DEVICE_NAMES[r.device],
+            fixed(r.rating_ka, 2),
+            fixed(r.test_xr, 2),
+            fixed(r.duty_xr, 2),
+            fixed(r.mf, 3),
+            fixed(r.duty_ka, 2),
+            fixed(r.duty_pct, 1),
+            r.duty_status,
+            FAULT_WORDS[r.duty_fault],
+        ]
+        if with_cases:
+            row += [r.duty_case, fixed(r.base_duty_pct, 1)]
+        rows.append(row)
+        fills.append(STATUS_FILL.get(r.duty_status))
+    head = [
+        "Bus",
+        "Device",
+        "Rating, kA",
+        "Test X/R",
+        "X/R of the fault",
+        "Multiplying factor",
+        "Duty, kA",
+        "Duty, % of rating",
+        "Status",
+        "Fault giving the duty",
+    ]
+    widths = [0.11, 0.2, 0.07, 0.06, 0.07, 0.08, 0.07, 0.07, 0.14, 0.13]
+    numbers = {2, 3, 4, 5, 6, 7}
+    if with_cases:
+        head += ["Case giving the duty", "Base case duty, %"]
+        widths = [0.1, 0.16, 0.06, 0.05, 0.06, 0.07, 0.06, 0.06, 0.1, 0.08, 0.14, 0.06]
+        numbers |= {11}
+    out.append(table(head, rows, widths, numbers, fills))
+    return out
+
+
+def cases(result: StudyResult) -> list:
+    if result.envelope is None:
+        return []
+    out = heading("Cases and envelope", landscape=True)
+    names = list(result.cases)
+    left_out = set(result.label_cases_left_out)
+    out.append(
+        Paragraph(
+            "Studied: the base case and "
+            + ", ".join(
+                f"'{text(n)}'" + (" (not counted in labels)" if n in left_out else "")
+                for n in names
+            )
+            + ". The envelope below is the worst value at each bus over all of them and the case "
+            "that gives it; each case's own table is on the workbook's Cases sheet.",
+            BODY,
+        )
+    )
+    rows, fills = [], []
+    for _, r in result.envelope.iterrows():
+        rows.append(
+            [
+                r["bus"],
+                ka(r["i3ph_ka"]),
+                r["i3ph_case"],
+                ka(r["islg_ka"]),
+                r["islg_case"],
+                ka(r["ill_ka"]),
+                ka(r["illg_ka"]),
+                ka(r["ip_ka"]),
+                fixed(r["duty_pct"], 1),
+                r["duty_case"],
+            ]
+        )
+        fills.append(STATUS_FILL.get(r["duty_status"]))
+    out.append(
+        table(
+            [
+                "Bus",
+                "Worst 3-phase, kA",
+                "in case",
+                "Worst line-to-ground, kA",
+                "in case",
+                "Worst line-to-line, kA",
+                "Worst double line-to-ground, kA",
+                "Worst peak ip, kA",
+                "Worst duty, % of rating",
+                "in case",
+            ],
+            rows,
+            [0.12, 0.08, 0.15, 0.09, 0.15, 0.08, 0.09, 0.07, 0.07, 0.10],
+            {1, 3, 5, 6, 7, 8},
+            fills,
+        )
+    )
+    return out
+
+
+def contributions(result: StudyResult) -> list:
+    if result.contributions is None:
+        return []
+    out = heading("Contributions to the fault current", landscape=True)
+    out.append(
+        Paragraph(
+            "The current from every source, machine and branch for three-phase and "
+            "line-to-ground faults at the buses asked for. Sources and machines: at their "
+            "terminals; branches: at the faulted-bus end. Angles relative to the prefault "
+            "phase-a voltage at the faulted bus.",
+            BODY,
+        )
+    )
+    rows = [
+        [
+            r.faulted_bus,
+            FAULT_WORDS[r.fault],
+            r.element,
+            r.kind.replace("_", " "),
+            r.from_bus,
+            ka(r.i_ka),
+            fixed(r.angle_deg, 1),
+            r.phase,
+            ka(r.ig_ka),
+        ]
+        for r in result.contributions.itertuples(index=False)
+    ]
+    out.append(
+        table(
+            [
+                "Faulted bus",
+                "Fault",
+                "Element",
+                "Kind",
+                "From bus",
+                "Current, kA (largest phase)",
+                "Angle, degrees",
+                "Phase",
+                "Residual 3I0, kA",
+            ],
+            rows,
+            [0.13, 0.11, 0.14, 0.12, 0.13, 0.1, 0.08, 0.07, 0.12],
+            {5, 6, 8},
+        )
+    )
+    return out
+
+
+def cable_check(result: StudyResult) -> list:
+    out = heading("Cable check", landscape=True)
+    checks = result.cable_checks
+    if checks is None or checks.empty:
+        out.append(
+            Paragraph("No cable has typed R and X: every cable took them from the tables.", BODY)
+        )
+        return out
+    out.append(
+        Paragraph(
+            "Each cable with typed R and X compared with the conductor tables; flagged rows "
+            "(red) differ by more than the tolerance.",
+            BODY,
+        )
+    )
+    rows, fills = [], []
+    for r in checks.itertuples(index=False):
+        rows.append(
+            [
+                r.cable,
+                "yes" if r.flagged else "no",
+                r.reason,
+                fixed(r.given_r_ohm_per_kft, 4),
+                fixed(r.given_x_ohm_per_kft, 4),
+                fixed(r.table_r_ohm_per_kft, 4),
+                fixed(r.table_x_ohm_per_kft, 4),
+                r.table_row,
+            ]
+        )
+        fills.append(OVER_FILL if r.flagged else None)
+    out.append(
+        table(
+            [
+                "Cable",
+                "Flagged",
+                "Finding",
+                "Typed R, ohm/1000 ft",
+                "Typed X, ohm/1000 ft",
+                "Table R, ohm/1000 ft",
+                "Table X, ohm/1000 ft",
+                "Table row",
+            ],
+            rows,
+            [0.1, 0.06, 0.34, 0.08, 0.08, 0.08, 0.08, 0.18],
+            {3, 4, 5, 6},
+            fills,
+        )
+    )
+    return out
+
+
+def warnings(result: StudyResult) -> list:
+    out = heading("Warnings")
+    if not result.warnings:
+        out.append(Paragraph("No warnings.", BODY))
+        return out
+    out.append(Paragraph("Doubtful input and the assumptions made; review each.", BODY))
+    rows = [[str(i), w] for i, w in enumerate(result.warnings, start=1)]
+    out.append(table(["No.", "Warning"], rows, [0.06, 0.94], {0}, width_pt=PORTRAIT_WIDTH_PT))
+    return out
+
+
+def input_restated(result: StudyResult, note: str | None) -> list:
+    out = heading("Input restated", landscape=True)
+    out.append(
+        Paragraph(
+            "Every element as it was read, so that a reviewer can check it against the "
+            "one-line and the data sheets; per-unit values on the study's MVA base and the base "
+            "kV of the bus named.",
+            BODY,
+        )
+    )
+    if note:
+        out.append(Paragraph(text(note), BODY))
+        return out
+    rows = [
+        [
+            r.element,
+            r.kind.replace("_", " "),
+            r.from_bus,
+            r.to_bus,
+            r.input,
+            fixed(r.r_pu, 6),
+            fixed(r.x_pu, 6),
+            r.note,
+        ]
+        for r in result.elements.itertuples(index=False)
+    ]
+    out.append(
+        table(
+            [
+                "Element",
+                "Kind",
+                "From bus (HV side)",
+                "To bus (LV side)",
+                "As entered",
+                "R, per-unit",
+                "X, per-unit",
+                "Note",
+            ],
+            rows,
+            [0.1, 0.08, 0.1, 0.1, 0.35, 0.08, 0.08, 0.11],
+            {5, 6},
+        )
+    )
+    return out
+
+
+def labels(result: StudyResult) -> list:
+    """One service label per page, the words of labeltext (as on the workbook's label sheets)."""
+    if result.labels is None or result.labels.empty:
+        return []
+    out: list = [NextPageTemplate("portrait")]
+    for bus in result.labels.bus:
+        lines = [
+            Paragraph(text(line.text), _style("label", line.size_pt, bold=line.bold, lead=1.2))
+            if line.text
+            else Spacer(1, 8)
+            for line in label_lines(result, bus)
+        ]
+        box = Table([[lines]], colWidths=[PORTRAIT_WIDTH_PT * 0.92])
+        box.setStyle(
+            TableStyle(
+                [
+                    ("BOX", (0, 0), (-1, -1), 2.5, colors.black),
+                    ("FONTNAME", (0, 0), (-1, -1), fonts.REGULAR),
+                    ("LEFTPADDING", (0, 0), (-1, -1), 14),
+                    ("RIGHTPADDING", (0, 0), (-1, -1), 14),
+                    ("TOPPADDING", (0, 0), (-1, -1), 12),
+                    ("BOTTOMPADDING", (0, 0), (-1, -1), 12),
+                ]
+            )
+        )
+        out += [PageBreak(), Paragraph(f"Service label: {text(bus)}", H2), KeepTogether([box])]
+    return out
