@@ -1,0 +1,233 @@
+"""The study report (PDF): every bus and its maximum available current as the workbook prints
+it, the title page, the cautions, page N of M on every page, headers repeated, fonts embedded
+and never below 8 pt, landscape where the tables are wide, hostile names as text (#14).
+
+What a study report holds is common practice for a short-circuit study deliverable (no
+source); the figures compared are the study's own (the report computes nothing)."""
+
+from __future__ import annotations
+
+import re
+
+import pytest
+from builders import transformer
+from click.testing import CliRunner
+from pypdf import PdfReader
+
+from faultcalc import read_system, run_study, sample_path, write_results
+from faultcalc.cautions import CAUTIONS
+from faultcalc.cli import main
+
+SMALLEST_PT = 8.0  # the issue: legible at 8 pt or more everywhere
+
+
+def _report(tmp_path, system, name="r", contributions=None):
+    result = run_study(system, contributions=contributions)
+    written = write_results(
+        result,
+        tmp_path / f"{name}.xlsx",
+        report_path=tmp_path / f"{name}.pdf",
+        system=system,
+    )
+    return result, PdfReader(written.report), tmp_path / f"{name}.xlsx"
+
+
+def _pages(reader) -> list[str]:
+    return [p.extract_text() for p in reader.pages]
+
+
+def _flat(text: str) -> str:
+    return re.sub(r"\s+", " ", text)
+
+
+@pytest.fixture(scope="module", params=["plant_480v", "double_ended_480v"])
+def sample_report(request, tmp_path_factory):
+    system = read_system(sample_path(request.param))
+    tmp = tmp_path_factory.mktemp(request.param)
+    return _report(tmp, system, contributions="all")
+
+
+def test_every_bus_and_its_maximum_as_the_workbook_prints_it(sample_report):
+    from openpyxl import load_workbook
+
+    result, reader, workbook = sample_report
+    pages = _pages(reader)
+    summary = next(i for i, t in enumerate(pages) if "Maximum available fault current at" in t)
+    text = _flat(" ".join(pages[summary : summary + 3]))
+    book = load_workbook(workbook)
+    ws = book["Summary"] if "Summary" in book.sheetnames else None
+    for row in result.maximum.itertuples(index=False):
+        printed = f"{row.max_ka:.2f}"  # the workbook's kA format, 0.00
+        if ws is not None:  # as the Summary sheet prints it, when there is one
+            cells = [c for c in ws["A"] if c.value == row.bus]
+            assert cells, row.bus
+        assert re.search(rf"{re.escape(row.bus)} .*?{re.escape(printed)}", text), (row.bus, printed)
+
+
+def test_title_page_names_the_input_its_hash_the_tool_and_leaves_room_for_review(
+    sample_report,
+):
+    result, reader, _ = sample_report
+    first = _flat(reader.pages[0].extract_text())
+    b = result.basis
+    for expected in (
+        b.settings.title[:30],
+        b.input_name,
+        b.input_sha256,
+        b.calculated_at,
+        f"{b.tool_name} {b.tool_version}",
+        "Reviewed by",
+        "Signature and seal",
+    ):
+        assert expected in first, expected
+
+
+def test_every_caution_and_every_page_numbered(sample_report):
+    _, reader, _ = sample_report
+    pages = _pages(reader)
+    text = _flat(" ".join(pages))
+    for caution in CAUTIONS:
+        assert _flat(caution) in text
+    total = len(pages)
+    for n, page in enumerate(pages, start=1):
+        assert f"page {n} of {total}" in page
+
+
+def test_wide_tables_landscape_with_their_header_on_every_page(sample_report):
+    _, reader, _ = sample_report
+    pages = _pages(reader)
+    continued = [i for i, t in enumerate(pages) if "Contributions to the fault current" in t]
+    assert continued
+    start = continued[0]
+    contribution_pages = [start]
+    for i in range(start + 1, len(pages)):  # the table's pages before the next section
+        if any(h in pages[i] for h in ("Cable check", "Warnings")):
+            break
+        contribution_pages.append(i)
+    assert len(contribution_pages) > 1  # the table runs over pages, so the check can fail
+    for i in contribution_pages:
+        assert "Faulted bus" in pages[i] and "Residual 3I0, kA" in _flat(pages[i]), i
+        box = reader.pages[i].mediabox
+        assert box.width > box.height  # landscape
+
+
+def test_header_words_are_never_broken(sample_report):
+    # A header word broken over two lines ("Nomina l kV") would not be found whole.
+    _, reader, _ = sample_report
+    text = _flat(" ".join(_pages(reader)))
+    for word in ("Nominal", "available,", "Multiplying", "asym.,", "Residual", "degrees"):
+        assert word in text, word
+
+
+def _font_sizes(reader) -> list[tuple[int, float, str]]:
+    """(page, effective size in points, text) of every piece of text drawn."""
+    found = []
+    for n, page in enumerate(reader.pages, start=1):
+
+        def visit(text, cm, tm, font, size, n=n):
+            if text.strip():
+                scale = abs(cm[3] * tm[3] + cm[1] * tm[2]) or abs(cm[0] * tm[0])
+                found.append((n, size * scale, text.strip()))
+
+        page.extract_text(visitor_text=visit)
+    return found
+
+
+def test_no_text_below_eight_points_and_every_font_embedded(sample_report):
+    _, reader, _ = sample_report
+    small = [(n, round(s, 2), t) for n, s, t in _font_sizes(reader) if s < SMALLEST_PT - 0.01]
+    assert not small, small[:10]
+    for page in reader.pages:
+        fonts = page["/Resources"].get("/Font", {})
+        for key in fonts:
+            font = fonts[key].get_object()
+            descriptor = font.get("/FontDescriptor")
+            if descriptor is None:  # a composite font: its descendant holds it
+                descriptor = font["/DescendantFonts"][0].get_object()["/FontDescriptor"]
+            descriptor = descriptor.get_object()
+            assert any(k in descriptor for k in ("/FontFile", "/FontFile2", "/FontFile3")), font
+
+
+def test_the_one_line_is_in_the_report_as_text(sample_report):
+    result, reader, _ = sample_report
+    pages = _pages(reader)
+    # the diagram's title block says what its currents are; its bus names are text
+    sheet = next(i for i, t in enumerate(pages) if "Currents are the largest" in _flat(t))
+    for bus in result.buses.bus:
+        assert bus in pages[sheet], bus
+
+
+def test_service_labels_print_their_figure(sample_report):
+    result, reader, _ = sample_report
+    text = _flat(" ".join(_pages(reader)))
+    assert len(result.labels)  # both samples have service equipment
+    for row in result.labels.itertuples(index=False):
+        assert f"Service label: {row.bus}" in text
+        assert f"{row.label_ka:.1f} kA" in text
+
+
+def test_hostile_names_print_as_text(make_input, tmp_path):
+    # reportlab reads < and & in a paragraph as markup: names must print as typed
+    # (common practice, no source).
+    odd = ["<b>bold</b>", "A&B", "=cmd|' /C calc'!A0", "<font size=40>x"]
+    sheets = {
+        "buses": [
+            {"bus": odd[0], "kv": 12.47, "description": "<i>desc"},
+            {"bus": odd[1], "kv": 0.48, "service": "yes"},
+            {"bus": odd[2], "kv": 0.48},
+            {"bus": odd[3], "kv": 0.48},
+        ],
+        "sources": [{"source": "U&1", "bus": odd[0], "sc_mva": 300, "xr": 10, "slg_ka": 12}],
+        "transformers": [transformer(transformer="T<1>", hv_bus=odd[0], lv_bus=odd[1])],
+        "impedances": [
+            {"element": "Z1", "from_bus": odd[1], "to_bus": odd[2], "r_ohm": 0.001, "x_ohm": 0.002},
+            {"element": "Z2", "from_bus": odd[1], "to_bus": odd[3], "r_ohm": 0.001, "x_ohm": 0.002},
+        ],
+    }
+    system = read_system(make_input(sheets))
+    _, reader, _ = _report(tmp_path, system)
+    text = _flat(" ".join(_pages(reader)))
+    for name in [*odd, "<i>desc", "U&1", "T<1>"]:
+        assert name in text, name
+    assert not [s for s in _font_sizes(reader) if s[1] > 41]  # no markup took effect
+
+
+def test_cli_writes_the_report_and_refuses_another_suffix(tmp_path):
+    out = tmp_path / "r.xlsx"
+    runner = CliRunner()
+    done = runner.invoke(
+        main, ["study", str(sample_path()), "-o", str(out), "--report", str(tmp_path / "r.pdf")]
+    )
+    assert done.exit_code == 0, done.output
+    assert "study report:" in done.output
+    assert PdfReader(tmp_path / "r.pdf").pages
+    refused = runner.invoke(
+        main, ["study", str(sample_path()), "-o", str(tmp_path / "s.xlsx"), "--report", "s.docx"]
+    )
+    assert refused.exit_code == 2 and "--report" in refused.output
+    assert not (tmp_path / "s.xlsx").exists()
+
+
+def test_a_failing_report_leaves_no_output(tmp_path, monkeypatch):
+    # all or none: the workbook is not placed when the report cannot be written
+    import faultcalc.report.pdf.build as build
+
+    def fail(*args, **kw):
+        raise OSError("disk full (simulated)")
+
+    monkeypatch.setattr(build.ReportDocument, "build", fail)
+    system = read_system(sample_path())
+    with pytest.raises(OSError):
+        write_results(
+            run_study(system), tmp_path / "r.xlsx", report_path=tmp_path / "r.pdf", system=system
+        )
+    assert list(tmp_path.iterdir()) == []
+
+
+def test_a_report_needs_the_system(tmp_path):
+    with pytest.raises(ValueError, match="system"):
+        write_results(
+            run_study(read_system(sample_path())),
+            tmp_path / "r.xlsx",
+            report_path=tmp_path / "r.pdf",
+        )
