@@ -231,3 +231,30 @@ def test_a_report_needs_the_system(tmp_path):
             tmp_path / "r.xlsx",
             report_path=tmp_path / "r.pdf",
         )
+
+
+@pytest.mark.parametrize(
+    "cells",
+    [
+        ["A", "B", "C"],
+        ["X" * 80, "Y" * 80, "Z" * 80],  # no room for every word: the table still fits
+        ["SWITCHBOARD-" + "X" * 40, "short", "3.14"],
+    ],
+)
+def test_columns_never_wider_than_the_page_and_words_kept_whole_where_they_fit(cells):
+    # A table wider than its frame is cut at both edges (seen on a hostile one-line).
+    from reportlab.pdfbase.pdfmetrics import stringWidth
+
+    from faultcalc.report.pdf import fonts
+    from faultcalc.report.pdf.sections import LANDSCAPE_WIDTH_PT, PAD_PT, column_widths
+
+    fonts.register()
+    head = ["Faulted bus", "Multiplying factor", "Current, kA"]
+    widths = column_widths(head, [cells], [0.2, 0.1, 0.7], LANDSCAPE_WIDTH_PT)
+    assert sum(widths) <= LANDSCAPE_WIDTH_PT + 1e-6
+    for word in "Faulted Multiplying Current,".split():
+        assert any(stringWidth(word, fonts.BOLD, 8) + PAD_PT <= w for w in widths)
+    fits = all(stringWidth(c, fonts.REGULAR, 8) + PAD_PT < LANDSCAPE_WIDTH_PT / 4 for c in cells)
+    if fits:
+        for c, w in zip(cells, widths, strict=True):
+            assert stringWidth(c, fonts.REGULAR, 8) + PAD_PT <= w, c

@@ -40,6 +40,20 @@ def _counts(result: StudyResult) -> dict[str, int]:
     }
 
 
+def _lacking(result: StudyResult) -> str:
+    """The characters of the input's names and descriptions the typeface lacks (at most 12)."""
+    from .fonts import has_glyph
+
+    texts = [result.basis.settings.title, result.basis.input_name, *result.cases]
+    texts += list(result.buses.bus) + list(result.descriptions)
+    if result.labels is not None:
+        texts += list(result.labels.description)
+    missing = sorted({ch for t in texts for ch in str(t) if not ch.isspace() and not has_glyph(ch)})
+    return ", ".join(f"U+{ord(ch):04X}" for ch in missing[:12]) + (
+        " ..." if len(missing) > 12 else ""
+    )
+
+
 def write_report_to(
     result: StudyResult,
     path: str | Path,
@@ -75,7 +89,8 @@ def write_report_to(
             subject=f"Short-circuit study of {b.input_name} (SHA-256 {b.input_sha256})",
             creator=b.tool_name,
         )
-        story = sections.title_page(result, counts) + sections.cautions(result)
+        story = sections.title_page(result, counts, _lacking(result))
+        story += sections.cautions(result)
         story += sections.basis(result)
         slots = []
         for i, sheet in enumerate(sheets):

@@ -146,19 +146,20 @@ def column_widths(head, rows, fractions, width_pt: float) -> list[float]:
             need[j] = max(need[j], min(_longest_word_pt(v, fonts.REGULAR), width_pt / 3))
     widths = [f * width_pt for f in fractions]
     short = sum(max(0.0, n - w) for n, w in zip(need, widths, strict=True))
-    if short <= 0:
-        return widths
     spare = [max(0.0, w - n) for n, w in zip(need, widths, strict=True)]
     room = sum(spare)
-    if room <= 0:
+    if short <= 0 or room <= 0:
         return widths
-    take = min(1.0, short / room)
-    return [
-        max(n, w) if w < n else w - take * sp for n, w, sp in zip(need, widths, spare, strict=True)
-    ]
+    if short <= room:  # every word fits: take the room from the columns with most to spare
+        take = short / room
+        return [n if w < n else w - take * sp for n, w, sp in zip(need, widths, spare, strict=True)]
+    # not every word fits: the spare room shared among the columns short of it (in proportion
+    # to what each lacks), the longest words broken; the table stays inside the page
+    give = room / short
+    return [w + give * (n - w) if w < n else n for n, w in zip(need, widths, strict=True)]
 
 
-def title_page(result: StudyResult, counts: dict[str, int]) -> list:
+def title_page(result: StudyResult, counts: dict[str, int], lacking: str = "") -> list:
     b = result.basis
     s = b.settings
     title = s.title or "Short-circuit study"
@@ -228,6 +229,18 @@ def title_page(result: StudyResult, counts: dict[str, int]) -> list:
             "licensed engineer. The local electrical code, the authority having jurisdiction and "
             "licensed engineering review govern; see the cautions on the next page.",
             _style("warn", 9.5, bold=True, spaceAfter=8),
+        ),
+        *(
+            [
+                Paragraph(
+                    "Some names or descriptions hold characters this report's typeface (DejaVu "
+                    f"Sans) does not have ({text(lacking)}); they print as boxes here. The "
+                    "results workbook holds them as typed.",
+                    BODY,
+                )
+            ]
+            if lacking
+            else []
         ),
         Spacer(1, 6),
         Paragraph("Engineering review (to be completed by the reviewing engineer)", H2),
