@@ -19,7 +19,7 @@ $(VENV)/.installed-test: pyproject.toml | $(BIN)/python
 	touch $(VENV)/.installed $@
 
 demo: $(VENV)/.installed
-	$(BIN)/faultcalc demo -o faultcalc-demo-results.xlsx --overwrite
+	$(BIN)/faultcalc demo -o faultcalc-demo-results.xlsx --report faultcalc-demo-report.pdf --overwrite
 	$(BIN)/faultcalc diagram sample_systems/plant_480v.xlsx -o faultcalc-demo-one-line.pdf --overwrite
 
 test: $(VENV)/.installed-test
@@ -43,4 +43,4 @@ readme: $(VENV)/.installed
 	$(BIN)/python scripts/update_readme.py
 
 clean:
-	rm -rf $(VENV) build *.egg-info .pytest_cache faultcalc-demo-results.xlsx faultcalc-demo-one-line.pdf
+	rm -rf $(VENV) build *.egg-info .pytest_cache faultcalc-demo-results.xlsx faultcalc-demo-report.pdf faultcalc-demo-one-line.pdf

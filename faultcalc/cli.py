@@ -494,19 +494,26 @@ def template(path: Path, overwrite: bool) -> None:
     show_default=True,
     help="Which bundled sample system (invented scenarios) to study.",
 )
+@click.option(
+    "--report",
+    "report_path",
+    type=click.Path(path_type=Path),
+    metavar="REPORT.pdf",
+    help="Also write the study report (PDF).",
+)
 @OVERWRITE
-def demo(output: Path, sample: str, overwrite: bool) -> None:
+def demo(output: Path, sample: str, report_path: Path | None, overwrite: bool) -> None:
     """Study a bundled sample system (an invented scenario) and write its results.
 
     \b
     Example:
-      faultcalc demo -o demo-results.xlsx
+      faultcalc demo -o demo-results.xlsx --report demo-report.pdf
     """
     click.echo(
         f"Sample system '{sample}' (invented for demonstration; not a real site): "
         f"{sample_path(sample)}"
     )
-    _guarded(lambda: _run(sample_path(sample), output, None, None, overwrite))
+    _guarded(lambda: _run(sample_path(sample), output, None, None, overwrite, report_path))
 
 
 if __name__ == "__main__":  # pragma: no cover
