@@ -90,12 +90,15 @@ def write_report_to(
             creator=b.tool_name,
         )
         story = sections.title_page(result, counts, _lacking(result))
-        story += sections.cautions(result)
+        story += sections.contents() + sections.cautions(result)
         story += sections.basis(result)
         slots = []
         for i, sheet in enumerate(sheets):
             template = doc.add_sheet_page(sheet.width, sheet.height)
-            slot = SheetSlot(sheet.width, sheet.height, i)
+            title = "One-line diagram" + (
+                f", sheet {i + 1} of {len(sheets)}" if len(sheets) > 1 else ""
+            )
+            slot = SheetSlot(sheet.width, sheet.height, i, title)
             slots.append(slot)
             story += [sections.NextPageTemplate(template), sections.PageBreak(), slot]
         story += sections.summary(result, note)
@@ -109,7 +112,7 @@ def write_report_to(
             "The element echo is left out of the report of a study this large." if note else None,
         )
         story += sections.labels(result)
-        doc.build(story, canvasmaker=NumberedCanvas)
+        doc.multiBuild(story, canvasmaker=NumberedCanvas)  # twice or more: the contents' pages
         if not slots:
             Path(path).write_bytes(body.read_bytes())
             return

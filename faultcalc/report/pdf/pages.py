@@ -79,6 +79,15 @@ class ReportDocument(BaseDocTemplate):
             ]
         )
 
+    def afterFlowable(self, flowable):  # noqa: N802 (reportlab's name)
+        """A section heading (style h1), a label or a one-line sheet goes into the contents."""
+        from reportlab.platypus import Paragraph
+
+        if isinstance(flowable, Paragraph) and flowable.style.name in ("h1", "label-head"):
+            self.notify("TOCEntry", (0, flowable.getPlainText(), self.page))
+        elif isinstance(flowable, SheetSlot):
+            self.notify("TOCEntry", (0, flowable.title, self.page))
+
     def add_sheet_page(self, width_pt: float, height_pt: float) -> str:
         """A page template for a one-line sheet of this size; returns its id."""
         size = sheet_size(width_pt, height_pt)
@@ -156,9 +165,9 @@ class SheetSlot(Flowable):
     """The place of one one-line sheet: as large as the sheet, drawn empty; it remembers the
     page and the position it was given so that the sheet is laid on it afterwards."""
 
-    def __init__(self, width_pt: float, height_pt: float, index: int):
+    def __init__(self, width_pt: float, height_pt: float, index: int, title: str):
         super().__init__()
-        self.width, self.height, self.index = width_pt, height_pt, index
+        self.width, self.height, self.index, self.title = width_pt, height_pt, index, title
         self.placed: tuple[int, float, float] | None = None  # page (from 1), x, y of its corner
 
     def wrap(self, avail_w, avail_h):

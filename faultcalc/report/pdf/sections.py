@@ -60,6 +60,7 @@ CELL_NUMBER = _style("number", SMALL_PT, lead=1.2, alignment=TA_RIGHT)
 HEAD_CELL = _style("head", SMALL_PT, bold=True, lead=1.2)
 H1 = _style("h1", 15, bold=True, spaceBefore=4, spaceAfter=8)
 H2 = _style("h2", 11, bold=True, spaceBefore=8, spaceAfter=5)
+LABEL_HEAD = _style("label-head", 11, bold=True, spaceBefore=8, spaceAfter=5)  # in the contents
 TITLE = _style("title", 22, bold=True, lead=1.2, spaceAfter=10)
 
 
@@ -248,8 +249,32 @@ def title_page(result: StudyResult, counts: dict[str, int], lacking: str = "") -
     ]
 
 
+def contents() -> list:
+    """The contents (filled in by the document from the section headings)."""
+    from reportlab.platypus.tableofcontents import TableOfContents
+
+    toc = TableOfContents()
+    toc.levelStyles = [_style("toc", 9.5, lead=1.35)]
+    toc.dotsMinLevel = 0
+    toc.tableStyle = TableStyle(
+        [
+            ("VALIGN", (0, 0), (-1, -1), "TOP"),
+            ("FONTNAME", (0, 0), (-1, -1), fonts.REGULAR),  # no base font (never embedded)
+            ("LEFTPADDING", (0, 0), (-1, -1), 0),
+            ("RIGHTPADDING", (0, 0), (-1, -1), 0),
+        ]
+    )
+    return [
+        NextPageTemplate("portrait"),
+        PageBreak(),
+        Paragraph("Contents", H2),
+        toc,
+        Spacer(1, 12),
+    ]
+
+
 def cautions(result: StudyResult) -> list:
-    out = heading("Cautions")
+    out = [Paragraph("Cautions", H1)]
     for i, c in enumerate(result.cautions, start=1):
         out.append(Paragraph(f"{i}. {text(c)}", BODY))
     return out
@@ -627,5 +652,9 @@ def labels(result: StudyResult) -> list:
                 ]
             )
         )
-        out += [PageBreak(), Paragraph(f"Service label: {text(bus)}", H2), KeepTogether([box])]
+        out += [
+            PageBreak(),
+            Paragraph(f"Service label: {text(bus)}", LABEL_HEAD),
+            KeepTogether([box]),
+        ]
     return out
