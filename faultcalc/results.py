@@ -151,6 +151,7 @@ class StudyResult:
     labels: pd.DataFrame | None = None  # LABEL_COLUMNS, one row per service bus
     label_cases_left_out: tuple[str, ...] = ()  # cases whose rows say label = no
     maximum: pd.DataFrame | None = None  # MAXIMUM_COLUMNS, one row per bus of any case
+    case_changes: dict[str, tuple[str, ...]] = field(default_factory=dict)  # what each case sets
 
     def over_rating(self) -> pd.DataFrame:
         """Rows of ``duty`` whose worst duty exceeds the rating, the largest duty first."""

@@ -785,5 +785,6 @@ def _study(system: System, contributions, calculated_at, progress: Progress) -> 
         duty=worst_duty,
         labels=labels,
         maximum=_maximum(tables, order, descriptions, worst_duty),
+        case_changes={name: case_system.changes for name, case_system in system.cases},
         label_cases_left_out=left_out,
     )

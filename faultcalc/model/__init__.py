@@ -274,6 +274,9 @@ class System:
     input_sha256: str = ""
     warnings: tuple[str, ...] = field(default=())
     in_labels: bool = True  # a case: False when its cases rows say label = no
+    changes: tuple[
+        str, ...
+    ] = ()  # a case: each cell its rows set, "XF-1 (transformers): z_pct = 5.3"
 
     def __post_init__(self) -> None:
         for name, kind in ELEMENT_KINDS.items():

@@ -210,6 +210,10 @@ def _own_table_columns(sheet: columns.Typed, base: columns.Typed) -> None:
             sheet.values[column] = values.copy() if isinstance(values, np.ndarray) else list(values)
 
 
+def _spec(sheet_name: str):
+    return next(s for s in SHEETS if s.name == sheet_name)
+
+
 def read_cases(
     sheets: dict[str, columns.Typed], buses: Buses, settings, raw=None, base=None, records=None
 ):
@@ -343,8 +347,12 @@ def read_cases(
                     Problem(p.sheet, p.row, p.column, p.value, f"in case '{name}': {p.message}")
                 )
             continue
-        if not in_labels:
-            system = dataclasses.replace(system, in_labels=False)
+        said = tuple(
+            f"{sheets[sheet_name].values[_spec(sheet_name).columns[0].name][index]} "
+            f"({sheet_name}): {column} = {value}"
+            for (sheet_name, index, column), value in setting.items()
+        )
+        system = dataclasses.replace(system, in_labels=in_labels, changes=said)
         systems.append((name, system))
     if problems:
         raise InputError(problems)

@@ -288,3 +288,23 @@ def test_columns_never_wider_than_the_page_and_words_kept_whole_where_they_fit(c
     if fits:
         for c, w in zip(cells, widths, strict=True):
             assert stringWidth(c, fonts.REGULAR, 8) + PAD_PT <= w, c
+
+
+def test_cases_say_what_each_changes_as_the_cases_sheet_has_it(tmp_path):
+    # Read back from the sample's own cases sheet (CSV), independently of the reader.
+    import csv
+
+    folder = sample_path().parent / "plant_480v"
+    with open(folder / "cases.csv", newline="") as f:
+        rows = [r for r in csv.DictReader(f) if r["case"].strip()]
+    system = read_system(folder)
+    result, reader, _ = _report(tmp_path, system)
+    text = _flat(" ".join(_pages(reader)))
+    assert rows
+    for r in rows:
+        said = f"{r['element'].strip()} "
+        assert any(
+            c.startswith(said) and c.endswith(f"{r['column'].strip()} = {r['value'].strip()}")
+            for c in result.case_changes[r["case"].strip()]
+        ), r
+        assert f"{r['column'].strip()} = {r['value'].strip()}" in text

@@ -417,20 +417,32 @@ def cases(result: StudyResult) -> list:
     if result.envelope is None:
         return []
     out = heading("Cases and envelope", landscape=True)
-    names = list(result.cases)
     left_out = set(result.label_cases_left_out)
     out.append(
         Paragraph(
-            "Studied: the base case and "
-            + ", ".join(
-                f"'{text(n)}'" + (" (not counted in labels)" if n in left_out else "")
-                for n in names
-            )
-            + ". The envelope below is the worst value at each bus over all of them and the case "
-            "that gives it; each case's own table is on the workbook's Cases sheet.",
+            "Each case is the base case with the changes below, studied on its own. The "
+            "envelope after them is the worst value at each bus over the base case and every "
+            "case, and the case that gives it; each case's own table is on the workbook's Cases "
+            "sheet.",
             BODY,
         )
     )
+    out.append(
+        table(
+            ["Case", "What it changes from the base case", "In the service labels"],
+            [
+                [
+                    name,
+                    "; ".join(result.case_changes.get(name, ())),
+                    "no (label = no)" if name in left_out else "yes",
+                ]
+                for name in result.cases
+            ],
+            [0.25, 0.6, 0.15],
+            set(),
+        )
+    )
+    out.append(Spacer(1, 10))
     rows, fills = [], []
     for _, r in result.envelope.iterrows():
         rows.append(
