@@ -308,3 +308,17 @@ def test_cases_say_what_each_changes_as_the_cases_sheet_has_it(tmp_path):
             for c in result.case_changes[r["case"].strip()]
         ), r
         assert f"{r['column'].strip()} = {r['value'].strip()}" in text
+
+
+def test_a_large_study_report_says_it_prints_a_summary(tmp_path, monkeypatch):
+    # Above BIG_OUTPUT_BUSES the workbook is a summary and every bus goes to the CSV; the
+    # report prints the same cut and says where every bus is (lowered here to 3 buses).
+    import faultcalc.report.outputs as outputs
+
+    monkeypatch.setattr(outputs, "BIG_OUTPUT_BUSES", 3)
+    system = read_system(sample_path())
+    result, reader, _ = _report(tmp_path, system)
+    text = _flat(" ".join(_pages(reader)))
+    assert f"A study of {len(result.buses):,} buses: this report prints the" in text
+    assert "r-buses.csv" in text
+    assert "The element echo is left out" in text

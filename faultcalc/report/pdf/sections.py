@@ -606,6 +606,29 @@ def input_restated(result: StudyResult, note: str | None) -> list:
     if note:
         out.append(Paragraph(text(note), BODY))
         return out
+    service = set(result.service_buses)
+    out.append(Paragraph("Buses", H2))
+    out.append(
+        table(
+            ["Bus", "Description", "Nominal kV", "Device", "Rating, kA", "Service equipment"],
+            [
+                [
+                    r.bus,
+                    description,
+                    fixed(r.kv, 3),
+                    duty.DEVICE_NAMES.get(r.device, "") if r.device else "",
+                    fixed(r.rating_ka, 2),
+                    "yes" if r.bus in service else "",
+                ]
+                for r, description in zip(
+                    result.buses.itertuples(index=False), result.descriptions, strict=True
+                )
+            ],
+            [0.14, 0.34, 0.08, 0.28, 0.08, 0.08],
+            {2, 4},
+        )
+    )
+    out.append(Paragraph("Elements", H2))
     rows = [
         [
             r.element,
