@@ -149,6 +149,15 @@ def _summary(result) -> str:
     )
 
 
+REPORT = click.option(
+    "--report",
+    "report_path",
+    type=click.Path(path_type=Path),
+    metavar="REPORT.pdf",
+    help="Also write the study report (PDF): title page, cautions, basis, the one-line, the "
+    "tables and the service labels, for print and review.",
+)
+
 OVERWRITE = click.option(
     "--overwrite", is_flag=True, help="Replace output files that exist already."
 )
@@ -241,14 +250,7 @@ def main() -> None:
     metavar="RESULTS.json",
     help="Also write the results as JSON.",
 )
-@click.option(
-    "--report",
-    "report_path",
-    type=click.Path(path_type=Path),
-    metavar="REPORT.pdf",
-    help="Also write the study report (PDF): title page, cautions, basis, the one-line, the "
-    "tables and the service labels, for print and review.",
-)
+@REPORT
 @click.option(
     "--contributions",
     metavar="BUS[,BUS...]|all",
@@ -494,13 +496,7 @@ def template(path: Path, overwrite: bool) -> None:
     show_default=True,
     help="Which bundled sample system (invented scenarios) to study.",
 )
-@click.option(
-    "--report",
-    "report_path",
-    type=click.Path(path_type=Path),
-    metavar="REPORT.pdf",
-    help="Also write the study report (PDF).",
-)
+@REPORT
 @OVERWRITE
 def demo(output: Path, sample: str, report_path: Path | None, overwrite: bool) -> None:
     """Study a bundled sample system (an invented scenario) and write its results.

@@ -164,12 +164,11 @@ def title_page(result: StudyResult, counts: dict[str, int], lacking: str = "") -
     b = result.basis
     s = b.settings
     title = s.title or "Short-circuit study"
+    basis_of = dict(basis_items(result))
     rows = [
-        ("Input file", b.input_name),
-        ("Input SHA-256", b.input_sha256),
-        ("Calculated at", b.calculated_at),
-        ("Tool", f"{b.tool_name} {b.tool_version}"),
-        ("Method", f"{s.method} (X/R for asymmetry and duty: {s.xr_method})"),
+        (label, basis_of[label])
+        for label in ("Input file", "Input SHA-256", "Calculated at", "Tool", "Calculation method")
+    ] + [
         ("Buses studied", f"{counts['buses']:,}"),
         (
             "Cases",
