@@ -37,7 +37,7 @@ SUMMARY_COLUMNS = [
         "line-to-ground, line-to-line, double line-to-ground) over the base case and every case.",
     ),
     Col("Fault type giving it", 14),
-    Col("Case giving it", 20, note="base case, or the case on the cases sheet."),
+    Col("Case giving it", 22, note="base case, or the case on the cases sheet."),
     Col("X/R in that case", 8, XR, "The bus's X/R in the case that gives the maximum."),
     Col("Worst peak ip, kA", 9, KA, "Three-phase peak current, worst over every case."),
     Col(

@@ -568,7 +568,7 @@ def _label_sheet(ws, result: StudyResult, bus: str) -> None:
     for i, (text, style) in enumerate(lines, start=2):
         style = style or font(size=11)
         cell = ws.cell(row=i, column=2, value=text)
-        cell.alignment = Alignment(wrap_text=True, vertical="center", indent=1)
+        cell.alignment = Alignment(horizontal="left", wrap_text=True, vertical="center", indent=1)
         cell.font = style
         need = lines_needed(text, LABEL_WIDTH, style.size, bool(style.bold), indent=1)
         ws.row_dimensions[i].height = row_height_pt(need, style.size) + 3
