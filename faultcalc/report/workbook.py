@@ -3,14 +3,11 @@
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from copy import copy
 from pathlib import Path
 
 from openpyxl import Workbook
-from openpyxl.cell.cell import ILLEGAL_CHARACTERS_RE
-from openpyxl.comments import Comment
-from openpyxl.styles import Alignment, Border, Font, PatternFill, Side
-from openpyxl.utils import get_column_letter
+from openpyxl.styles import Alignment, Border, PatternFill, Side
 
 from ..cautions import SHORT_CAUTION
 from ..read.names import key as name_key
@@ -18,15 +15,21 @@ from ..results import StudyResult
 from ..solve import duty
 from .basis import basis_items
 from .files import staged
-
-HEADER_FILL = PatternFill("solid", fgColor="DCE6F0")
-CAUTION_FILL = PatternFill("solid", fgColor="FFF4CE")
-FLAG_FILL = PatternFill("solid", fgColor="F9D3CF")
-BOLD = Font(bold=True)
-TITLE = Font(bold=True, size=14)
-THIN = Side(style="thin", color="8EA9C1")
-HEADER_BORDER = Border(bottom=THIN)
-WRAP = Alignment(wrap_text=True, vertical="top")
+from .frontsheets import FAULT_WORDS, diagram_sheet, summary_sheet
+from .pages import (
+    LEGIBLE_SCALE,
+    fit_scale,
+    header_and_footer,
+    page,
+    sheet_width_pt,
+    single_page,
+    table_pages,
+    text_pages,
+)
+from .sheetfit import FACE, lines_needed, row_height_pt
+from .sheettable import BOLD, CAUTION_FILL, FLAG_FILL, TITLE, Col, font, note_below, title_columns
+from .sheettable import only_row as _only_row
+from .sheettable import table as _table
 
 KA = "0.00"
 MVA = "0.0"
@@ -34,22 +37,6 @@ OHM = "0.000000"
 PU = "0.000000"
 XR = "0.00"
 KV = "0.000"
-
-
-@dataclass(frozen=True)
-class Col:
-    label: str
-    width: float
-    number_format: str = "General"
-    note: str = ""
-
-
-def _finite(value):
-    if isinstance(value, float) and not math.isfinite(value):
-        return None
-    if isinstance(value, str) and ILLEGAL_CHARACTERS_RE.search(value):  # only from the API
-        return ILLEGAL_CHARACTERS_RE.sub(lambda m: f"\\x{ord(m.group()):02x}", value)
-    return value
 
 
 def _text_cells(book: Workbook) -> None:
@@ -63,72 +50,30 @@ def _text_cells(book: Workbook) -> None:
                     cell.data_type = "s"
 
 
-def _header_text(text: str, limit: int) -> str:
-    """``text`` for a page header: '&' doubled (it starts a header code), at most ``limit``
-    characters."""
-    out = ""
-    for ch in text:
-        piece = "&&" if ch == "&" else ch
-        if len(out) + len(piece) > limit:
-            break
-        out += piece
-    return out
-
-
-def _table(ws, cols: list[Col], rows, *, freeze_columns: int = 1) -> None:
-    for j, col in enumerate(cols, start=1):
-        cell = ws.cell(row=1, column=j, value=col.label)
-        cell.font = BOLD
-        cell.fill = HEADER_FILL
-        cell.border = HEADER_BORDER
-        cell.alignment = Alignment(wrap_text=True, vertical="bottom")
-        if col.note:
-            cell.comment = Comment(col.note, "faultcalc", width=320, height=120)
-        ws.column_dimensions[get_column_letter(j)].width = col.width
-    ws.row_dimensions[1].height = 76
-    for i, values in enumerate(rows, start=2):
-        for j, (col, value) in enumerate(zip(cols, values, strict=True), start=1):
-            cell = ws.cell(row=i, column=j, value=_finite(value))
-            cell.number_format = col.number_format
-    ws.freeze_panes = ws.cell(row=2, column=freeze_columns + 1)
-    last = get_column_letter(len(cols))
-    ws.auto_filter.ref = f"A1:{last}{max(1, ws.max_row)}"
-    ws.print_title_rows = "1:1"
-
-
-def _only_row(cols: list[Col], position: int, text: str) -> tuple:
-    """The one row of an empty table: ``text`` in column ``position`` (0-based), blank else."""
-    return tuple(text if j == position else None for j in range(len(cols)))
-
-
-def _page_setup(ws, result: StudyResult) -> None:
-    ws.page_setup.orientation = "landscape"
-    ws.page_setup.fitToWidth = 1
-    ws.page_setup.fitToHeight = 0
-    ws.sheet_properties.pageSetUpPr.fitToPage = True
-    title = result.basis.settings.title or "Short-circuit study"
-    ws.oddHeader.left.text = _header_text(title, 120)
-    ws.oddHeader.right.text = f"calculated {result.basis.calculated_at[:10]}"
-    ws.oddHeader.right.size = 8
-    ws.oddHeader.left.size = 8
-    ws.oddFooter.left.text = SHORT_CAUTION
-    ws.oddFooter.left.size = 7
-    ws.oddFooter.right.text = "page &P of &N"
+def _page_setup(ws, result: StudyResult, orientation: str = "landscape") -> None:
+    """Page header and footer of every sheet: the study title, the date, the caution and the
+    page number."""
+    header_and_footer(
+        ws,
+        result.basis.settings.title or "Short-circuit study",
+        result.basis.calculated_at[:10],
+        SHORT_CAUTION,
+        orientation,
+    )
 
 
 def _note_below(ws, text: str) -> None:
-    row = ws.max_row + 2
-    cell = ws.cell(row=row, column=1, value=text)
-    cell.fill = CAUTION_FILL
-    cell.font = Font(italic=True)
+    """A note under the table; on a sheet too wide for one page, right of the columns that
+    repeat on every page (so that they carry no cut piece of it) and within the first page."""
+    orientation = ws.page_setup.orientation or "landscape"
+    width = page(orientation).width_pt
+    first = 1
+    if fit_scale(ws, orientation) < LEGIBLE_SCALE and title_columns(ws):
+        first = title_columns(ws) + 1
+        width -= sheet_width_pt(ws, 1, first - 1)
+    note_below(ws, text, width, first)
 
 
-FAULT_WORDS = {
-    "3ph": "3-phase",
-    "slg": "line-to-ground",
-    "ll": "line-to-line",
-    "llg": "double line-to-ground",
-}
 NO_PATH = "no path"
 
 
@@ -140,7 +85,7 @@ def _fault_columns(result: StudyResult) -> list[tuple[Col, object]]:
     """(column, value of a bus row) in sheet order; values are field names or functions."""
     cols: list[tuple[Col, object]] = [
         (Col("Bus", 14, note="Bus name as on the input 'buses' sheet."), "bus"),
-        (Col("Description", 30), "description"),
+        (Col("Description", 26), "description"),
         (
             Col(
                 "Nominal kV (line-line)", 10, KV, "Nominal line-to-line voltage; the bus's base kV."
@@ -308,7 +253,7 @@ def _fault_columns(result: StudyResult) -> list[tuple[Col, object]]:
                 ),
                 "worst_duty_pct",
             ),
-            (Col("Worst duty in case", 16), "worst_duty_case"),
+            (Col("Worst duty in case", 22), "worst_duty_case"),
         ]
     if result.basis.settings.method == "iec60909":
         cols += [
@@ -371,7 +316,7 @@ def _fault_sheet(ws, result: StudyResult) -> None:
         ws.cell(row=i, column=fields.index(FIELD_OF[r.max_fault]) + 1).font = BOLD
         for j, field in enumerate(fields, start=1):
             if field in NO_PATH_FIELDS and ws.cell(row=i, column=j).value == NO_PATH:
-                ws.cell(row=i, column=j).alignment = Alignment(horizontal="right")
+                ws.cell(row=i, column=j).alignment = Alignment(horizontal="right", vertical="top")
     statuses = [w.duty_status if w else st for w, st in zip(found, b.duty_status, strict=True)]
     _fill_rows(ws, statuses, len(spec))
     _note_below(
@@ -402,8 +347,8 @@ def _duty_sheet(ws, result: StudyResult) -> None:
     with_cases = bool(result.cases)
     cols = [
         Col("Bus", 14),
-        Col("Description", 30),
-        Col("Device", 34),
+        Col("Description", 24),
+        Col("Device", 28),
         Col("Rating, kA", 9, KA, "Interrupting or short-circuit current rating as entered."),
         Col("Test X/R", 8, XR, "X/R of the rating test: entered, or by device (README)."),
         Col(
@@ -479,7 +424,7 @@ def _duty_sheet(ws, result: StudyResult) -> None:
 
 def _case_sheet(ws, result: StudyResult) -> None:
     cols = [
-        Col("Case", 34),
+        Col("Case", 24),
         Col("Bus", 14),
         Col("Nominal kV", 9, KV),
         Col("3-phase, kA", 10, KA),
@@ -557,6 +502,9 @@ def _envelope_sheet(ws, result: StudyResult) -> None:
     )
 
 
+LABEL_WIDTH = 80  # the label's column: about 6 inches of a portrait page
+
+
 def _label_sheet(ws, result: StudyResult, bus: str) -> None:
     """A printable marking for service equipment (NFPA 70 110.24): our own layout."""
     label = result.labels[result.labels.bus == bus].iloc[0]
@@ -569,63 +517,62 @@ def _label_sheet(ws, result: StudyResult, bus: str) -> None:
     )
     b = result.basis
     ws.column_dimensions["A"].width = 4
-    ws.column_dimensions["B"].width = 80
+    ws.column_dimensions["B"].width = LABEL_WIDTH
     lines = [
-        ("SERVICE EQUIPMENT", Font(bold=True, size=16)),
-        ("Maximum available fault current", Font(bold=True, size=14)),
-        (f"{label.label_ka:.1f} kA", Font(bold=True, size=40)),
+        ("SERVICE EQUIPMENT", font(bold=True, size=16)),
+        ("Maximum available fault current", font(bold=True, size=14)),
+        (f"{label.label_ka:.1f} kA", font(bold=True, size=40)),
         (
             "symmetrical RMS, the largest of three-phase, line-to-ground, line-to-line and double "
             "line-to-ground faults" + over,
-            Font(size=10),
+            font(size=10),
         ),
         (
             f"Set by a {FAULT_WORDS[label.label_fault]} fault in {_case_words(label.label_case)}.",
-            Font(bold=True, size=11),
+            font(bold=True, size=11),
         ),
         *(
             [
                 (
                     "Left out of this figure (temporary set-ups, label = no on the cases sheet): "
                     + ", ".join(f"'{c}'" for c in left_out),
-                    Font(size=10),
+                    font(size=10),
                 )
             ]
             if left_out
             else []
         ),
         ("", None),
-        (f"Equipment: {bus}  {label.description}", Font(size=12)),
-        (f"Nominal voltage: {label.kv * 1000:g} V", Font(size=12)),
-        (f"Date of calculation: {b.calculated_at[:10]}", Font(bold=True, size=12)),
-        (f"Study: {b.settings.title or 'short-circuit study'}", Font(size=10)),
+        (f"Equipment: {bus}  {label.description}", font(size=12)),
+        (f"Nominal voltage: {label.kv * 1000:g} V", font(size=12)),
+        (f"Date of calculation: {b.calculated_at[:10]}", font(bold=True, size=12)),
+        (f"Study: {b.settings.title or 'short-circuit study'}", font(size=10)),
         (
             f"Calculated with {b.tool_name} {b.tool_version} from {b.input_name} (SHA-256 "
             f"{b.input_sha256[:16]}...)",
-            Font(size=9),
+            font(size=9),
         ),
         ("", None),
         (
             "Re-mark this equipment whenever a modification of the electrical system changes the "
             "available fault current (NFPA 70, 110.24(B)).",
-            Font(bold=True, size=11),
+            font(bold=True, size=11),
         ),
         (
             "Confirm the source data with the serving utility. For review by a qualified "
             "engineer; the local code and the authority having jurisdiction govern.",
-            Font(size=9),
+            font(size=9),
         ),
         ("", None),
-        ("Checked by: ______________________   Date: ____________", Font(size=11)),
+        ("Checked by: ______________________   Date: ____________", font(size=11)),
     ]
-    for i, (text, font) in enumerate(lines, start=2):
+    for i, (text, style) in enumerate(lines, start=2):
+        style = style or font(size=11)
         cell = ws.cell(row=i, column=2, value=text)
-        cell.alignment = Alignment(wrap_text=True, vertical="center")
-        size = font.size if font else 11
-        if font:
-            cell.font = font
-        wraps = max(1, math.ceil(len(text) * size / (11 * 85)))  # about 85 characters at 11 pt
-        ws.row_dimensions[i].height = 1.5 * size * wraps + 4
+        cell.alignment = Alignment(horizontal="left", wrap_text=True, vertical="center", indent=1)
+        cell.font = style
+        need = lines_needed(text, LABEL_WIDTH, style.size, bool(style.bold), indent=1)
+        ws.row_dimensions[i].height = row_height_pt(need, style.size) + 3
     border = Side(style="thick", color="000000")
     for i in range(2, len(lines) + 2):
         c = ws.cell(row=i, column=2)
@@ -635,14 +582,18 @@ def _label_sheet(ws, result: StudyResult, bus: str) -> None:
             top=border if i == 2 else None,
             bottom=border if i == len(lines) + 1 else None,
         )
-    ws.page_setup.orientation = "portrait"
-    ws.page_setup.fitToWidth = 1
-    ws.page_setup.fitToHeight = 1
-    ws.sheet_properties.pageSetUpPr.fitToPage = True
+    single_page(ws, "portrait")
     ws.print_area = f"A1:B{len(lines) + 2}"
 
 
+# Contributions whose currents are at the voltage of their own bus (contributions.py: the
+# base current of the bus a source or machine is connected to); a branch's are at the faulted
+# bus's (the base current of the faulted bus).
+AT_OWN_BUS = {"source", "generator", "induction_motor", "synchronous_motor"}
+
+
 def _contribution_sheet(ws, result: StudyResult) -> None:
+    kv = dict(zip(result.buses.bus, result.buses.kv, strict=True))
     cols = [
         Col("Faulted bus", 14),
         Col("Fault", 14),
@@ -653,6 +604,14 @@ def _contribution_sheet(ws, result: StudyResult) -> None:
             14,
             note="Branches: the bus at the far end, the current flowing from it into the faulted "
             "bus. Sources and machines: the bus they are connected to.",
+        ),
+        Col(
+            "Currents at kV (line-line)",
+            10,
+            KV,
+            "The nominal voltage at which this row's currents (phase and 3I0) are expressed: "
+            "sources and machines at that of the bus they are connected to, branches at the "
+            "faulted bus's.",
         ),
         Col(
             "Current, kA sym (largest phase)",
@@ -683,6 +642,7 @@ def _contribution_sheet(ws, result: StudyResult) -> None:
             r.element,
             r.kind.replace("_", " "),
             r.from_bus,
+            kv.get(r.from_bus if r.kind in AT_OWN_BUS else r.faulted_bus),
             r.i_ka,
             r.angle_deg,
             r.phase,
@@ -691,6 +651,14 @@ def _contribution_sheet(ws, result: StudyResult) -> None:
         for r in result.contributions.itertuples(index=False)
     ]
     _table(ws, cols, rows)
+    _note_below(
+        ws,
+        "Each row's currents are at the voltage in the column 'Currents at kV': a source's or "
+        "machine's at the bus it is connected to (its own windings), a branch's at the faulted "
+        "bus. A current at another voltage than the faulted bus's is converted by the ratio of "
+        "the two voltages before it is compared with the faulted bus's fault current. "
+        + SHORT_CAUTION,
+    )
 
 
 def _element_sheet(ws, result: StudyResult) -> None:
@@ -699,7 +667,7 @@ def _element_sheet(ws, result: StudyResult) -> None:
         Col("Kind", 17),
         Col("From bus (HV side)", 14),
         Col("To bus (LV side)", 14),
-        Col("As entered", 78, note="The input restated, so a reviewer can check what was read."),
+        Col("As entered", 40, note="The input restated, so a reviewer can check what was read."),
         Col("Ohms referred to bus", 14, note="The bus whose voltage the ohm values are at."),
         Col("Base kV", 9, KV),
         Col("R, ohm", 12, OHM),
@@ -713,12 +681,12 @@ def _element_sheet(ws, result: StudyResult) -> None:
             "Transformers: rated ratio over the ratio of the bus "
             "nominal voltages; 1 when they agree.",
         ),
-        Col("Note", 34),
+        Col("Note", 22),
         Col("R0, per-unit", 12, PU, "Zero-sequence resistance on the study base (see the model)."),
         Col("X0, per-unit", 12, PU, "Zero-sequence reactance on the study base."),
         Col(
             "Zero-sequence model",
-            46,
+            28,
             note="How the element enters the zero-sequence network (winding connection, "
             "grounding, given or assumed values).",
         ),
@@ -731,12 +699,12 @@ def _cable_check_sheet(ws, result: StudyResult) -> None:
     cols = [
         Col("Cable", 14),
         Col("Flagged", 9, note="yes: the typed R or X is beyond the tolerance from the table."),
-        Col("Finding", 90),
+        Col("Finding", 44),
         Col("Typed R, ohm/1000 ft", 12, "0.0000", "Per conductor, converted to ohm/1000 ft."),
         Col("Typed X, ohm/1000 ft", 12, "0.0000"),
         Col("Table R, ohm/1000 ft", 12, "0.0000", "The table row as printed (75 C)."),
         Col("Table X, ohm/1000 ft", 12, "0.0000"),
-        Col("Table row", 60),
+        Col("Table row", 32),
     ]
     table = result.cable_checks
     rows = [
@@ -760,77 +728,136 @@ def _cable_check_sheet(ws, result: StudyResult) -> None:
 
 
 def _warning_sheet(ws, result: StudyResult) -> None:
-    cols = [Col("No.", 6), Col("Warning (doubtful input or assumption made)", 120)]
+    cols = [Col("No.", 6), Col("Warning (doubtful input or assumption made)", 88)]
     rows = [(i, w) for i, w in enumerate(result.warnings, start=1)] or [("", "No warnings.")]
     _table(ws, cols, rows, freeze_columns=0)
-    for row in ws.iter_rows(min_row=2, min_col=2, max_col=2):
-        for cell in row:
-            cell.alignment = WRAP
+
+
+BASIS_LABEL_WIDTH = 24
+BASIS_TEXT_WIDTH = 69  # with the labels, the width of a portrait page
+
+
+def _text_row(ws, row: int, label: str, text: str, *, label_font=None, fill=None) -> None:
+    """A label in column A and a wrapped text in column B, the row as tall as the text."""
+    label_cell = ws.cell(row=row, column=1, value=label)
+    label_cell.alignment = Alignment(horizontal="right" if label_font is None else "left",
+                                     vertical="top")  # fmt: skip
+    label_cell.font = label_font or font()
+    cell = ws.cell(row=row, column=2, value=text)
+    cell.alignment = Alignment(wrap_text=True, vertical="top", indent=1)
+    cell.font = font()
+    if fill is not None:
+        cell.fill = fill
+    ws.row_dimensions[row].height = row_height_pt(
+        lines_needed(str(text), BASIS_TEXT_WIDTH, indent=1)
+    )
 
 
 def _basis_sheet(ws, result: StudyResult) -> None:
     b = result.basis
     s = b.settings
-    ws.column_dimensions["A"].width = 26
-    ws.column_dimensions["B"].width = 110
-    ws.cell(row=1, column=1, value=s.title or "Short-circuit study").font = TITLE
+    ws.column_dimensions["A"].width = BASIS_LABEL_WIDTH
+    ws.column_dimensions["B"].width = BASIS_TEXT_WIDTH
+    title = ws.cell(row=1, column=1, value=s.title or "Short-circuit study")
+    title.font = TITLE
+    ws.merge_cells("A1:B1")
+    title.alignment = Alignment(wrap_text=True, vertical="top")
+    title_lines = lines_needed(str(title.value), BASIS_LABEL_WIDTH + BASIS_TEXT_WIDTH, 14, True)
+    ws.row_dimensions[1].height = row_height_pt(title_lines, 14)
     ws.cell(row=3, column=1, value="Cautions").font = BOLD
     row = 4
     for i, text in enumerate(result.cautions, start=1):
-        ws.cell(row=row, column=1, value=f"{i}.").alignment = Alignment(
-            horizontal="right", vertical="top"
-        )
-        cell = ws.cell(row=row, column=2, value=text)
-        cell.alignment = WRAP
-        cell.fill = CAUTION_FILL
-        ws.row_dimensions[row].height = 30
+        _text_row(ws, row, f"{i}.", text, fill=CAUTION_FILL)
         row += 1
     row += 1
     ws.cell(row=row, column=1, value="Basis of the calculation").font = BOLD
     row += 1
     items = basis_items(result)
     for label, value in items:
-        label_cell = ws.cell(row=row, column=1, value=label)
-        label_cell.font = BOLD
-        label_cell.alignment = Alignment(vertical="top")
-        cell = ws.cell(row=row, column=2, value=value)
-        cell.alignment = WRAP
-        if len(str(value)) > 100:  # wrapped text: about 100 characters a line at this width
-            ws.row_dimensions[row].height = 13.5 * math.ceil(len(str(value)) / 100) + 3
+        _text_row(ws, row, label, value, label_font=BOLD)
         row += 1
 
 
-def build_workbook(result: StudyResult) -> Workbook:
-    book = Workbook()
-    faults = book.active
-    faults.title = "Fault currents"
-    _fault_sheet(faults, result)
-    sheets = [faults]
+# (title, fill, orientation); orientation None: a sheet of text sized to a portrait page.
+def _table_sheets(result: StudyResult) -> list[tuple]:
     extra = []
     if result.contributions is not None:
-        extra = [("Contributions", _contribution_sheet)]
+        extra = [("Contributions", _contribution_sheet, "landscape")]
     if result.envelope is not None:
-        extra += [("Cases", _case_sheet), ("Envelope", _envelope_sheet)]
-    for title, fill in (
-        ("Equipment duty", _duty_sheet),
+        extra += [
+            ("Cases", _case_sheet, "landscape"),
+            ("Envelope", _envelope_sheet, "landscape"),
+        ]
+    return [
+        ("Fault currents", _fault_sheet, "landscape"),
+        ("Equipment duty", _duty_sheet, "landscape"),
         *extra,
-        ("Element impedances", _element_sheet),
-        ("Cable check", _cable_check_sheet),
-        ("Warnings", _warning_sheet),
-        ("Basis and cautions", _basis_sheet),
-    ):
+        ("Element impedances", _element_sheet, "landscape"),
+        ("Cable check", _cable_check_sheet, "landscape"),
+        ("Warnings", _warning_sheet, "portrait"),
+        ("Basis and cautions", _basis_sheet, None),
+    ]
+
+
+SUMMARY_NOTE = (
+    "Maximum available: the largest initial symmetrical RMS current of a 3-phase, "
+    "line-to-ground, line-to-line or double line-to-ground fault at the bus over the base case "
+    "and every case, with the fault type and the case that give it; every column of every "
+    "fault type is on the Fault currents sheet. Red: the duty of the bus's device exceeds its "
+    "rating, amber: within 10 % of it. "
+)
+
+
+def _default_font(book: Workbook) -> None:
+    """The workbook's default font (empty cells, row heights) is the face every cell uses."""
+    book._fonts[0] = font()  # openpyxl keeps the default as the first font of the book
+
+
+def _named_fonts(book: Workbook) -> None:
+    """Every font in the book names the one face (a font without a name prints in another)."""
+    for ws in book.worksheets:
+        for row in ws.iter_rows():
+            for cell in row:
+                if cell.has_style and cell.font.name != FACE:
+                    named = copy(cell.font)
+                    named.name = FACE
+                    cell.font = named
+
+
+def build_workbook(result: StudyResult, *, diagram_png: bytes | None = None) -> Workbook:
+    """The results workbook; ``diagram_png`` (PNG bytes of the one-line diagram) adds the
+    'One-line' sheet after the Summary."""
+    book = Workbook()
+    _default_font(book)
+    summary = book.active
+    summary.title = "Summary"
+    summary.page_setup.orientation = "landscape"
+    summary_sheet(summary, result, STATUS_FILL)
+    _note_below(summary, SUMMARY_NOTE + SHORT_CAUTION)
+    table_pages(summary, "landscape")
+    _page_setup(summary, result)
+    if diagram_png is not None:
+        picture = book.create_sheet("One-line")
+        orientation = diagram_sheet(picture, diagram_png)
+        single_page(picture, orientation)
+        _page_setup(picture, result, orientation)
+    for title, fill, orientation in _table_sheets(result):
         ws = book.create_sheet(title)
+        ws.page_setup.orientation = orientation or "portrait"
         fill(ws, result)
-        sheets.append(ws)
-    for ws in sheets:
-        _page_setup(ws, result)
+        if orientation is None:
+            text_pages(ws, "portrait")
+        else:
+            table_pages(ws, orientation, title_columns(ws))
+        _page_setup(ws, result, orientation or "portrait")
     titles = _label_titles(result.service_buses, book.sheetnames)
     for bus, title in zip(result.service_buses, titles, strict=True):
         label = book.create_sheet(title)
         if label.title != title:  # titles are made unique: openpyxl renamed it all the same
             raise RuntimeError(f"label sheet {title!r} was named {label.title!r}")
-        _page_setup(label, result)
         _label_sheet(label, result, bus)
+        _page_setup(label, result, "portrait")
+    _named_fonts(book)
     _text_cells(book)
     return book
 
@@ -900,18 +927,24 @@ def _summary_note(studied: int, kept: int, csv_name: str) -> str:
     )
 
 
-def write_workbook_to(result: StudyResult, path: Path, summary_of: str | None = None) -> None:
+def write_workbook_to(
+    result: StudyResult,
+    path: Path,
+    summary_of: str | None = None,
+    *,
+    diagram_png: bytes | None = None,
+) -> None:
     """Write the workbook; ``summary_of`` names the CSV holding every bus of a large study,
-    and the workbook then holds the summary."""
+    and the workbook then holds the summary; ``diagram_png`` adds the One-line sheet."""
     note = None
     if summary_of is not None:
         cut = result.summary()
         note = _summary_note(len(result.buses), len(cut.buses), summary_of)
         result = cut
-    book = build_workbook(result)
+    book = build_workbook(result, diagram_png=diagram_png)
     if note:
         for ws in book.worksheets:
-            if ws.title in ("Fault currents", "Element impedances", "Cases", "Envelope"):
+            if ws.title in ("Summary", "Fault currents", "Element impedances", "Cases", "Envelope"):
                 _note_below(ws, note)
     book.save(path)
 

@@ -24,7 +24,9 @@ def book(result, tmp_path):
 
 
 def test_sheets(book):
+    # The first sheet is the Summary (#14); it was "Fault currents".
     assert book.sheetnames == [
+        "Summary",
         "Fault currents",
         "Equipment duty",
         "Cases",

@@ -1,0 +1,102 @@
+"""A worked example of every input sheet: an invented 480 V plant small enough to read on the
+template's guide sheet (never written as rows on the sheets themselves). Together the rows make
+a complete input that the tool reads and studies (tests/test_template_print.py)."""
+
+from __future__ import annotations
+
+EXAMPLE_TITLE = "Example plant (invented)"
+
+# sheet name -> its example rows (column -> value; a column left out is left blank)
+EXAMPLES: dict[str, list[dict]] = {
+    "study": [
+        {"setting": "title", "value": EXAMPLE_TITLE},
+        {"setting": "frequency_hz", "value": 60, "note": "60 Hz system"},
+    ],
+    "buses": [
+        {"bus": "UTIL-13.8", "kv": 13.8, "description": "Utility point of delivery"},
+        {
+            "bus": "SWBD-1",
+            "kv": 0.48,
+            "description": "Main switchboard",
+            "device": "lvpcb",
+            "rating_ka": 65,
+            "service": "yes",
+        },
+        {
+            "bus": "MCC-1",
+            "kv": 0.48,
+            "description": "Motor control centre",
+            "device": "mccb",
+            "rating_ka": 35,
+        },
+    ],
+    "sources": [
+        {"source": "UTILITY", "bus": "UTIL-13.8", "sc_mva": 500, "xr": 15, "slg_ka": 18},
+    ],
+    "transformers": [
+        {
+            "transformer": "TX-1",
+            "hv_bus": "UTIL-13.8",
+            "lv_bus": "SWBD-1",
+            "kva": 1500,
+            "hv_kv": 13.8,
+            "lv_kv": 0.48,
+            "z_pct": 5.75,
+            "xr": 6.5,
+            "hv_winding": "D",
+            "lv_winding": "YN",
+            "lv_neutral_ohm": 0,
+        },
+    ],
+    "cables": [
+        {
+            "cable": "F-MCC1",
+            "from_bus": "SWBD-1",
+            "to_bus": "MCC-1",
+            "length_ft": 180,
+            "sets": 2,
+            "size": "500",
+            "material": "cu",
+            "raceway": "steel",
+            "r0_ohm_per_kft": 0.081,
+            "x0_ohm_per_kft": 0.144,
+        },
+    ],
+    "impedances": [
+        {
+            "element": "BYPASS-1",
+            "from_bus": "SWBD-1",
+            "to_bus": "MCC-1",
+            "r_ohm": 0.002,
+            "x_ohm": 0.004,
+            "r0_ohm": 0.006,
+            "x0_ohm": 0.012,
+            "in_service": "no",
+        },
+    ],
+    "machines": [
+        {
+            "machine": "P-101",
+            "bus": "MCC-1",
+            "kind": "induction_motor",
+            "hp": 200,
+            "kv": 0.46,
+            "xd_pct": 16.7,
+            "xr": 8,
+        },
+        {
+            "machine": "FANS",
+            "bus": "MCC-1",
+            "kind": "induction_motor",
+            "hp": 25,
+            "kv": 0.46,
+            "xd_pct": 16.7,
+            "xr": 4,
+            "count": 6,
+        },
+    ],
+    "cases": [
+        {"case": "utility minimum", "element": "UTILITY", "column": "sc_mva", "value": 250},
+        {"case": "utility minimum", "element": "UTILITY", "column": "slg_ka", "value": 9},
+    ],
+}
