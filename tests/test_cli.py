@@ -33,7 +33,8 @@ def test_demo_writes_a_workbook_and_says_where(tmp_path):
     result = run("demo", "-o", str(out))
     assert result.exit_code == 0, result.output
     assert str(out.resolve()) in result.output and "invented" in result.output
-    assert load_workbook(out).sheetnames[:2] == ["Summary", "Fault currents"]  # Summary first (#14)
+    # Summary first, then the one-line on its own sheet (#14 changes the convention)
+    assert load_workbook(out).sheetnames[:3] == ["Summary", "One-line", "Fault currents"]
 
 
 def test_study_writes_json_with_the_documented_fields(tmp_path):

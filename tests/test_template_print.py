@@ -13,7 +13,8 @@ from openpyxl import load_workbook
 from openpyxl.utils import get_column_letter
 
 from faultcalc import read_system, run_study, schema
-from faultcalc.report import pages, sheetfit
+from faultcalc.report import sheetfit
+from faultcalc.report import sheetpages as pages
 from faultcalc.schema.examples import EXAMPLES
 from faultcalc.schema.template import build_template, header_shown
 from tests.conftest import write_xlsx

@@ -12,19 +12,14 @@ from openpyxl.styles import Alignment
 
 from ..results import StudyResult
 from ..solve import duty
-from .pages import page
 from .sheetfit import PRINT_PT_PER_WIDTH, lines_needed, row_height_pt
+from .sheetpages import page
 from .sheettable import BOLD, Col, finite, font, table
+from .words import FAULT_WORDS
 
 KA = "0.00"
 KV = "0.000"
 XR = "0.00"
-FAULT_WORDS = {
-    "3ph": "3-phase",
-    "slg": "line-to-ground",
-    "ll": "line-to-line",
-    "llg": "double line-to-ground",
-}
 SUMMARY_COLUMNS = [
     Col("Bus", 14, note="Bus name as on the input 'buses' sheet."),
     Col("Description", 24),

@@ -7,13 +7,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from ..results import StudyResult
-
-FAULT_WORDS = {
-    "3ph": "3-phase",
-    "slg": "line-to-ground",
-    "ll": "line-to-line",
-    "llg": "double line-to-ground",
-}
+from .words import FAULT_WORDS, case_words
 
 
 @dataclass(frozen=True)
@@ -21,10 +15,6 @@ class Line:
     text: str  # "" for a blank line
     size_pt: float
     bold: bool = False
-
-
-def case_words(case: str) -> str:
-    return "the base case" if case == "base" else f"case '{case}'"
 
 
 def label_lines(result: StudyResult, bus: str) -> list[Line]:

@@ -35,6 +35,9 @@ from ..progress import Progress, reporter
 from .files import same_file, staged
 
 BIG_OUTPUT_BUSES = 5_000
+# The workbook's One-line sheet is drawn for studies up to this many buses (about what one
+# large sheet holds legibly, see faultcalc.diagram); a larger one-line is in the report.
+ONE_LINE_SHEET_BUSES = 150
 
 
 def bus_csv_path(output: str | Path) -> Path:
@@ -246,8 +249,18 @@ class ResultFiles:
             ) as temps,
         ):
             progress.plan(len(targets))
+            sheets = _sheets(system, result) if self.report_path is not None else None
+            picture = None
+            if system is not None and len(result.buses) <= ONE_LINE_SHEET_BUSES:
+                progress.step("one-line")
+                picture = _png(sheets or _sheets(system, result))
             progress.step("workbook" + (" (summary)" if big else ""))
-            write_workbook_to(result, temps[0], summary_of=self.bus_csv.name if big else None)
+            write_workbook_to(
+                result,
+                temps[0],
+                summary_of=self.bus_csv.name if big else None,
+                diagram_png=picture,
+            )
             if self.json_path:
                 progress.step("JSON")
                 write_json_to(result, temps[1])
@@ -258,7 +271,7 @@ class ResultFiles:
                 write_report_to(
                     result,
                     temps[targets.index(self.report_path)],
-                    sheets=_sheets(system, result),
+                    sheets=sheets,
                     summary_of=self.bus_csv.name if big else None,
                 )
             if big:
@@ -275,10 +288,25 @@ class ResultFiles:
 
 
 def _sheets(system, result) -> list:
-    """The one-line diagram's pages for the report."""
+    """The one-line diagram's pages (faultcalc.diagram Drawings)."""
     from ..diagram import draw
 
     return [draw(system, result)]
+
+
+def _png(sheets) -> bytes | None:
+    """The one-line as PNG bytes for the workbook's One-line sheet: only when it is one sheet
+    (a diagram split over pages is read in the report or the diagram's own PDF)."""
+    import tempfile
+
+    from ..diagram import save
+
+    if len(sheets) != 1:
+        return None
+    with tempfile.TemporaryDirectory(prefix="faultcalc-one-line-") as tmp:
+        path = Path(tmp, "one-line.png")
+        save(sheets[0], path)
+        return path.read_bytes()
 
 
 def write_results(

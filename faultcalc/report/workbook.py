@@ -15,8 +15,10 @@ from ..results import StudyResult
 from ..solve import duty
 from .basis import basis_items
 from .files import staged
-from .frontsheets import FAULT_WORDS, diagram_sheet, summary_sheet
-from .pages import (
+from .frontsheets import diagram_sheet, summary_sheet
+from .labeltext import label_lines
+from .sheetfit import FACE, lines_needed, row_height_pt
+from .sheetpages import (
     LEGIBLE_SCALE,
     fit_scale,
     header_and_footer,
@@ -26,10 +28,10 @@ from .pages import (
     table_pages,
     text_pages,
 )
-from .sheetfit import FACE, lines_needed, row_height_pt
 from .sheettable import BOLD, CAUTION_FILL, FLAG_FILL, TITLE, Col, font, note_below, title_columns
 from .sheettable import only_row as _only_row
 from .sheettable import table as _table
+from .words import FAULT_WORDS, contribution_kv
 
 KA = "0.00"
 MVA = "0.0"
@@ -339,10 +341,6 @@ STATUS_FILL = {
 }
 
 
-def _case_words(case: str) -> str:
-    return "the base case" if case == "base" else f"case '{case}'"
-
-
 def _duty_sheet(ws, result: StudyResult) -> None:
     with_cases = bool(result.cases)
     cols = [
@@ -506,65 +504,14 @@ LABEL_WIDTH = 80  # the label's column: about 6 inches of a portrait page
 
 
 def _label_sheet(ws, result: StudyResult, bus: str) -> None:
-    """A printable marking for service equipment (NFPA 70 110.24): our own layout."""
-    label = result.labels[result.labels.bus == bus].iloc[0]
-    left_out = result.label_cases_left_out
-    counted = len(result.cases) - len(left_out)
-    over = (
-        f" over the base case and {counted} study case(s)"
-        if counted
-        else (" in the base case" if result.cases else "")
-    )
-    b = result.basis
+    """A printable marking for service equipment (NFPA 70 110.24): the words of labeltext."""
     ws.column_dimensions["A"].width = 4
     ws.column_dimensions["B"].width = LABEL_WIDTH
     lines = [
-        ("SERVICE EQUIPMENT", font(bold=True, size=16)),
-        ("Maximum available fault current", font(bold=True, size=14)),
-        (f"{label.label_ka:.1f} kA", font(bold=True, size=40)),
-        (
-            "symmetrical RMS, the largest of three-phase, line-to-ground, line-to-line and double "
-            "line-to-ground faults" + over,
-            font(size=10),
-        ),
-        (
-            f"Set by a {FAULT_WORDS[label.label_fault]} fault in {_case_words(label.label_case)}.",
-            font(bold=True, size=11),
-        ),
-        *(
-            [
-                (
-                    "Left out of this figure (temporary set-ups, label = no on the cases sheet): "
-                    + ", ".join(f"'{c}'" for c in left_out),
-                    font(size=10),
-                )
-            ]
-            if left_out
-            else []
-        ),
-        ("", None),
-        (f"Equipment: {bus}  {label.description}", font(size=12)),
-        (f"Nominal voltage: {label.kv * 1000:g} V", font(size=12)),
-        (f"Date of calculation: {b.calculated_at[:10]}", font(bold=True, size=12)),
-        (f"Study: {b.settings.title or 'short-circuit study'}", font(size=10)),
-        (
-            f"Calculated with {b.tool_name} {b.tool_version} from {b.input_name} (SHA-256 "
-            f"{b.input_sha256[:16]}...)",
-            font(size=9),
-        ),
-        ("", None),
-        (
-            "Re-mark this equipment whenever a modification of the electrical system changes the "
-            "available fault current (NFPA 70, 110.24(B)).",
-            font(bold=True, size=11),
-        ),
-        (
-            "Confirm the source data with the serving utility. For review by a qualified "
-            "engineer; the local code and the authority having jurisdiction govern.",
-            font(size=9),
-        ),
-        ("", None),
-        ("Checked by: ______________________   Date: ____________", font(size=11)),
+        (line.text, font(bold=True, size=line.size_pt) if line.bold else font(size=line.size_pt))
+        if line.text
+        else ("", None)
+        for line in label_lines(result, bus)
     ]
     for i, (text, style) in enumerate(lines, start=2):
         style = style or font(size=11)
@@ -586,14 +533,7 @@ def _label_sheet(ws, result: StudyResult, bus: str) -> None:
     ws.print_area = f"A1:B{len(lines) + 2}"
 
 
-# Contributions whose currents are at the voltage of their own bus (contributions.py: the
-# base current of the bus a source or machine is connected to); a branch's are at the faulted
-# bus's (the base current of the faulted bus).
-AT_OWN_BUS = {"source", "generator", "induction_motor", "synchronous_motor"}
-
-
 def _contribution_sheet(ws, result: StudyResult) -> None:
-    kv = dict(zip(result.buses.bus, result.buses.kv, strict=True))
     cols = [
         Col("Faulted bus", 14),
         Col("Fault", 14),
@@ -642,13 +582,15 @@ def _contribution_sheet(ws, result: StudyResult) -> None:
             r.element,
             r.kind.replace("_", " "),
             r.from_bus,
-            kv.get(r.from_bus if r.kind in AT_OWN_BUS else r.faulted_bus),
+            at_kv,
             r.i_ka,
             r.angle_deg,
             r.phase,
             r.ig_ka,
         )
-        for r in result.contributions.itertuples(index=False)
+        for r, at_kv in zip(
+            result.contributions.itertuples(index=False), contribution_kv(result), strict=True
+        )
     ]
     _table(ws, cols, rows)
     _note_below(

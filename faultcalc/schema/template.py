@@ -17,7 +17,6 @@ from openpyxl.utils import get_column_letter
 from openpyxl.worksheet.datavalidation import DataValidation
 
 from .. import schema
-from ..report.pages import header_and_footer, table_pages, text_pages
 from ..report.sheetfit import (
     BODY_PT,
     FACE,
@@ -25,6 +24,7 @@ from ..report.sheetfit import (
     longest_word_width,
     row_height_pt,
 )
+from ..report.sheetpages import header_and_footer, table_pages, text_pages
 from .examples import EXAMPLES
 
 REQUIRED_FILL = PatternFill("solid", fgColor="F8D7A8")

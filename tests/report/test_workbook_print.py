@@ -15,7 +15,8 @@ from openpyxl import load_workbook
 
 from faultcalc import read_system, run_study, sample_path
 from faultcalc.cautions import SHORT_CAUTION
-from faultcalc.report import pages, sheetfit
+from faultcalc.report import sheetfit
+from faultcalc.report import sheetpages as pages
 from faultcalc.report.frontsheets import FAULT_WORDS
 from faultcalc.report.sheettable import NUMBER_GAP_PT, shown
 from faultcalc.report.workbook import build_workbook, write_workbook_to

@@ -26,12 +26,13 @@ from reportlab.platypus import (
 from ...results import StudyResult
 from ...solve import duty
 from ..basis import basis_items
-from ..labeltext import FAULT_WORDS as LABEL_FAULT_WORDS
 from ..labeltext import label_lines
+from ..words import FAULT_WORDS as OUTPUT_FAULT_WORDS
+from ..words import contribution_kv
 from . import fonts
 from .pages import LANDSCAPE, MARGIN_PT, PORTRAIT, SMALL_PT
 
-FAULT_WORDS = {**LABEL_FAULT_WORDS, "": ""}
+FAULT_WORDS = {**OUTPUT_FAULT_WORDS, "": ""}
 NO_PATH = "no path"
 OVER_FILL = colors.HexColor("#F9D3CF")
 NEAR_FILL = colors.HexColor("#FCE7C2")
@@ -489,9 +490,11 @@ def contributions(result: StudyResult) -> list:
     out.append(
         Paragraph(
             "The current from every source, machine and branch for three-phase and "
-            "line-to-ground faults at the buses asked for. Sources and machines: at their "
-            "terminals; branches: at the faulted-bus end. Angles relative to the prefault "
-            "phase-a voltage at the faulted bus.",
+            "line-to-ground faults at the buses asked for, at the voltage in the column "
+            "'Currents at kV': a source's or machine's at its terminals (the bus it is "
+            "connected to), a branch's at the faulted-bus end. Convert a current at another "
+            "voltage by the ratio of the two before comparing it with the faulted bus's. Angles "
+            "relative to the prefault phase-a voltage at the faulted bus.",
             BODY,
         )
     )
@@ -502,12 +505,15 @@ def contributions(result: StudyResult) -> list:
             r.element,
             r.kind.replace("_", " "),
             r.from_bus,
+            fixed(at_kv, 3),
             ka(r.i_ka),
             fixed(r.angle_deg, 1),
             r.phase,
             ka(r.ig_ka),
         ]
-        for r in result.contributions.itertuples(index=False)
+        for r, at_kv in zip(
+            result.contributions.itertuples(index=False), contribution_kv(result), strict=True
+        )
     ]
     out.append(
         table(
@@ -517,14 +523,15 @@ def contributions(result: StudyResult) -> list:
                 "Element",
                 "Kind",
                 "From bus",
+                "Currents at kV",
                 "Current, kA (largest phase)",
                 "Angle, degrees",
                 "Phase",
                 "Residual 3I0, kA",
             ],
             rows,
-            [0.13, 0.11, 0.14, 0.12, 0.13, 0.1, 0.08, 0.07, 0.12],
-            {5, 6, 8},
+            [0.12, 0.1, 0.13, 0.11, 0.12, 0.08, 0.1, 0.08, 0.06, 0.1],
+            {5, 6, 7, 9},
         )
     )
     return out
