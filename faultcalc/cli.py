@@ -176,7 +176,8 @@ def _run(
 
     if report_path is not None and report_path.suffix.lower() != ".pdf":
         raise click.BadParameter(
-            f"{report_path.name}: the report is written as .pdf", param_hint="--report"
+            f"give the report a file name ending in .pdf (got {report_path.name!r})",
+            param_hint="--report",
         )
     files = ResultFiles(
         output,

@@ -70,12 +70,12 @@ def _check_targets(input_path: Path | None, targets: list[Path], overwrite: bool
     for target in targets:
         if _is_input(target, input_path):
             raise OutputError(f"refusing to write {target}: it is the input")
+        if target.exists() and target.is_dir():
+            raise OutputError(f"{target} is a folder; give a file name")
         if os.path.lexists(target) and not overwrite:
             raise OutputError(
                 f"{target} exists already; add --overwrite to replace it, or choose another name"
             )
-        if target.exists() and target.is_dir():
-            raise OutputError(f"{target} is a folder; give a file name")
         if os.path.lexists(target):
             existing.append(target)
     return existing

@@ -234,7 +234,11 @@ def test_cli_writes_the_report_and_refuses_another_suffix(tmp_path):
     refused = runner.invoke(
         main, ["study", str(sample_path()), "-o", str(tmp_path / "s.xlsx"), "--report", "s.docx"]
     )
-    assert refused.exit_code == 2 and "--report" in refused.output
+    assert (
+        refused.exit_code == 2
+        and "--report" in refused.output
+        and "ending in .pdf" in refused.output
+    )
     assert not (tmp_path / "s.xlsx").exists()
 
 
@@ -322,3 +326,105 @@ def test_a_large_study_report_says_it_prints_a_summary(tmp_path, monkeypatch):
     assert f"A study of {len(result.buses):,} buses: this report prints the" in text
     assert "r-buses.csv" in text
     assert "The element echo is left out" in text
+
+
+def _small_system(make_input, *, lv="LV-1", description="Main switchboard", case="", title=""):
+    sheets = {
+        "buses": [
+            {"bus": "HV", "kv": 12.47},
+            {"bus": lv, "kv": 0.48, "service": "yes", "description": description},
+        ],
+        "sources": [{"source": "U1", "bus": "HV", "sc_mva": 300, "xr": 10, "slg_ka": 12}],
+        "transformers": [transformer(transformer="T1", hv_bus="HV", lv_bus=lv)],
+    }
+    if case:
+        sheets["cases"] = [{"case": case, "element": "U1", "column": "sc_mva", "value": 250}]
+    if title:
+        sheets["study"] = [{"setting": "title", "value": title}]
+    return read_system(make_input(sheets))
+
+
+@pytest.mark.parametrize(
+    "name",
+    ["<font size=99>big", '<img src="/etc/hostname" width="300" height="200"/>', "A&B", "A<B"],
+)
+def test_a_service_bus_name_with_markup_prints_as_typed_in_the_contents(make_input, tmp_path, name):
+    # Found by an independent hostile pass: the contents set each heading as a paragraph
+    # again, so a label's bus name acted as markup there (a crash, a local image pulled in).
+    system = _small_system(make_input, lv=name)
+    _, reader, _ = _report(tmp_path, system)
+    contents = _flat(reader.pages[1].extract_text())
+    assert f"Service label: {name}" in contents
+    for page in reader.pages:
+        xobjects = page["/Resources"].get("/XObject", {})
+        assert all(xobjects[k].get_object()["/Subtype"] != "/Image" for k in xobjects)
+
+
+def test_long_free_text_runs_on_over_pages(make_input, tmp_path):
+    # A row taller than a page (a 2,000-character description, a 500-character case name)
+    # ended every output with a layout error; it now runs on to the next page, cut nowhere.
+    description = ("Main switchboard " * 130)[:2000]
+    case = "utility maximum " + "x" * 484
+    system = _small_system(make_input, description=description, case=case)
+    result, reader, _ = _report(tmp_path, system)
+    text = re.sub(r"\s+", "", " ".join(_pages(reader)))
+    assert re.sub(r"\s+", "", description) in text
+    assert case.replace(" ", "") in text
+
+
+def test_title_with_line_breaks_and_the_review_block_kept_on_one_page(make_input, tmp_path):
+    title = "Plant A\nfeeder study " + "with a long title " * 12
+    system = _small_system(make_input, title=title)
+    _, reader, _ = _report(tmp_path, system)
+    first = _flat(reader.pages[0].extract_text())
+    assert "Reviewed by" in first and "Signature and seal" in first and "Remarks" in first
+    assert "Plant A feeder study" in _flat(reader.pages[2].extract_text())  # header: a space
+
+
+def test_wording_when_no_rating_no_label_and_no_typed_cable(make_input, tmp_path):
+    sheets = {
+        "buses": [{"bus": "HV", "kv": 12.47}, {"bus": "LV", "kv": 0.48}],
+        "sources": [{"source": "U1", "bus": "HV", "sc_mva": 300, "xr": 10}],
+        "transformers": [transformer(transformer="T1", hv_bus="HV", lv_bus="LV")],
+    }
+    _, reader, _ = _report(tmp_path, read_system(make_input(sheets)))
+    text = _flat(" ".join(_pages(reader)))
+    assert "none: no bus has a device and rating_ka" in text
+    assert "Devices over their rating" not in text
+    assert "No bus is marked service = yes" in text
+    assert "there is nothing to compare" in text
+
+
+def test_a_label_that_cannot_print_as_typed_says_so(make_input, tmp_path):
+    # reportlab neither shapes right-to-left text nor has CJK glyphs in DejaVu Sans: the
+    # label page must not be posted as it prints (common practice, no source).
+    for k, name in enumerate(["لوحة التوزيع", "配電盤-1"]):
+        system = _small_system(make_input, lv=name)
+        _, reader, _ = _report(tmp_path, system, name=f"r{k}")
+        text = _flat(" ".join(_pages(reader)))
+        assert "do not post this page" in text
+        assert "cannot print as typed" in _flat(reader.pages[0].extract_text())
+    system = _small_system(make_input, lv="LV-1")
+    _, reader, _ = _report(tmp_path, system, name="plain")
+    assert "do not post this page" not in _flat(" ".join(_pages(reader)))
+
+
+def test_header_words_stay_whole_when_long_names_squeeze_the_table():
+    from reportlab.pdfbase.pdfmetrics import stringWidth
+
+    from faultcalc.report.pdf import fonts
+    from faultcalc.report.pdf.sections import LANDSCAPE_WIDTH_PT, PAD_PT, column_widths
+
+    fonts.register()
+    head = ["Bus", "Description", "Nominal kV", "Maximum available, kA", "Case"]
+    long_word = "W" * 120
+    widths = column_widths(
+        head,
+        [[long_word, long_word, "0.480", "33.38", long_word]],
+        [0.11, 0.2, 0.06, 0.08, 0.55],
+        LANDSCAPE_WIDTH_PT,
+    )
+    assert sum(widths) <= LANDSCAPE_WIDTH_PT + 1e-6
+    for h, w in zip(head, widths, strict=True):
+        for word in h.split():
+            assert stringWidth(word, fonts.BOLD, 8) + PAD_PT <= w + 1e-6, (word, w)

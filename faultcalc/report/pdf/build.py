@@ -22,7 +22,8 @@ def _marks(result: StudyResult) -> Marks:
     return Marks(
         title=b.settings.title or "Short-circuit study",
         basis=(
-            f"calculated {b.calculated_at[:10]} {b.calculated_at[11:16]} \u00b7 "
+            f"calculated {b.calculated_at[:10]} {b.calculated_at[11:16]} "
+            f"UTC{b.calculated_at[19:]} \u00b7 "
             f"{b.tool_name} {b.tool_version} \u00b7 SHA-256 {b.input_sha256[:12]}\u2026 "
             f"\u00b7 {b.input_name}"
         ),
@@ -35,20 +36,29 @@ def _counts(result: StudyResult) -> dict[str, int]:
     return {
         "buses": len(result.buses),
         "cases": len(result.cases),
+        "rated": len(statuses),
         "over": int(sum(s == duty.STATUS_OVER for s in statuses)),
         "near": int(sum(s == duty.STATUS_NEAR for s in statuses)),
     }
 
 
 def _lacking(result: StudyResult) -> str:
-    """The characters of the input's names and descriptions the typeface lacks (at most 12)."""
-    from .fonts import has_glyph
+    """The characters of the input's names and descriptions the report prints wrongly (missing
+    from the face, or right to left), by code point, at most 12."""
+    from .fonts import has_glyph, right_to_left
 
     texts = [result.basis.settings.title, result.basis.input_name, *result.cases]
     texts += list(result.buses.bus) + list(result.descriptions)
     if result.labels is not None:
         texts += list(result.labels.description)
-    missing = sorted({ch for t in texts for ch in str(t) if not ch.isspace() and not has_glyph(ch)})
+    missing = sorted(
+        {
+            ch
+            for t in texts
+            for ch in str(t)
+            if not ch.isspace() and (not has_glyph(ch) or right_to_left(ch))
+        }
+    )
     return ", ".join(f"U+{ord(ch):04X}" for ch in missing[:12]) + (
         " ..." if len(missing) > 12 else ""
     )

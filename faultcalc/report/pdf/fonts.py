@@ -43,3 +43,17 @@ def has_glyph(ch: str) -> bool:
 
     register()
     return ord(ch) in pdfmetrics.getFont(REGULAR).face.charToGlyph
+
+
+def right_to_left(ch: str) -> bool:
+    """True for a right-to-left letter (Arabic, Hebrew...): reportlab lays text out left to
+    right without shaping, so such text prints with its letters reversed and unjoined."""
+    import unicodedata
+
+    return unicodedata.bidirectional(ch) in ("R", "AL")
+
+
+def prints_as_typed(text: str) -> bool:
+    """False when ``text`` holds a character this report prints wrongly (missing from the
+    face, or right to left)."""
+    return all(ch.isspace() or (has_glyph(ch) and not right_to_left(ch)) for ch in text)

@@ -81,12 +81,16 @@ class ReportDocument(BaseDocTemplate):
 
     def afterFlowable(self, flowable):  # noqa: N802 (reportlab's name)
         """A section heading (style h1), a label or a one-line sheet goes into the contents."""
+        from xml.sax.saxutils import escape
+
         from reportlab.platypus import Paragraph
 
+        # The contents set each entry as a paragraph again: its text (a bus name in a label's
+        # heading) escaped once more, or a name holding markup would act there.
         if isinstance(flowable, Paragraph) and flowable.style.name in ("h1", "label-head"):
-            self.notify("TOCEntry", (0, flowable.getPlainText(), self.page))
+            self.notify("TOCEntry", (0, escape(flowable.getPlainText()), self.page))
         elif isinstance(flowable, SheetSlot):
-            self.notify("TOCEntry", (0, flowable.title, self.page))
+            self.notify("TOCEntry", (0, escape(flowable.title), self.page))
 
     def add_sheet_page(self, width_pt: float, height_pt: float) -> str:
         """A page template for a one-line sheet of this size; returns its id."""
@@ -106,7 +110,8 @@ class ReportDocument(BaseDocTemplate):
         top = h - MARGIN_PT - HEADER_PT + 6
         canv.line(MARGIN_PT, top, w - MARGIN_PT, top)
         canv.setFont(fonts.BOLD, 9)
-        canv.drawString(MARGIN_PT, top + 5, _fit(self.marks.title, fonts.BOLD, 9, w * 0.6))
+        title = " ".join(self.marks.title.split())  # a line break typed in the title: a space
+        canv.drawString(MARGIN_PT, top + 5, _fit(title, fonts.BOLD, 9, w * 0.6))
         canv.setFont(fonts.REGULAR, SMALL_PT)
         canv.drawRightString(w - MARGIN_PT, top + 5, "Short-circuit study report")
         bottom = MARGIN_PT + FOOTER_PT - 6

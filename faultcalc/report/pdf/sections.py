@@ -34,6 +34,7 @@ from .pages import LANDSCAPE, MARGIN_PT, PORTRAIT, SMALL_PT
 
 FAULT_WORDS = {**OUTPUT_FAULT_WORDS, "": ""}
 NO_PATH = "no path"
+ZERO_KA = 0.005  # a contribution below this prints as 0.00 kA: left out of the report's table
 OVER_FILL = colors.HexColor("#F9D3CF")
 NEAR_FILL = colors.HexColor("#FCE7C2")
 HEADER_FILL = colors.HexColor("#DCE6F0")
@@ -123,7 +124,12 @@ def table(
     for i, fill in enumerate(fills, start=1):
         if fill is not None:
             style.append(("BACKGROUND", (0, i), (-1, i), fill))
-    out = LongTable(cells, colWidths=column_widths(head, rows, widths, width_pt), repeatRows=1)
+    out = LongTable(
+        cells,
+        colWidths=column_widths(head, rows, widths, width_pt),
+        repeatRows=1,
+        splitInRow=1,  # a row taller than a page (a long description) runs on to the next
+    )
     out.setStyle(TableStyle(style))
     return out
 
@@ -158,7 +164,19 @@ def column_widths(head, rows, fractions, width_pt: float) -> list[float]:
     # not every word fits: the spare room shared among the columns short of it (in proportion
     # to what each lacks), the longest words broken; the table stays inside the page
     give = room / short
-    return [w + give * (n - w) if w < n else n for n, w in zip(need, widths, strict=True)]
+    out = [w + give * (n - w) if w < n else n for n, w in zip(need, widths, strict=True)]
+    return _header_words_whole(out, [_longest_word_pt(h, fonts.BOLD) for h in head])
+
+
+def _header_words_whole(widths: list[float], floor: list[float]) -> list[float]:
+    """``widths`` with every column at least its header's longest word, the room taken from
+    the columns wider than their own floor (in proportion to what each has above it)."""
+    short = sum(max(0.0, f - w) for f, w in zip(floor, widths, strict=True))
+    above = [max(0.0, w - f) for f, w in zip(floor, widths, strict=True)]
+    if short <= 0 or sum(above) <= 0:
+        return widths
+    take = min(1.0, short / sum(above))
+    return [f if w < f else w - take * a for f, w, a in zip(floor, widths, above, strict=True)]
 
 
 def title_page(result: StudyResult, counts: dict[str, int], lacking: str = "") -> list:
@@ -175,8 +193,17 @@ def title_page(result: StudyResult, counts: dict[str, int], lacking: str = "") -
             "Cases",
             f"the base case and {counts['cases']} case(s)" if counts["cases"] else "the base case",
         ),
-        ("Devices over their rating", f"{counts['over']} (in any case)"),
-        ("Devices within 10 % of it", f"{counts['near']}"),
+        *(
+            [
+                (
+                    "Devices over their rating",
+                    f"{counts['over']} of {counts['rated']} (in any case)",
+                ),
+                ("Devices within 10 % of it", f"{counts['near']} of {counts['rated']}"),
+            ]
+            if counts["rated"]
+            else [("Devices checked", "none: no bus has a device and rating_ka")]
+        ),
     ]
     facts = Table(
         [[Paragraph(text(k), HEAD_CELL), Paragraph(text(v), CELL)] for k, v in rows],
@@ -234,9 +261,11 @@ def title_page(result: StudyResult, counts: dict[str, int], lacking: str = "") -
         *(
             [
                 Paragraph(
-                    "Some names or descriptions hold characters this report's typeface (DejaVu "
-                    f"Sans) does not have ({text(lacking)}); they print as boxes here. The "
-                    "results workbook holds them as typed.",
+                    "Some names or descriptions hold characters this report cannot print as "
+                    f"typed ({text(lacking)}): missing from its typeface (DejaVu Sans), they "
+                    "print as boxes; right-to-left text prints with its letters reversed. The "
+                    "results workbook holds them as typed; take any label so marked from the "
+                    "workbook's label sheet.",
                     BODY,
                 )
             ]
@@ -244,8 +273,12 @@ def title_page(result: StudyResult, counts: dict[str, int], lacking: str = "") -
             else []
         ),
         Spacer(1, 6),
-        Paragraph("Engineering review (to be completed by the reviewing engineer)", H2),
-        review,
+        KeepTogether(
+            [
+                Paragraph("Engineering review (to be completed by the reviewing engineer)", H2),
+                review,
+            ]
+        ),
     ]
 
 
@@ -487,17 +520,6 @@ def contributions(result: StudyResult) -> list:
     if result.contributions is None:
         return []
     out = heading("Contributions to the fault current", landscape=True)
-    out.append(
-        Paragraph(
-            "The current from every source, machine and branch for three-phase and "
-            "line-to-ground faults at the buses asked for, at the voltage in the column "
-            "'Currents at kV': a source's or machine's at its terminals (the bus it is "
-            "connected to), a branch's at the faulted-bus end. Convert a current at another "
-            "voltage by the ratio of the two before comparing it with the faulted bus's. Angles "
-            "relative to the prefault phase-a voltage at the faulted bus.",
-            BODY,
-        )
-    )
     rows = [
         [
             r.faulted_bus,
@@ -514,7 +536,26 @@ def contributions(result: StudyResult) -> list:
         for r, at_kv in zip(
             result.contributions.itertuples(index=False), contribution_kv(result), strict=True
         )
+        if not (abs(r.i_ka) < ZERO_KA and abs(r.ig_ka) < ZERO_KA)
     ]
+    dropped = len(result.contributions) - len(rows)
+    out.append(
+        Paragraph(
+            "In the base case: the current from every source, machine and branch for "
+            "three-phase and line-to-ground faults at the buses asked for, at the voltage in the "
+            "column 'Currents at kV': a source's or machine's at its terminals (the bus it is "
+            "connected to), a branch's at the faulted-bus end. Convert a current at another "
+            "voltage by the ratio of the two before comparing it with the faulted bus's. Angles "
+            "relative to the prefault phase-a voltage at the faulted bus."
+            + (
+                f" {dropped:,} rows carrying less than 0.005 kA (a branch with nothing behind "
+                "it) are left out here; the workbook's Contributions sheet has every row."
+                if dropped
+                else ""
+            ),
+            BODY,
+        )
+    )
     out.append(
         table(
             [
@@ -542,7 +583,11 @@ def cable_check(result: StudyResult) -> list:
     checks = result.cable_checks
     if checks is None or checks.empty:
         out.append(
-            Paragraph("No cable has typed R and X: every cable took them from the tables.", BODY)
+            Paragraph(
+                "No cable has typed R and X: there is nothing to compare (any cable took its R "
+                "and X from the tables).",
+                BODY,
+            )
         )
         return out
     out.append(
@@ -671,16 +716,23 @@ def input_restated(result: StudyResult, note: str | None) -> list:
 def labels(result: StudyResult) -> list:
     """One service label per page, the words of labeltext (as on the workbook's label sheets)."""
     if result.labels is None or result.labels.empty:
-        return []
+        return heading("Service equipment labels") + [
+            Paragraph(
+                "No bus is marked service = yes on the buses sheet: no label is printed. Mark "
+                "the service equipment to have its maximum available fault current and the date "
+                "of calculation printed for field marking (NFPA 70 110.24).",
+                BODY,
+            )
+        ]
     out: list = [NextPageTemplate("portrait")]
-    for bus in result.labels.bus:
+    for bus, description in zip(result.labels.bus, result.labels.description, strict=True):
         lines = [
             Paragraph(text(line.text), _style("label", line.size_pt, bold=line.bold, lead=1.2))
             if line.text
             else Spacer(1, 8)
             for line in label_lines(result, bus)
         ]
-        box = Table([[lines]], colWidths=[PORTRAIT_WIDTH_PT * 0.92])
+        box = Table([[lines]], colWidths=[PORTRAIT_WIDTH_PT * 0.92], splitInRow=1)
         box.setStyle(
             TableStyle(
                 [
@@ -698,4 +750,13 @@ def labels(result: StudyResult) -> list:
             Paragraph(f"Service label: {text(bus)}", LABEL_HEAD),
             KeepTogether([box]),
         ]
+        if not fonts.prints_as_typed(f"{bus} {description}"):
+            out.append(
+                Paragraph(
+                    "This label's equipment name or description holds characters this report "
+                    "cannot print as typed (see the title page): do not post this page; take "
+                    "the label from the workbook's label sheet.",
+                    _style("label-warn", 10, bold=True, spaceBefore=8),
+                )
+            )
     return out
