@@ -51,6 +51,10 @@ __all__ = ["OVER", "Drawing", "Reference", "View", "plan", "render"]
 RUNG = 10.0  # a ladder: from a bar (or what hangs below it) to the next jog
 INDENT = 18.0  # a ladder: from its spine's column edge to its rungs' spans
 TIE_ROOM = SYMBOL / 2 + 4 + 2 * LINE  # a straight tie's text above its bars
+BAR_END = (
+    MARGIN / 2 + 4
+)  # from a span's right edge back to where its bar ends: bars of two spans side
+# by side stay 12 pt apart, never read as one bus (common practice, no source)
 
 
 @dataclass(frozen=True)
@@ -426,7 +430,7 @@ def render(p: Plan, bus_texts: dict, colours: dict) -> Drawing:
         a, b = tie.one, tie.two
         if left[a] > left[b]:
             a, b = b, a
-        straight_tie(drawing, tie, left[a] + width[a] - MARGIN / 2, left[b] + 4, bar[a])
+        straight_tie(drawing, tie, left[a] + width[a] - BAR_END, left[b] + 4, bar[a])
     return drawing
 
 
@@ -441,7 +445,7 @@ def _draw_ladder(drawing, bus, column, left, jogs) -> None:
 def _draw_bus(drawing, view: View, bus, where, lines, p: Plan, colour) -> None:
     left, width, y, rise = where
     x = left + LEFT
-    right = left + width - MARGIN / 2
+    right = left + width - BAR_END
     kids = p.columns[bus]
     drops = [c.left + LEFT for c in kids]
     drawing.lines.append(Line(left + 4, y, max([right, *drops]), y, 3.5, colour, owner=bus))

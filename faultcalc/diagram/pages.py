@@ -16,12 +16,14 @@ the fewest panels, is kept. A panel fed from another shows, above its top bus, "
 (or this page), bus P" and the branch that feeds it; the bus P shows "to page k, bus C, via
 the branch". A tie between two panels is a stub at each end naming the other bus and its page.
 
-Why REDUCED_ABOVE_BUSES = 3,000: measured on random networks (tests/networks.py, a fifth of
-the buses at 13.8 kV) a full diagram takes about a page per 120 buses, so 3,000 buses is
-some 25 sheets of E size, already more than anyone lays out and reads as one set; above it
-the levels above 1 kV (where the switching, the sources and the large equipment are) and the
-service equipment keep a diagram that says where power comes from, on a fifth of the pages,
-and the results workbook holds every bus's figures. The figures are in /work/notes/diagram.md.
+Why REDUCED_ABOVE_BUSES = 3,000 (measured on random networks of tests/networks.py, a fifth
+of the buses at 13.8 kV, two shared cores): 2,000 buses drew as 14 pages in 7 s and wrote
+as PDF in 20 s; 10,000 buses in full as 67 pages, 54 s to draw and 105 s to write; reduced,
+as 18 pages in 9 s and 44 s. A full set grows by a sheet per 140-odd buses, so at 3,000
+(some 21 sheets, half a minute) it is already more than anyone reads as one set; above it
+the levels above 1 kV (the sources, the switching, the large equipment) and the service
+equipment keep a diagram that says where power comes from, and the results workbook holds
+every bus's figures.
 """
 
 from __future__ import annotations
@@ -218,41 +220,57 @@ def _panel_view(layout: _Layout, k: int, page_of) -> View:
 
 
 def _shelve(options, room_w: float, room_h: float, first=frozenset()):
-    """Pages of panels on shelves (first fit by decreasing height, common practice for strip
-    packing, no source): each panel in its smallest shape (of its ``options``: width, height,
-    aspect, buses) that fits the sheet, the tallest first, on the first shelf of any page with
-    room for it (at most PAGE_BUSES buses a page), else on a new shelf, else a new page.
-    The panels ``first`` (those of the sources) go first, top left. Returns per page its
-    panels as (panel, aspect, x, y)."""
-    chosen = []
+    """Pages of panels on shelves. Each panel takes its smallest shape (of its ``options``:
+    width, height, aspect, buses) that fits the sheet; the panels, depth first (those of the
+    sources, ``first``, before the rest), fill a page for as long as the page's panels still
+    go on it, tallest first, each on the first shelf with room, else on a new shelf (first fit
+    by decreasing height, common practice for strip packing, no source), with at most
+    PAGE_BUSES buses; then the next page. Returns per page its panels as (panel, aspect, x,
+    y)."""
+    chosen = {}
     for k, shapes in enumerate(options):
         fitting = [o for o in shapes if o[0] <= room_w and o[1] <= room_h] or shapes
-        chosen.append((k, min(fitting, key=lambda o: (o[0] * o[1], o[1]))))
-    chosen.sort(key=lambda item: (item[0] not in first, -item[1][1], item[0]))
-    pages: list[dict] = []  # each: {"count", "shelves": [[y, height, x]], "panels"}
-    for k, (w, h, aspect, n) in chosen:
-        placed = False
-        for page in pages:
-            if page["count"] + n > PAGE_BUSES:
-                continue
-            for shelf in page["shelves"]:
-                if h <= shelf[1] and shelf[2] + PANEL_GAP + w <= room_w:
-                    page["panels"].append((k, aspect, shelf[2] + PANEL_GAP, shelf[0]))
-                    shelf[2] += PANEL_GAP + w
-                    placed = True
-                    break
-            if not placed:
-                y = page["shelves"][-1][0] + page["shelves"][-1][1] + PANEL_GAP
-                if y + h <= room_h:
-                    page["shelves"].append([y, h, w])
-                    page["panels"].append((k, aspect, 0.0, y))
-                    placed = True
-            if placed:
-                page["count"] += n
+        chosen[k] = min(fitting, key=lambda o: (o[0] * o[1], o[1]))
+    order = sorted(chosen, key=lambda k: (k not in first, k))
+    pages, current, placed = [], [], None
+    for k in order:
+        trial = [*current, k]
+        fits = sum(chosen[j][3] for j in trial) <= PAGE_BUSES
+        placing = _shelves(trial, chosen, room_w, room_h, first) if fits else None
+        if current and placing is None:
+            pages.append(placed)
+            alone = _shelves([k], chosen, room_w, room_h, first)
+            current, placed = [k], alone or [_alone(k, chosen)]
+        else:
+            current, placed = trial, placing or [_alone(k, chosen)]
+    if current:
+        pages.append(placed)
+    return pages
+
+
+def _alone(k, chosen):
+    return (k, chosen[k][2], 0.0, 0.0)
+
+
+def _shelves(panels, chosen, room_w: float, room_h: float, first):
+    """``panels`` on one page, those of the sources (``first``) then the tallest first, each
+    on the first shelf with room; None if they do not all go on it."""
+    shelves: list[list[float]] = []  # y, height, width used
+    out = []
+    for k in sorted(panels, key=lambda j: (j not in first, -chosen[j][1], j)):
+        w, h, aspect, _ = chosen[k]
+        for shelf in shelves:
+            if h <= shelf[1] and shelf[2] + PANEL_GAP + w <= room_w:
+                out.append((k, aspect, shelf[2] + PANEL_GAP, shelf[0]))
+                shelf[2] += PANEL_GAP + w
                 break
-        if not placed:
-            pages.append({"count": n, "shelves": [[0.0, h, w]], "panels": [(k, aspect, 0.0, 0.0)]})
-    return [page["panels"] for page in pages]
+        else:
+            y = shelves[-1][0] + shelves[-1][1] + PANEL_GAP if shelves else 0.0
+            if y + h > room_h or w > room_w:
+                return None
+            shelves.append([y, h, w])
+            out.append((k, aspect, 0.0, y))
+    return out
 
 
 def _page(layout: _Layout, page: int, panels, texts: _Texts) -> Drawing:
