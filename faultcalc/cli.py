@@ -399,7 +399,10 @@ def diagram(input_path: Path, output: Path, overwrite: bool) -> None:
     Sources at the top, each bus under the bus that feeds it, with its kV, the largest
     three-phase and line-to-ground currents over the base case and the cases (kA) and its X/R;
     the branch that feeds it beside its drop; machines below their bus; a device over or near
-    its rating in any case marked. Text stays text in the SVG and the PDF.
+    its rating in any case marked; open ties drawn open. Text stays text in the SVG and the
+    PDF. Up to about 150 buses on one 44 x 33 in sheet; a larger system over several, with
+    references at both ends (one PDF, or OUTPUT-p2.svg ... beside OUTPUT); above 3,000 buses
+    only the buses above 1 kV and the service equipment.
 
     \b
     Example:
