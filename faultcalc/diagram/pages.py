@@ -19,11 +19,11 @@ the branch". A tie between two panels is a stub at each end naming the other bus
 Why REDUCED_ABOVE_BUSES = 3,000 (measured on random networks of tests/networks.py, a fifth
 of the buses at 13.8 kV, two shared cores): 2,000 buses drew as 14 pages in 7 s and wrote
 as PDF in 20 s; 10,000 buses in full as 67 pages, 54 s to draw and 105 s to write; reduced,
-as 20 pages in 8 s (writing the PDF of 18 pages took 44 s). A full set grows by a sheet per 140-odd buses, so at 3,000
-(some 21 sheets, half a minute) it is already more than anyone reads as one set; above it
-the levels above 1 kV (the sources, the switching, the large equipment) and the service
-equipment keep a diagram that says where power comes from, and the results workbook holds
-every bus's figures.
+as 20 pages in 8 s (a PDF of 18 pages took 44 s). A full set grows by a sheet per 140-odd
+buses, so at 3,000 (some 21 sheets, half a minute) it is already more than anyone reads as
+one set; above it the levels above 1 kV (the sources, the switching, the large equipment)
+and the service equipment keep a diagram that says where power comes from, and the results
+workbook holds every bus's figures.
 """
 
 from __future__ import annotations
