@@ -426,7 +426,10 @@ def diagram(input_path: Path, output: Path, overwrite: bool) -> None:
     Sources at the top, each bus under the bus that feeds it, with its kV, the largest
     three-phase and line-to-ground currents over the base case and the cases (kA) and its X/R;
     the branch that feeds it beside its drop; machines below their bus; a device over or near
-    its rating in any case marked. Text stays text in the SVG and the PDF.
+    its rating in any case marked; open ties drawn open. Text stays text in the SVG and the
+    PDF. Up to about 150 buses on one 44 x 33 in sheet; a larger system over several, with
+    references at both ends (one PDF, or OUTPUT-p2.svg ... beside OUTPUT); above 3,000 buses
+    only the buses above 1 kV and the service equipment.
 
     \b
     Example:
@@ -444,14 +447,21 @@ def diagram(input_path: Path, output: Path, overwrite: bool) -> None:
             output, input_path=input_path, overwrite=overwrite, on_placed=_mark_placed
         )
         system = read_system(input_path)
-        drawing = write_diagram(system, run_study(system), files)
+        pages = write_diagram(system, run_study(system), files)
         _disarm()
-        for note in drawing.notes:
+        for note in pages[0].notes:
             click.echo(f"note: {note}")
+        width = max(d.width for d in pages) / 72
+        height = max(d.height for d in pages) / 72
+        where = f"{len(pages)} pages of up to" if len(pages) > 1 else "one page of"
         click.echo(
-            f"diagram: {output.resolve()} ({len(system.buses)} buses, "
-            f"{drawing.width / 72:.1f} x {drawing.height / 72:.1f} in)"
+            f"diagram: {output.resolve()} ({len(system.buses)} buses, {where} "
+            f"{width:.1f} x {height:.1f} in)"
         )
+        if len(pages) > 1 and output.suffix.lower() != ".pdf":
+            click.echo(
+                f"  pages 2 to {len(pages)} beside it as {output.stem}-p2{output.suffix}, ..."
+            )
 
     _guarded(action)
 

@@ -1,45 +1,78 @@
-"""Positions: each bus a bar in its level's row, the branch that feeds it on the drop above it,
-its machines and the ties that cannot run straight hung below it.
+"""Positions on one page: each bus a bar, the branch that feeds it on the drop above it, its
+machines, stubs and references hung below it.
 
-Every bus owns a column span wide enough for its own text and for its children's spans side
+Every bus owns a column span wide enough for its own text and for its children's columns side
 by side; its drop and bar start at the left of the span and its text runs to the right, so two
-spans never share a point and no text meets another bus's symbols. A tie between two buses
-next to each other in one row is drawn straight across, in a gap made for its symbol and text;
-any other tie is drawn as a marked stub at each end naming the other end.
+spans never share a point and no text meets another bus's symbols. Children without a tie in
+their subtree may be stacked in a ladder instead (the first column under their parent: a spine
+down from the bar, each child on a jog to the right, one under the other), which keeps wide
+fan-outs of feeders narrow; how tall each bus's ladders grow is chosen so that its block comes
+nearest a shape (``aspect``), itself chosen per panel so that the panels fill the sheet
+(pages.py). A tie between two buses next to each other in one row,
+with no ladder between them, is drawn straight across, in a gap made for its symbol and text;
+any other tie is a marked stub at each end naming the other end (and its page).
 """
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass, field
 
-from ..model import System
-from .shapes import FONT, LINE_PT, Line, Symbol, Text, lacks, text_width
-from .topology import Branch, Tree, tree_of
+from .parts import (
+    AWAY,
+    BAR,
+    BUS_ZONE,
+    INK,
+    LEFT,
+    LEVEL,
+    LINE,
+    MARGIN,
+    OVER,
+    SOURCE_ZONE,
+    SYMBOL,
+    SYMBOL_ZONE,
+    TEXT_GAP,
+    block_width,
+    bus_text_width,
+    bus_zone,
+    hanging,
+    hanging_depth,
+    hanging_width,
+    on_drop,
+    source_xs,
+    straight_tie,
+    texts,
+    tie_gap,
+)
+from .shapes import LINE_PT, Line, Symbol, Text
+from .topology import Branch, Tree
 
-SIZE = 8.0  # every label at 8 pt or more (the report's floor)
-NAME_SIZE = 9.0
-LINE = SIZE * LINE_PT
-SYMBOL = 26.0  # a symbol's height and width
-MARGIN = 10.0  # between two spans
-LEFT = 16.0  # from a span's left edge to its drop
-TEXT_GAP = 6.0  # from a drop or symbol to its text
-BUS_LINES = 6  # name, kV, currents, X/R, service equipment, rating mark
-ELEMENT_LINES = 3
-SYMBOL_ZONE = max(SYMBOL, ELEMENT_LINES * LINE) + 16.0
-BUS_ZONE = NAME_SIZE * LINE_PT + (BUS_LINES - 1) * LINE + 8.0
-LEVEL = SYMBOL_ZONE + BUS_ZONE  # from one row's bars to the next's
-SOURCE_ZONE = SYMBOL_ZONE
-INK = "#1f2d3d"
-BAR = "#1d5c63"  # bus bars: a deep teal of our own
-OVER = "#b3261e"
-NEAR = "#b86e00"
-SERVICE = "#4a3a8c"
+__all__ = ["OVER", "Drawing", "Reference", "View", "plan", "render"]
+
+RUNG = 10.0  # a ladder: from a bar (or what hangs below it) to the next jog
+INDENT = 18.0  # a ladder: from its spine's column edge to its rungs' spans
+TIE_ROOM = SYMBOL / 2 + 4 + 2 * LINE  # a straight tie's text above its bars
+BAR_END = (
+    MARGIN / 2 + 4
+)  # from a span's right edge back to where its bar ends: bars of two spans side
+# by side stay 12 pt apart, never read as one bus (common practice, no source)
+
+
+@dataclass(frozen=True)
+class Reference:
+    """A reference to another page: ``direction`` "to" (the buses under ``here`` go on with
+    ``bus`` on ``page``), "from" (``here`` is fed from ``bus`` on ``page``) or "tie" (a tie
+    from ``here`` to ``bus`` on ``page``)."""
+
+    direction: str
+    page: int
+    bus: str
+    here: str
 
 
 @dataclass
 class Drawing:
-    """The shapes of a diagram and its size in points."""
+    """The shapes of a diagram page and its size in points; the buses drawn on it and its
+    references to other pages."""
 
     width: float
     height: float
@@ -47,269 +80,306 @@ class Drawing:
     symbols: list[Symbol] = field(default_factory=list)
     texts: list[Text] = field(default_factory=list)
     notes: list[str] = field(default_factory=list)
+    page: int = 1
+    pages: int = 1
+    buses: list[str] = field(default_factory=list)
+    references: list[Reference] = field(default_factory=list)
 
     def text_of(self, owner: str) -> list[str]:
         return [t.text for t in self.texts if t.owner == owner]
 
 
-def _fmt_ka(value) -> str:
-    return "-" if value is None or not math.isfinite(value) else f"{value:.2f}"
+@dataclass
+class View:
+    """What one panel of a page draws: the buses of panel ``panel`` (all, when ``panel_of``
+    is empty) from its ``roots`` down, on page ``page`` (``page_of``: each bus's page);
+    ``hidden``: per bus, the text saying what under it is not drawn."""
 
+    tree: Tree
+    roots: list[str]
+    page_of: dict[str, int] = field(default_factory=dict)
+    page: int = 1
+    hidden: dict[str, tuple[str, ...]] = field(default_factory=dict)
+    panel_of: dict[str, int] = field(default_factory=dict)
+    panel: int = 0
 
-def bus_lines(bus, row: dict | None, status: str) -> list[tuple[str, float, bool, str]]:
-    """The bus's text: (text, size, bold, colour) per line."""
-    lines = [(bus.bus, NAME_SIZE, True, INK), (f"{bus.kv:g} kV", SIZE, False, INK)]
-    if row is not None:
-        lines.append(
-            (
-                f"3ph {_fmt_ka(row['i3ph_ka'])} kA  SLG {_fmt_ka(row['islg_ka'])} kA",
-                SIZE,
-                False,
-                INK,
-            )
-        )
-        xr = row.get("xr")
-        shown = f"X/R {xr:.1f}" if xr is not None and math.isfinite(xr) else "X/R -"
-        lines.append((shown, SIZE, False, INK))
-    marks = []
-    if bus.service == "yes":
-        marks.append(("service equipment", SERVICE))
-    if status:
-        marks.append(status)
-    for mark in marks:
-        lines.append((mark[0], SIZE, True, mark[1]))
-    return lines
+    def here(self, bus: str) -> bool:
+        return not self.panel_of or self.panel_of.get(bus) == self.panel
+
+    def kids(self, bus: str) -> list[str]:
+        return [c for c in self.tree.children[bus] if self.here(c)]
+
+    def away(self, bus: str) -> list[str]:
+        return [c for c in self.tree.children[bus] if not self.here(c)] if self.panel_of else []
+
+    def incoming(self, bus: str) -> Branch | None:
+        """The branch feeding ``bus`` from another page (``bus`` is then a page root)."""
+        branch = self.tree.parent.get(bus)
+        return branch if branch is not None and not self.here(branch.one) else None
 
 
 @dataclass
 class _Column:
-    """A leaf or bus column under a bus: its width and what is drawn in it."""
-
-    kind: str  # bus, machine, stub
-    width: float
-    name: str = ""
+    kind: str  # bus, ladder, machine, stub, away, hidden
+    name: str = ""  # the bus, machine, tie, ...
+    rungs: list[str] = field(default_factory=list)
+    lines: tuple[str, ...] = ()  # a hanging column's text
+    width: float = 0.0
+    depth: float = 0.0  # how far below the bar it reaches
     left: float = 0.0
+    tie: Branch | None = None
 
 
-def draw(system: System, result=None) -> Drawing:
-    """The diagram of ``system``, annotated with ``result`` (a StudyResult) when given."""
-    tree = tree_of(system)
-    rows = _result_rows(result)
-    status = _statuses(result)
-    buses = {b.bus: b for b in system.buses}
-    order = _dfs(tree)
-    position = {bus: k for k, bus in enumerate(order)}
-    ties_straight, stubs = _straight_ties(tree, order)
-    texts = {
-        b: bus_lines(buses[b], rows.get(b), status.get(b, "")) for b in buses if b in tree.level
-    }
-    width: dict[str, float] = {}
-    gap_before: dict[str, float] = {}
-    for tie in ties_straight:
-        owner = _gap_owner(tree, tie, position)
-        gap_before[owner] = max(gap_before.get(owner, 0.0), _tie_gap(tie))
+@dataclass
+class Plan:
+    """A page's placement: sizes, columns, positions."""
 
-    def own_width(bus: str) -> float:
-        text = max(text_width(t, s, b) for t, s, b, _ in texts[bus])
-        branch = tree.parent.get(bus)
-        if branch is not None:
-            text = max(text, SYMBOL / 2 + _block_width(branch.text))
-        sources = tree.sources.get(bus, [])
-        own = LEFT + TEXT_GAP + text + MARGIN
-        if not sources:
-            return own
-        xs = _source_xs(LEFT, _bus_text_width(texts[bus]), sources)
-        return max(own, xs[-1] - LEFT + _source_width(sources[-1][1]))
-
-    def columns(bus: str) -> list[_Column]:
-        out = [_Column("bus", 0.0, c) for c in tree.children[bus]]
-        for name, _letter, lines in tree.machines.get(bus, []):
-            w = LEFT + SYMBOL / 2 + TEXT_GAP + _block_width(lines) + MARGIN
-            out.append(_Column("machine", w, name))
-        for tie, other in stubs.get(bus, []):
-            text = _block_width(_stub_text(tie, other))
-            w = LEFT + SYMBOL / 2 + TEXT_GAP + text + MARGIN
-            out.append(_Column("stub", w, tie.name + "\0" + other))
-        return out
-
-    # widths from the leaves up, then lefts from the roots down (loops, not recursion: a
-    # feeder of a thousand buses in series is a thousand levels deep)
-    kids = {bus: columns(bus) for bus in order}
-    for bus in reversed(order):  # every child comes after its parent in ``order``
-        for c in kids[bus]:
-            if c.kind == "bus":
-                c.width = width[c.name] + gap_before.get(c.name, 0.0)
-        width[bus] = max(own_width(bus), sum(c.width for c in kids[bus]))
-    left_of: dict[str, float] = {}
-    x = MARGIN
-    for root in tree.roots:
-        left_of[root] = x + gap_before.get(root, 0.0)
-        x += width[root] + gap_before.get(root, 0.0)
-    for bus in order:  # a parent is placed before its children
-        at = left_of[bus]
-        for c in kids[bus]:
-            c.left = at
-            if c.kind == "bus":
-                left_of[c.name] = at + gap_before.get(c.name, 0.0)
-            at += c.width
-    depth = max(tree.level.values(), default=0)
-    top = MARGIN + SOURCE_ZONE
-    height = top + BUS_ZONE + depth * LEVEL + SYMBOL_ZONE + MARGIN
-    drawing = Drawing(width=x + MARGIN, height=height)
-
-    def bar_y(bus: str) -> float:
-        return top + BUS_ZONE + tree.level[bus] * LEVEL
-
-    for bus in tree.level:
-        colour = status[bus][1] if bus in status else BAR
-        _draw_bus(
-            drawing,
-            tree,
-            bus,
-            (left_of[bus], width[bus], bar_y(bus)),
-            texts[bus],
-            kids[bus],
-            stubs,
-            colour,
-        )
-    for tie in ties_straight:
-        a, b = tie.one, tie.two
-        if left_of[a] > left_of[b]:
-            a, b = b, a
-        _draw_straight_tie(
-            drawing, tie, left_of[a] + width[a] - MARGIN / 2, left_of[b] + 4, bar_y(a)
-        )
-    if tree.unreached:
-        drawing.notes.append(
-            "not fed from any source or generator (drawn apart): " + ", ".join(tree.unreached)
-        )
-    if any(lacks(t.text) for t in drawing.texts):
-        drawing.notes.append(
-            f"some names hold characters the diagram's font ({FONT}) does not have; they print "
-            "as boxes here (the results workbook holds them as typed)"
-        )
-    _footer(drawing, system, result)
-    return drawing
+    view: View
+    order: list[str]
+    columns: dict[str, list[_Column]]
+    width: dict[str, float]
+    depth: dict[str, float]
+    straight: list[Branch]
+    gap: dict[str, float]
+    top_zone: float
+    total_width: float = 0.0
+    total_height: float = 0.0
 
 
-FOOTER_MIN_WIDTH = 6.5 * 72  # the cautions stay readable on a letter page's width
-
-
-def _wrapped(text: str, width: float, size: float, bold: bool = False) -> list[str]:
-    lines, line = [], ""
-    for word in text.split():
-        trial = f"{line} {word}".strip()
-        if line and text_width(trial, size, bold) > width:
-            lines.append(line)
-            line = word
-        else:
-            line = trial
-    return [*lines, line] if line else lines
-
-
-def _footer(drawing: Drawing, system: System, result) -> None:
-    """The title block under the diagram: the study's title and basis, the notes and every
-    caution (SAFETY.md): a diagram handed on alone still carries them."""
-    from ..cautions import CAUTIONS
-
-    drawing.width = max(drawing.width, FOOTER_MIN_WIDTH + 2 * MARGIN)
-    width = drawing.width - 2 * MARGIN
-    y = drawing.height + 4
-    drawing.lines.append(Line(MARGIN, y, drawing.width - MARGIN, y, 0.8, INK, owner="footer"))
-    y += 6
-    title = system.settings.title or "One-line diagram"
-    lines: list[tuple[str, float, bool]] = [
-        (t, NAME_SIZE, True) for t in _wrapped(title, width, NAME_SIZE, True)
-    ]
-    if result is not None:
-        b = result.basis
-        basis = (
-            f"Calculated {b.calculated_at} by {b.tool_name} {b.tool_version}, method "
-            f"{b.settings.method} (see the results workbook's basis); input "
-            f"{b.input_name or '-'}, SHA-256 {b.input_sha256 or '-'}. Currents are the "
-            "largest over the base case and the cases; X/R of the base case."
-        )
-    else:
-        basis = "Topology only: no study figures."
-    lines += [(t, SIZE, False) for t in _wrapped(basis, width, SIZE)]
-    for note in drawing.notes:
-        lines += [(t, SIZE, False) for t in _wrapped(f"Note: {note}", width, SIZE)]
-    for caution in CAUTIONS:
-        lines += [(t, SIZE, False) for t in _wrapped(caution, width, SIZE)]
-    for text, size, bold in lines:
-        drawing.texts.append(Text(MARGIN, y, text, size, bold, INK, "footer"))
-        y += size * LINE_PT
-    drawing.height = y + MARGIN
-
-
-def _result_rows(result) -> dict[str, dict]:
-    """Per bus: the largest three-phase and line-to-ground currents over the base and the
-    cases (the envelope), and the base X/R."""
-    if result is None:
-        return {}
-    table = result.buses.set_index("bus")
-    rows = {
-        b: {"i3ph_ka": r.i3ph_ka, "islg_ka": r.islg_ka, "xr": r.xr} for b, r in table.iterrows()
-    }
-    if result.envelope is not None:
-        for _, r in result.envelope.iterrows():
-            if r.bus in rows:
-                rows[r.bus]["i3ph_ka"] = max(rows[r.bus]["i3ph_ka"], r.i3ph_ka)
-                if math.isfinite(r.islg_ka):
-                    rows[r.bus]["islg_ka"] = (
-                        r.islg_ka
-                        if not math.isfinite(rows[r.bus]["islg_ka"])
-                        else max(rows[r.bus]["islg_ka"], r.islg_ka)
-                    )
-    return rows
-
-
-def _statuses(result) -> dict[str, tuple[str, str]]:
-    """Per rated bus whose device exceeds or nears its rating in any case: the mark."""
-    from ..solve.duty import STATUS_NEAR, STATUS_OVER
-
-    if result is None or result.duty is None:
-        return {}
-    out = {}
-    for _, r in result.duty.iterrows():
-        if r.duty_status == STATUS_OVER:
-            out[r.bus] = (f"{r.device} EXCEEDS RATING ({r.duty_pct:.0f} %)", OVER)
-        elif r.duty_status == STATUS_NEAR:
-            out[r.bus] = (f"{r.device} near rating ({r.duty_pct:.0f} %)", NEAR)
+def _dfs(view: View) -> list[str]:
+    """Every bus of the page depth first (pre-order, children in their drawing order)."""
+    out: list[str] = []
+    stack = list(reversed(view.roots))
+    while stack:
+        bus = stack.pop()
+        out.append(bus)
+        stack.extend(reversed(view.kids(bus)))
     return out
 
 
-def _straight_ties(tree: Tree, order: list[str]):
-    """The ties drawn straight across (two buses next to each other in one row) and, per bus,
-    the other ties' stubs (tie, the bus at the other end). ``order``: the buses depth first."""
-    rows: dict[int, list[str]] = {}
-    for bus in order:
-        rows.setdefault(tree.level[bus], []).append(bus)
-    next_to = {}
+def _page_text(view: View, bus: str) -> str:
+    page = view.page_of[bus]
+    return "this page" if page == view.page else f"page {page}"
+
+
+def _stub_text(view: View, tie: Branch, other: str) -> tuple[str, ...]:
+    kind = f"open {tie.kind}" if tie.open else tie.kind
+    lines = (tie.name, f"{kind} to {other}")
+    return lines if view.here(other) else (*lines, f"on {_page_text(view, other)}")
+
+
+def _away_text(view: View, child: str) -> tuple[str, ...]:
+    branch = view.tree.parent[child]
+    return (f"to {_page_text(view, child)}", f"bus {child}", f"via {branch.name}")
+
+
+def _from_text(view: View, branch: Branch) -> tuple[str, ...]:
+    return (f"from {_page_text(view, branch.one)}", f"bus {branch.one}")
+
+
+def plan(view: View, bus_texts: dict, aspect: float) -> Plan:
+    """Place the page's buses (``bus_texts``: each bus's lines, see parts.bus_lines), each
+    bus's children stacked so that its block is nearest ``aspect`` (width / height) in shape
+    (see ``choose``)."""
+    tree = view.tree
+    order = _dfs(view)
+    ties = [t for t in tree.ties if view.here(t.one) or view.here(t.two)]
+    both = [t for t in ties if view.here(t.one) and view.here(t.two)]
+    every_stub: dict[str, list] = {}
+    for t in ties:
+        for bus, other in ((t.one, t.two), (t.two, t.one)):
+            if view.here(bus):
+                every_stub.setdefault(bus, []).append((t, other))
+    width: dict[str, float] = {}
+    depth: dict[str, float] = {}
+    arrangement: dict[str, tuple[list[list[str]], list[str]]] = {}
+    columns: dict[str, list[_Column]] = {}
+    # Which ties could run straight with every child side by side: only their buses keep
+    # their ancestors out of ladders (any other tie is a stub wherever its buses are).
+    tied = dict.fromkeys(order, True)
+    if both:
+        for bus in reversed(order):
+            hang = _hanging(view, bus, every_stub.get(bus, []))
+            columns[bus] = _columns(bus, ([], view.kids(bus)), hang, width, depth, {}, bus_texts)
+            width[bus], depth[bus] = _size(view, bus, bus_texts[bus], columns[bus])
+    ends = {
+        b for t in (_straight_ties(view, both, columns) if both else ()) for b in (t.one, t.two)
+    }
+    for bus in reversed(order):
+        tied[bus] = bus in ends or any(tied[c] for c in view.kids(bus))
+    for bus in reversed(order):  # with every tie a stub: the ladders, fixed from here on
+        hang = _hanging(view, bus, every_stub.get(bus, []))
+        found = choose(view, bus, tied, hang, width, depth, bus_texts, aspect)
+        arrangement[bus], columns[bus], width[bus], depth[bus] = found
+    straight = _straight_ties(view, both, columns)
+    position = {bus: k for k, bus in enumerate(order)}
+    gap: dict[str, float] = {}
+    for tie in straight:
+        owner = _gap_owner(view, tie, position)
+        gap[owner] = max(gap.get(owner, 0.0), tie_gap(tie))
+    used = set(straight)
+    stubs: dict[str, list] = {}
+    for bus, found in every_stub.items():
+        stubs[bus] = [(t, o) for t, o in found if t not in used]
+    for bus in reversed(order):
+        hang = _hanging(view, bus, stubs.get(bus, []))
+        columns[bus] = _columns(bus, arrangement[bus], hang, width, depth, gap, bus_texts)
+        width[bus], depth[bus] = _size(view, bus, bus_texts[bus], columns[bus])
+    incoming = any(view.incoming(r) is not None for r in view.roots)
+    top_zone = SOURCE_ZONE + (SYMBOL_ZONE if incoming else 0.0)
+    out = Plan(view, order, columns, width, depth, straight, gap, top_zone)
+    out.total_width = MARGIN + sum(width[r] + gap.get(r, 0.0) for r in view.roots) + MARGIN
+    out.total_height = (
+        MARGIN + top_zone + BUS_ZONE + max((depth[r] for r in view.roots), default=0.0) + MARGIN
+    )
+    return out
+
+
+def _hanging(view: View, bus: str, stubs) -> list[_Column]:
+    """What hangs below ``bus``'s bar: machines, tie stubs, references, what is not drawn."""
+    out = []
+    for name, letter, lines in view.tree.machines.get(bus, []):
+        out.append(_Column("machine", name, lines=lines, tie=None))
+        out[-1].rungs = [letter]
+    for tie, other in stubs:
+        out.append(_Column("stub", other, lines=_stub_text(view, tie, other), tie=tie))
+    for child in view.away(bus):
+        out.append(_Column("away", child, lines=_away_text(view, child)))
+    if bus in view.hidden:
+        out.append(_Column("hidden", bus, lines=view.hidden[bus]))
+    for c in out:
+        c.width, c.depth = hanging_width(c.lines), hanging_depth(c.lines)
+    return out
+
+
+def _rung(bus, depth, bus_texts) -> float:
+    """The height a bus takes in a ladder: its jog, its branch, its text, what hangs below."""
+    return RUNG + SYMBOL_ZONE + bus_zone(bus_texts[bus]) + depth[bus]
+
+
+STACK_LIMITS = tuple(LEVEL * k for k in (0, 2, 3, 4, 6, 8, 12, 16, 24, 32))
+
+
+def choose(view, bus, tied, hang, width, depth, bus_texts, aspect):
+    """The arrangement of ``bus``'s children (ladders no taller than each of STACK_LIMITS in
+    turn) whose block is smallest once scaled to the shape ``aspect`` (width / height):
+    (arrangement, columns, width, depth). Greedy, from the leaves up (common practice, no
+    source: a squarified layout in the manner of treemaps)."""
+    kids = view.kids(bus)
+    best, seen = None, set()
+    for limit in STACK_LIMITS if any(not tied[c] for c in kids) else (0.0,):
+        arrangement = _arrange(kids, tied, width, depth, hang, limit, bus_texts)
+        key = tuple(map(tuple, arrangement[0]))
+        if key in seen:
+            continue
+        seen.add(key)
+        columns = _columns(bus, arrangement, hang, width, depth, {}, bus_texts)
+        w, d = _size(view, bus, bus_texts[bus], columns)
+        score = (max(w, (d + LEVEL) * aspect), w * (d + LEVEL))
+        if best is None or score < best[0]:
+            best = (score, (arrangement, columns, w, d))
+    return best[1]
+
+
+def _arrange(kids, tied, width, depth, hang, stack_limit, bus_texts):
+    """The ladders (lists of children stacked, in order) and the children side by side:
+    children whose subtree holds a tie stay side by side (their ties may run straight); the
+    others are stacked, next fit, in ladders no taller than the parent's other columns or
+    ``stack_limit``. A ladder of one is no ladder."""
+    side_tied = [c for c in kids if tied[c]]
+    free = sorted((c for c in kids if not tied[c]), key=lambda c: -width[c])  # alike together
+    base = max([LEVEL + depth[c] for c in side_tied] + [c.depth for c in hang] + [0.0])
+    limit = max(base, stack_limit)
+    ladders, side_free, rungs, height = [], [], [], 0.0
+    for c in free:
+        step = _rung(c, depth, bus_texts)
+        if step > limit:
+            side_free.append(c)
+            continue
+        if rungs and height + step > limit:
+            ladders.append(rungs)
+            rungs, height = [], 0.0
+        rungs.append(c)
+        height += step
+    if rungs:
+        ladders.append(rungs)
+    side_free += [r[0] for r in ladders if len(r) == 1]
+    ladders = [r for r in ladders if len(r) > 1]
+    return ladders, side_free + side_tied
+
+
+def _columns(bus, arrangement, hang, width, depth, gap, bus_texts) -> list[_Column]:
+    ladders, side = arrangement
+    out = []
+    for rungs in ladders:
+        w = INDENT + max(width[r] for r in rungs)
+        d = sum(_rung(r, depth, bus_texts) for r in rungs)
+        out.append(_Column("ladder", bus, rungs=rungs, width=w, depth=d))
+    for c in side:
+        out.append(_Column("bus", c, width=width[c] + gap.get(c, 0.0), depth=LEVEL + depth[c]))
+    return out + hang
+
+
+def _size(view: View, bus: str, lines, columns) -> tuple[float, float]:
+    """A bus's span width and how far below its bar its columns reach."""
+    text = bus_text_width(lines)
+    branch = view.tree.parent.get(bus)
+    if branch is not None:
+        text = max(text, SYMBOL / 2 + block_width(branch.text))
+    incoming = view.incoming(bus)
+    if incoming is not None:
+        text = max(text, SYMBOL / 2 + block_width(_from_text(view, incoming)))
+    own = LEFT + TEXT_GAP + text + MARGIN
+    sources = view.tree.sources.get(bus, [])
+    if sources and bus in view.roots:
+        xs = source_xs(LEFT, bus_text_width(lines), sources)
+        own = max(own, xs[-1] - LEFT + hanging_width(sources[-1][1]))
+    kids = sum(c.width for c in columns)
+    return max(own, kids), max([c.depth for c in columns] + [0.0])
+
+
+def _straight_ties(view: View, ties, columns) -> list[Branch]:
+    """The ties drawn straight across: two buses next to each other in one row, with no ladder
+    reaching down into that row between them."""
+    rows: dict[int, list[str | None]] = {}
+    stack = [(r, 0) for r in reversed(view.roots)]
+    while stack:
+        bus, level = stack.pop()
+        if bus is None:  # a ladder's mark in a row it reaches
+            rows.setdefault(level, []).append(None)
+            continue
+        rows.setdefault(level, []).append(bus)
+        for c in reversed(columns[bus]):
+            if c.kind == "bus":
+                stack.append((c.name, level + 1))
+            elif c.kind == "ladder":
+                k = 1
+                while k * LEVEL - TIE_ROOM < c.depth:
+                    stack.append((None, level + k))
+                    k += 1
+    next_to = set()
     for row in rows.values():
         for a, b in zip(row, row[1:], strict=False):
-            next_to[(a, b)] = next_to[(b, a)] = True
-    straight, stubs, used = [], {}, set()
-    for tie in tree.ties:
+            if a is not None and b is not None:
+                next_to.add((a, b))
+                next_to.add((b, a))
+    straight, used = [], set()
+    for tie in ties:
         pair = (tie.one, tie.two)
-        if pair in next_to and pair not in used and (pair[1], pair[0]) not in used:
-            used.add(pair)
+        if pair in next_to and frozenset(pair) not in used:
+            used.add(frozenset(pair))
             straight.append(tie)
-        else:
-            stubs.setdefault(tie.one, []).append((tie, tie.two))
-            stubs.setdefault(tie.two, []).append((tie, tie.one))
-    return straight, stubs
+    return straight
 
 
-def _gap_owner(tree: Tree, tie: Branch, position: dict[str, int]) -> str:
+def _gap_owner(view: View, tie: Branch, position: dict[str, int]) -> str:
     """The bus whose span the gap for a straight tie goes before: the right one's ancestor
-    that is a child of the two buses' lowest common ancestor (or a root). ``position``: each
-    bus's place depth first."""
+    that is a child of the two buses' lowest common ancestor on the page (or a page root)."""
 
     def chain(bus):
         out = [bus]
-        while tree.parent.get(out[-1]) is not None:
-            out.append(tree.parent[out[-1]].one)
+        while out[-1] not in view.roots and view.tree.parent.get(out[-1]) is not None:
+            out.append(view.tree.parent[out[-1]].one)
         return out
 
     a, b = chain(tie.one), chain(tie.two)
@@ -322,124 +392,96 @@ def _gap_owner(tree: Tree, tie: Branch, position: dict[str, int]) -> str:
     return b[-1]
 
 
-def _dfs(tree: Tree) -> list[str]:
-    """Every bus depth first (pre-order, children in their drawing order), root by root."""
-    out: list[str] = []
-    stack = list(reversed(tree.roots))
-    while stack:
-        bus = stack.pop()
-        out.append(bus)
-        stack.extend(reversed(tree.children[bus]))
-    return out
+def render(p: Plan, bus_texts: dict, colours: dict) -> Drawing:
+    """The shapes of a placed page (no title block yet)."""
+    view, columns, width, gap = p.view, p.columns, p.width, p.gap
+    left: dict[str, float] = {}
+    bar: dict[str, float] = {}
+    rise: dict[str, float] = {}  # from the top of a bus's drop to its bar
+    x = MARGIN
+    for root in view.roots:
+        left[root] = x + gap.get(root, 0.0)
+        bar[root] = MARGIN + p.top_zone + BUS_ZONE
+        x += width[root] + gap.get(root, 0.0)
+    for bus in p.order:  # a parent is placed before its children
+        at = left[bus]
+        for c in columns[bus]:
+            c.left = at
+            if c.kind == "bus":
+                left[c.name] = at + gap.get(c.name, 0.0)
+                bar[c.name] = bar[bus] + LEVEL
+            elif c.kind == "ladder":
+                y = bar[bus]
+                for r in c.rungs:
+                    left[r] = at + INDENT
+                    rise[r] = SYMBOL_ZONE + bus_zone(bus_texts[r])
+                    bar[r] = y + RUNG + rise[r]
+                    y = bar[r] + p.depth[r]
+            at += c.width
+    drawing = Drawing(width=p.total_width, height=p.total_height, page=view.page)
+    drawing.buses = list(p.order)
+    for bus in p.order:
+        where = (left[bus], width[bus], bar[bus], rise.get(bus, LEVEL))
+        _draw_bus(drawing, view, bus, where, bus_texts[bus], p, colours.get(bus, BAR))
+        for c in columns[bus]:
+            if c.kind == "ladder":
+                _draw_ladder(drawing, bus, c, left, [bar[r] - rise[r] for r in c.rungs])
+    for tie in p.straight:
+        a, b = tie.one, tie.two
+        if left[a] > left[b]:
+            a, b = b, a
+        straight_tie(drawing, tie, left[a] + width[a] - BAR_END, left[b] + 4, bar[a])
+    return drawing
 
 
-def _tie_text(tie: Branch) -> tuple[str, ...]:
-    return tie.text[:2]
+def _draw_ladder(drawing, bus, column, left, jogs) -> None:
+    """A ladder's spine down from ``bus``'s bar, a jog to each rung's drop."""
+    x = column.left + LEFT
+    drawing.lines.append(Line(x, jogs[0] - RUNG, x, jogs[-1], 1.2, INK, owner=bus))  # from the bar
+    for r, y in zip(column.rungs, jogs, strict=True):
+        drawing.lines.append(Line(x, y, left[r] + LEFT, y, 1.2, INK, owner=r))
 
 
-def _tie_gap(tie: Branch) -> float:
-    return max(SYMBOL, _block_width(_tie_text(tie))) + 2 * MARGIN
-
-
-def _stub_text(tie: Branch, other: str) -> tuple[str, ...]:
-    return (tie.name, f"{tie.kind} to {other}")
-
-
-def _block_width(lines) -> float:
-    """The width of an element's text block: its first line (the name) is bold."""
-    return max(text_width(t, SIZE, k == 0) for k, t in enumerate(lines))
-
-
-def _source_xs(x: float, bus_text: float, sources) -> list[float]:
-    """The drops of a bus's sources: the first on the bus's own drop, the others to the right
-    of both the bus's text and the sources before them, so no drop crosses a text."""
-    xs = [x] if sources else []
-    for k in range(1, len(sources)):
-        after_text = x + TEXT_GAP + bus_text + MARGIN + LEFT
-        after_source = xs[-1] + _source_width(sources[k - 1][1])
-        xs.append(max(after_text, after_source))
-    return xs
-
-
-def _source_width(lines) -> float:
-    return LEFT + SYMBOL / 2 + TEXT_GAP + _block_width(lines) + MARGIN
-
-
-def _bus_text_width(lines) -> float:
-    return max(text_width(t, size, bold) for t, size, bold, _ in lines)
-
-
-def _texts(drawing: Drawing, x: float, y: float, lines, owner: str) -> float:
-    for text, size, bold, colour in lines:
-        drawing.texts.append(Text(x, y, text, size, bold, colour, owner))
-        y += size * LINE_PT
-    return y
-
-
-def _draw_bus(drawing, tree, bus, where, lines, kids, stubs, colour) -> None:
-    left, width, y = where
+def _draw_bus(drawing, view: View, bus, where, lines, p: Plan, colour) -> None:
+    left, width, y, rise = where
     x = left + LEFT
-    right = left + width - MARGIN / 2
+    right = left + width - BAR_END
+    kids = p.columns[bus]
     drops = [c.left + LEFT for c in kids]
-    bar_right = max([right, *drops])
-    drawing.lines.append(Line(left + 4, y, bar_right, y, 3.5, colour, owner=bus))
-    # the bus's text, above its bar, right of its drop
+    drawing.lines.append(Line(left + 4, y, max([right, *drops]), y, 3.5, colour, owner=bus))
     text_top = y - 4 - sum(s * LINE_PT for _, s, _, _ in lines)
-    _texts(drawing, x + TEXT_GAP, text_top, lines, bus)
-    branch = tree.parent.get(bus)
-    zone_top = y - LEVEL if branch is not None else y - BUS_ZONE - SOURCE_ZONE
+    texts(drawing, x + TEXT_GAP, text_top, lines, bus)
+    branch = view.tree.parent.get(bus)
+    incoming = view.incoming(bus)
     if branch is not None:
-        _draw_on_drop(drawing, branch.kind, x, zone_top, y, branch.text, branch.name)
-    sources = tree.sources.get(bus, [])
-    for (name, text), sx in zip(
-        sources, _source_xs(x, _bus_text_width(lines), sources), strict=True
-    ):
-        _draw_on_drop(drawing, "source", sx, zone_top, y, text, name)
+        on_drop(drawing, branch.kind, x, y - rise, y, branch.text, branch.name)
+    if incoming is not None:
+        top = y - LEVEL - SOURCE_ZONE
+        page = view.page_of[incoming.one]
+        text = _from_text(view, incoming)
+        on_drop(drawing, "offpage", x, top, y - LEVEL, text, "reference", str(page), AWAY)
+        drawing.references.append(Reference("from", page, incoming.one, bus))
+    sources = view.tree.sources.get(bus, [])
+    if bus in view.roots and branch is None:
+        zone_top = y - BUS_ZONE - SOURCE_ZONE
+        for (name, text), sx in zip(
+            sources, source_xs(x, bus_text_width(lines), sources), strict=True
+        ):
+            on_drop(drawing, "source", sx, zone_top, y, text, name)
     for c in kids:
         cx = c.left + LEFT
         if c.kind == "machine":
-            name, letter, text = next(m for m in tree.machines[bus] if m[0] == c.name)
-            kind = "generator" if letter == "G" else "motor"
-            _draw_hanging(drawing, kind, cx, y, text, name, letter)
+            kind = "generator" if c.rungs[0] == "G" else "motor"
+            hanging(drawing, kind, cx, y, c.lines, c.lines[0], c.rungs[0])
         elif c.kind == "stub":
-            tie_name, other = c.name.split("\0")
-            tie = next(t for t, o in stubs[bus] if t.name == tie_name and o == other)
-            _draw_hanging(drawing, "ref", cx, y, _stub_text(tie, other), tie_name, "")
-
-
-def _draw_on_drop(drawing, kind, x, top, bottom, text, owner) -> None:
-    """A branch (or a source) on the vertical drop from ``top`` to ``bottom``: its symbol in
-    the upper zone, its text to the right."""
-    cy = top + SYMBOL_ZONE / 2
-    if kind == "source":
-        drawing.lines.append(Line(x, cy + SYMBOL / 2, x, bottom, 1.2, INK, owner=owner))
-    else:
-        drawing.lines.append(Line(x, top, x, cy - SYMBOL / 2, 1.2, INK, owner=owner))
-        drawing.lines.append(Line(x, cy + SYMBOL / 2, x, bottom, 1.2, INK, owner=owner))
-    drawing.symbols.append(Symbol(kind, x, cy, SYMBOL, SYMBOL, INK, owner))
-    lines = [(t, SIZE, k == 0, INK) for k, t in enumerate(text)]
-    height = len(lines) * LINE
-    _texts(drawing, x + SYMBOL / 2 + TEXT_GAP, cy - height / 2, lines, owner)
-
-
-def _draw_hanging(drawing, kind, x, bar_y, text, owner, letter) -> None:
-    """A machine or a tie's stub below its bus bar."""
-    cy = bar_y + SYMBOL_ZONE / 2 + 2
-    drawing.lines.append(Line(x, bar_y, x, cy - SYMBOL / 2, 1.2, INK, owner=owner))
-    drawing.symbols.append(Symbol(kind, x, cy, SYMBOL, SYMBOL, INK, owner, letter))
-    lines = [(t, SIZE, k == 0, INK) for k, t in enumerate(text)]
-    _texts(drawing, x + SYMBOL / 2 + TEXT_GAP, cy - len(lines) * LINE / 2, lines, owner)
-
-
-def _draw_straight_tie(drawing, tie, x_left, x_right, y) -> None:
-    """A tie between two buses side by side: straight across, its symbol in the gap."""
-    cx = (x_left + x_right) / 2
-    drawing.lines.append(Line(x_left, y, cx - SYMBOL / 2, y, 1.2, INK, owner=tie.name))
-    drawing.lines.append(Line(cx + SYMBOL / 2, y, x_right, y, 1.2, INK, owner=tie.name))
-    drawing.symbols.append(Symbol(tie.kind, cx, y, SYMBOL, SYMBOL, INK, tie.name, turned=True))
-    lines = [(t, SIZE, k == 0, INK) for k, t in enumerate(_tie_text(tie))]
-    top = y - SYMBOL / 2 - 4 - len(lines) * LINE
-    for text, size, bold, colour in lines:
-        w = text_width(text, size, bold)
-        drawing.texts.append(Text(cx - w / 2, top, text, size, bold, colour, tie.name))
-        top += LINE
+            kind, dashed = ("open", True) if c.tie.open else ("ref", False)
+            ink = AWAY if c.tie.open else INK
+            hanging(drawing, kind, cx, y, c.lines, c.tie.name, "", ink, dashed)
+            if not view.here(c.name):
+                drawing.references.append(Reference("tie", view.page_of[c.name], c.name, bus))
+        elif c.kind == "away":
+            page = view.page_of[c.name]
+            hanging(drawing, "offpage", cx, y, c.lines, "reference", str(page), AWAY)
+            drawing.references.append(Reference("to", page, c.name, bus))
+        elif c.kind == "hidden":
+            hanging(drawing, "hidden", cx, y, c.lines, "hidden", "", AWAY, True)

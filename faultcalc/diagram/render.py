@@ -12,6 +12,32 @@ from .shapes import FONT, RASTER_DPI
 FORMATS = (".svg", ".pdf", ".png")
 
 
+def page_path(path: str | Path, page: int) -> Path:
+    """Where page ``page`` of an SVG or PNG diagram goes: the first at ``path``, the others
+    beside it as ``<stem>-p<page><suffix>`` (a PDF holds every page in one file).
+
+    >>> page_path("out/plant.svg", 1).as_posix(), page_path("out/plant.svg", 3).as_posix()
+    ('out/plant.svg', 'out/plant-p3.svg')
+    """
+    path = Path(path)
+    return path if page == 1 else path.with_name(f"{path.stem}-p{page}{path.suffix}")
+
+
+def stale_pages(path: str | Path, pages: int) -> list[Path]:
+    """Pages beyond ``pages`` that an earlier, longer diagram left beside ``path``."""
+    import re
+
+    path = Path(path)
+    pattern = re.compile(re.escape(path.stem) + r"-p(\d+)" + re.escape(path.suffix) + "$")
+    folder = path.parent if str(path.parent) else Path(".")
+    found = []
+    for candidate in folder.glob(f"{path.stem}-p*{path.suffix}") if folder.is_dir() else ():
+        match = pattern.fullmatch(candidate.name)
+        if match and int(match.group(1)) > pages:
+            found.append(candidate)
+    return sorted(found)
+
+
 def figure_of(drawing: Drawing):
     import matplotlib
 
@@ -91,6 +117,54 @@ def _symbol(ax, s, Circle, Rectangle, Polygon) -> None:
             linewidth=1.0,
         )
         ax.plot([s.x - r * 0.5, s.x + r * 0.5], [s.y + r * 0.6, s.y], color=s.colour, linewidth=1.0)
+    elif s.kind == "offpage":  # a pentagon pointing down, the other page's number in it
+        ax.add_patch(
+            Polygon(
+                [
+                    (s.x - r * 0.75, s.y - r * 0.8),
+                    (s.x + r * 0.75, s.y - r * 0.8),
+                    (s.x + r * 0.75, s.y + r * 0.25),
+                    (s.x, s.y + r * 0.9),
+                    (s.x - r * 0.75, s.y + r * 0.25),
+                ],
+                closed=True,
+                **kw,
+            )
+        )
+        size = 8 if len(s.letter) < 3 else 6.5
+        ax.text(
+            s.x,
+            s.y - r * 0.1,
+            s.letter,
+            ha="center",
+            va="center",
+            fontsize=size,
+            family=FONT,
+            color=s.colour,
+            fontweight="bold",
+        )
+    elif s.kind == "open":  # an open switch: fixed contact, blade swung off it
+        ax.plot([s.x, s.x], [s.y - r, s.y - r * 0.45], color=s.colour, linewidth=1.2)
+        ax.plot([s.x - r * 0.3, s.x + r * 0.3], [s.y - r * 0.45] * 2, color=s.colour, lw=1.2)
+        ax.plot([s.x, s.x + r * 0.55], [s.y + r * 0.6, s.y - r * 0.3], color=s.colour, lw=1.2)
+        ax.add_patch(Circle((s.x, s.y + r * 0.6), r * 0.08, fill=True, color=s.colour))
+        ax.plot([s.x, s.x], [s.y + r * 0.6, s.y + r], color=s.colour, linewidth=1.2)
+    elif s.kind == "hidden":  # what is not drawn: a dashed triangle, a subtree left out
+        ax.add_patch(
+            Polygon(
+                [
+                    (s.x, s.y - r * 0.8),
+                    (s.x + r * 0.75, s.y + r * 0.7),
+                    (s.x - r * 0.75, s.y + r * 0.7),
+                ],
+                closed=True,
+                linestyle=(0, (2, 2)),
+                **kw,
+            )
+        )
+    elif s.kind == "via":  # buses left out on the way: three dots on the drop
+        for dy in (-0.5, 0.0, 0.5):
+            ax.add_patch(Circle((s.x, s.y + r * dy), r * 0.09, fill=True, color=s.colour))
     elif s.kind == "ref":
         ax.plot([s.x, s.x], [s.y - r, s.y + r * 0.2], color=s.colour, linewidth=1.2)
         ax.add_patch(
@@ -100,6 +174,19 @@ def _symbol(ax, s, Circle, Rectangle, Polygon) -> None:
                 **kw,
             )
         )
+
+
+def save_pages(drawings: list[Drawing], path: str | Path) -> None:
+    """Write ``drawings`` to ``path`` as one PDF, a page per drawing, each page its size."""
+    import matplotlib
+    from matplotlib.backends.backend_pdf import PdfPages
+
+    settings = {"pdf.fonttype": 42, "hatch.linewidth": 0.6}
+    with matplotlib.rc_context(settings), warnings.catch_warnings():
+        warnings.filterwarnings("ignore", message=r"Glyph \d+ .* missing")  # said in the notes
+        with PdfPages(path, metadata=_metadata(".pdf")) as pdf:
+            for drawing in drawings:
+                pdf.savefig(figure_of(drawing))
 
 
 def save(drawing: Drawing, path: str | Path, suffix: str | None = None) -> None:
@@ -136,6 +223,12 @@ def _turned(ax, s, Circle, Rectangle) -> None:
                 color=s.colour,
                 linewidth=1.0,
             )
+    elif s.kind == "open":  # an open switch on a horizontal tie
+        ax.plot([s.x - r, s.x - r * 0.45], [s.y, s.y], color=s.colour, linewidth=1.2)
+        ax.plot([s.x - r * 0.45] * 2, [s.y - r * 0.3, s.y + r * 0.3], color=s.colour, lw=1.2)
+        ax.plot([s.x + r * 0.6, s.x - r * 0.3], [s.y, s.y - r * 0.55], color=s.colour, lw=1.2)
+        ax.add_patch(Circle((s.x + r * 0.6, s.y), r * 0.08, fill=True, color=s.colour))
+        ax.plot([s.x + r * 0.6, s.x + r], [s.y, s.y], color=s.colour, linewidth=1.2)
     else:  # a transformer as a tie: two circles side by side
         ax.add_patch(Circle((s.x - r * 0.42, s.y), r * 0.55, **kw))
         ax.add_patch(Circle((s.x + r * 0.42, s.y), r * 0.55, **kw))

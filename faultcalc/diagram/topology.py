@@ -31,6 +31,7 @@ class Branch:
     one: str  # the bus nearer the sources (the parent, for a tree branch)
     two: str
     text: tuple[str, ...]  # the lines printed beside its symbol
+    open: bool = False  # out of service (System.open_branches): drawn open, never a tree branch
 
 
 @dataclass
@@ -47,8 +48,10 @@ class Tree:
     unreached: list[str] = field(default_factory=list)
 
 
+# Figures to four significant digits (three for %Z, X/R and ohms): what identifies an element
+# on a one-line; the results workbook echoes the input as typed (common practice, no source).
 def _fmt(value, unit: str) -> str:
-    return "" if value is None else f"{value:g} {unit}"
+    return "" if value is None else f"{value:.4g} {unit}"
 
 
 def branch_text(kind: str, item) -> tuple[str, ...]:
@@ -57,14 +60,14 @@ def branch_text(kind: str, item) -> tuple[str, ...]:
         windings = f"{item.hv_winding}{item.lv_winding.lower()}".strip()
         return (
             item.transformer,
-            f"{item.kva:g} kVA {item.z_pct:g} %Z",
+            f"{item.kva:.4g} kVA {item.z_pct:.3g} %Z",
             f"{item.hv_kv:g}/{item.lv_kv:g} kV {windings}".rstrip(),
         )
     if kind == "cable":
         length = _fmt(item.length_ft, "ft") or _fmt(item.length_m, "m")
         size = f"{item.sets:g} x {item.size}" if item.size else f"{item.sets:g} set(s)"
         return (item.cable, size, length) if length else (item.cable, size)
-    return (item.element, f"R {item.r_ohm:g} + jX {item.x_ohm:g} ohm")
+    return (item.element, f"R {item.r_ohm:.3g} + jX {item.x_ohm:.3g} ohm")
 
 
 def tree_of(system: System) -> Tree:
@@ -80,11 +83,11 @@ def tree_of(system: System) -> Tree:
                 adjacent[b].append(branch)
     sources: dict[str, list] = {}
     for s in system.sources:
-        strength = f"{s.sc_mva:g} MVA" if s.sc_mva is not None else f"{s.sc_ka:g} kA"
-        sources.setdefault(s.bus, []).append((s.source, (s.source, f"{strength} X/R {s.xr:g}")))
+        strength = f"{s.sc_mva:.4g} MVA" if s.sc_mva is not None else f"{s.sc_ka:.4g} kA"
+        sources.setdefault(s.bus, []).append((s.source, (s.source, f"{strength} X/R {s.xr:.3g}")))
     machines: dict[str, list] = {}
     for m in system.machines:
-        size = f"{m.kva:g} kVA" if m.kva is not None else f"{m.hp:g} hp"
+        size = f"{m.kva:.4g} kVA" if m.kva is not None else f"{m.hp:.4g} hp"
         count = f"{m.count:g} x " if m.count and m.count != 1 else ""
         letter = "G" if m.kind == "generator" else "M"
         machines.setdefault(m.bus, []).append((m.machine, letter, (m.machine, f"{count}{size}")))
@@ -125,6 +128,10 @@ def tree_of(system: System) -> Tree:
             if branch not in tree_branches and branch not in seen:
                 seen.add(branch)
                 ties.append(branch)
+    for item in system.open_branches:  # normally-open ties: beside the tree, never in it
+        if item.from_bus in known and item.to_bus in known:
+            text = (item.name, f"open {item.kind}")
+            ties.append(Branch(item.kind, item.name, item.from_bus, item.to_bus, text, True))
     tree = Tree(roots, level, parent, children, ties, sources, machines, unreached)
     _order_for_ties(tree)
     return tree

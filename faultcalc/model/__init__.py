@@ -255,6 +255,20 @@ class Machine:
 
 
 @dataclass(frozen=True)
+class OpenBranch:
+    """A series element out of service (``in_service`` = no) whose two buses are both in
+    service: no part of any study, kept only so that the one-line can draw it open (a
+    normally-open tie)."""
+
+    sheet: str  # transformers, cables or impedances
+    name: str
+    from_bus: str  # a transformer's hv_bus
+    to_bus: str  # a transformer's lv_bus
+    kind: str  # transformer, cable or impedance
+    row: int = 0
+
+
+@dataclass(frozen=True)
 class System:
     """Everything read from one input: settings, buses and elements, plus reader warnings.
 
@@ -274,9 +288,11 @@ class System:
     input_sha256: str = ""
     warnings: tuple[str, ...] = field(default=())
     in_labels: bool = True  # a case: False when its cases rows say label = no
-    changes: tuple[
-        str, ...
-    ] = ()  # a case: each cell its rows set, "XF-1 (transformers): z_pct = 5.3"
+    # A case: each cell its rows set, "XF-1 (transformers): z_pct = 5.3".
+    changes: tuple[str, ...] = ()
+    # Series elements left out as out of service between two buses in service (read/service.py):
+    # drawn open on the one-line, never seen by a study.
+    open_branches: tuple[OpenBranch, ...] = ()
 
     def __post_init__(self) -> None:
         for name, kind in ELEMENT_KINDS.items():

@@ -15,7 +15,7 @@ import numpy as np
 
 from .. import schema
 from ..errors import Problem
-from ..model import System
+from ..model import OpenBranch, System
 
 IN_SERVICE = "in_service"
 ELEMENT_OUT_NOTE = "is out of service: left out of this study"  # in an element's note
@@ -73,7 +73,27 @@ def in_service(system: System) -> tuple[System, list[str]]:
         bus_names = system.buses.column("bus")
         switched, note = without_buses(switched, [bus_names[k] for k in np.flatnonzero(bus_off)])
         notes.append(f"sheet 'buses': {note}")
+    opened = open_branches(system, gone, set(switched.buses.column("bus")))
+    if opened:
+        switched = dataclasses.replace(switched, open_branches=opened)
     return switched, notes
+
+
+def open_branches(system: System, gone: dict[str, np.ndarray], buses: set[str]):
+    """The series elements of ``system`` flagged in ``gone`` whose two buses are among
+    ``buses`` (those left in service), in sheet and row order: drawn open on the one-line."""
+    out = []
+    for sheet, one, two in SERIES:
+        flags = gone.get(sheet)
+        if flags is None:
+            continue
+        items = getattr(system, sheet)
+        names, rows = items.column(NAME_COLUMN[sheet]), items.column("row")
+        a, b = items.column(one), items.column(two)
+        for k in np.flatnonzero(flags).tolist():
+            if a[k] in buses and b[k] in buses:
+                out.append(OpenBranch(sheet, names[k], a[k], b[k], sheet[:-1], int(rows[k])))
+    return tuple(out)
 
 
 # The bus columns of each element sheet.

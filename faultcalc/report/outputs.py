@@ -289,9 +289,9 @@ class ResultFiles:
 
 def _sheets(system, result) -> list:
     """The one-line diagram's pages (faultcalc.diagram Drawings)."""
-    from ..diagram import draw
+    from ..diagram import draw_pages
 
-    return [draw(system, result)]
+    return draw_pages(system, result)
 
 
 def _png(sheets) -> bytes | None:
@@ -401,21 +401,43 @@ def write_diagram(
 ):
     """Write the one-line diagram of ``system``, annotated with ``result`` (a StudyResult, or
     None for the topology alone), atomically, as .svg, .pdf or .png by the file's suffix;
-    returns the drawing (its shapes and size).
+    returns the pages drawn (:func:`faultcalc.diagram.draw_pages`: their shapes and sizes).
+
+    A diagram of several pages is one PDF, a page per drawing; as SVG or PNG the first page
+    goes to the file named and each other page beside it as ``<stem>-p<page><suffix>``
+    (``faultcalc.diagram.render.page_path``), all placed together or none. Those other pages
+    are checked when the diagram is written (an existing one needs ``overwrite``); with
+    ``overwrite``, pages beyond the last that an earlier, longer diagram left are removed.
 
     ``output`` is the file, or the :class:`OutputFiles` checked before ``system`` was read;
     ``overwrite`` and ``input_path`` as for :class:`OutputFiles`.
     """
-    from ..diagram import FORMATS, draw, save
+    from ..diagram import FORMATS, draw_pages, save, save_pages
+    from ..diagram.render import page_path, stale_pages
 
     files = _files(output, input_path, overwrite)
     (path,) = files.paths
-    if path.suffix.lower() not in FORMATS:
+    suffix = path.suffix.lower()
+    if suffix not in FORMATS:
         raise OutputError(f"a diagram is written as {', '.join(FORMATS)}; got {path.name}")
-    drawing = draw(system, result)
-    with files.staged() as (temp,):
-        save(drawing, temp, path.suffix)
-    return drawing
+    drawings = draw_pages(system, result)
+    if suffix == ".pdf":
+        with files.staged() as (temp,):
+            save_pages(drawings, temp)
+        return drawings
+    others = [page_path(path, k) for k in range(2, len(drawings) + 1)]
+    checked = OutputFiles(*others, input_path=files.input_path, overwrite=files.overwrite)
+    remove = stale_pages(path, len(drawings)) if files.overwrite else []
+    with staged(
+        path,
+        *others,
+        replace=[*files._existing, *checked._existing],
+        remove=remove,
+        on_placed=files.on_placed,
+    ) as temps:
+        for drawing, temp in zip(drawings, temps, strict=True):
+            save(drawing, temp, suffix)
+    return drawings
 
 
 def write_cable_checks(

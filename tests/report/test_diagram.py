@@ -17,7 +17,7 @@ from networks import random_sheets
 
 from faultcalc import read_system, run_study, sample_path, write_diagram
 from faultcalc.cli import main
-from faultcalc.diagram import draw
+from faultcalc.diagram import draw, draw_pages
 from faultcalc.diagram.layout import OVER
 
 NAMES = {
@@ -88,8 +88,8 @@ def test_the_samples_are_drawn_whole_without_overlap(sample):
         envelope = result.envelope.set_index("bus")[["i3ph_ka", "islg_ka"]]
         worst = np.fmax(worst, envelope)
     for bus, row in worst.iterrows():
-        line = f"3ph {row.i3ph_ka:.2f} kA  SLG {row.islg_ka:.2f} kA"
-        assert line in drawing.text_of(bus), (bus, drawing.text_of(bus))
+        for line in (f"3ph {row.i3ph_ka:.2f} kA", f"SLG {row.islg_ka:.2f} kA"):
+            assert line in drawing.text_of(bus), (bus, drawing.text_of(bus))
 
 
 def test_a_tie_between_buses_side_by_side_runs_straight_across():
@@ -325,3 +325,152 @@ def test_a_feeder_deeper_than_the_recursion_limit_is_drawn(make_input):
     assert_everything_drawn(system, drawing)
     bars = sorted(ln.y1 for ln in drawing.lines if ln.width > 3)
     assert len(bars) == n + 1 and all(b > a for a, b in zip(bars, bars[1:], strict=False))
+
+
+# --- pages, references, the reduced diagram, open ties (#14) ---------------------------------
+
+SHEET_W_PT, SHEET_H_PT = 44 * 72, 33 * 72  # ANSI E and ISO A0 both hold it (see pages.py)
+
+
+def _every_page(pages):
+    for page in pages:
+        assert_no_overlap(page)
+        assert page.width <= SHEET_W_PT and page.height <= SHEET_H_PT, (page.width, page.height)
+
+
+def _union(pages):
+    """The pages as one drawing for the 'everything drawn' check (their geometry apart)."""
+    from faultcalc.diagram.layout import Drawing
+
+    whole = Drawing(0, 0)
+    for page in pages:
+        whole.texts += page.texts
+        whole.symbols += page.symbols
+    return whole
+
+
+@pytest.mark.parametrize("seed", [3, 5])
+def test_a_150_bus_random_network_fits_one_sheet(make_input, seed):
+    # The issue: up to about 150 buses on one large page (44 x 33 in, see pages.py).
+    system = read_system(
+        make_input(random_sheets(seed, n_mv=30, n_lv=120, loops=2, ties=2, machines=10))
+    )
+    assert len(system.buses) == 150
+    pages = draw_pages(system, run_study(system))
+    assert len(pages) == 1
+    _every_page(pages)
+    assert_everything_drawn(system, pages[0])
+    assert sorted(pages[0].buses) == sorted(system.buses.column("bus"))
+
+
+def test_a_larger_network_is_split_with_references_at_both_ends(make_input):
+    system = read_system(
+        make_input(random_sheets(11, n_mv=80, n_lv=320, loops=4, ties=4, machines=20))
+    )
+    pages = draw_pages(system, run_study(system))
+    n = len(pages)
+    assert n > 1 and [p.page for p in pages] == list(range(1, n + 1))
+    assert all(p.pages == n for p in pages)
+    _every_page(pages)
+    assert_everything_drawn(system, _union(pages))
+    drawn = [b for p in pages for b in p.buses]
+    assert sorted(drawn) == sorted(system.buses.column("bus"))  # each bus on exactly one page
+    page_of = {b: p.page for p in pages for b in p.buses}
+    found = {(p.page, r.direction, r.page, r.bus, r.here) for p in pages for r in p.references}
+    assert any(d == "to" and k != j for j, d, k, _, _ in found)  # some cut crosses pages
+    for j, direction, k, bus, here in found:
+        assert 1 <= k <= n and page_of[bus] == k and page_of[here] == j
+        words = " ".join(pages[j - 1].texts[i].text for i in range(len(pages[j - 1].texts)))
+        assert (f"page {k}" if k != j else "this page") in words and bus in words
+        mirror = {"to": "from", "from": "to", "tie": "tie"}[direction]
+        assert (k, mirror, j, here, bus) in found, (j, direction, k, bus, here)  # other end
+
+
+def test_a_network_above_the_threshold_keeps_its_levels_above_1_kv_and_service_equipment(
+    make_input, monkeypatch
+):
+    # The threshold is lowered for the test: the rule, not its value, is checked here.
+    import faultcalc.diagram.pages as pages_module
+
+    sheets = random_sheets(7, n_mv=15, n_lv=60, loops=1, ties=1, machines=6)
+    service = {"L3", "L17", "L40"}
+    for row in sheets["buses"]:
+        row["service"] = "yes" if row["bus"] in service else "no"
+    system = read_system(make_input(sheets))
+    result = run_study(system)
+    monkeypatch.setattr(pages_module, "REDUCED_ABOVE_BUSES", len(system.buses) - 1)
+    pages = draw_pages(system, result)
+    drawn = {b for p in pages for b in p.buses}
+    expected = {b.bus for b in system.buses if b.kv > 1.0 or b.service == "yes"}
+    assert drawn == expected  # the sources' buses are at 13.8 kV here
+    footer = " ".join(t for p in pages for t in p.text_of("footer"))
+    assert "reduced diagram" in footer and "above 1 kV" in footer
+    _every_page(pages)
+    monkeypatch.setattr(pages_module, "REDUCED_ABOVE_BUSES", len(system.buses))
+    assert {b for p in draw_pages(system, result) for b in p.buses} == {
+        b.bus for b in system.buses
+    }  # at the threshold itself: every bus
+
+
+def _tie_sheets(in_service: str):
+    return {
+        "buses": [_bus("MV", 13.8), _bus("A"), _bus("B")],
+        "sources": [_source("U", "MV")],
+        "transformers": [
+            transformer(transformer="TA", hv_bus="MV", lv_bus="A", hv_kv=13.8),
+            transformer(transformer="TB", hv_bus="MV", lv_bus="B", hv_kv=13.8),
+        ],
+        "cables": [
+            {
+                "cable": "TIE-AB",
+                "from_bus": "A",
+                "to_bus": "B",
+                "length_ft": 50,
+                "r_ohm_per_kft": 0.05,
+                "x_ohm_per_kft": 0.04,
+                "in_service": in_service,
+            }
+        ],
+    }
+
+
+def test_an_open_tie_is_drawn_open_and_left_out_of_the_study(make_input):
+    opened = read_system(make_input(_tie_sheets("no")))
+    closed = read_system(make_input(_tie_sheets("yes")))
+    assert [b.name for b in opened.open_branches] == ["TIE-AB"] and not closed.open_branches
+    assert len(opened.cables) == 0  # the study sees no tie
+    study = run_study(opened).buses.set_index("bus")
+    alone = read_system(make_input({k: v for k, v in _tie_sheets("no").items() if k != "cables"}))
+    assert np.allclose(study.i3ph_ka, run_study(alone).buses.set_index("bus").i3ph_ka)
+    assert not np.allclose(study.i3ph_ka, run_study(closed).buses.set_index("bus").i3ph_ka)
+    drawing = draw(opened, run_study(opened))
+    assert_no_overlap(drawing)
+    symbols = [s for s in drawing.symbols if s.owner == "TIE-AB"]
+    assert [s.kind for s in symbols] == ["open"]
+    lines = [ln for ln in drawing.lines if ln.owner == "TIE-AB"]
+    assert lines and all(ln.dashed for ln in lines)
+    assert any("open" in t for t in drawing.text_of("TIE-AB"))
+    shut = draw(closed, run_study(closed))
+    assert [s.kind for s in shut.symbols if s.owner == "TIE-AB"] == ["cable"]
+
+
+@pytest.mark.slow  # writes some ten SVG pages: about 10 s
+def test_a_diagram_of_several_pages_is_one_pdf_or_numbered_svgs(make_input, tmp_path):
+    import re
+
+    system = read_system(
+        make_input(random_sheets(11, n_mv=80, n_lv=320, loops=4, ties=4, machines=20))
+    )
+    result = run_study(system)
+    pdf = tmp_path / "big.pdf"
+    n = len(write_diagram(system, result, pdf))
+    assert n > 1 and len(re.findall(rb"/Type\s*/Page\b(?!s)", pdf.read_bytes())) == n
+    svg = tmp_path / "big.svg"
+    assert len(write_diagram(system, result, svg)) == n
+    names = {svg.name} | {f"big-p{k}.svg" for k in range(2, n + 1)}
+    assert names <= {p.name for p in tmp_path.iterdir()}
+    (tmp_path / f"big-p{n + 1}.svg").write_text("left by a longer diagram")
+    with pytest.raises(Exception, match="exists"):
+        write_diagram(system, result, svg)  # refused without overwrite, nothing changed
+    write_diagram(system, result, svg, overwrite=True)
+    assert not (tmp_path / f"big-p{n + 1}.svg").exists()  # the stale page is removed
