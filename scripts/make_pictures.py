@@ -1,8 +1,8 @@
 """Redraw the README's pictures from the bundled invented samples:
 python scripts/make_pictures.py
 
-The report page is rendered with poppler's pdftoppm (apt-get install poppler-utils), a tool
-for this script only; faultcalc itself never needs it.
+The report page is found with pypdf (the test extra) and rendered with poppler's pdftoppm
+(apt-get install poppler-utils), tools for this script only; faultcalc itself needs neither.
 """
 
 import subprocess

@@ -1,5 +1,6 @@
-"""The drawing written as SVG, PDF or PNG through matplotlib, text kept as text (SVG text
-elements; TrueType fonts embedded in the PDF), so that it can be searched and selected."""
+"""The drawing written as SVG or PNG through matplotlib (SVG text kept as text elements), and
+as PDF through reportlab (pdfdraw.py: TrueType text embedded), so that it can be searched and
+selected; both draw the symbols' strokes (strokes.py)."""
 
 from __future__ import annotations
 
@@ -8,6 +9,7 @@ from pathlib import Path
 
 from .layout import Drawing
 from .shapes import FONT, RASTER_DPI
+from .strokes import strokes
 
 FORMATS = (".svg", ".pdf", ".png")
 
@@ -39,11 +41,11 @@ def stale_pages(path: str | Path, pages: int) -> list[Path]:
 
 
 def figure_of(drawing: Drawing):
+    """The drawing as a matplotlib figure (for SVG and PNG)."""
     import matplotlib
 
     matplotlib.use("Agg", force=False)
     from matplotlib.figure import Figure
-    from matplotlib.patches import Circle, Polygon, Rectangle
 
     fig = Figure(figsize=(drawing.width / 72, drawing.height / 72))
     ax = fig.add_axes((0, 0, 1, 1))
@@ -59,8 +61,9 @@ def figure_of(drawing: Drawing):
             linestyle=(0, (4, 3)) if line.dashed else "solid",
             solid_capstyle="butt",
         )
-    for s in drawing.symbols:
-        _symbol(ax, s, Circle, Rectangle, Polygon)
+    for symbol in drawing.symbols:
+        for stroke in strokes(symbol):
+            _stroke(ax, stroke)
     for t in drawing.texts:
         ax.text(
             t.x,
@@ -77,116 +80,48 @@ def figure_of(drawing: Drawing):
     return fig
 
 
-def _symbol(ax, s, Circle, Rectangle, Polygon) -> None:
-    """Symbols after IEC 60617 / IEEE 315: a transformer two overlapping circles, an
-    impedance a rectangle, a machine a circle with its letter, a source a circle with a
-    hatched infeed, a cable a short line with a tilde mark, a tie's stub an arrow."""
-    r = s.w / 2
-    if s.turned:  # on a horizontal line: drawn as on a vertical one, turned a quarter
-        _turned(ax, s, Circle, Rectangle)
-        return
-    kw = {"fill": False, "edgecolor": s.colour, "linewidth": 1.2}
-    if s.kind == "transformer":
-        ax.add_patch(Circle((s.x, s.y - r * 0.42), r * 0.55, **kw))
-        ax.add_patch(Circle((s.x, s.y + r * 0.42), r * 0.55, **kw))
-    elif s.kind == "impedance":
-        ax.add_patch(Rectangle((s.x - r * 0.35, s.y - r * 0.8), r * 0.7, r * 1.6, **kw))
-    elif s.kind in ("motor", "generator"):
-        ax.add_patch(Circle((s.x, s.y), r * 0.8, **kw))
+def _stroke(ax, s) -> None:
+    from matplotlib.patches import Circle, Polygon, Rectangle
+
+    style = (0, (2, 2)) if s.dashed else "solid"
+    kw = {
+        "fill": s.filled,
+        "edgecolor": s.colour,
+        "facecolor": s.colour if s.filled else "none",
+        "linewidth": s.width,
+        "linestyle": style,
+    }
+    if s.kind == "line":
+        xs, ys = zip(*s.points, strict=True)
+        ax.plot(xs, ys, color=s.colour, linewidth=s.width, solid_capstyle="butt")
+    elif s.kind == "polygon":
+        ax.add_patch(Polygon(list(s.points), closed=True, **kw))
+    elif s.kind == "circle":
+        ax.add_patch(Circle((s.x, s.y), s.r, **kw))
+    elif s.kind == "rect":
+        ax.add_patch(Rectangle((s.x, s.y), s.w, s.h, **kw))
+    elif s.kind == "letter":
         ax.text(
             s.x,
             s.y,
-            s.letter,
+            s.text,
             ha="center",
             va="center",
-            fontsize=9,
+            fontsize=s.size,
             family=FONT,
             color=s.colour,
             fontweight="bold",
+            parse_math=False,
         )
-    elif s.kind == "source":
-        ax.add_patch(
-            Rectangle((s.x - r * 0.8, s.y - r * 0.8), r * 1.6, r * 1.6, hatch="////", **kw)
-        )
-    elif s.kind == "cable":
-        ax.plot([s.x, s.x], [s.y - r, s.y + r], color=s.colour, linewidth=1.2)
-        ax.plot(
-            [s.x - r * 0.5, s.x + r * 0.5],
-            [s.y + r * 0.3, s.y - r * 0.3],
-            color=s.colour,
-            linewidth=1.0,
-        )
-        ax.plot([s.x - r * 0.5, s.x + r * 0.5], [s.y + r * 0.6, s.y], color=s.colour, linewidth=1.0)
-    elif s.kind == "offpage":  # a pentagon pointing down, the other page's number in it
-        ax.add_patch(
-            Polygon(
-                [
-                    (s.x - r * 0.75, s.y - r * 0.8),
-                    (s.x + r * 0.75, s.y - r * 0.8),
-                    (s.x + r * 0.75, s.y + r * 0.25),
-                    (s.x, s.y + r * 0.9),
-                    (s.x - r * 0.75, s.y + r * 0.25),
-                ],
-                closed=True,
-                **kw,
-            )
-        )
-        size = 8 if len(s.letter) < 3 else 6.5
-        ax.text(
-            s.x,
-            s.y - r * 0.1,
-            s.letter,
-            ha="center",
-            va="center",
-            fontsize=size,
-            family=FONT,
-            color=s.colour,
-            fontweight="bold",
-        )
-    elif s.kind == "open":  # an open switch: fixed contact, blade swung off it
-        ax.plot([s.x, s.x], [s.y - r, s.y - r * 0.45], color=s.colour, linewidth=1.2)
-        ax.plot([s.x - r * 0.3, s.x + r * 0.3], [s.y - r * 0.45] * 2, color=s.colour, lw=1.2)
-        ax.plot([s.x, s.x + r * 0.55], [s.y + r * 0.6, s.y - r * 0.3], color=s.colour, lw=1.2)
-        ax.add_patch(Circle((s.x, s.y + r * 0.6), r * 0.08, fill=True, color=s.colour))
-        ax.plot([s.x, s.x], [s.y + r * 0.6, s.y + r], color=s.colour, linewidth=1.2)
-    elif s.kind == "hidden":  # what is not drawn: a dashed triangle, a subtree left out
-        ax.add_patch(
-            Polygon(
-                [
-                    (s.x, s.y - r * 0.8),
-                    (s.x + r * 0.75, s.y + r * 0.7),
-                    (s.x - r * 0.75, s.y + r * 0.7),
-                ],
-                closed=True,
-                linestyle=(0, (2, 2)),
-                **kw,
-            )
-        )
-    elif s.kind == "via":  # buses left out on the way: three dots on the drop
-        for dy in (-0.5, 0.0, 0.5):
-            ax.add_patch(Circle((s.x, s.y + r * dy), r * 0.09, fill=True, color=s.colour))
-    elif s.kind == "ref":
-        ax.plot([s.x, s.x], [s.y - r, s.y + r * 0.2], color=s.colour, linewidth=1.2)
-        ax.add_patch(
-            Polygon(
-                [(s.x - r * 0.5, s.y + r * 0.2), (s.x + r * 0.5, s.y + r * 0.2), (s.x, s.y + r)],
-                closed=True,
-                **kw,
-            )
-        )
+    else:
+        raise ValueError(f"unknown stroke {s.kind!r}")
 
 
 def save_pages(drawings: list[Drawing], path: str | Path) -> None:
     """Write ``drawings`` to ``path`` as one PDF, a page per drawing, each page its size."""
-    import matplotlib
-    from matplotlib.backends.backend_pdf import PdfPages
+    from .pdfdraw import save_pdf
 
-    settings = {"pdf.fonttype": 42, "hatch.linewidth": 0.6}
-    with matplotlib.rc_context(settings), warnings.catch_warnings():
-        warnings.filterwarnings("ignore", message=r"Glyph \d+ .* missing")  # said in the notes
-        with PdfPages(path, metadata=_metadata(".pdf")) as pdf:
-            for drawing in drawings:
-                pdf.savefig(figure_of(drawing))
+    save_pdf(drawings, path)
 
 
 def save(drawing: Drawing, path: str | Path, suffix: str | None = None) -> None:
@@ -197,8 +132,11 @@ def save(drawing: Drawing, path: str | Path, suffix: str | None = None) -> None:
     suffix = (suffix or path.suffix).lower()
     if suffix not in FORMATS:
         raise ValueError(f"a diagram is written as {', '.join(FORMATS)}; got {path.name}")
+    if suffix == ".pdf":
+        save_pages([drawing], path)
+        return
     fig = figure_of(drawing)
-    settings = {"svg.fonttype": "none", "pdf.fonttype": 42, "hatch.linewidth": 0.6}
+    settings = {"svg.fonttype": "none"}
     with matplotlib.rc_context(settings), warnings.catch_warnings():
         warnings.filterwarnings("ignore", message=r"Glyph \d+ .* missing")  # said in the notes
         fig.savefig(path, format=suffix[1:], dpi=RASTER_DPI, metadata=_metadata(suffix))
@@ -206,29 +144,3 @@ def save(drawing: Drawing, path: str | Path, suffix: str | None = None) -> None:
 
 def _metadata(suffix: str) -> dict:
     return {"Software": "faultcalc"} if suffix == ".png" else {"Creator": "faultcalc"}
-
-
-def _turned(ax, s, Circle, Rectangle) -> None:
-    """An impedance or a cable on a horizontal tie."""
-    r = s.w / 2
-    kw = {"fill": False, "edgecolor": s.colour, "linewidth": 1.2}
-    if s.kind == "impedance":
-        ax.add_patch(Rectangle((s.x - r * 0.8, s.y - r * 0.35), r * 1.6, r * 0.7, **kw))
-    elif s.kind == "cable":
-        ax.plot([s.x - r, s.x + r], [s.y, s.y], color=s.colour, linewidth=1.2)
-        for dx in (-0.15, 0.2):
-            ax.plot(
-                [s.x + (dx - 0.3) * r, s.x + (dx + 0.3) * r],
-                [s.y + r * 0.5, s.y - r * 0.5],
-                color=s.colour,
-                linewidth=1.0,
-            )
-    elif s.kind == "open":  # an open switch on a horizontal tie
-        ax.plot([s.x - r, s.x - r * 0.45], [s.y, s.y], color=s.colour, linewidth=1.2)
-        ax.plot([s.x - r * 0.45] * 2, [s.y - r * 0.3, s.y + r * 0.3], color=s.colour, lw=1.2)
-        ax.plot([s.x + r * 0.6, s.x - r * 0.3], [s.y, s.y - r * 0.55], color=s.colour, lw=1.2)
-        ax.add_patch(Circle((s.x + r * 0.6, s.y), r * 0.08, fill=True, color=s.colour))
-        ax.plot([s.x + r * 0.6, s.x + r], [s.y, s.y], color=s.colour, linewidth=1.2)
-    else:  # a transformer as a tie: two circles side by side
-        ax.add_patch(Circle((s.x - r * 0.42, s.y), r * 0.55, **kw))
-        ax.add_patch(Circle((s.x + r * 0.42, s.y), r * 0.55, **kw))

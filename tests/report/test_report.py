@@ -279,7 +279,7 @@ def test_columns_never_wider_than_the_page_and_words_kept_whole_where_they_fit(c
     # A table wider than its frame is cut at both edges (seen on a hostile one-line).
     from reportlab.pdfbase.pdfmetrics import stringWidth
 
-    from faultcalc.report.pdf import fonts
+    from faultcalc import typeface as fonts
     from faultcalc.report.pdf.sections import LANDSCAPE_WIDTH_PT, PAD_PT, column_widths
 
     fonts.register()
@@ -412,7 +412,7 @@ def test_a_label_that_cannot_print_as_typed_says_so(make_input, tmp_path):
 def test_header_words_stay_whole_when_long_names_squeeze_the_table():
     from reportlab.pdfbase.pdfmetrics import stringWidth
 
-    from faultcalc.report.pdf import fonts
+    from faultcalc import typeface as fonts
     from faultcalc.report.pdf.sections import LANDSCAPE_WIDTH_PT, PAD_PT, column_widths
 
     fonts.register()

@@ -1,9 +1,8 @@
-"""The report assembled: the sections laid out by reportlab, then each one-line sheet (drawn by
-faultcalc.diagram as a PDF page of its own, text kept as text) laid on the page kept for it."""
+"""The report assembled: the sections laid out by reportlab, each one-line sheet drawn at full
+size on a page of its own size by the diagram's PDF renderer (faultcalc.diagram.pdfdraw)."""
 
 from __future__ import annotations
 
-import tempfile
 from pathlib import Path
 
 from ...results import StudyResult
@@ -45,7 +44,7 @@ def _counts(result: StudyResult) -> dict[str, int]:
 def _lacking(result: StudyResult) -> str:
     """The characters of the input's names and descriptions the report prints wrongly (missing
     from the face, or right to left), by code point, at most 12."""
-    from .fonts import has_glyph, right_to_left
+    from ...typeface import has_glyph, right_to_left
 
     texts = [result.basis.settings.title, result.basis.input_name, *result.cases]
     texts += list(result.buses.bus) + list(result.descriptions)
@@ -88,100 +87,34 @@ def write_report_to(
             f"bus is in {summary_of}."
         )
         result = cut
-    with tempfile.TemporaryDirectory(prefix="faultcalc-report-") as tmp:
-        body = Path(tmp) / "body.pdf"
-        b = result.basis
-        doc = ReportDocument(
-            body,
-            _marks(result),
-            title=f"{b.settings.title or 'Short-circuit study'}: short-circuit study report",
-            author=f"{b.tool_name} {b.tool_version}",
-            subject=f"Short-circuit study of {b.input_name} (SHA-256 {b.input_sha256})",
-            creator=b.tool_name,
-        )
-        story = sections.title_page(result, counts, _lacking(result))
-        story += sections.contents() + sections.cautions(result)
-        story += sections.basis(result)
-        slots = []
-        for i, sheet in enumerate(sheets):
-            template = doc.add_sheet_page(sheet.width, sheet.height)
-            title = "One-line diagram" + (
-                f", sheet {i + 1} of {len(sheets)}" if len(sheets) > 1 else ""
-            )
-            slot = SheetSlot(sheet.width, sheet.height, i, title)
-            slots.append(slot)
-            story += [sections.NextPageTemplate(template), sections.PageBreak(), slot]
-        story += sections.summary(result, note)
-        story += sections.equipment(result)
-        story += sections.cases(result)
-        story += sections.contributions(result)
-        story += sections.cable_check(result)
-        story += sections.warnings(result)
-        story += sections.input_restated(
-            result,
-            "The element echo is left out of the report of a study this large." if note else None,
-        )
-        story += sections.labels(result)
-        doc.multiBuild(story, canvasmaker=NumberedCanvas)  # twice or more: the contents' pages
-        if not slots:
-            Path(path).write_bytes(body.read_bytes())
-            return
-        _lay_sheets(body, slots, sheets, Path(tmp), Path(path))
-
-
-def _lay_sheets(body: Path, slots, sheets, tmp: Path, path: Path) -> None:
-    """Each sheet (saved as a one-page PDF by faultcalc.diagram) laid on its slot's page at the
-    slot's corner, as a form XObject: its content stream is carried over as it is, never
-    parsed (parsing a 2,000-bus sheet's stream to merge it cost 17 s)."""
-    from pypdf import PdfReader, PdfWriter
-    from pypdf.generic import (
-        ArrayObject,
-        ContentStream,
-        DecodedStreamObject,
-        DictionaryObject,
-        FloatObject,
-        NameObject,
+    b = result.basis
+    doc = ReportDocument(
+        path,
+        _marks(result),
+        title=f"{b.settings.title or 'Short-circuit study'}: short-circuit study report",
+        author=f"{b.tool_name} {b.tool_version}",
+        subject=f"Short-circuit study of {b.input_name} (SHA-256 {b.input_sha256})",
+        creator=b.tool_name,
     )
-
-    from ...diagram import save
-
-    writer = PdfWriter(clone_from=PdfReader(body))
-    for slot, sheet in zip(slots, sheets, strict=True):
-        if slot.placed is None:
-            raise RuntimeError(f"one-line sheet {slot.index + 1} was given no page")
-        page_number, x, y = slot.placed
-        sheet_pdf = tmp / f"sheet-{slot.index}.pdf"
-        save(sheet, sheet_pdf)
-        source = PdfReader(sheet_pdf).pages[0]
-        box = [float(v) for v in source.mediabox]
-        form = DecodedStreamObject()
-        form.set_data(_content_bytes(source))
-        form.update(
-            {
-                NameObject("/Type"): NameObject("/XObject"),
-                NameObject("/Subtype"): NameObject("/Form"),
-                NameObject("/BBox"): ArrayObject(FloatObject(v) for v in box),
-                NameObject("/Resources"): source["/Resources"].clone(writer),
-            }
+    story = sections.title_page(result, counts, _lacking(result))
+    story += sections.contents() + sections.cautions(result)
+    story += sections.basis(result)
+    for i, sheet in enumerate(sheets):
+        template = doc.add_sheet_page(sheet.width, sheet.height)
+        title = "One-line diagram" + (
+            f", sheet {i + 1} of {len(sheets)}" if len(sheets) > 1 else ""
         )
-        page = writer.pages[page_number - 1]
-        resources = page["/Resources"].get_object()
-        if "/XObject" not in resources:
-            resources[NameObject("/XObject")] = DictionaryObject()
-        xobjects = resources["/XObject"].get_object()
-        name = f"/OneLineSheet{slot.index}"
-        xobjects[NameObject(name)] = writer._add_object(form.flate_encode())
-        placed = f"\nq 1 0 0 1 {x - box[0]:.3f} {y - box[1]:.3f} cm {name} Do Q\n".encode()
-        joined = DecodedStreamObject()
-        joined.set_data(_content_bytes(page) + placed)
-        page.replace_contents(ContentStream(joined.flate_encode(), writer))
-    with open(path, "wb") as out:
-        writer.write(out)
-
-
-def _content_bytes(page) -> bytes:
-    """The decoded content of ``page`` (one stream or several joined)."""
-    contents = page["/Contents"].get_object()
-    if isinstance(contents, list):
-        return b"\n".join(c.get_object().get_data() for c in contents)
-    return contents.get_data()
+        slot = SheetSlot(sheet, i, title)
+        story += [sections.NextPageTemplate(template), sections.PageBreak(), slot]
+    story += sections.summary(result, note)
+    story += sections.equipment(result)
+    story += sections.cases(result)
+    story += sections.contributions(result)
+    story += sections.cable_check(result)
+    story += sections.warnings(result)
+    story += sections.input_restated(
+        result,
+        "The element echo is left out of the report of a study this large." if note else None,
+    )
+    story += sections.labels(result)
+    doc.multiBuild(story, canvasmaker=NumberedCanvas)  # twice or more: the contents' pages

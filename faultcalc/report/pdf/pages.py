@@ -10,7 +10,7 @@ from reportlab.lib.units import inch
 from reportlab.pdfgen.canvas import Canvas
 from reportlab.platypus import BaseDocTemplate, Flowable, Frame, PageTemplate
 
-from . import fonts
+from ... import typeface as fonts
 
 PORTRAIT = letter  # 8.5 x 11 in; the text also fits A4 (210 mm wide), the margins allow it
 LANDSCAPE = landscape(letter)
@@ -167,17 +167,18 @@ class NumberedCanvas(Canvas):
 
 
 class SheetSlot(Flowable):
-    """The place of one one-line sheet: as large as the sheet, drawn empty; it remembers the
-    page and the position it was given so that the sheet is laid on it afterwards."""
+    """One one-line sheet (a faultcalc.diagram Drawing) at full size, drawn by the diagram's
+    PDF renderer on the page of its own size kept for it."""
 
-    def __init__(self, width_pt: float, height_pt: float, index: int, title: str):
+    def __init__(self, drawing, index: int, title: str):
         super().__init__()
-        self.width, self.height, self.index, self.title = width_pt, height_pt, index, title
-        self.placed: tuple[int, float, float] | None = None  # page (from 1), x, y of its corner
+        self.drawing, self.index, self.title = drawing, index, title
+        self.width, self.height = drawing.width, drawing.height
 
     def wrap(self, avail_w, avail_h):
         return self.width, self.height
 
     def draw(self):
-        x, y = self.canv.absolutePosition(0, 0)
-        self.placed = (self.canv.getPageNumber(), x, y)
+        from ...diagram.pdfdraw import draw_on
+
+        draw_on(self.canv, self.drawing)

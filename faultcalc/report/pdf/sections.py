@@ -23,13 +23,13 @@ from reportlab.platypus import (
     TableStyle,
 )
 
+from ... import typeface as fonts
 from ...results import StudyResult
 from ...solve import duty
 from ..basis import basis_items
 from ..labeltext import label_lines
 from ..words import FAULT_WORDS as OUTPUT_FAULT_WORDS
 from ..words import contribution_kv
-from . import fonts
 from .pages import LANDSCAPE, MARGIN_PT, PORTRAIT, SMALL_PT
 
 FAULT_WORDS = {**OUTPUT_FAULT_WORDS, "": ""}
@@ -105,28 +105,42 @@ def table(
     """A table whose header row repeats on every page; ``widths`` are fractions of
     ``width_pt`` (the frame the table lands in) that add up to 1; columns in ``numbers``
     right-aligned; ``fills`` a colour (or None) per row."""
+    from reportlab.pdfbase.pdfmetrics import stringWidth
+
+    col_pt = column_widths(head, rows, widths, width_pt)
     cells = [[Paragraph(text(h), HEAD_CELL) for h in head]]
     for row in rows:
-        cells.append(
-            [Paragraph(text(v), CELL_NUMBER if j in numbers else CELL) for j, v in enumerate(row)]
-        )
+        line = []
+        for j, v in enumerate(row):
+            value = "" if v is None else str(v)
+            # a text that fits on one line is drawn as it is (a Paragraph per cell cost most
+            # of a large report's time); a longer one wraps in a Paragraph (escaped)
+            if "\n" not in value and stringWidth(value, fonts.REGULAR, SMALL_PT) <= (
+                col_pt[j] - PAD_PT - 0.5
+            ):
+                line.append(value)
+            else:
+                line.append(Paragraph(text(value), CELL_NUMBER if j in numbers else CELL))
+        cells.append(line)
     style = [
         ("BACKGROUND", (0, 0), (-1, 0), HEADER_FILL),
         ("LINEBELOW", (0, 0), (-1, 0), 0.8, RULE),
         ("LINEBELOW", (0, 1), (-1, -1), 0.25, RULE),
         ("VALIGN", (0, 0), (-1, -1), "TOP"),
-        ("FONTNAME", (0, 0), (-1, -1), fonts.REGULAR),
+        ("FONT", (0, 0), (-1, -1), fonts.REGULAR, SMALL_PT, SMALL_PT * 1.2),
+        ("TEXTCOLOR", (0, 0), (-1, -1), colors.HexColor("#1f2d3d")),
         ("LEFTPADDING", (0, 0), (-1, -1), 3),
         ("RIGHTPADDING", (0, 0), (-1, -1), 3),
         ("TOPPADDING", (0, 0), (-1, -1), 2),
         ("BOTTOMPADDING", (0, 0), (-1, -1), 2),
     ]
+    style += [("ALIGN", (j, 1), (j, -1), "RIGHT") for j in sorted(numbers)]
     for i, fill in enumerate(fills, start=1):
         if fill is not None:
             style.append(("BACKGROUND", (0, i), (-1, i), fill))
     out = LongTable(
         cells,
-        colWidths=column_widths(head, rows, widths, width_pt),
+        colWidths=col_pt,
         repeatRows=1,
         splitInRow=1,  # a row taller than a page (a long description) runs on to the next
     )

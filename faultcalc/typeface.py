@@ -1,11 +1,15 @@
-"""The report's typeface: DejaVu Sans (the face the diagram uses, shipped with matplotlib, so no
-system font is needed), embedded in the PDF as TrueType subsets."""
+"""The typeface of every drawn output (the one-line, the report): DejaVu Sans, shipped with
+matplotlib (so no system font is needed), registered with reportlab and embedded in its PDFs
+as TrueType subsets; what it cannot print as typed."""
 
 from __future__ import annotations
 
 import functools
 from pathlib import Path
 
+# The top of a line of text (the box the diagram lays out) to its baseline, in ems: the height
+# of the face's 'l' (0.76 em), as matplotlib sets text aligned to its top.
+TOP_TO_BASELINE_EM = 0.76
 REGULAR = "DejaVuSans"
 BOLD = "DejaVuSans-Bold"
 ITALIC = "DejaVuSans-Oblique"
