@@ -328,7 +328,7 @@ def cautions(result: StudyResult) -> list:
 
 
 def basis(result: StudyResult) -> list:
-    out = [Spacer(1, 10), Paragraph("Basis and method", H1)]
+    out = heading("Basis and method")
     rows = [(label, value) for label, value in basis_items(result) if label != "Warnings"]
     rows.append(("Warnings", f"{len(result.warnings)} (see the section 'Warnings')"))
     out.append(
