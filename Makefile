@@ -35,6 +35,7 @@ lint: $(VENV)/.installed-test
 bench: $(VENV)/.installed
 	$(BIN)/python benchmarks/scale.py --sizes 1000000
 	$(BIN)/python benchmarks/engine.py
+	$(BIN)/python benchmarks/drawn.py
 
 samples: $(VENV)/.installed
 	$(BIN)/python scripts/make_samples.py

@@ -69,8 +69,9 @@ def write_report_to(
     *,
     sheets=(),
     summary_of: str | None = None,
-) -> None:
-    """Write the report of ``result`` to ``path`` (not atomically: the caller stages it).
+) -> int:
+    """Write the report of ``result`` to ``path`` (not atomically: the caller stages it);
+    returns its number of pages.
 
     ``sheets``: the one-line diagram's pages (faultcalc.diagram Drawings), each laid on a page
     of its own size. ``summary_of``: the CSV that holds every bus of a study too large to
@@ -118,3 +119,4 @@ def write_report_to(
     )
     story += sections.labels(result)
     doc.multiBuild(story, canvasmaker=NumberedCanvas)  # twice or more: the contents' pages
+    return doc.canv.pages_total

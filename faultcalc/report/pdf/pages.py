@@ -153,7 +153,7 @@ class NumberedCanvas(Canvas):
         self._startPage()
 
     def save(self):
-        total = len(self._held)
+        total = self.pages_total = len(self._held)
         for number, state in enumerate(self._held, start=1):
             self.__dict__.update(state)
             w, _ = self._pagesize
