@@ -54,6 +54,15 @@ BUS_COLUMNS = (
     "ill_min_ka",
     "illg_min_ka",
     "duty_fault",
+    "duty_basis",  # interrupting, or closing and latching (MV breakers): what the duty compares
+    "capability_ka",  # the rating at the bus's voltage (MV constant-MVA breakers), else rating_ka
+    "interrupting_ka",  # MV breakers: interrupting duty (E/X x MF, or line-to-ground x MF)
+    "interrupting_pct",
+    "closing_duty_ka",  # MV breakers: first-cycle closing-and-latching duty (mvcb peak, else RMS)
+    "closing_rating_ka",
+    "closing_pct",
+    "i_int_ka",  # method ieee: the interrupting (1.5 to 4 cycle) network's E/X current
+    "xr_int",  # method ieee: its X/R from separate R and X reductions
 )
 
 # Columns of StudyResult.duty: each rated bus's worst duty over the base case and every case.
@@ -69,6 +78,10 @@ DUTY_COLUMNS = (
     "duty_status",
     "duty_fault",  # 3ph or slg: the fault type that gave the duty
     "duty_case",  # base, or the case that gave the worst duty
+    "duty_basis",  # interrupting, or closing and latching (MV breakers)
+    "capability_ka",
+    "interrupting_pct",
+    "closing_pct",
     "base_duty_pct",
     "base_duty_status",
     "description",

@@ -50,6 +50,14 @@ METHOD = (
 
 EPS = 1e-6  # relative floor for an element's R (or X) in the R-only (X-only) reduction
 MIN_COLUMNS = ("i3ph_min_ka", "islg_min_ka", "ill_min_ka", "illg_min_ka")
+MV_DUTY_COLUMNS = (
+    "capability_ka",
+    "interrupting_ka",
+    "interrupting_pct",
+    "closing_duty_ka",
+    "closing_rating_ka",
+    "closing_pct",
+)
 ENVELOPE_COLUMNS = ("i3ph_ka", "islg_ka", "ill_ka", "illg_ka", "ip_ka", "iasym_ka", "duty_pct")
 
 GROUND_NOTE = (
@@ -266,8 +274,9 @@ def _x_only(z: np.ndarray) -> np.ndarray:
     return 1j * np.maximum(z.imag, EPS * np.abs(z))
 
 
-def fault_table(a: Analysis, progress: Progress | None = None) -> pd.DataFrame:
-    """Every fault type, asymmetry and duty at every bus of one analysed system."""
+def fault_table(a: Analysis, progress: Progress | None = None, interrupting=None) -> pd.DataFrame:
+    """Every fault type, asymmetry and duty at every bus of one analysed system;
+    ``interrupting``: (E/X kA, X/R) of the IEEE interrupting network per bus, or None."""
     progress = reporter(progress)
     settings = a.system.settings
     pu, network = a.pu, a.network
@@ -328,12 +337,19 @@ def fault_table(a: Analysis, progress: Progress | None = None) -> pd.DataFrame:
         tau_dc_ms=asymmetry.dc_time_constant_ms(xr_fault, settings.frequency_hz),
         xr_slg=xr_slg,
     )
+    n = len(kv)
+    i_int, xr_int = interrupting if interrupting is not None else (np.full(n, np.nan),) * 2
+    rows.update(i_int_ka=i_int, xr_int=xr_int)
     progress.step("equipment duty")
-    rows.update(_duty(a.system, i3_ka, islg_ka, xr_fault, xr_slg))
+    rows.update(_duty(a.system, rows, interrupting is not None))
     return pd.DataFrame(rows, columns=list(BUS_COLUMNS))
 
 
-def _duty(system: System, i3_ka, islg_ka, xr_fault, xr_slg) -> dict[str, object]:
+def _duty(system: System, rows: dict, interrupting: bool) -> dict[str, object]:
+    """Each rated device's duty against its rating (``rows``: the bus table's columns so far;
+    ``interrupting``: whether rows hold the IEEE interrupting network's currents)."""
+    i3_ka, islg_ka = rows["i3ph_ka"], rows["islg_ka"]
+    xr_fault, xr_slg = rows["xr_fault"], rows["xr_slg"]
     n = len(system.buses)
     device = system.buses.column("device")
     out: dict[str, object] = {
@@ -342,9 +358,14 @@ def _duty(system: System, i3_ka, islg_ka, xr_fault, xr_slg) -> dict[str, object]
         **{k: np.full(n, np.nan) for k in ("test_xr", "mf", "duty_ka", "duty_pct")},
         "duty_status": [duty.STATUS_NONE] * n,
         "duty_fault": [""] * n,
+        "duty_basis": [""] * n,
+        **{k: np.full(n, np.nan) for k in MV_DUTY_COLUMNS},
     }
     rated = [k for k, d in enumerate(device) if d is not None]
     for k, b in zip(rated, system.buses.take(rated), strict=True):
+        if b.device in duty.MV_DEVICES:
+            _mv_duty(out, k, b, rows, interrupting, system.settings.frequency_hz)
+            continue
         xr_test = b.rating_xr if b.rating_xr is not None else duty.test_xr(b.device, b.rating_ka)
         mf3 = duty.multiplying_factor(b.device, float(xr_fault[k]), xr_test)
         candidates = [(mf3 * i3_ka[k], mf3, "3ph")]
@@ -359,7 +380,59 @@ def _duty(system: System, i3_ka, islg_ka, xr_fault, xr_slg) -> dict[str, object]
         out["duty_pct"][k] = pct
         out["duty_status"][k] = duty.status(pct)
         out["duty_fault"][k] = fault
+        out["duty_basis"][k] = duty.BASIS_INTERRUPTING
+        out["capability_ka"][k] = b.rating_ka
+        out["interrupting_pct"][k] = pct
     return out
+
+
+def _mv_duty(out: dict, k: int, b, rows: dict, interrupting: bool, frequency_hz: int) -> None:
+    """An MV breaker's interrupting and closing-and-latching duty (see solve/duty.py)."""
+    cycles = int(b.interrupting_cycles or duty.DEFAULT_INTERRUPTING_CYCLES)
+    parting = duty.PARTING_CYCLES[cycles]
+    # the interrupting network's E/X and X/R with method ieee; otherwise the first-cycle
+    # current, which does not decay (conservative; said in the study's warnings)
+    i_int = float(rows["i_int_ka"][k]) if interrupting else float(rows["i3ph_ka"][k])
+    xr_int = float(rows["xr_int"][k]) if interrupting else float(rows["xr_fault"][k])
+    mf3 = duty.mv_multiplying_factor(xr_int, parting)
+    candidates = [(mf3 * i_int, mf3, "3ph")]
+    islg = float(rows["islg_ka"][k])
+    if not np.isnan(islg):
+        mfg = duty.mv_multiplying_factor(float(rows["xr_slg"][k]), parting)
+        candidates.append((mfg * islg, mfg, "slg"))
+    interrupting_ka, mf, fault = max(candidates)
+    k_factor = b.k_factor if b.k_factor is not None else 1.0
+    capability = duty.mv_capability_ka(
+        b.device, b.rating_ka, b.rated_max_kv, k_factor, float(rows["kv"][k])
+    )
+    interrupting_pct = 100.0 * interrupting_ka / capability
+    closing_rating = (
+        b.closing_ka
+        if b.closing_ka is not None
+        else duty.closing_rating_ka(b.device, b.rating_ka, k_factor, frequency_hz)
+    )
+    closing = duty.closing_duty_ka(
+        b.device,
+        float(rows["i3ph_ka"][k]),
+        float(rows["ip_ka"][k]),
+        float(rows["iasym_ka"][k]),
+        float(rows["xr_fault"][k]),
+    )
+    closing_pct = 100.0 * closing / closing_rating
+    closing_governs = closing_pct > interrupting_pct
+    out["test_xr"][k] = duty.MV_TEST_XR
+    out["mf"][k] = mf
+    out["duty_ka"][k] = closing if closing_governs else interrupting_ka
+    out["duty_pct"][k] = max(interrupting_pct, closing_pct)
+    out["duty_status"][k] = duty.status(max(interrupting_pct, closing_pct))
+    out["duty_fault"][k] = "3ph" if closing_governs else fault
+    out["duty_basis"][k] = duty.BASIS_CLOSING if closing_governs else duty.BASIS_INTERRUPTING
+    out["capability_ka"][k] = capability
+    out["interrupting_ka"][k] = interrupting_ka
+    out["interrupting_pct"][k] = interrupting_pct
+    out["closing_duty_ka"][k] = closing
+    out["closing_rating_ka"][k] = closing_rating
+    out["closing_pct"][k] = closing_pct
 
 
 def _cable_checks(system: System, progress: Progress) -> pd.DataFrame:
@@ -475,17 +548,27 @@ def _worst_duty(
     rows = np.flatnonzero(rated)
     worst, pct = _worst(tables, "duty_pct", rows)
     out: dict[str, object] = {"bus": base.bus.iloc[rows].to_numpy(dtype=object)}
-    for column in ("device", "rating_ka", "test_xr", "mf", "duty_ka", "duty_status"):
+    for column in ("device", "rating_ka", "test_xr", "mf", "duty_ka", "duty_status", "duty_basis"):
         out[column] = _pick(tables, column, worst, rows)
     out["duty_pct"] = pct
     fault = _pick(tables, "duty_fault", worst, rows)
     out["duty_fault"] = fault
+    # the X/R of the duty: the ground-fault loop's, the interrupting network's for an MV
+    # breaker's interrupting duty with method ieee, else the bus's (first-cycle)
+    xr_int = _pick(tables, "xr_int", worst, rows).astype(float)
+    mv = (
+        np.isin(out["device"].astype(str), duty.MV_DEVICES)
+        & np.isfinite(xr_int)
+        & (out["duty_basis"].astype(str) != duty.BASIS_CLOSING)
+    )
     out["duty_xr"] = np.where(
         fault == "slg",
         _pick(tables, "xr_slg", worst, rows).astype(float),
-        _pick(tables, "xr_fault", worst, rows).astype(float),
+        np.where(mv, xr_int, _pick(tables, "xr_fault", worst, rows).astype(float)),
     )
     out["duty_case"] = np.array(names, dtype=object)[worst]
+    for column in ("capability_ka", "interrupting_pct", "closing_pct"):
+        out[column] = _pick(tables, column, worst, rows).astype(float)
     out["base_duty_pct"] = base.duty_pct.iloc[rows].to_numpy(dtype=float)
     out["base_duty_status"] = np.where(
         pd.isna(base.duty_status.iloc[rows]).to_numpy(),
@@ -636,7 +719,11 @@ def _solve(
     currents of iec60909 added as *_min_ka columns."""
     found = methods.variants(system)
     first = analyse(found[0].system, found[0].prefault_pu, progress=progress, orderings=orderings)
-    table = fault_table(first, progress)
+    interrupting = None
+    if system.settings.method == "ieee":
+        progress.step("interrupting network")
+        interrupting = _interrupting(system, found[0].prefault_pu, orderings)
+    table = fault_table(first, progress, interrupting)
     for column in MIN_COLUMNS:
         table[column] = np.nan
     if len(found) > 1:
@@ -647,6 +734,51 @@ def _solve(
         for column in MIN_COLUMNS:
             table[column] = low[column.replace("_min", "")].to_numpy()
     return first, table
+
+
+def _mv_notes(system: System) -> tuple[str, ...]:
+    """What the MV breaker duty assumed, said once per study that has an MV breaker."""
+    mv: set[str] = set()
+    for one in [system, *(case for _, case in system.cases)]:
+        devices = one.buses.column("device")
+        if any(d in duty.MV_DEVICES for d in set(devices)):
+            names = one.buses.column("bus")
+            mv |= {n for n, d in zip(names, devices, strict=True) if d in duty.MV_DEVICES}
+    mv = sorted(mv)
+    if not mv:
+        return ()
+    notes = [
+        "MV breakers (" + ", ".join(mv[:10]) + (" ..." if len(mv) > 10 else "") + "): the "
+        "interrupting duty's multiplying factor is the remote-source (DC decrement) one of IEEE "
+        "C37.010 for every source, the conservative choice (the local-source AC decrement "
+        "curves are not applied); the line-to-ground duty uses the first-cycle current"
+    ]
+    if system.settings.method != "ieee":
+        notes.append(
+            f"MV breakers checked with method {system.settings.method}: their interrupting duty "
+            "uses the first-cycle (subtransient) current, which overstates it; method ieee "
+            "gives the interrupting (1.5 to 4 cycle) network the breakers are rated against"
+        )
+    return tuple(notes)
+
+
+def _interrupting(system: System, prefault_pu, orderings: Orderings):
+    """The IEEE interrupting network's E/X current (kA) and X/R at every bus: X from the
+    X-only reduction, X/R from separate R and X reductions (IEEE C37.010)."""
+    pu = perunit.to_per_unit(methods.interrupting_system(system), prefault_pu=prefault_pu)
+    network = build_network(
+        pu, lambda: dict(zip(system.buses.column("bus"), system.buses.column("row"), strict=True))
+    )
+
+    def diagonal(transform):
+        y = positive_matrix_variant(pu, network, transform)
+        return SymmetricFactor(y, orderings).diagonal()[network.node_of_bus]
+
+    x = diagonal(_x_only).imag
+    r = diagonal(_r_only).real
+    kv = np.array(pu.bus_kv)
+    i_ka = np.array(pu.prefault_pu) / x * perunit.i_base_ka(kv, pu.base_mva)
+    return i_ka, np.where(r > 0, x / np.where(r > 0, r, 1.0), np.inf)
 
 
 def _keeping_warnings(study):
@@ -774,7 +906,11 @@ def _study(system: System, contributions, calculated_at, progress: Progress) -> 
         element_table=functools.partial(_element_table, system, pu, set(network.series_used)),
         descriptions=tuple(system.buses.column("description")),
         node_groups=tuple(groups),
-        warnings=tuple(system.warnings) + pu.warnings + network.warnings + tuple(case_warnings),
+        warnings=tuple(system.warnings)
+        + pu.warnings
+        + network.warnings
+        + tuple(case_warnings)
+        + _mv_notes(system),
         cautions=CAUTIONS,
         basis=basis,
         contributions=contribution_table,

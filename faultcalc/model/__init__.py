@@ -43,6 +43,10 @@ class Bus:
     device: str | None = None
     rating_ka: float | None = None
     rating_xr: float | None = None
+    rated_max_kv: float | None = None  # MV breakers: rated maximum voltage
+    k_factor: float | None = None  # mvcb_mva: voltage range factor K
+    interrupting_cycles: str | None = None  # MV breakers: 2, 3, 5 or 8
+    closing_ka: float | None = None  # MV breakers: closing and latching (mvcb peak, else RMS)
     service: str = "no"
     in_service: str = "yes"  # the System holds only buses in service
     row: int | None = None

@@ -124,7 +124,7 @@ def within(column: schema.Column, x: np.ndarray) -> np.ndarray:
             ok &= x > 0
         elif bound == schema.NON_NEGATIVE:
             ok &= x >= 0
-        elif bound == schema.AT_LEAST_ONE:
+        elif bound in (schema.AT_LEAST_ONE, schema.AT_LEAST_ONE_NUMBER):
             ok &= x >= 1
         if column.kind == schema.INTEGER:
             ok &= x == np.round(x)

@@ -137,6 +137,84 @@ def devices(buses: Typed, out: Collector, at: np.ndarray) -> None:
             message = "rating_xr is given but no device: give device and rating_ka"
         out.problem("buses", int(buses.rows[i]), missing, None, message)
         buses.ok[i] = False
+    _mv_breakers(buses, out, at)
+
+
+MV_COLUMNS = ("rated_max_kv", "k_factor", "interrupting_cycles", "closing_ka")
+MV_DEVICES = ("mvcb", "mvcb_mva")
+
+
+def _mv_breakers(buses: Typed, out: Collector, at: np.ndarray) -> None:
+    """What a medium-voltage breaker's rating needs, and only there."""
+    v = buses.values
+    given = {
+        c: _given(v[c], at) if not isinstance(v[c], np.ndarray) else ~np.isnan(v[c][at])
+        for c in MV_COLUMNS
+    }
+    devices = [v["device"][i] for i in at.tolist()]
+    mv = np.array([d in MV_DEVICES for d in devices], bool)
+    look = np.flatnonzero(mv | np.logical_or.reduce([given[c] for c in MV_COLUMNS]))
+    for k in look.tolist():
+        i = int(at[k])
+        row = int(buses.rows[i])
+        device = devices[k]
+
+        def refuse(column, value, message, i=i, row=row):
+            out.problem("buses", row, column, value, message)
+            buses.ok[i] = False
+
+        if not mv[k]:
+            for c in MV_COLUMNS:
+                if given[c][k]:
+                    refuse(
+                        c,
+                        v[c][i],
+                        "only for an MV breaker (device mvcb or mvcb_mva); "
+                        "leave it blank for this device",
+                    )
+            continue
+        kv, vmax = float(v["kv"][i]), float(v["rated_max_kv"][i])
+        if not given["rated_max_kv"][k]:
+            refuse(
+                "rated_max_kv",
+                None,
+                f"an MV breaker ({device}) needs its rated maximum "
+                "voltage, e.g. 15 for a breaker on a 13.8 kV bus",
+            )
+        elif kv > vmax * (1 + 1e-9):
+            refuse(
+                "rated_max_kv",
+                vmax,
+                f"the breaker's rated maximum voltage ({vmax:g} kV) is "
+                f"below the bus's nominal {kv:g} kV: it cannot be applied here",
+            )
+        if kv <= 1.0:
+            refuse(
+                "device",
+                device,
+                f"an MV breaker on a {kv:g} kV bus: for 1 kV and below "
+                "choose lvpcb, lvpcb_fused, mccb, iccb or fuse",
+            )
+        if not np.isnan(v["rating_xr"][i]):
+            refuse(
+                "rating_xr",
+                float(v["rating_xr"][i]),
+                "MV breaker ratings hold up to X/R 17 (IEEE C37.010); leave rating_xr blank",
+            )
+        k_factor = v["k_factor"][i]
+        if device == "mvcb" and given["k_factor"][k] and abs(float(k_factor) - 1.0) > 1e-9:
+            refuse(
+                "k_factor",
+                float(k_factor),
+                "mvcb is rated on the constant-kA basis (K = 1); "
+                "a breaker with K above 1 is rated on the constant-MVA basis: choose mvcb_mva",
+            )
+        if device == "mvcb_mva" and not given["k_factor"][k]:
+            refuse(
+                "k_factor",
+                None,
+                "mvcb_mva needs the rating's voltage range factor K (on its nameplate, e.g. 1.3)",
+            )
 
 
 def _kv_at(sheet: Typed, column: str, buses: Buses, at: np.ndarray) -> np.ndarray:

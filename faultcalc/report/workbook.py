@@ -373,6 +373,33 @@ def _duty_sheet(ws, result: StudyResult) -> None:
         ),
         Col("Fault giving the duty", 14, note="Three-phase or line-to-ground."),
     ]
+    table = result.duty if result.duty is not None else result.buses.iloc[0:0]
+    with_mv = bool(table.device.isin(duty.MV_DEVICES).any()) if len(table) else False
+    if with_mv:
+        cols += [
+            Col(
+                "Compared as",
+                14,
+                note="MV breakers: the larger of the interrupting duty (against the capability) "
+                "and the closing-and-latching duty (against its rating); LV devices: "
+                "interrupting.",
+            ),
+            Col(
+                "Capability at the bus's kV, kA",
+                11,
+                KA,
+                "Constant-MVA breakers: rating x rated maximum kV / bus kV, at most K x rating; "
+                "otherwise the rating.",
+            ),
+            Col("Interrupting, % of capability", 11, "0.0"),
+            Col(
+                "Closing and latching, % of its rating",
+                11,
+                "0.0",
+                "mvcb: peak ip against the peak rating; mvcb_mva: 1.6 x symmetrical current "
+                "(the asymmetrical current by X/R above X/R 25) against the RMS rating.",
+            ),
+        ]
     if with_cases:
         cols += [
             Col(
@@ -385,7 +412,6 @@ def _duty_sheet(ws, result: StudyResult) -> None:
             Col("Status in the base case", 20),
         ]
     rows, statuses = [], []
-    table = result.duty if result.duty is not None else result.buses.iloc[0:0]
     for r in table.itertuples(index=False):
         row = (
             r.bus,
@@ -400,6 +426,8 @@ def _duty_sheet(ws, result: StudyResult) -> None:
             r.duty_status,
             FAULT_WORDS[r.duty_fault],
         )
+        if with_mv:
+            row += (r.duty_basis, r.capability_ka, r.interrupting_pct, r.closing_pct)
         if with_cases:
             row += (r.duty_case, r.base_duty_pct, r.base_duty_status)
         rows.append(row)

@@ -21,11 +21,13 @@ CHOICE = "choice"  # one of `choices`, case-insensitive
 POSITIVE = ">0"
 NON_NEGATIVE = ">=0"
 AT_LEAST_ONE = ">=1"
+AT_LEAST_ONE_NUMBER = ">=1.0"
 
 BOUND_TEXT = {
     POSITIVE: "a number greater than 0",
     NON_NEGATIVE: "a number of 0 or more",
     AT_LEAST_ONE: "a whole number of 1 or more",
+    AT_LEAST_ONE_NUMBER: "a number of 1 or more",
 }
 
 
@@ -216,8 +218,10 @@ BUSES = Sheet(
             "Protective device whose rating is checked at this bus: lvpcb (LV power breaker, "
             "unfused; peak basis), lvpcb_fused (LV power breaker with integral fuses; "
             "asymmetrical RMS basis like a fuse), mccb (molded case), iccb (insulated case), "
-            "fuse.",
-            choices=("lvpcb", "lvpcb_fused", "mccb", "iccb", "fuse"),
+            "fuse; above 1 kV: mvcb (breaker rated on the symmetrical-current, constant-kA "
+            "basis, since about 2000), mvcb_mva (breaker rated on the older constant-MVA basis, "
+            "with its voltage range factor K).",
+            choices=("lvpcb", "lvpcb_fused", "mccb", "iccb", "fuse", "mvcb", "mvcb_mva"),
         ),
         Column(
             "rating_ka",
@@ -231,6 +235,36 @@ BUSES = Sheet(
             NUMBER,
             "Test X/R of the rating, when the manufacturer states one; blank: by device "
             "(see the README).",
+            bound=POSITIVE,
+        ),
+        Column(
+            "rated_max_kv",
+            NUMBER,
+            "mvcb and mvcb_mva: the breaker's rated maximum voltage (e.g. 15 for a breaker on a "
+            "13.8 kV bus); rating_ka is its rated short-circuit current at this voltage.",
+            unit="kV",
+            bound=POSITIVE,
+        ),
+        Column(
+            "k_factor",
+            NUMBER,
+            "mvcb_mva: the rating's voltage range factor K (e.g. 1.3). mvcb: blank or 1.",
+            bound=AT_LEAST_ONE_NUMBER,
+        ),
+        Column(
+            "interrupting_cycles",
+            CHOICE,
+            "mvcb and mvcb_mva: rated interrupting time in cycles (contact parting 1.5, 2, 3 or "
+            "4 cycles). Blank: 5.",
+            choices=("2", "3", "5", "8"),
+        ),
+        Column(
+            "closing_ka",
+            NUMBER,
+            "mvcb and mvcb_mva: closing-and-latching capability; mvcb: kA peak, blank = 2.6 x "
+            "rating_ka (2.5 x at 50 Hz); mvcb_mva: kA RMS asymmetrical, blank = 1.6 x K x "
+            "rating_ka.",
+            unit="kA",
             bound=POSITIVE,
         ),
         Column(

@@ -60,6 +60,31 @@ def _iec_transformers(system: System):
     return tuple(out)
 
 
+def _rated_hp(machines) -> np.ndarray:
+    kva, hp = machines.array("kva"), machines.array("hp")
+    return np.where(np.isnan(hp), kva, hp)  # 1 kVA per hp
+
+
+def interrupting_system(system: System) -> System:
+    """The IEEE interrupting (1.5 to 4 cycle) network of ``system``: machine subtransient
+    reactances times the multipliers of IEEE Std 551-2006 Table 9-1, induction motors below
+    50 hp left out."""
+    m = system.machines
+    if not len(m):
+        return system
+    rpm = m.array("rpm")
+    factor = np.array(
+        [
+            standards.ieee_interrupting_multiplier(k, h, None if r != r else r)
+            for k, h, r in zip(m.column("kind"), _rated_hp(m).tolist(), rpm.tolist(), strict=True)
+        ],
+        dtype=float,
+    )
+    kept = np.flatnonzero(np.isfinite(factor))
+    machines = m.replace(xd_pct=m.array("xd_pct") * np.where(np.isfinite(factor), factor, 1.0))
+    return dataclasses.replace(system, machines=machines.subset(kept.tolist()))
+
+
 def variant_count(method: str) -> int:
     """How many systems ``variants`` gives for this method."""
     return 2 if method == "iec60909" else 1
@@ -73,8 +98,7 @@ def variants(system: System) -> list[Variant]:
         return [Variant("max", system, prefault)]
     if s.method == "ieee":
         m = system.machines
-        kva, hp = m.array("kva"), m.array("hp")
-        rated = np.where(np.isnan(hp), kva, hp)  # 1 kVA per hp
+        rated = _rated_hp(m)
         rpm = m.array("rpm")
         factor = np.array(
             [
@@ -126,7 +150,10 @@ def describe(system: System) -> str:
         return (
             "IEEE first-cycle: machine subtransient reactances times the multipliers of "
             "IEEE Std 551-2006 Table 9-1; prefault "
-            f"{s.prefault_pu:g} pu; X/R from {s.xr_method} reduction"
+            f"{s.prefault_pu:g} pu; X/R from {s.xr_method} reduction; interrupting (1.5 to 4 "
+            "cycle) network for medium-voltage breakers by the same table's interrupting "
+            "multipliers (motors below 50 hp left out), E/X with X from the X-only reduction "
+            "and X/R from separate R and X reductions (IEEE C37.010)"
         )
     if s.method == "iec60909":
         return (

@@ -11,10 +11,14 @@ currents):
 * Peak current by the equivalent-frequency method for meshed networks (4.3.1.2 c): Zc at
   fc = 20 Hz (50 Hz systems) or 24 Hz (60 Hz systems), ``R/X = (Rc/Xc)(fc/f)``.
 
-IEEE Std 551-2006 (Violet Book), Table 9-1, first-cycle multipliers of machine subtransient
-reactance: induction motors above 1000 hp, and above 250 hp at 3600 r/min: 1.0; all other
-induction motors of 50 hp and more: 1.2; below 50 hp: 1.67; synchronous motors and generators:
-1.0.
+IEEE Std 551-2006 (Violet Book), Table 9-1, multipliers of machine subtransient reactance:
+
+* first-cycle (momentary) network: induction motors above 1000 hp, and above 250 hp at 3600
+  r/min: 1.0; all other induction motors of 50 hp and more: 1.2; below 50 hp: 1.67;
+  synchronous motors and generators: 1.0.
+* interrupting (1.5 to 4 cycle) network: synchronous motors 1.5; induction motors above 1000
+  hp, and above 250 hp at 3600 r/min: 1.5; other induction motors of 50 hp and more: 3.0;
+  below 50 hp: neglected; generators 1.0.
 """
 
 from __future__ import annotations
@@ -57,6 +61,20 @@ def ieee_first_cycle_multiplier(kind: str, hp: float, rpm: float | None) -> floa
     if hp >= 50.0:
         return 1.2
     return 1.67
+
+
+def ieee_interrupting_multiplier(kind: str, hp: float, rpm: float | None) -> float:
+    """IEEE Std 551-2006 Table 9-1 interrupting-network multiplier of X"d for one machine;
+    ``inf`` for a machine the interrupting network neglects (induction motors below 50 hp)."""
+    if kind == "generator":
+        return 1.0
+    if kind == "synchronous_motor":
+        return 1.5
+    if hp > 1000.0 or (hp > 250.0 and rpm is not None and rpm >= 3600.0):
+        return 1.5
+    if hp >= 50.0:
+        return 3.0
+    return math.inf
 
 
 def transformer_x_pu(z_pct: float, xr: float) -> float:

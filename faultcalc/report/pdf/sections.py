@@ -411,8 +411,12 @@ def equipment(result: StudyResult) -> list:
             "fault giving the duty times the larger of the three-phase and line-to-ground "
             "currents"
             + (", the worst over the base case and every case" if with_cases else "")
-            + ". Red: the duty exceeds the rating. Amber: within 10 % of it. The comparison is of "
-            "numbers only; equipment suitability is for the engineer of record.",
+            + ". MV breakers: the larger of the interrupting duty (the interrupting network's "
+            "current, or the line-to-ground current, times the remote-source multiplying "
+            "factor at contact parting, against the capability at the bus's voltage) and the "
+            "closing-and-latching duty (first-cycle) against its rating. Red: the duty exceeds "
+            "the rating. Amber: within 10 % of it. The comparison is of numbers only; "
+            "equipment suitability is for the engineer of record.",
             BODY,
         )
     )
@@ -420,6 +424,7 @@ def equipment(result: StudyResult) -> list:
     if table_ is None or table_.empty:
         out.append(Paragraph("No bus has a device and rating_ka on the buses sheet.", BODY))
         return out
+    with_mv = bool(table_.device.isin(duty.MV_DEVICES).any())
     rows, fills = [], []
     for r in table_.itertuples(index=False):
         row = [
@@ -434,6 +439,8 @@ def equipment(result: StudyResult) -> list:
             r.duty_status,
             FAULT_WORDS[r.duty_fault],
         ]
+        if with_mv:
+            row += [r.duty_basis, fixed(r.capability_ka, 2), fixed(r.closing_pct, 1)]
         if with_cases:
             row += [r.duty_case, fixed(r.base_duty_pct, 1)]
         rows.append(row)
@@ -452,10 +459,14 @@ def equipment(result: StudyResult) -> list:
     ]
     widths = [0.11, 0.2, 0.07, 0.06, 0.07, 0.08, 0.07, 0.07, 0.14, 0.13]
     numbers = {2, 3, 4, 5, 6, 7}
+    if with_mv:
+        head += ["Compared as", "Capability at bus kV, kA", "Closing and latching, %"]
+        widths = [w * 0.8 for w in widths] + [0.08, 0.06, 0.06]
+        numbers |= {len(head) - 2, len(head) - 1}
     if with_cases:
         head += ["Case giving the duty", "Base case duty, %"]
-        widths = [0.1, 0.16, 0.06, 0.05, 0.06, 0.07, 0.06, 0.06, 0.1, 0.08, 0.14, 0.06]
-        numbers |= {11}
+        widths = [w / sum(widths) * 0.8 for w in widths] + [0.14, 0.06]
+        numbers |= {len(head) - 1}
     out.append(table(head, rows, widths, numbers, fills))
     return out
 
