@@ -53,6 +53,7 @@ class NetlistError(ValueError):
 class _Writer:
     omega: float
     transient: bool
+    reactance_only: bool = False  # every resistance left out (the IEEE E/X network)
     lines: list[str] = field(default_factory=list)
     count: int = 0
 
@@ -69,8 +70,11 @@ class _Writer:
         self.lines.append("* " + _one_line(text))
 
     def impedance(self, a: str, b: str, z: complex, label: str) -> None:
-        """R + jX between nodes a and b (a zero-volt link when z is 0)."""
+        """R + jX between nodes a and b (a zero-volt link when z is 0); only jX when the
+        writer is for the reactance-only network."""
         r, x = z.real, z.imag
+        if self.reactance_only:  # a trace of R (1e-9 of X) keeps the DC operating point solvable
+            r = 1e-9 * abs(x)
         if self.transient and (r < 0 or x < 0):
             raise NetlistError(
                 f"{label}: negative R or X ({z:.6g} ohm) has no transient "
@@ -192,8 +196,10 @@ def build_netlist(
     close_s: float = 0.0,
     stop_s: float = 0.05,
     step_s: float = 1e-5,
+    reactance_only: bool = False,
 ) -> str:
     """The netlist text; ``fault`` None writes the unfaulted network (open-circuit voltages).
+    ``reactance_only`` leaves every resistance out (the X-only network of IEEE C37.010's E/X).
 
     With ``transient`` the fault closes at ``close_s`` (a switch, 1 micro-ohm closed) and the
     analysis runs to ``stop_s``; otherwise it is an AC analysis at the system frequency.
@@ -202,7 +208,7 @@ def build_netlist(
         raise NetlistError(f"fault must be one of {', '.join(FAULTS)}")
     settings = system.settings
     f_hz = float(settings.frequency_hz)
-    w = _Writer(2 * math.pi * f_hz, transient)
+    w = _Writer(2 * math.pi * f_hz, transient, reactance_only)
     kv = system.bus_kv()
     group = _groups(system)
     names = sorted(set(group.values()), key=[b.bus for b in system.buses].index)

@@ -70,12 +70,13 @@ def run(netlist: str) -> dict[str, complex]:
 A = complex(-0.5, 3**0.5 / 2)
 
 
-def fault_current_ka(system, bus: str, fault: str) -> float:
+def fault_current_ka(system, bus: str, fault: str, reactance_only: bool = False) -> float:
     """The simulated current of one fault, as the tool reports it: the faulted phase for 3ph
-    and slg, phase b for ll, the larger of b and c for llg; kA."""
+    and slg, phase b for ll, the larger of b and c for llg; kA. ``reactance_only``: every
+    resistance left out of the netlist."""
     from faultcalc.netlist import build_netlist
 
-    v = run(build_netlist(system, bus, fault))
+    v = run(build_netlist(system, bus, fault, reactance_only=reactance_only))
     if fault in ("3ph", "slg"):
         amps = abs(v["vf_a"])
     elif fault == "ll":
