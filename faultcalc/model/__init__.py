@@ -33,6 +33,8 @@ class Settings:
     lv_tolerance_pct: int = 10
     end_of_fault_temp_c: float = 160.0
     fault_ohm: float = 0.0
+    min_time_delay_s: float = 0.02  # iec60909: t_min for Ib and the DC component
+    fault_duration_s: float = 1.0  # iec60909: T_k for Ith
 
 
 @dataclass(frozen=True)
@@ -239,6 +241,7 @@ class Machine:
     neutral_ohm: float | None = None
     rpm: float | None = None
     x0_pct: float | None = None
+    power_factor: float | None = None  # generators: rated cos phi, for IEC 60909 K_G
     in_service: str = "yes"  # the System holds only elements in service
     row: int | None = None
 

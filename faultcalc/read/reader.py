@@ -133,6 +133,8 @@ def read_settings(raw: RawSheet | None, out: Collector) -> model.Settings:
         lv_tolerance_pct=int(values["lv_tolerance_pct"]),
         end_of_fault_temp_c=float(values["end_of_fault_temp_c"]),
         fault_ohm=float(values["fault_ohm"]),
+        min_time_delay_s=float(values["min_time_delay_s"]),
+        fault_duration_s=float(values["fault_duration_s"]),
     )
 
 

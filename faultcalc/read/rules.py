@@ -389,6 +389,17 @@ def cables_from_tables(sheet: Typed, settings, buses: Buses, out: Collector, at)
 
 def machines(sheet: Typed, buses: Buses, out: Collector, at: np.ndarray) -> None:
     v, f = sheet.values, sheet.filled
+    pf = v["power_factor"][at]
+    for k in np.flatnonzero(pf > 1.0).tolist():
+        i = int(at[k])
+        out.problem(
+            "machines",
+            int(sheet.rows[i]),
+            "power_factor",
+            float(pf[k]),
+            "a power factor is at most 1 (e.g. 0.8 or 0.85); give it as a fraction, not a %",
+        )
+        sheet.ok[i] = False
     for i in at.tolist():
         if v["kind"][i] == "generator" and not np.isnan(v["hp"][i]):
             out.problem(

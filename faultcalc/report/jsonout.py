@@ -43,6 +43,8 @@ def result_dict(result: StudyResult, records=None) -> dict[str, Any]:
             "xr_method": s.xr_method,
             "lv_tolerance_pct": s.lv_tolerance_pct,
             "end_of_fault_temp_c": s.end_of_fault_temp_c,
+            "min_time_delay_s": s.min_time_delay_s,
+            "fault_duration_s": s.fault_duration_s,
             "basis": b.method,
             "input": b.input_name,
             "input_sha256": b.input_sha256,

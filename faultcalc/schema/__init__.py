@@ -171,6 +171,25 @@ SETTINGS: tuple[Column, ...] = (
         default=160.0,
     ),
     Column(
+        "min_time_delay_s",
+        CHOICE,
+        "Method iec60909: minimum time delay t_min (the breaker's contact parting) for the "
+        "breaking current Ib and the DC component (IEC 60909-0 clause 9.1.1: 0.02, 0.05, 0.1, "
+        "0.25 s or more). Blank: 0.02, the largest Ib.",
+        unit="s",
+        default="0.02",
+        choices=("0.02", "0.05", "0.1", "0.25"),
+    ),
+    Column(
+        "fault_duration_s",
+        NUMBER,
+        "Method iec60909: duration T_k of the fault for the thermal equivalent current Ith "
+        "(equipment short-time ratings are often for 1 s or 3 s).",
+        unit="s",
+        default=1.0,
+        bound=POSITIVE,
+    ),
+    Column(
         "fault_ohm",
         NUMBER,
         "Fault impedance (arc or contact resistance) in every fault, ohms; 0 = bolted. "
@@ -650,6 +669,14 @@ MACHINES = Sheet(
             "Zero-sequence reactance on the machine's own rating, used when the neutral is "
             "grounded. Blank: equal to xd_pct (warned; a generator's is usually lower).",
             unit="%",
+            bound=POSITIVE,
+        ),
+        Column(
+            "power_factor",
+            NUMBER,
+            "Generators, method iec60909: rated power factor cos phi_rG, for the impedance "
+            "correction K_G (IEC 60909-0 6.6.1) and the rated current. Blank: K_G not applied "
+            "(warned).",
             bound=POSITIVE,
         ),
         _in_service("the machine (a standby generator, a motor that does not run)"),
