@@ -63,6 +63,11 @@ BUS_COLUMNS = (
     "closing_pct",
     "i_int_ka",  # method ieee: the interrupting (1.5 to 4 cycle) network's E/X current
     "xr_int",  # method ieee: its X/R from separate R and X reductions
+    "ib_ka",  # method iec60909: symmetrical breaking current Ib at t_min
+    "idc_ka",  # method iec60909: DC component at t_min
+    "ik_ka",  # method iec60909: steady-state current (far from generators; else blank)
+    "ith_ka",  # method iec60909: thermal equivalent current for the fault duration
+    "iec_note",  # method iec60909: why Ik or Ith is not computed (near a generator)
 )
 
 # Columns of StudyResult.duty: each rated bus's worst duty over the base case and every case.

@@ -25,7 +25,7 @@ from .results import (
     Basis,
     StudyResult,
 )
-from .solve import asymmetry, duty, faults, methods, perunit, standards
+from .solve import asymmetry, breaking, duty, faults, methods, perunit, standards
 from .solve.contributions import Phasors, as_table, contribution_phasors
 from .solve.network import Network, build_network, positive_matrix_variant, zone_angles_deg
 from .solve.thevenin import Orderings, SymmetricFactor
@@ -340,6 +340,8 @@ def fault_table(a: Analysis, progress: Progress | None = None, interrupting=None
     n = len(kv)
     i_int, xr_int = interrupting if interrupting is not None else (np.full(n, np.nan),) * 2
     rows.update(i_int_ka=i_int, xr_int=xr_int)
+    rows.update({c: np.full(n, np.nan) for c in ("ib_ka", "idc_ka", "ik_ka", "ith_ka")})
+    rows.update(iec_note=[""] * n)  # method iec60909: filled by _solve
     progress.step("equipment duty")
     rows.update(_duty(a.system, rows, interrupting is not None))
     return pd.DataFrame(rows, columns=list(BUS_COLUMNS))
@@ -724,6 +726,10 @@ def _solve(
         progress.step("interrupting network")
         interrupting = _interrupting(system, found[0].prefault_pu, orderings)
     table = fault_table(first, progress, interrupting)
+    if system.settings.method == "iec60909":
+        progress.step("breaking, steady-state and thermal currents")
+        for column, values in breaking.after_first_instant(first, table).items():
+            table[column] = values
     for column in MIN_COLUMNS:
         table[column] = np.nan
     if len(found) > 1:
@@ -734,6 +740,28 @@ def _solve(
         for column in MIN_COLUMNS:
             table[column] = low[column.replace("_min", "")].to_numpy()
     return first, table
+
+
+def _iec_notes(system: System) -> tuple[str, ...]:
+    """Method iec60909: the generators left without K_G, said once."""
+    if system.settings.method != "iec60909" or not len(system.machines):
+        return ()
+    m = system.machines
+    pf = m.array("power_factor")
+    left = [
+        n
+        for n, k, p in zip(m.column("machine"), m.column("kind"), pf.tolist(), strict=True)
+        if k == "generator" and p != p
+    ]
+    if not left:
+        return ()
+    return (
+        "generators without power_factor ("
+        + ", ".join(left[:10])
+        + (" ..." if len(left) > 10 else "")
+        + "): the IEC 60909-0 correction K_G is not applied to them; their rated current for "
+        "Ib is taken from kva and kv",
+    )
 
 
 def _mv_notes(system: System) -> tuple[str, ...]:
@@ -852,7 +880,9 @@ def run_study(
 def _study(system: System, contributions, calculated_at, progress: Progress) -> StudyResult:
     settings = system.settings
     wanted = contribution_buses(system, contributions)
-    per_system = STEPS_PER_ANALYSIS * methods.variant_count(settings.method)
+    per_system = STEPS_PER_ANALYSIS * methods.variant_count(settings.method) + (
+        settings.method in ("ieee", "iec60909")  # the interrupting or the breaking currents
+    )
     progress.plan(per_system * (1 + len(system.cases)) + 1 + bool(wanted))
     orderings = Orderings()  # one per study: the base case, its variants and its cases
     a, buses = _solve(system, progress, orderings)
@@ -910,7 +940,8 @@ def _study(system: System, contributions, calculated_at, progress: Progress) -> 
         + pu.warnings
         + network.warnings
         + tuple(case_warnings)
-        + _mv_notes(system),
+        + _mv_notes(system)
+        + _iec_notes(system),
         cautions=CAUTIONS,
         basis=basis,
         contributions=contribution_table,

@@ -273,6 +273,49 @@ def _fault_columns(result: StudyResult) -> list[tuple[Col, object]]:
             (Col("Minimum line-to-line, kA", 11, KA), "ill_min_ka"),
             (Col("Minimum double line-to-ground, kA", 11, KA), "illg_min_ka"),
         ]
+        s = result.basis.settings
+        cols += [
+            (
+                Col(
+                    f"Breaking Ib at {s.min_time_delay_s:g} s, kA",
+                    11,
+                    KA,
+                    "IEC 60909-0: each machine's partial decayed by mu (and q for asynchronous "
+                    "motors) at the minimum time delay t_min.",
+                ),
+                "ib_ka",
+            ),
+            (Col(f"DC component at {s.min_time_delay_s:g} s, kA", 11, KA), "idc_ka"),
+            (
+                Col(
+                    "Steady-state Ik, kA",
+                    11,
+                    KA,
+                    "Far from generators: without the asynchronous motors' partials. Near a "
+                    "generator: not computed (see the note column).",
+                ),
+                "ik_ka",
+            ),
+            (
+                Col(f"Thermal equivalent Ith for {s.fault_duration_s:g} s, kA", 12, KA),
+                "ith_ka",
+            ),
+            (Col("Not computed because", 30), "iec_note"),
+        ]
+    if result.basis.settings.method == "ieee":
+        cols += [
+            (
+                Col(
+                    "Interrupting network E/X, kA",
+                    11,
+                    KA,
+                    "IEEE C37.010: 1.5-4 cycle network (IEEE Std 551 Table 9-1 interrupting "
+                    "multipliers), X from the X-only reduction; for MV breaker duty.",
+                ),
+                "i_int_ka",
+            ),
+            (Col("Interrupting network X/R", 10, XR), "xr_int"),
+        ]
     return cols
 
 

@@ -11,8 +11,8 @@ the prefault voltage of every bus:
   20 C; minimum currents with c = cmin, motors left out, conductors at the end-of-fault
   temperature (IEC 60909-0 eq. 34). Network feeders take the c of their own bus, as in
   ``Z_Q = c U_nQ^2 / S"_kQ`` (IEC 60909-0 eq. 1). Cable resistances, from the tables or typed, are
-  taken as given at ``conductor_temp_c``. The generator and power-station-unit corrections (K_G,
-  K_S) are not applied.
+  taken as given at ``conductor_temp_c``. Generators with a rated power factor are corrected by
+  K_G (IEC 60909-0 6.6.1); the power-station-unit corrections (K_S, K_SO) are not applied.
 """
 
 from __future__ import annotations
@@ -85,6 +85,36 @@ def interrupting_system(system: System) -> System:
     return dataclasses.replace(system, machines=machines.subset(kept.tolist()))
 
 
+def _iec_generators(system: System):
+    """Generators with a rated power factor corrected by K_G (IEC 60909-0 6.6.1, from memory):
+    ``Z_GK = K_G Z_G``, ``K_G = (U_n / U_rG) cmax / (1 + x"d sin phi_rG)``, U_n the bus's
+    nominal kV; generators without a power factor left as entered (warned by the study)."""
+    from . import iec60909
+
+    m = system.machines
+    if not len(m):
+        return m
+    kind = np.array(m.column("kind"), dtype=object)
+    pf = m.array("power_factor")
+    corrected = (kind == "generator") & np.isfinite(pf)
+    if not corrected.any():
+        return m
+    bus_kv = system.bus_kv()
+    u_n = np.array([bus_kv[b] for b in m.column("bus")], dtype=float)
+    tol = system.settings.lv_tolerance_pct
+    cmax = np.array([standards.c_max(v, tol) for v in u_n.tolist()])
+    xd = m.array("xd_pct")
+    kg = np.ones(len(m))
+    kg[corrected] = iec60909.generator_correction_factor_kg(
+        u_n[corrected],
+        m.array("kv")[corrected],
+        xd[corrected] / 100.0,
+        pf[corrected],
+        cmax[corrected],
+    )
+    return m.replace(xd_pct=xd * kg)
+
+
 def variant_count(method: str) -> int:
     """How many systems ``variants`` gives for this method."""
     return 2 if method == "iec60909" else 1
@@ -114,6 +144,7 @@ def variants(system: System) -> list[Variant]:
     if s.method == "iec60909":
         kv = system.buses.array("kv")
         transformers = _iec_transformers(system)
+        system = dataclasses.replace(system, machines=_iec_generators(system))
         to_20 = standards.end_of_fault_factor(s.conductor_temp_c, 20.0)
         to_end = standards.end_of_fault_factor(s.conductor_temp_c, s.end_of_fault_temp_c)
         maximum = dataclasses.replace(
@@ -161,7 +192,10 @@ def describe(system: System) -> str:
             f"(LV {standards.c_max(0.4, s.lv_tolerance_pct):g}, above 1 kV 1.1), network "
             "transformers corrected by K_T = 0.95 cmax / (1 + 0.6 xT), conductors at 20 C; "
             "minimum currents with cmin (LV 0.95, above 1 kV 1.0), motors excluded, "
-            f"conductors at {s.end_of_fault_temp_c:g} C; generator corrections K_G, K_S "
-            "not applied"
+            f"conductors at {s.end_of_fault_temp_c:g} C; generators with a rated power factor "
+            "corrected by K_G (power-station units: K_S / K_SO not applied); breaking current Ib "
+            f"at t_min {s.min_time_delay_s:g} s, DC component, steady-state Ik far from "
+            f"generators and Ith for {s.fault_duration_s:g} s (IEC 60909-0:2016 clauses 9 to 14, "
+            "from memory)"
         )
     return f"prefault voltage {s.prefault_pu:g} pu behind the Thevenin impedance"

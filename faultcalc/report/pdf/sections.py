@@ -402,6 +402,86 @@ def summary(result: StudyResult, note: str | None) -> list:
     return out
 
 
+def after_first_instant(result: StudyResult) -> list:
+    """Method iec60909: Ib, the DC component, Ik and Ith; method ieee: the interrupting
+    network's E/X and X/R. Nothing for the other methods."""
+    s = result.basis.settings
+    b = result.buses
+    if s.method == "iec60909":
+        out = heading("IEC 60909-0 currents after the first instant", landscape=True)
+        out.append(
+            Paragraph(
+                f"Base case, three-phase faults. Breaking current Ib and DC component at the "
+                f"minimum time delay {s.min_time_delay_s:g} s; steady-state Ik and thermal "
+                f"equivalent Ith for {s.fault_duration_s:g} s, far from generators (near a "
+                "generator they need its decrement curves and are not computed). IEC "
+                "60909-0:2016 clauses 9 to 14, formulas from memory of the standard; see the "
+                "README's method.",
+                BODY,
+            )
+        )
+        rows = [
+            [
+                r.bus,
+                fixed(r.kv, 3),
+                ka(r.i3ph_ka),
+                ka(r.ib_ka),
+                ka(r.idc_ka),
+                fixed(r.ik_ka, 2),
+                fixed(r.ith_ka, 2),
+                r.iec_note,
+            ]
+            for r in b.itertuples(index=False)
+        ]
+        head = [
+            "Bus",
+            "Nominal kV",
+            'I"k, kA',
+            "Ib, kA",
+            "DC component, kA",
+            "Ik, kA",
+            "Ith, kA",
+            "Not computed because",
+        ]
+        out.append(
+            table(head, rows, [0.14, 0.07, 0.08, 0.08, 0.09, 0.08, 0.08, 0.38], {1, 2, 3, 4, 5, 6})
+        )
+        return out
+    if s.method == "ieee":
+        out = heading("IEEE interrupting network", landscape=True)
+        out.append(
+            Paragraph(
+                "Base case. The 1.5 to 4 cycle network of IEEE C37.010 (machine reactances "
+                "times IEEE Std 551-2006 Table 9-1's interrupting multipliers, motors below 50 "
+                "hp left out): E/X with X from the reactance-only reduction, X/R from separate R "
+                "and X reductions; medium-voltage breakers' interrupting duty starts from it.",
+                BODY,
+            )
+        )
+        rows = [
+            [
+                r.bus,
+                fixed(r.kv, 3),
+                ka(r.i3ph_ka),
+                fixed(r.xr_fault, 2),
+                ka(r.i_int_ka),
+                fixed(r.xr_int, 2),
+            ]
+            for r in b.itertuples(index=False)
+        ]
+        head = [
+            "Bus",
+            "Nominal kV",
+            "First-cycle 3-phase, kA",
+            "First-cycle X/R",
+            "Interrupting E/X, kA",
+            "Interrupting X/R",
+        ]
+        out.append(table(head, rows, [0.24, 0.12, 0.16, 0.14, 0.18, 0.16], {1, 2, 3, 4, 5}))
+        return out
+    return []
+
+
 def equipment(result: StudyResult) -> list:
     out = heading("Equipment evaluation", landscape=True)
     with_cases = bool(result.cases)

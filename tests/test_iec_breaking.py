@@ -1,0 +1,138 @@
+"""Method iec60909 after the first instant: K_G applied, Ib, i_DC, Ik and Ith at every bus,
+against hand calculations of IEC 60909-0:2016's formulas (from memory of the standard: clause
+6.6.1 for K_G, 9 for mu and q, 10 for the DC component, 11 for Ik, 14 for Ith) on one-bus
+systems where every partial current is the source's own (#15)."""
+
+from __future__ import annotations
+
+import math
+
+import pytest
+
+from faultcalc import read_system, run_study
+
+UN_KV = 11.0
+C_MAX = 1.1  # IEC 60909-0 Table 1, above 1 kV
+SQ_MVA, SQ_XR = 250.0, 10.0
+F_HZ = 50
+T_MIN = 0.1
+T_K = 1.0
+
+
+def _sheets(machines):
+    return {
+        "study": [
+            {"setting": "method", "value": "iec60909"},
+            {"setting": "frequency_hz", "value": str(F_HZ)},
+            {"setting": "min_time_delay_s", "value": str(T_MIN)},
+            {"setting": "fault_duration_s", "value": str(T_K)},
+        ],
+        "buses": [{"bus": "B", "kv": UN_KV}],
+        "sources": [{"source": "Q", "bus": "B", "sc_mva": SQ_MVA, "xr": SQ_XR}],
+        **({"machines": machines} if machines else {}),
+    }
+
+
+GEN = {
+    "machine": "G",
+    "bus": "B",
+    "kind": "generator",
+    "kva": 5000,
+    "kv": UN_KV,
+    "xd_pct": 15,
+    "xr": 20,
+    "power_factor": 0.8,
+}
+MOTOR = {
+    "machine": "M",
+    "bus": "B",
+    "kind": "induction_motor",
+    "hp": 1340.48,  # 1.0 MW at 0.746 kW per hp
+    "kv": UN_KV,
+    "xd_pct": 17,
+    "xr": 10,
+    "rpm": 1480,  # 2 pairs of poles at 50 Hz
+}
+
+
+def _z(magnitude_ohm: float, xr: float) -> complex:
+    r = magnitude_ohm / math.sqrt(1 + xr * xr)
+    return complex(r, r * xr)
+
+
+def _machine_z(m: dict, k: float = 1.0) -> complex:
+    """X = xd/100 x U^2 / S (ohm), R = X / (X/R), times the correction factor k."""
+    s_mva = (m.get("kva") or m["hp"]) / 1000.0  # 1 kVA per hp, as the tool takes it
+    x = m["xd_pct"] / 100 * m["kv"] ** 2 / s_mva
+    return k * complex(x / m["xr"], x)
+
+
+def _mu(ratio: float) -> float:  # IEC 60909-0 clause 9, t_min = 0.1 s (from memory)
+    return 1.0 if ratio <= 2 else min(1.0, 0.62 + 0.72 * math.exp(-0.32 * ratio))
+
+
+E_KV = C_MAX * UN_KV / math.sqrt(3)  # the equivalent source, line to neutral
+Z_Q = _z(C_MAX * UN_KV**2 / SQ_MVA, SQ_XR)  # IEC 60909-0 eq. 1: Z_Q = c U^2 / S"kQ
+
+
+def test_k_g_and_the_breaking_current_of_a_generator_and_a_motor_by_hand(make_input):
+    result = run_study(read_system(make_input(_sheets([GEN, MOTOR]))))
+    row = result.buses.iloc[0]
+    sin_phi = math.sqrt(1 - 0.8**2)
+    k_g = C_MAX / (1 + 0.15 * sin_phi)  # U_n = U_rG; = 1.1 / 1.09 = 1.009174 (hand)
+    assert k_g == pytest.approx(1.009174, abs=1e-6)
+    z_g, z_m = _machine_z(GEN, k_g), _machine_z(MOTOR)
+    i_g, i_m, i_q = E_KV / z_g, E_KV / z_m, E_KV / Z_Q  # each source's partial at its bus (kA)
+    i_k = i_g + i_m + i_q
+    assert row.i3ph_ka == pytest.approx(abs(i_k), rel=1e-9)
+    mu_g = _mu(abs(i_g) / (5.0 / (math.sqrt(3) * UN_KV)))
+    ratio_m = abs(i_m) / (1.34048 / (math.sqrt(3) * UN_KV))
+    p_mw = 1340.48 * 0.746 / 1000  # the tool's 0.746 kW per hp: 0.99999808 MW
+    q_m = 0.57 + 0.12 * math.log(p_mw / 2)  # m = P / 2 pairs of poles, t_min 0.1 s
+    ib = abs(i_k - (1 - mu_g) * i_g - (1 - _mu(ratio_m) * q_m) * i_m)
+    assert row.ib_ka == pytest.approx(ib, rel=1e-9)
+    assert row.ib_ka < row.i3ph_ka
+    # near the generator (I"kG / IrG above 2): Ik and Ith need its curves, not computed
+    assert abs(i_g) / (5.0 / (math.sqrt(3) * UN_KV)) > 2
+    assert math.isnan(row.ik_ka) and math.isnan(row.ith_ka) and "not computed" in row.iec_note
+
+
+def test_far_from_generators_ik_ith_and_the_dc_component_by_hand(make_input):
+    result = run_study(read_system(make_input(_sheets([MOTOR]))))
+    row = result.buses.iloc[0]
+    i_q = E_KV / Z_Q
+    # a motor feeds no steady current into a balanced fault: Ik = the network's partial, here
+    # the utility's own S"kQ / (sqrt(3) U_n) (IEC 60909-0 eq. 1 by hand)
+    assert row.ik_ka == pytest.approx(abs(i_q), rel=1e-9)
+    assert row.ik_ka == pytest.approx(SQ_MVA / (math.sqrt(3) * UN_KV), rel=1e-9)
+    kappa = row.kappa
+    x = math.log(kappa - 1)
+    m = (math.exp(4 * F_HZ * T_K * x) - 1) / (2 * F_HZ * T_K * x)  # clause 14, from memory
+    assert row.ith_ka == pytest.approx(row.i3ph_ka * math.sqrt(m + 1), rel=1e-9)  # n = 1
+    idc = math.sqrt(2) * row.i3ph_ka * math.exp(-2 * math.pi * F_HZ * T_MIN / row.xr_fault)
+    assert row.idc_ka == pytest.approx(idc, rel=1e-9)
+    assert row.iec_note == ""
+
+
+def test_without_machines_every_current_is_the_initial_one(make_input):
+    # far from generators and no motors: Ib = Ik = I"k (IEC 60909-0, from memory: a far-from-
+    # generator short circuit without motors does not decay)
+    result = run_study(read_system(make_input(_sheets([]))))
+    row = result.buses.iloc[0]
+    assert row.ib_ka == pytest.approx(row.i3ph_ka, rel=1e-12)
+    assert row.ik_ka == pytest.approx(row.i3ph_ka, rel=1e-12)
+
+
+def test_a_generator_without_power_factor_is_said(make_input):
+    gen = {k: v for k, v in GEN.items() if k != "power_factor"}
+    result = run_study(read_system(make_input(_sheets([gen]))))
+    assert any("K_G is not applied" in w and "G" in w for w in result.warnings)
+    row = result.buses.iloc[0]
+    assert row.i3ph_ka == pytest.approx(abs(E_KV / _machine_z(gen) + E_KV / Z_Q), rel=1e-9)
+
+
+def test_other_methods_leave_the_iec_columns_blank(make_input):
+    sheets = _sheets([GEN])
+    sheets["study"] = [{"setting": "method", "value": "thevenin"}]
+    row = run_study(read_system(make_input(sheets))).buses.iloc[0]
+    assert all(math.isnan(row[c]) for c in ("ib_ka", "idc_ka", "ik_ka", "ith_ka"))
