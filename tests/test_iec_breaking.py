@@ -136,3 +136,77 @@ def test_other_methods_leave_the_iec_columns_blank(make_input):
     sheets["study"] = [{"setting": "method", "value": "thevenin"}]
     row = run_study(read_system(make_input(sheets))).buses.iloc[0]
     assert all(math.isnan(row[c]) for c in ("ib_ka", "idc_ka", "ik_ka", "ith_ka"))
+
+
+def _unit_sheets(tap_changer: str | None, unit: bool = True):
+    gen = {
+        "machine": "G1",
+        "bus": "GEN",
+        "kind": "generator",
+        "kva": 50000,
+        "kv": 11.0,
+        "xd_pct": 20,
+        "xr": 40,
+        "power_factor": 0.85,
+        **({"unit_transformer": "GSU"} if unit else {}),
+        **({"unit_tap_changer": tap_changer} if tap_changer else {}),
+    }
+    return {
+        "study": [{"setting": "method", "value": "iec60909"}],
+        "buses": [{"bus": "HV", "kv": 110.0}, {"bus": "GEN", "kv": 11.0}],
+        "sources": [{"source": "Q", "bus": "HV", "sc_mva": 3000, "xr": 15}],
+        "transformers": [
+            {
+                "transformer": "GSU",
+                "hv_bus": "HV",
+                "lv_bus": "GEN",
+                "kva": 50000,
+                "hv_kv": 110.0,
+                "lv_kv": 11.5,
+                "z_pct": 12.0,
+                "xr": 30,
+                "hv_winding": "YN",
+                "lv_winding": "D",
+                "clock": 11,
+            }
+        ],
+        "machines": [gen],
+    }
+
+
+@pytest.mark.parametrize("tap_changer", ["yes", "no", None])
+def test_power_station_unit_corrected_by_k_s_or_k_so_by_hand(make_input, tap_changer):
+    # IEC 60909-0 6.7 (from memory): Z_S = K_S (t_r^2 Z_G + Z_THV) at the HV side, with
+    # K_S = (U_nQ / U_rG)^2 (1 / t_r^2) c / (1 + |x"d - x_T| sin phi) (on-load tap changer) or
+    # K_SO = (U_nQ / U_rG) (1 / t_r) c / (1 + x"d sin phi) (without, main tap, p_G = 0); by hand
+    result = run_study(read_system(make_input(_unit_sheets(tap_changer))))
+    hv = result.buses.set_index("bus").loc["HV"]
+    c, u_nq, u_rg, t_r = 1.1, 110.0, 11.0, 110.0 / 11.5
+    sin_phi = math.sqrt(1 - 0.85**2)
+    x_t = 0.12 * 30 / math.sqrt(1 + 30**2)
+    if tap_changer == "yes":
+        k = (u_nq / u_rg) ** 2 / t_r**2 * c / (1 + abs(0.20 - x_t) * sin_phi)
+    else:
+        k = (u_nq / u_rg) / t_r * c / (1 + 0.20 * sin_phi)
+    x_g = 0.20 * 11.0**2 / 50.0  # ohm at 11 kV
+    z_g = complex(x_g / 40, x_g)
+    z_thv = _z(0.12 * 110.0**2 / 50.0, 30)
+    z_s = k * (t_r**2 * z_g + z_thv)
+    z_q = _z(c * 110.0**2 / 3000, 15)
+    e = c * 110.0 / math.sqrt(3)
+    assert hv.i3ph_ka == pytest.approx(abs(e / z_q + e / z_s), rel=1e-9)
+    alone = run_study(read_system(make_input(_unit_sheets(None, unit=False))))
+    # without the unit: K_G on the generator and K_T on the transformer; a different figure
+    assert abs(alone.buses.set_index("bus").loc["HV"].i3ph_ka / hv.i3ph_ka - 1) > 1e-4
+
+
+def test_a_unit_transformer_that_does_not_fit_is_located(make_input):
+    from faultcalc.errors import InputError
+
+    sheets = _unit_sheets("no")
+    sheets["machines"][0]["unit_transformer"] = "GSU-9"
+    with pytest.raises(InputError) as found:
+        run_study(read_system(make_input(sheets)))
+    p = found.value.problems[0]
+    assert (p.sheet, p.column, p.value) == ("machines", "unit_transformer", "GSU-9")
+    assert "no transformer named" in p.message

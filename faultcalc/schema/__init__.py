@@ -679,6 +679,21 @@ MACHINES = Sheet(
             "(warned).",
             bound=POSITIVE,
         ),
+        Column(
+            "unit_transformer",
+            TEXT,
+            "Generators, method iec60909: the transformer (its name on the transformers sheet, "
+            "its LV winding on this generator's bus) forming a power-station unit with it; the "
+            "unit is corrected by K_S or K_SO (IEC 60909-0 6.7) instead of K_G and K_T.",
+        ),
+        Column(
+            "unit_tap_changer",
+            CHOICE,
+            "With unit_transformer: yes if the unit transformer has an on-load tap changer "
+            "(K_S); no (K_SO at the main tap, the generator at its rated voltage).",
+            default="no",
+            choices=("yes", "no"),
+        ),
         _in_service("the machine (a standby generator, a motor that does not run)"),
     ),
     alternatives=(Alternative((("kva",), ("hp",))),),

@@ -12,7 +12,8 @@ the prefault voltage of every bus:
   temperature (IEC 60909-0 eq. 34). Network feeders take the c of their own bus, as in
   ``Z_Q = c U_nQ^2 / S"_kQ`` (IEC 60909-0 eq. 1). Cable resistances, from the tables or typed, are
   taken as given at ``conductor_temp_c``. Generators with a rated power factor are corrected by
-  K_G (IEC 60909-0 6.6.1); the power-station-unit corrections (K_S, K_SO) are not applied.
+  K_G (IEC 60909-0 6.6.1), power-station units (a generator naming its unit transformer) by
+  K_S or K_SO (6.7) instead of K_G and K_T.
 """
 
 from __future__ import annotations
@@ -48,11 +49,16 @@ def _per_bus(kv: np.ndarray, value) -> tuple[float, ...]:
     return tuple(np.array([value(float(v)) for v in levels])[where].tolist())
 
 
-def _iec_transformers(system: System):
+def _iec_transformers(system: System, units=frozenset()):
+    """Network transformers corrected by K_T; those of power-station units (``units``, by
+    name) are corrected with their generator by K_S / K_SO instead."""
     kv = system.bus_kv()
     tol = system.settings.lv_tolerance_pct
     out = []
     for t in system.transformers:
+        if t.transformer in units:
+            out.append(t)
+            continue
         kt = standards.k_t(
             standards.transformer_x_pu(t.z_pct, t.xr), standards.c_max(kv[t.lv_bus], tol)
         )
@@ -96,7 +102,8 @@ def _iec_generators(system: System):
         return m
     kind = np.array(m.column("kind"), dtype=object)
     pf = m.array("power_factor")
-    corrected = (kind == "generator") & np.isfinite(pf)
+    alone = np.array([u is None for u in m.column("unit_transformer")], bool)
+    corrected = (kind == "generator") & np.isfinite(pf) & alone
     if not corrected.any():
         return m
     bus_kv = system.bus_kv()
@@ -113,6 +120,74 @@ def _iec_generators(system: System):
         cmax[corrected],
     )
     return m.replace(xd_pct=xd * kg)
+
+
+def _iec_units(system: System) -> System:
+    """Power-station units (a generator and its unit transformer) corrected together by K_S
+    (on-load tap changer) or K_SO (IEC 60909-0 6.7, from memory; K_SO at the main tap with the
+    generator at its rated voltage): the generator's and the transformer's impedances both
+    times the factor, as ``Z_S = K_S (t_r^2 Z_G + Z_THV)``."""
+    from ..errors import InputError, Problem
+    from . import iec60909
+
+    m = system.machines
+    units = m.column("unit_transformer") if len(m) else []
+    if not any(u is not None for u in units):
+        return system
+    index = {t.transformer: k for k, t in enumerate(system.transformers)}
+    bus_kv = system.bus_kv()
+    tol = system.settings.lv_tolerance_pct
+    xd = m.array("xd_pct").copy()
+    z = system.transformers.array("z_pct").copy()
+    z0 = system.transformers.array("z0_pct").copy()
+    problems = []
+    for k, (name, g) in enumerate(zip(units, m, strict=True)):
+        if name is None:
+            continue
+
+        def refuse(message, g=g, name=name):
+            problems.append(Problem("machines", g.row, "unit_transformer", name, message))
+
+        t = system.transformers[index[name]] if name in index else None
+        if g.kind != "generator":
+            refuse("only a generator forms a power-station unit with a transformer")
+        elif t is None:
+            refuse(f"no transformer named {name!r} on the transformers sheet")
+        elif t.lv_bus != g.bus:
+            refuse(
+                f"transformer {name}'s LV winding is on bus {t.lv_bus}, not on the "
+                f"generator's bus {g.bus}"
+            )
+        elif g.power_factor is None:
+            refuse("a power-station unit's correction needs the generator's power_factor")
+        if problems:
+            continue
+        u_nq = bus_kv[t.hv_bus]
+        x_d = g.xd_pct / 100.0
+        c = standards.c_max(u_nq, tol)
+        t_r = t.hv_kv / t.lv_kv
+        if g.unit_tap_changer == "yes":
+            x_t = standards.transformer_x_pu(t.z_pct, t.xr)
+            factor = iec60909.power_station_unit_factor_ks(
+                u_nq, g.kv, t_r, x_d, x_t, g.power_factor, c
+            )
+        else:
+            factor = iec60909.power_station_unit_factor_kso(u_nq, g.kv, t_r, x_d, g.power_factor, c)
+        xd[k] *= float(factor)
+        z[index[name]] *= float(factor)
+        z0[index[name]] *= float(factor)
+    if problems:
+        raise InputError(problems)
+    return dataclasses.replace(
+        system,
+        machines=m.replace(xd_pct=xd),
+        transformers=system.transformers.replace(z_pct=z, z0_pct=z0),
+    )
+
+
+def unit_transformers(system: System) -> frozenset[str]:
+    m = system.machines
+    return frozenset(u for u in (m.column("unit_transformer") if len(m) else []) if u)
 
 
 def variant_count(method: str) -> int:
@@ -143,8 +218,11 @@ def variants(system: System) -> list[Variant]:
         return [Variant("max", changed, prefault)]
     if s.method == "iec60909":
         kv = system.buses.array("kv")
-        transformers = _iec_transformers(system)
+        transformers = _iec_transformers(system, unit_transformers(system))
+        system = dataclasses.replace(system, transformers=transformers)
         system = dataclasses.replace(system, machines=_iec_generators(system))
+        system = _iec_units(system)
+        transformers = system.transformers
         to_20 = standards.end_of_fault_factor(s.conductor_temp_c, 20.0)
         to_end = standards.end_of_fault_factor(s.conductor_temp_c, s.end_of_fault_temp_c)
         maximum = dataclasses.replace(
@@ -193,7 +271,7 @@ def describe(system: System) -> str:
             "transformers corrected by K_T = 0.95 cmax / (1 + 0.6 xT), conductors at 20 C; "
             "minimum currents with cmin (LV 0.95, above 1 kV 1.0), motors excluded, "
             f"conductors at {s.end_of_fault_temp_c:g} C; generators with a rated power factor "
-            "corrected by K_G (power-station units: K_S / K_SO not applied); breaking current Ib "
+            "corrected by K_G, power-station units by K_S or K_SO; breaking current Ib "
             f"at t_min {s.min_time_delay_s:g} s, DC component, steady-state Ik far from "
             f"generators and Ith for {s.fault_duration_s:g} s (IEC 60909-0:2016 clauses 9 to 14, "
             "from memory)"
