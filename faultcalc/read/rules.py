@@ -145,7 +145,9 @@ MV_DEVICES = ("mvcb", "mvcb_mva")
 
 
 def _mv_breakers(buses: Typed, out: Collector, at: np.ndarray) -> None:
-    """What a medium-voltage breaker's rating needs, and only there."""
+    """What a medium-voltage breaker's rating needs, and only there (on rows whose cells were
+    read: a refused cell is said once, not again as missing)."""
+    at = at[buses.ok[at]]
     v = buses.values
     given = {
         c: _given(v[c], at) if not isinstance(v[c], np.ndarray) else ~np.isnan(v[c][at])
