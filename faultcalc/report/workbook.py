@@ -486,6 +486,14 @@ def _duty_sheet(ws, result: StudyResult) -> None:
             if with_cases
             else ""
         )
+        + (
+            "MV breakers: the larger of the interrupting duty (interrupting-network current, or "
+            "the line-to-ground current, times the remote-source multiplying factor at contact "
+            "parting, against the capability at the bus's kV) and the closing-and-latching duty "
+            "(first cycle, against its rating); see the README. "
+            if with_mv
+            else ""
+        )
         + "Red: duty exceeds the rating. Amber: within 10 % of it. Duty checks compare "
         "numbers only; equipment suitability is for the engineer of record. " + SHORT_CAUTION,
     )
