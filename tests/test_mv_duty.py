@@ -233,3 +233,31 @@ def test_mv_breaker_on_a_low_voltage_bus_is_refused(make_input):
     with pytest.raises(InputError) as found:
         read_system(make_input(sheets))
     assert any(p.column == "device" and "0.48 kV bus" in p.message for p in found.value.problems)
+
+
+def test_mv_duty_in_the_workbook_and_the_json(make_input, tmp_path):
+    import json
+
+    from openpyxl import load_workbook
+
+    from faultcalc import write_results
+
+    sheets = _one_bus_sheets(device="mvcb", rating_ka=20.0, rated_max_kv=15.0)
+    result = run_study(read_system(make_input(sheets)))
+    write_results(result, tmp_path / "r.xlsx", tmp_path / "r.json")
+    ws = load_workbook(tmp_path / "r.xlsx")["Equipment duty"]
+    head = [c.value for c in ws[1]]
+    for column in (
+        "Compared as",
+        "Capability at the bus's kV, kA",
+        "Interrupting, % of capability",
+    ):
+        assert column in head
+    row = [c.value for c in ws[2]]
+    d = result.duty.iloc[0]
+    assert row[head.index("Compared as")] == d.duty_basis
+    assert row[head.index("Interrupting, % of capability")] == pytest.approx(d.interrupting_pct)
+    doc = json.loads((tmp_path / "r.json").read_text())
+    bus = doc["buses"][0]
+    for field in ("i_int_ka", "xr_int", "capability_ka", "interrupting_ka", "closing_pct"):
+        assert bus[field] == pytest.approx(float(result.buses.iloc[0][field]))
