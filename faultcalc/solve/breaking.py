@@ -24,7 +24,8 @@ import numpy as np
 
 from . import iec60909, perunit
 
-MACHINE_CHUNK = 32  # machine nodes solved at a time (memory: buses x chunk complex numbers)
+MACHINE_CHUNK = 32  # machine nodes solved at a time, at most
+CHUNK_CELLS = 4_000_000  # and at most this many complex numbers (64 MB) per chunk of columns
 KW_PER_HP = 0.746
 POWER_FACTOR_OF_MOTOR = 0.85  # a motor rated in kVA only: its active power (common practice)
 NEAR_NOTE = (
@@ -55,8 +56,9 @@ def after_first_instant(analysis, rows: dict) -> dict[str, np.ndarray]:
     if machines is not None:
         nodes, z_m, ratio_base, q_of, synchronous = machines
         unique, which = np.unique(nodes, return_inverse=True)
-        for start in range(0, len(unique), MACHINE_CHUNK):
-            chunk = unique[start : start + MACHINE_CHUNK]
+        step = max(1, min(MACHINE_CHUNK, CHUNK_CELLS // max(1, analysis.factor1.n)))
+        for start in range(0, len(unique), step):
+            chunk = unique[start : start + step]
             columns = analysis.factor1.columns(chunk)[network.node_of_bus]  # (buses, chunk)
             at = np.flatnonzero((which >= start) & (which < start + len(chunk)))
             partial = columns[:, which[at] - start] / z_m[at] * i_f[:, None]  # (buses, m)
