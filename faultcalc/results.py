@@ -86,6 +86,8 @@ DUTY_COLUMNS = (
     "duty_basis",  # interrupting, or closing and latching (MV breakers)
     "capability_ka",
     "interrupting_pct",
+    "closing_duty_ka",
+    "closing_rating_ka",
     "closing_pct",
     "base_duty_pct",
     "base_duty_status",

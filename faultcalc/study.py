@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import dataclasses
 import datetime as _dt
 import functools
 from collections.abc import Iterable
@@ -396,11 +397,11 @@ def _mv_duty(out: dict, k: int, b, rows: dict, interrupting: bool, frequency_hz:
     # current, which does not decay (conservative; said in the study's warnings)
     i_int = float(rows["i_int_ka"][k]) if interrupting else float(rows["i3ph_ka"][k])
     xr_int = float(rows["xr_int"][k]) if interrupting else float(rows["xr_fault"][k])
-    mf3 = duty.mv_multiplying_factor(xr_int, parting)
+    mf3 = duty.mv_multiplying_factor(xr_int, parting, frequency_hz)
     candidates = [(mf3 * i_int, mf3, "3ph")]
     islg = float(rows["islg_ka"][k])
     if not np.isnan(islg):
-        mfg = duty.mv_multiplying_factor(float(rows["xr_slg"][k]), parting)
+        mfg = duty.mv_multiplying_factor(float(rows["xr_slg"][k]), parting, frequency_hz)
         candidates.append((mfg * islg, mfg, "slg"))
     interrupting_ka, mf, fault = max(candidates)
     k_factor = b.k_factor if b.k_factor is not None else 1.0
@@ -422,7 +423,7 @@ def _mv_duty(out: dict, k: int, b, rows: dict, interrupting: bool, frequency_hz:
     )
     closing_pct = 100.0 * closing / closing_rating
     closing_governs = closing_pct > interrupting_pct
-    out["test_xr"][k] = duty.MV_TEST_XR
+    out["test_xr"][k] = duty.MV_TEST_XR_BY_HZ[frequency_hz]
     out["mf"][k] = mf
     out["duty_ka"][k] = closing if closing_governs else interrupting_ka
     out["duty_pct"][k] = max(interrupting_pct, closing_pct)
@@ -569,7 +570,13 @@ def _worst_duty(
         np.where(mv, xr_int, _pick(tables, "xr_fault", worst, rows).astype(float)),
     )
     out["duty_case"] = np.array(names, dtype=object)[worst]
-    for column in ("capability_ka", "interrupting_pct", "closing_pct"):
+    for column in (
+        "capability_ka",
+        "interrupting_pct",
+        "closing_duty_ka",
+        "closing_rating_ka",
+        "closing_pct",
+    ):
         out[column] = _pick(tables, column, worst, rows).astype(float)
     out["base_duty_pct"] = base.duty_pct.iloc[rows].to_numpy(dtype=float)
     out["base_duty_status"] = np.where(
@@ -728,7 +735,8 @@ def _solve(
     table = fault_table(first, progress, interrupting)
     if system.settings.method == "iec60909":
         progress.step("breaking, steady-state and thermal currents")
-        for column, values in breaking.after_first_instant(first, table).items():
+        no_motors = _without_motors(found[0].system, found[0].prefault_pu, orderings)
+        for column, values in breaking.after_first_instant(first, table, no_motors).items():
             table[column] = values
     for column in MIN_COLUMNS:
         table[column] = np.nan
@@ -743,10 +751,24 @@ def _solve(
 
 
 def _iec_notes(system: System) -> tuple[str, ...]:
-    """Method iec60909: the generators left without K_G, said once."""
+    """Method iec60909: the generators left without K_G and what a unit's correction does not
+    cover, said once."""
     if system.settings.method != "iec60909" or not len(system.machines):
         return ()
     m = system.machines
+    units = [u for u in m.column("unit_transformer") if u]
+    unit_note = (
+        (
+            "power-station units ("
+            + ", ".join(units[:10])
+            + "): corrected by K_S or K_SO for every fault, also between a generator and its unit "
+            "transformer, where IEC 60909-0 6.7 corrects the generator's share by K_G,S and the "
+            "transformer's by K_T,S instead (not done): there the total is a little high but the "
+            "generator's own share, which sets its breaker's duty, may be a few per cent low",
+        )
+        if units
+        else ()
+    )
     pf = m.array("power_factor")
     left = [
         n
@@ -754,8 +776,8 @@ def _iec_notes(system: System) -> tuple[str, ...]:
         if k == "generator" and p != p
     ]
     if not left:
-        return ()
-    return (
+        return unit_note
+    return unit_note + (
         "generators without power_factor ("
         + ", ".join(left[:10])
         + (" ..." if len(left) > 10 else "")
@@ -790,23 +812,46 @@ def _mv_notes(system: System) -> tuple[str, ...]:
     return tuple(notes)
 
 
-def _interrupting(system: System, prefault_pu, orderings: Orderings):
-    """The IEEE interrupting network's E/X current (kA) and X/R at every bus: X from the
-    X-only reduction, X/R from separate R and X reductions (IEEE C37.010)."""
-    pu = perunit.to_per_unit(methods.interrupting_system(system), prefault_pu=prefault_pu)
+def _diagonals(system: System, prefault_pu, orderings: Orderings, *transforms):
+    """The positive-sequence Thevenin impedance at every bus (per-unit) of ``system``, once per
+    transform of the element impedances (a variant network solved against the study's
+    orderings), and the per-unit system."""
+    pu = perunit.to_per_unit(system, prefault_pu=prefault_pu)
     network = build_network(
         pu, lambda: dict(zip(system.buses.column("bus"), system.buses.column("row"), strict=True))
     )
-
-    def diagonal(transform):
+    out = []
+    for transform in transforms:
         y = positive_matrix_variant(pu, network, transform)
-        return SymmetricFactor(y, orderings).diagonal()[network.node_of_bus]
+        out.append(SymmetricFactor(y, orderings).diagonal()[network.node_of_bus])
+    return pu, out
 
-    x = diagonal(_x_only).imag
-    r = diagonal(_r_only).real
+
+def _without_motors(variant: System, prefault_pu, orderings: Orderings) -> np.ndarray:
+    """Method iec60909: Z1 at every bus with the asynchronous motors left out (they feed no
+    steady current into a balanced fault), for Ik."""
+    m = variant.machines
+    kept = [k for k, kind in enumerate(m.column("kind")) if kind != "induction_motor"]
+    if len(kept) == len(m):
+        return None
+    system = dataclasses.replace(variant, machines=m.subset(kept))
+    return _diagonals(system, prefault_pu, orderings, lambda z: z)[1][0]
+
+
+def _interrupting(system: System, prefault_pu, orderings: Orderings):
+    """The IEEE interrupting network's E/X current (kA) and X/R at every bus: X from the
+    X-only reduction, X/R from separate R and X reductions (IEEE C37.010)."""
+    pu, (z_x, z_r) = _diagonals(
+        methods.interrupting_system(system), prefault_pu, orderings, _x_only, _r_only
+    )
+    x, r = z_x.imag, z_r.real
     kv = np.array(pu.bus_kv)
     i_ka = np.array(pu.prefault_pu) / x * perunit.i_base_ka(kv, pu.base_mva)
-    return i_ka, np.where(r > 0, x / np.where(r > 0, r, 1.0), np.inf)
+    xr = np.where(r > 0, x / np.where(r > 0, r, 1.0), np.inf)
+    # only above 1 kV: LV devices are rated on first-cycle currents, and E/X, which leaves R
+    # out, overstates a cable-fed LV bus badly
+    mv = kv > standards.LV_LIMIT_KV
+    return np.where(mv, i_ka, np.nan), np.where(mv, xr, np.nan)
 
 
 def _keeping_warnings(study):

@@ -229,3 +229,79 @@ def test_machine_columns_solved_in_chunks_give_the_same_currents(make_input, mon
     chunked = run_study(system).buses
     for column in ("ib_ka", "ik_ka", "ith_ka"):
         assert chunked[column].tolist() == pytest.approx(whole[column].tolist(), nan_ok=True)
+
+
+def test_ib_of_a_generator_away_from_the_fault_by_hand(make_input):
+    # Found by an independent review: a machine away from the fault decays less at the fault;
+    # IEC 60909-0 9.1.3 (meshed networks, from memory) weights its decrement by the drop across
+    # its own reactance over the source voltage. Two buses: Q at A, G at B behind Z_AB.
+    z_ab = complex(0.2, 1.5)
+    sheets = _sheets([dict(GEN, bus="B2")])
+    sheets["buses"].append({"bus": "B2", "kv": UN_KV})
+    sheets["impedances"] = [
+        {
+            "element": "Z",
+            "from_bus": "B",
+            "to_bus": "B2",
+            "r_ohm": z_ab.real,
+            "x_ohm": z_ab.imag,
+            "r0_ohm": z_ab.real,
+            "x0_ohm": z_ab.imag,
+        }
+    ]
+    row = run_study(read_system(make_input(sheets))).buses.set_index("bus").loc["B"]
+    k_g = C_MAX / (1 + 0.15 * math.sqrt(1 - 0.8**2))
+    z_g = _machine_z(GEN, k_g)
+    i_g = E_KV / (z_g + z_ab)  # the generator's partial at a fault at B (kA)
+    i_k = E_KV / Z_Q + i_g
+    assert row.i3ph_ka == pytest.approx(abs(i_k), rel=1e-9)
+    weight = abs(z_g * i_g) / E_KV  # = |z_g / (z_g + z_ab)|
+    mu = _mu(abs(i_g) / (5.0 / (math.sqrt(3) * UN_KV)))
+    assert weight < 1 and mu < 1  # the check sees both
+    assert row.ib_ka == pytest.approx(abs(i_k - weight * (1 - mu) * i_g), rel=1e-9)
+
+
+def test_ik_is_the_initial_current_without_the_motors_behind_a_shared_path(make_input):
+    # Found by an independent review: removing each motor's partial is not leaving the motors
+    # out where they share a path with the supply. The reference: the same study with every
+    # motor out of service, whose I"k (and Ik) is the network's alone (IEC 60909-0, from
+    # memory: asynchronous motors feed no steady current into a balanced fault).
+    from builders import transformer
+
+    def sheets(motors_in: str):
+        return {
+            "study": [{"setting": "method", "value": "iec60909"}],
+            "buses": [{"bus": "MV", "kv": 13.8}, {"bus": "LV", "kv": 0.48}],
+            "sources": [{"source": "Q", "bus": "MV", "sc_mva": 250, "xr": 10}],
+            "transformers": [transformer(transformer="T1", hv_bus="MV", lv_bus="LV")],
+            "machines": [
+                dict(MOTOR, bus="MV", kv=13.8, in_service=motors_in),
+                {
+                    "machine": "LVM",
+                    "bus": "LV",
+                    "kind": "induction_motor",
+                    "hp": 400,
+                    "kv": 0.46,
+                    "xd_pct": 17,
+                    "xr": 6,
+                    "rpm": 1780,
+                    "in_service": motors_in,
+                },
+            ],
+        }
+
+    with_motors = run_study(read_system(make_input(sheets("yes")))).buses.set_index("bus")
+    without = run_study(read_system(make_input(sheets("no")))).buses.set_index("bus")
+    for bus in ("MV", "LV"):
+        assert with_motors.loc[bus, "ik_ka"] == pytest.approx(without.loc[bus, "i3ph_ka"], rel=1e-9)
+        assert with_motors.loc[bus, "ik_ka"] < with_motors.loc[bus, "i3ph_ka"]
+
+
+def test_two_generators_naming_one_unit_transformer_are_refused(make_input):
+    from faultcalc.errors import InputError
+
+    sheets = _unit_sheets("no")
+    sheets["machines"].append(dict(sheets["machines"][0], machine="G2"))
+    with pytest.raises(InputError) as found:
+        run_study(read_system(make_input(sheets)))
+    assert any("already forms a unit" in p.message for p in found.value.problems)

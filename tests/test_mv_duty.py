@@ -261,3 +261,30 @@ def test_mv_duty_in_the_workbook_and_the_json(make_input, tmp_path):
     bus = doc["buses"][0]
     for field in ("i_int_ka", "xr_int", "capability_ka", "interrupting_ka", "closing_pct"):
         assert bus[field] == pytest.approx(float(result.buses.iloc[0][field]))
+
+
+@pytest.mark.parametrize(
+    "rpm, hz, two",
+    # a two-pole induction motor's nameplate speed is below synchronous (common practice, no
+    # source): 3560 r/min at 60 Hz and 2960 at 50 Hz are two-pole; 1780 is four-pole
+    [(3560, 60, True), (3600, 60, True), (1780, 60, False), (2960, 50, True), (1480, 50, False)],
+)
+def test_two_pole_motors_by_their_nameplate_speed(rpm, hz, two):
+    # Found by an independent review: 'rpm >= 3600' put a 3560 r/min motor in the 1.2 / 3.0
+    # class of IEEE Std 551 Table 9-1 instead of 1.0 / 1.5.
+    assert standards.two_pole(rpm, hz) is two
+    assert standards.ieee_interrupting_multiplier("induction_motor", 300, rpm, hz) == (
+        1.5 if two else 3.0
+    )
+    assert standards.ieee_first_cycle_multiplier("induction_motor", 300, rpm, hz) == (
+        1.0 if two else 1.2
+    )
+
+
+def test_the_50_hz_test_xr_is_14():
+    # the rating's 45 ms DC time constant: X/R = 2 pi f tau = 14.1 at 50 Hz, 17.0 at 60 Hz
+    # (value from memory of IEEE C37.04 / IEC 62271-100)
+    assert 2 * math.pi * 50 * 0.045 == pytest.approx(duty.MV_TEST_XR_BY_HZ[50], rel=0.01)
+    assert 2 * math.pi * 60 * 0.045 == pytest.approx(duty.MV_TEST_XR_BY_HZ[60], rel=0.01)
+    assert duty.mv_multiplying_factor(14.0, 3.0, 50) == 1.0
+    assert duty.mv_multiplying_factor(16.0, 3.0, 50) > 1.0

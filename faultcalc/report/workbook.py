@@ -418,7 +418,13 @@ def _duty_sheet(ws, result: StudyResult) -> None:
     ]
     table = result.duty if result.duty is not None else result.buses.iloc[0:0]
     with_mv = bool(table.device.isin(duty.MV_DEVICES).any()) if len(table) else False
-    if with_mv:
+    if with_mv:  # an MV breaker's duty is a percentage of its capability or closing rating
+        cols = [
+            Col("Duty, % of rating or capability", c.width, c.number_format, c.note)
+            if c.label == "Duty, % of rating"
+            else c
+            for c in cols
+        ]
         cols += [
             Col(
                 "Compared as",
@@ -435,6 +441,14 @@ def _duty_sheet(ws, result: StudyResult) -> None:
                 "otherwise the rating.",
             ),
             Col("Interrupting, % of capability", 11, "0.0"),
+            Col(
+                "Closing duty, kA",
+                10,
+                KA,
+                "mvcb: the first-cycle peak ip (kA peak); mvcb_mva: 1.6 x the symmetrical current "
+                "(kA RMS).",
+            ),
+            Col("Closing rating, kA", 10, KA, "As entered (closing_ka) or by default."),
             Col(
                 "Closing and latching, % of its rating",
                 11,
@@ -470,7 +484,14 @@ def _duty_sheet(ws, result: StudyResult) -> None:
             FAULT_WORDS[r.duty_fault],
         )
         if with_mv:
-            row += (r.duty_basis, r.capability_ka, r.interrupting_pct, r.closing_pct)
+            row += (
+                r.duty_basis,
+                r.capability_ka,
+                r.interrupting_pct,
+                r.closing_duty_ka,
+                r.closing_rating_ka,
+                r.closing_pct,
+            )
         if with_cases:
             row += (r.duty_case, r.base_duty_pct, r.base_duty_status)
         rows.append(row)

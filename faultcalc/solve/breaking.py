@@ -8,13 +8,16 @@ node, in chunks, never per bus): with the fault current I_f = E / Z_kk, the mach
 rises by ``Z_k,m I_f / z_m`` (z_m its internal impedance). Its decay is applied to that
 partial at the fault, phasor by phasor:
 
-* ``Ib = | I_f - sum over machines (1 - mu q) I_m |``: mu from the machine's own current over
-  its rated current and t_min, q = 1 except for asynchronous motors (q from their active power
-  per pair of poles);
-* far from generators (every synchronous machine's I"kG / IrG at most 2): ``Ik = | I_f - sum
-  over asynchronous motors I_m |`` (a motor feeds no steady current into a balanced fault) and
-  ``Ith = I"k sqrt(m + n)`` with n = 1; near a generator Ik and n need the generator's
-  decrement curves and are not computed (said in iec_note);
+* ``Ib = | I_f - sum over machines w (1 - mu q) I_m |``: mu from the machine's own current
+  over its rated current and t_min, q = 1 except for asynchronous motors (q from their active
+  power per pair of poles), w = |z_m I_m| / E the drop across the machine's own impedance over
+  the source voltage (1 for a machine at the faulted bus; IEC 60909-0 9.1.3 for meshed
+  networks, from memory);
+* far from generators (every synchronous machine's I"kG / IrG at most 2): Ik = the initial
+  current of the network with the asynchronous motors left out (a motor feeds no steady current
+  into a balanced fault; one more factorization) and ``Ith = I"k sqrt(m + n)`` with n = 1; near
+  a generator Ik and n need the generator's decrement curves and are not computed (said in
+  iec_note);
 * ``i_DC = sqrt(2) I"k e^(-2 pi f t_min R/X)`` with the bus's R/X.
 """
 
@@ -35,9 +38,10 @@ NEAR_NOTE = (
 SYNCHRONOUS = ("generator", "synchronous_motor")
 
 
-def after_first_instant(analysis, rows: dict) -> dict[str, np.ndarray]:
+def after_first_instant(analysis, rows: dict, z_without_motors=None) -> dict[str, np.ndarray]:
     """The columns ib_ka, idc_ka, ik_ka, ith_ka, iec_note of the bus table (``rows``: its
-    columns so far: i3ph_ka, xr_fault, kappa, kv)."""
+    columns so far: i3ph_ka, xr_fault, kappa, kv; ``z_without_motors``: Z1 at every bus with
+    the asynchronous motors left out, None when there are none)."""
     system = analysis.system
     settings = system.settings
     pu, network = analysis.pu, analysis.network
@@ -50,11 +54,10 @@ def after_first_instant(analysis, rows: dict) -> dict[str, np.ndarray]:
     i_f = np.asarray(pu.prefault_pu) / (z_kk + zf)  # per-unit, bolted or through zf
     i_base = perunit.i_base_ka(kv, pu.base_mva)
     decayed = np.zeros(n, complex)  # sum of (1 - mu q) I_m
-    asynchronous = np.zeros(n, complex)  # sum of the motors' partials
     near = np.zeros(n, bool)
     machines = _machines(analysis)
     if machines is not None:
-        nodes, z_m, ratio_base, q_of, synchronous = machines
+        nodes, z_m, ratio_base, q_of, synchronous, e_m = machines
         unique, which = np.unique(nodes, return_inverse=True)
         step = max(1, min(MACHINE_CHUNK, CHUNK_CELLS // max(1, analysis.factor1.n)))
         for start in range(0, len(unique), step):
@@ -64,12 +67,17 @@ def after_first_instant(analysis, rows: dict) -> dict[str, np.ndarray]:
             partial = columns[:, which[at] - start] / z_m[at] * i_f[:, None]  # (buses, m)
             ratio = np.abs(partial) * ratio_base[at]  # I"k of the machine / its rated current
             mu = iec60909.breaking_current_factor_mu(ratio, t_min)
-            decayed += ((1.0 - mu * q_of[at]) * partial).sum(axis=1)
-            asynchronous += partial[:, ~synchronous[at]].sum(axis=1)
+            # IEC 60909-0 9.1.3 (meshed networks, from memory): each decrement weighted by the
+            # drop across the machine's own reactance over the source voltage, 1 at its bus
+            weight = np.minimum(1.0, np.abs(z_m[at] * partial) / e_m[at])
+            decayed += (weight * (1.0 - mu * q_of[at]) * partial).sum(axis=1)
             near |= (ratio[:, synchronous[at]] > 2.0).any(axis=1)
     far = ~near
     ib = np.abs(i_f - decayed) * i_base
-    ik = np.where(far, np.abs(i_f - asynchronous) * i_base, np.nan)
+    i_steady = (
+        i_f if z_without_motors is None else (np.asarray(pu.prefault_pu) / (z_without_motors + zf))
+    )
+    ik = np.where(far, np.abs(i_steady) * i_base, np.nan)
     m = iec60909.dc_heat_factor_m(np.asarray(rows["kappa"], float), f, settings.fault_duration_s)
     ith = np.where(far, iec60909.thermal_equivalent_current_ka(i3, m, np.ones(n)), np.nan)
     xr = np.asarray(rows["xr_fault"], dtype=float)
@@ -116,4 +124,5 @@ def _machines(analysis):
         q[motor] = iec60909.motor_factor_q(
             p_mw[motor] / pole_pairs[motor], system.settings.min_time_delay_s
         )
-    return nodes, z_m, base / rated_ka, q, synchronous
+    e_m = np.asarray(analysis.pu.prefault_pu, float)[bus_at]
+    return nodes, z_m, base / rated_ka, q, synchronous, e_m

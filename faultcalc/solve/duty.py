@@ -57,7 +57,10 @@ DEVICE_NAMES = {
     "mvcb": "MV circuit breaker, symmetrical-current (constant kA) rating (IEEE C37.04)",
     "mvcb_mva": "MV circuit breaker, constant-MVA rating with voltage range factor K",
 }
-MV_TEST_XR = 17.0  # the X/R at which MV breaker ratings hold (IEEE C37.010, from memory)
+# The X/R at which MV breaker ratings hold: the rating's 45 ms DC time constant, X/R 17 at 60 Hz
+# and 14 at 50 Hz (IEEE C37.04 / C37.010, from memory).
+MV_TEST_XR_BY_HZ = {60: 17.0, 50: 14.0}
+MV_TEST_XR = MV_TEST_XR_BY_HZ[60]
 PARTING_CYCLES = {2: 1.5, 3: 2.0, 5: 3.0, 8: 4.0}  # rated interrupting time -> contact parting
 DEFAULT_INTERRUPTING_CYCLES = 5
 CLOSING_LIMIT_XR = 25.0  # the 1.6 factor of constant-MVA closing duty holds up to this X/R
@@ -123,10 +126,11 @@ def _remote(xr: float, cycles: float) -> float:
     return math.sqrt(1.0 + 2.0 * math.exp(-4.0 * math.pi * cycles / xr))
 
 
-def mv_multiplying_factor(xr: float, parting_cycles: float) -> float:
+def mv_multiplying_factor(xr: float, parting_cycles: float, frequency_hz: int = 60) -> float:
     """The remote (DC decrement) multiplying factor of an MV breaker's interrupting duty at
     contact parting time ``parting_cycles``, never below 1."""
-    return max(1.0, _remote(xr, parting_cycles) / _remote(MV_TEST_XR, parting_cycles))
+    test = MV_TEST_XR_BY_HZ[frequency_hz]
+    return max(1.0, _remote(xr, parting_cycles) / _remote(test, parting_cycles))
 
 
 def mv_capability_ka(

@@ -81,7 +81,9 @@ def interrupting_system(system: System) -> System:
     rpm = m.array("rpm")
     factor = np.array(
         [
-            standards.ieee_interrupting_multiplier(k, h, None if r != r else r)
+            standards.ieee_interrupting_multiplier(
+                k, h, None if r != r else r, system.settings.frequency_hz
+            )
             for k, h, r in zip(m.column("kind"), _rated_hp(m).tolist(), rpm.tolist(), strict=True)
         ],
         dtype=float,
@@ -141,6 +143,7 @@ def _iec_units(system: System) -> System:
     z = system.transformers.array("z_pct").copy()
     z0 = system.transformers.array("z0_pct").copy()
     problems = []
+    taken: dict[str, str] = {}
     for k, (name, g) in enumerate(zip(units, m, strict=True)):
         if name is None:
             continue
@@ -149,6 +152,15 @@ def _iec_units(system: System) -> System:
             problems.append(Problem("machines", g.row, "unit_transformer", name, message))
 
         t = system.transformers[index[name]] if name in index else None
+        if name in taken:
+            refuse(
+                f"transformer {name} already forms a unit with generator {taken[name]}; a "
+                "unit is one generator and its transformer (correcting it twice would "
+                "understate the current)"
+            )
+        taken.setdefault(name, g.machine)
+        if problems:
+            continue
         if g.kind != "generator":
             refuse("only a generator forms a power-station unit with a transformer")
         elif t is None:
@@ -207,7 +219,7 @@ def variants(system: System) -> list[Variant]:
         rpm = m.array("rpm")
         factor = np.array(
             [
-                standards.ieee_first_cycle_multiplier(k, h, None if r != r else r)
+                standards.ieee_first_cycle_multiplier(k, h, None if r != r else r, s.frequency_hz)
                 for k, h, r in zip(m.column("kind"), rated.tolist(), rpm.tolist(), strict=True)
             ],
             dtype=float,

@@ -14,7 +14,8 @@ currents):
 IEEE Std 551-2006 (Violet Book), Table 9-1, multipliers of machine subtransient reactance:
 
 * first-cycle (momentary) network: induction motors above 1000 hp, and above 250 hp at 3600
-  r/min: 1.0; all other induction motors of 50 hp and more: 1.2; below 50 hp: 1.67;
+  r/min (two-pole: one pair of poles by the nameplate speed, see ``two_pole``): 1.0; all other
+  induction motors of 50 hp and more: 1.2; below 50 hp: 1.67;
   synchronous motors and generators: 1.0.
 * interrupting (1.5 to 4 cycle) network: synchronous motors 1.5; induction motors above 1000
   hp, and above 250 hp at 3600 r/min: 1.5; other induction motors of 50 hp and more: 3.0;
@@ -52,25 +53,36 @@ def end_of_fault_factor(from_c: float, to_c: float) -> float:
     return (1.0 + IEC_ALPHA * (to_c - 20.0)) / (1.0 + IEC_ALPHA * (from_c - 20.0))
 
 
-def ieee_first_cycle_multiplier(kind: str, hp: float, rpm: float | None) -> float:
+def two_pole(rpm: float | None, frequency_hz: int = 60) -> bool:
+    """Whether a motor of nameplate speed ``rpm`` is a two-pole machine (the table's "3600
+    r/min" class at 60 Hz): one pair of poles, ``round(60 f / rpm) == 1``; a two-pole induction
+    motor runs at about 3550 to 3580 r/min at full load, so its nameplate is below 3600."""
+    return rpm is not None and rpm > 0 and round(60.0 * frequency_hz / rpm) == 1
+
+
+def ieee_first_cycle_multiplier(
+    kind: str, hp: float, rpm: float | None, frequency_hz: int = 60
+) -> float:
     """IEEE Std 551-2006 Table 9-1 first-cycle multiplier of X"d for one machine."""
     if kind != "induction_motor":
         return 1.0
-    if hp > 1000.0 or (hp > 250.0 and rpm is not None and rpm >= 3600.0):
+    if hp > 1000.0 or (hp > 250.0 and two_pole(rpm, frequency_hz)):
         return 1.0
     if hp >= 50.0:
         return 1.2
     return 1.67
 
 
-def ieee_interrupting_multiplier(kind: str, hp: float, rpm: float | None) -> float:
+def ieee_interrupting_multiplier(
+    kind: str, hp: float, rpm: float | None, frequency_hz: int = 60
+) -> float:
     """IEEE Std 551-2006 Table 9-1 interrupting-network multiplier of X"d for one machine;
     ``inf`` for a machine the interrupting network neglects (induction motors below 50 hp)."""
     if kind == "generator":
         return 1.0
     if kind == "synchronous_motor":
         return 1.5
-    if hp > 1000.0 or (hp > 250.0 and rpm is not None and rpm >= 3600.0):
+    if hp > 1000.0 or (hp > 250.0 and two_pole(rpm, frequency_hz)):
         return 1.5
     if hp >= 50.0:
         return 3.0

@@ -540,6 +540,7 @@ def equipment(result: StudyResult) -> list:
     widths = [0.11, 0.2, 0.07, 0.06, 0.07, 0.08, 0.07, 0.07, 0.14, 0.13]
     numbers = {2, 3, 4, 5, 6, 7}
     if with_mv:
+        head[head.index("Duty, % of rating")] = "Duty, % of rating or capability"
         head += ["Compared as", "Capability at bus kV, kA", "Closing and latching, %"]
         widths = [w * 0.8 for w in widths] + [0.08, 0.06, 0.06]
         numbers |= {len(head) - 2, len(head) - 1}
