@@ -211,6 +211,7 @@ class Analysis:
     z0_node: np.ndarray  # zero-sequence, NaN where no path to ground
     angle_deg: np.ndarray  # phase displacement of each node's zone (positive sequence)
     orderings: Orderings  # the study's cache of factor orderings, for the X/R variants
+    e_bus: np.ndarray | None = None  # open-circuit voltage magnitude per bus (pu), when used
 
 
 # progress.step calls per analyse + fault_table, for the progress bar's plan.
@@ -242,7 +243,23 @@ def analyse(
     factor0 = SymmetricFactor(network.y0, orderings)
     z0_node = np.where(network.grounded, factor0.diagonal(), complex(np.nan, np.nan))
     angles = zone_angles_deg(pu, network, lambda: element_locations(system))
-    return Analysis(system, pu, network, factor1, factor0, z1_node, z0_node, angles, orderings)
+    e_bus = None
+    if system.settings.prefault_voltage == "open_circuit":
+        e_bus = open_circuit_pu(pu, network, factor1)
+    return Analysis(
+        system, pu, network, factor1, factor0, z1_node, z0_node, angles, orderings, e_bus
+    )
+
+
+def open_circuit_pu(pu, network: Network, factor1: SymmetricFactor) -> np.ndarray:
+    """The open-circuit (no-load) voltage magnitude at every bus, per-unit of its nominal kV,
+    with every source and machine at its internal voltage (``prefault_pu`` of its bus) behind
+    its impedance: one solve, ``V = Y^-1 I`` with the sources' Norton currents ``E / z``."""
+    injections = np.zeros(factor1.n, dtype=complex)
+    e = np.asarray(pu.prefault_pu, dtype=float)[pu.shunt_buses]
+    z = pu.shunts.array("z1_pu", complex)
+    np.add.at(injections, network.node_of_bus[pu.shunt_buses], e / z)
+    return np.abs(factor1.solve(injections)[network.node_of_bus])
 
 
 def element_locations(system: System) -> dict[str, tuple[str, int | None]]:
@@ -257,8 +274,9 @@ def element_locations(system: System) -> dict[str, tuple[str, int | None]]:
 def contributions_of(a: Analysis, buses: list[int]) -> list[Phasors]:
     """Complex contributions to faults at the buses with these input indices."""
     zf_pu = a.system.settings.fault_ohm / perunit.z_base_ohm(np.array(a.pu.bus_kv), a.pu.base_mva)
+    pu = a.pu if a.e_bus is None else dataclasses.replace(a.pu, prefault_pu=tuple(a.e_bus))
     return contribution_phasors(
-        a.pu, a.network, a.factor1, a.factor0, a.z1_node, a.z0_node, buses, zf_pu, a.angle_deg
+        pu, a.network, a.factor1, a.factor0, a.z1_node, a.z0_node, buses, zf_pu, a.angle_deg
     )
 
 
@@ -284,7 +302,7 @@ def fault_table(a: Analysis, progress: Progress | None = None, interrupting=None
     z1 = a.z1_node[network.node_of_bus]
     z0 = a.z0_node[network.node_of_bus]
     kv = np.array(pu.bus_kv)
-    e = np.array(pu.prefault_pu)
+    e = np.array(pu.prefault_pu) if a.e_bus is None else a.e_bus
     z_base = perunit.z_base_ohm(kv, pu.base_mva)
     i_base = perunit.i_base_ka(kv, pu.base_mva)
     zf_pu = settings.fault_ohm / z_base

@@ -35,6 +35,7 @@ class Settings:
     fault_ohm: float = 0.0
     min_time_delay_s: float = 0.02  # iec60909: t_min for Ib and the DC component
     fault_duration_s: float = 1.0  # iec60909: T_k for Ith
+    prefault_voltage: str = "nominal"  # the voltage behind each Thevenin impedance
 
 
 @dataclass(frozen=True)

@@ -122,6 +122,15 @@ def read_settings(raw: RawSheet | None, out: Collector) -> model.Settings:
             values["conductor_temp_c"],
             "conductor_temp_c: expected a conductor temperature from -60 to 250 C",
         )
+    if values["prefault_voltage"] == "open_circuit" and values["method"] == "iec60909":
+        out.problem(
+            "study",
+            seen.get("prefault_voltage"),
+            "value",
+            values["prefault_voltage"],
+            "prefault_voltage open_circuit is for methods thevenin and ieee; method iec60909 "
+            "puts its equivalent source c Un / sqrt(3) at the fault",
+        )
     return model.Settings(
         title=str(values["title"] or ""),
         base_mva=float(values["base_mva"]),
@@ -135,6 +144,7 @@ def read_settings(raw: RawSheet | None, out: Collector) -> model.Settings:
         fault_ohm=float(values["fault_ohm"]),
         min_time_delay_s=float(values["min_time_delay_s"]),
         fault_duration_s=float(values["fault_duration_s"]),
+        prefault_voltage=values["prefault_voltage"],
     )
 
 

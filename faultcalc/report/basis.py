@@ -17,7 +17,13 @@ def basis_items(result: StudyResult) -> list[tuple[str, str]]:
         ("Tool", f"{b.tool_name} {b.tool_version}"),
         ("MVA base", f"{s.base_mva:g} MVA"),
         ("Frequency", f"{s.frequency_hz} Hz"),
-        ("Prefault voltage", f"{s.prefault_pu:g} per-unit of each bus's nominal kV"),
+        (
+            "Prefault voltage",
+            f"{s.prefault_pu:g} per-unit of each bus's nominal kV"
+            if s.prefault_voltage == "nominal"
+            else "the open-circuit (no-load) voltage at each bus, every source and machine at "
+            f"{s.prefault_pu:g} per-unit behind its impedance (the prefault_pu column)",
+        ),
         (
             "Fault impedance",
             f"{s.fault_ohm:g} ohm" + (" (bolted faults)" if not s.fault_ohm else ""),

@@ -37,6 +37,7 @@ def result_dict(result: StudyResult, records=None) -> dict[str, Any]:
             "base_mva": s.base_mva,
             "frequency_hz": s.frequency_hz,
             "prefault_pu": s.prefault_pu,
+            "prefault_voltage": s.prefault_voltage,
             "conductor_temp_c": s.conductor_temp_c,
             "fault_ohm": s.fault_ohm,
             "method": s.method,

@@ -127,6 +127,16 @@ SETTINGS: tuple[Column, ...] = (
         bound=POSITIVE,
     ),
     Column(
+        "prefault_voltage",
+        CHOICE,
+        "The voltage behind each bus's Thevenin impedance: nominal (prefault_pu x the bus's "
+        "nominal kV) or open_circuit (the no-load voltage of the network with every source at "
+        "prefault_pu behind its impedance: differs from nominal behind off-nominal transformer "
+        "ratios). Methods thevenin and ieee.",
+        default="nominal",
+        choices=("nominal", "open_circuit"),
+    ),
+    Column(
         "conductor_temp_c",
         NUMBER,
         "Conductor temperature for cable resistances taken from the tables (75 C as printed). "

@@ -271,7 +271,12 @@ def describe(system: System) -> str:
         return (
             "IEEE first-cycle: machine subtransient reactances times the multipliers of "
             "IEEE Std 551-2006 Table 9-1; prefault "
-            f"{s.prefault_pu:g} pu; X/R from {s.xr_method} reduction; interrupting (1.5 to 4 "
+            + (
+                f"{s.prefault_pu:g} pu"
+                if s.prefault_voltage == "nominal"
+                else f"the open-circuit voltage (sources at {s.prefault_pu:g} pu)"
+            )
+            + f"; X/R from {s.xr_method} reduction; interrupting (1.5 to 4 "
             "cycle) network for medium-voltage breakers by the same table's interrupting "
             "multipliers (motors below 50 hp left out), E/X with X from the X-only reduction "
             "and X/R from separate R and X reductions (IEEE C37.010)"
@@ -287,5 +292,10 @@ def describe(system: System) -> str:
             f"at t_min {s.min_time_delay_s:g} s, DC component, steady-state Ik far from "
             f"generators and Ith for {s.fault_duration_s:g} s (IEC 60909-0:2016 clauses 9 to 14, "
             "from memory)"
+        )
+    if s.prefault_voltage == "open_circuit":
+        return (
+            "the open-circuit voltage of the network (every source at "
+            f"{s.prefault_pu:g} pu behind its impedance, no load) behind the Thevenin impedance"
         )
     return f"prefault voltage {s.prefault_pu:g} pu behind the Thevenin impedance"

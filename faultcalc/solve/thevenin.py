@@ -71,6 +71,18 @@ class SymmetricFactor:
         out[post] = self._lu.solve(rhs[post])
         return out
 
+    def solve(self, rhs: np.ndarray) -> np.ndarray:
+        """``Y^-1 rhs`` for one right-hand side (node injections), against the factor."""
+        rhs = np.asarray(rhs, dtype=complex)
+        if not self.n:
+            return rhs
+        if self._tree is None:
+            return self._lu.solve(rhs)
+        post = self._tree[0]
+        out = np.empty_like(rhs)
+        out[post] = self._lu.solve(rhs[post])
+        return out
+
     def diagonal(self) -> np.ndarray:
         if self._tree is not None:
             return self._forest_diagonal()

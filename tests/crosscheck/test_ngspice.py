@@ -266,3 +266,25 @@ def test_interrupting_network_e_over_x(tmp_path, seed):
         worst = max(worst, abs(simulated / expected - 1))
         assert abs(simulated / expected - 1) <= TOLERANCE["3ph"], (bus, simulated, expected)
     print(f"interrupting network, seed {seed}: worst relative difference {worst:.2e}")
+
+
+@pytest.mark.parametrize("seed", [5, 9])
+def test_open_circuit_prefault_needs_no_scaling(tmp_path, seed):
+    # With prefault_voltage = open_circuit the tool's Thevenin voltage is the network's own
+    # no-load voltage, so its currents agree with the simulator's directly, with no scaling
+    # by the simulated open-circuit voltage (off-nominal transformer ratios present).
+    sheets = random_sheets(seed, n_mv=4, n_lv=8, off_nominal=True, machines=4)
+    sheets["study"] = [{"setting": "prefault_voltage", "value": "open_circuit"}]
+    system = read_system(write_csv_folder(tmp_path / "net", sheets))
+    result = run_study(system).buses.set_index("bus")
+    voc = open_circuit_pu(system)
+    assert max(abs(v - 1) for v in voc.values()) > 1e-3  # the check sees off-nominal voltages
+    worst = 0.0
+    for bus in list(result.index)[:6]:
+        assert result.loc[bus, "prefault_pu"] == pytest.approx(voc[bus], rel=1e-6)
+        for fault in ("3ph", "ll"):
+            simulated = fault_current_ka(system, bus, fault)
+            relative = abs(simulated / result.loc[bus, COLUMN[fault]] - 1)
+            worst = max(worst, relative)
+            assert relative <= TOLERANCE[fault], (bus, fault, simulated)
+    print(f"open-circuit prefault, seed {seed}: worst relative difference {worst:.2e}")
