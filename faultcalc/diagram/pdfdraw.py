@@ -50,20 +50,14 @@ def _stroke(canv, s, x0: float, top: float, colour) -> None:
     canv.setFillColor(colour)
     canv.setLineWidth(s.width)
     canv.setDash([2 * s.width, 2 * s.width] if s.dashed else [])
-    if s.kind == "line":
+    if s.kind in ("line", "polygon"):
         path = canv.beginPath()
         (x, y), *rest = s.points
         path.moveTo(x0 + x, top - y)
         for x, y in rest:
             path.lineTo(x0 + x, top - y)
-        canv.drawPath(path, stroke=1, fill=0)
-    elif s.kind == "polygon":
-        path = canv.beginPath()
-        (x, y), *rest = s.points
-        path.moveTo(x0 + x, top - y)
-        for x, y in rest:
-            path.lineTo(x0 + x, top - y)
-        path.close()
+        if s.kind == "polygon":
+            path.close()
         canv.drawPath(path, stroke=1, fill=1 if s.filled else 0)
     elif s.kind == "circle":
         canv.circle(x0 + s.x, top - s.y, s.r, stroke=1, fill=1 if s.filled else 0)

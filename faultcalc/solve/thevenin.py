@@ -62,17 +62,11 @@ class SymmetricFactor:
         nodes = np.atleast_1d(np.asarray(nodes, dtype=np.int64))
         rhs = np.zeros((self.n, len(nodes)), dtype=complex)
         rhs[nodes, np.arange(len(nodes))] = 1.0
-        if not self.n:
-            return rhs
-        if self._tree is None:
-            return self._lu.solve(rhs)
-        post = self._tree[0]
-        out = np.empty_like(rhs)
-        out[post] = self._lu.solve(rhs[post])
-        return out
+        return self.solve(rhs)
 
     def solve(self, rhs: np.ndarray) -> np.ndarray:
-        """``Y^-1 rhs`` for one right-hand side (node injections), against the factor."""
+        """``Y^-1 rhs`` for node injections ``rhs`` (one column or several), against the
+        factor."""
         rhs = np.asarray(rhs, dtype=complex)
         if not self.n:
             return rhs
