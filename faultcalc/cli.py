@@ -126,25 +126,38 @@ def _guarded(action):
 
 
 def _summary(result) -> str:
+    from .solve.duty import STATUS_NEAR
+
     b = result.buses
     worst = result.largest_three_phase()
     text = (
         f"{len(b)} buses studied; highest three-phase fault current {worst.i3ph_ka:.2f} kA "
         f"at {worst.bus} ({worst.kv:g} kV). {len(result.warnings)} warning(s)."
     )
+    if result.maximum is not None and len(result.maximum):
+        top = result.maximum.loc[result.maximum.max_ka.idxmax()]
+        words = {"3ph": "three-phase", "slg": "line-to-ground", "ll": "line-to-line"}
+        fault = words.get(top.max_fault, "double line-to-ground")
+        case = "the base case" if top.max_case == "base" else f"case '{top.max_case}'"
+        text += (
+            f"\nMaximum available: {top.max_ka:.2f} kA at {top.bus} ({fault} fault, {case}); "
+            "every bus's on the 'Summary' sheet."
+        )
     rated = 0 if result.duty is None else len(result.duty)
     if not rated:
         return text
     over = result.over_rating()
     where = "the base case or any case" if result.cases else "the study"
+    near = int((result.duty.duty_status == STATUS_NEAR).sum())
+    near_text = f"; {near} within 10 % of it" if near else ""
     if over.empty:
-        return text + f"\nDuty: no device of {rated} exceeds its rating in {where}."
+        return text + f"\nDuty: no device of {rated} exceeds its rating in {where}{near_text}."
     top = over.iloc[0]
     case = "the base case" if top.duty_case == "base" else f"case '{top.duty_case}'"
     fault = "three-phase" if top.duty_fault == "3ph" else "line-to-ground"
     return text + (
         f"\nDuty: {len(over)} device(s) of {rated} exceed their rating in {where}; the worst: "
-        f"{top.bus}, {top.duty_pct:.1f} % of its rating in {case} ({fault} fault). "
+        f"{top.bus}, {top.duty_pct:.1f} % of its rating in {case} ({fault} fault){near_text}. "
         "See the 'Equipment duty' sheet."
     )
 

@@ -159,3 +159,17 @@ def test_the_command_line_uses_only_the_public_api():
         if isinstance(node, ast.ImportFrom) and not node.level:
             assert not (node.module or "").startswith("faultcalc"), node.module
     assert used and used <= set(faultcalc.__all__), used - set(faultcalc.__all__)
+
+
+def test_the_summary_names_the_maximum_available_and_the_near_devices(tmp_path):
+    # The console summary gives the largest current of any fault type in any case (as the
+    # Summary sheet does) and counts the devices within 10 % of their rating (#14).
+    from faultcalc import read_system, run_study
+
+    result = run_study(read_system(sample_path()))
+    top = result.maximum.loc[result.maximum.max_ka.idxmax()]
+    done = run("study", str(sample_path()), "-o", str(tmp_path / "r.xlsx"))
+    assert done.exit_code == 0, done.output
+    assert f"Maximum available: {top.max_ka:.2f} kA at {top.bus}" in done.output
+    near = int((result.duty.duty_status == "within 10% of rating").sum())
+    assert near and f"{near} within 10 % of it" in done.output
