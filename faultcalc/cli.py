@@ -126,8 +126,6 @@ def _guarded(action):
 
 
 def _summary(result) -> str:
-    from .solve.duty import STATUS_NEAR
-
     b = result.buses
     worst = result.largest_three_phase()
     text = (
@@ -148,7 +146,7 @@ def _summary(result) -> str:
         return text
     over = result.over_rating()
     where = "the base case or any case" if result.cases else "the study"
-    near = int((result.duty.duty_status == STATUS_NEAR).sum())
+    near = len(result.near_rating())
     near_text = f"; {near} within 10 % of it" if near else ""
     if over.empty:
         return text + f"\nDuty: no device of {rated} exceeds its rating in {where}{near_text}."

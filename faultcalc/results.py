@@ -180,6 +180,12 @@ class StudyResult:
         over = self.duty[self.duty.duty_status == STATUS_OVER]
         return over.sort_values("duty_pct", ascending=False, kind="stable")
 
+    def near_rating(self) -> pd.DataFrame:
+        """Rows of ``duty`` whose worst duty is within 10 % of the rating (not over it)."""
+        if self.duty is None:
+            return pd.DataFrame(columns=list(DUTY_COLUMNS))
+        return self.duty[self.duty.duty_status == STATUS_NEAR]
+
     def largest_three_phase(self) -> pd.Series:
         """The row of ``buses`` with the largest three-phase fault current (the first on equal
         values)."""
