@@ -428,3 +428,36 @@ def test_header_words_stay_whole_when_long_names_squeeze_the_table():
     for h, w in zip(head, widths, strict=True):
         for word in h.split():
             assert stringWidth(word, fonts.BOLD, 8) + PAD_PT <= w + 1e-6, (word, w)
+
+
+def test_method_sections_print_the_currents_after_the_first_instant(make_input, tmp_path):
+    # method iec60909: Ib, i_DC, Ik, Ith per bus; method ieee: the interrupting network's E/X
+    # (#15); every bus's figure as the bus table has it, two decimals
+    for method, heading, column in (
+        ("iec60909", "IEC 60909-0 currents after the first instant", "ib_ka"),
+        ("ieee", "IEEE interrupting network", "i_int_ka"),
+    ):
+        sheets = {
+            "study": [{"setting": "method", "value": method}],
+            "buses": [{"bus": "MV", "kv": 13.8}, {"bus": "LV", "kv": 0.48}],
+            "sources": [{"source": "U", "bus": "MV", "sc_mva": 300, "xr": 12, "slg_ka": 10}],
+            "transformers": [transformer(transformer="T1", hv_bus="MV", lv_bus="LV")],
+            "machines": [
+                {
+                    "machine": "M1",
+                    "bus": "MV",
+                    "kind": "induction_motor",
+                    "hp": 800,
+                    "kv": 13.2,
+                    "xd_pct": 17,
+                    "xr": 20,
+                    "rpm": 1780,
+                },
+            ],
+        }
+        result, reader, _ = _report(tmp_path, read_system(make_input(sheets)), name=method)
+        pages = [_flat(t) for t in _pages(reader)]
+        page = next(t for t in pages[2:] if heading in t)
+        assert "MV 13.800" in page
+        value = result.buses.set_index("bus").loc["MV", column]
+        assert f"{value:.2f}" in page
