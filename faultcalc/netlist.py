@@ -289,6 +289,8 @@ def build_netlist(
             z0 = _from_reactance(x0 / 100.0, m.xr) * scale + 3 * m.neutral_ohm / m.count
         label = f"mach{i + 1}_{_safe(m.machine)}"
         star_source(label, m.bus, settings.prefault_pu * kv[m.bus] / SQRT3, z1, z0)
+    for i, g in enumerate(system.grounding_transformers):
+        _grounding_bank(w, g, f"gnd{i + 1}_{_safe(g.grounding_transformer)}", ph)
     for c in system.cables:
         z1, z0 = c.z_ohm, c.z0_ohm
         w.comment(f"cable {c.cable}: {c.from_bus} - {c.to_bus}")
@@ -341,6 +343,29 @@ def build_netlist(
     w.add(".endc")
     w.add(".end")
     return "\n".join(w.lines) + "\n"
+
+
+def _grounding_bank(w: _Writer, g, label: str, ph) -> None:
+    """A grounding bank as its zero-sequence equivalent (the choice, stated in the netlist): no
+    current for positive- and negative-sequence voltages; each phase draws ``V0 / (Z0 + 3 Zn)``
+    with ``V0 = (Va + Vb + Vc) / 3``, made by voltage-controlled sources in series and mirrored
+    into every phase by current-controlled sources (all linear)."""
+    z_abs = g.z0_ohm if g.z0_ohm is not None else g.z0_pct / 100.0 * g.kv**2 / (g.kva / 1000.0)
+    z0 = _split(z_abs, g.xr) + 3.0 * g.neutral_ohm
+    w.comment(
+        f"grounding bank {g.grounding_transformer} ({g.kind}) at {g.bus}: zero-sequence "
+        f"equivalent, Z0 + 3 Zn = {z0.real:.6g} + j{z0.imag:.6g} ohm per phase"
+    )
+    phases = [ph(g.bus, k) for k in range(3)]
+    previous = "0"
+    for k, node in enumerate(phases):
+        out = f"{label}_v{k}"
+        w.add(f"E{label}_{k} {out} {previous} {node} 0 {1.0 / 3.0:.15g}")
+        previous = out
+    w.add(f"V{label}_s {previous} {label}_z 0")
+    w.impedance(f"{label}_z", "0", z0, label)
+    for k, node in enumerate(phases):
+        w.add(f"F{label}_{k} {node} 0 V{label}_s 1")
 
 
 def _series(w: _Writer, a: list[str], b: list[str], z1: complex, z0: complex, label: str):

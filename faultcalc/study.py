@@ -117,6 +117,16 @@ def _input_text(system: System) -> dict[str, str]:
             f'{count}{m.kind.replace("_", " ")} {rating}, {m.kv:g} kV, X"d {m.xd_pct:g} %, '
             f"X/R {m.xr:g}"
         )
+    for g in system.grounding_transformers:
+        z0 = (
+            f"Z0 {g.z0_ohm:g} ohm"
+            if g.z0_ohm is not None
+            else f"Z0 {g.z0_pct:g} % on {g.kva:g} kVA, {g.kv:g} kV"
+        )
+        text[g.grounding_transformer] = (
+            f"{g.kind.replace('_', '-')} grounding bank, {z0}, X/R {g.xr:g}, neutral "
+            f"{g.neutral_ohm:g} ohm"
+        )
     return text
 
 
@@ -128,7 +138,10 @@ def _element_table(system: System, pu: perunit.PerUnitSystem, used: set[int]) ->
         return (np.nan, np.nan) if z0 is None else (z0.real, z0.imag)
 
     for s in pu.shunts:
-        note = "source behind its impedance" if s.kind == "source" else "machine at subtransient"
+        note = {
+            "source": "source behind its impedance",
+            "grounding_transformer": "zero-sequence path only",
+        }.get(s.kind, "machine at subtransient")
         rows.append(
             (
                 s.element,

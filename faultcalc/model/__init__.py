@@ -279,6 +279,28 @@ class OpenBranch:
 
 
 @dataclass(frozen=True)
+class GroundingTransformer:
+    """A zig-zag or wye-delta grounding bank: a zero-sequence path to ground at its bus, none in
+    the positive and negative sequences."""
+
+    grounding_transformer: str
+    bus: str
+    kind: str
+    xr: float
+    z0_ohm: float | None = None
+    z0_pct: float | None = None
+    kva: float | None = None
+    kv: float | None = None
+    neutral_ohm: float = 0.0
+    in_service: str = "yes"  # the System holds only elements in service
+    row: int | None = None
+
+    @property
+    def name(self) -> str:
+        return self.grounding_transformer
+
+
+@dataclass(frozen=True)
 class System:
     """Everything read from one input: settings, buses and elements, plus reader warnings.
 
@@ -293,6 +315,7 @@ class System:
     cables: Records[Cable] = ()
     impedances: Records[Impedance] = ()
     machines: Records[Machine] = ()
+    grounding_transformers: Records[GroundingTransformer] = ()
     cases: tuple[tuple[str, System], ...] = ()  # named variations, each a whole System
     input_name: str = ""
     input_sha256: str = ""
@@ -365,4 +388,5 @@ ELEMENT_KINDS = {
     "cables": Cable,
     "impedances": Impedance,
     "machines": Machine,
+    "grounding_transformers": GroundingTransformer,
 }

@@ -37,6 +37,7 @@ BUS_REFERENCES = (
     ("cables", ("from_bus", "to_bus")),
     ("impedances", ("from_bus", "to_bus")),
     ("machines", ("bus",)),
+    ("grounding_transformers", ("bus",)),
 )
 
 

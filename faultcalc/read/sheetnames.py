@@ -21,6 +21,15 @@ SYNONYMS = {
     "cables": ("feeders", "feeder", "conductors", "conductor", "lines", "wires"),
     "impedances": ("reactors", "reactor", "busway", "busways", "ties", "tie"),
     "machines": ("motors", "motor", "generators", "generator", "gens", "rotating"),
+    "grounding_transformers": (
+        "grounding",
+        "grounding_banks",
+        "grounding_bank",
+        "zigzag",
+        "zigzags",
+        "zig_zag",
+        "grounding_transformer",
+    ),
     "cases": ("scenarios", "scenario", "variants", "variations"),
 }
 KNOWN = tuple(s.name for s in schema.SHEETS)

@@ -12,7 +12,9 @@ FAULT_WORDS = {
 # Contributions whose currents are at the voltage of their own bus (contributions.py: the
 # base current of the bus a source or machine is connected to); a branch's are at the faulted
 # bus's (the base current of the faulted bus).
-AT_OWN_BUS = frozenset({"source", "generator", "induction_motor", "synchronous_motor"})
+AT_OWN_BUS = frozenset(
+    {"source", "generator", "induction_motor", "synchronous_motor", "grounding_transformer"}
+)
 
 
 def case_words(case: str) -> str:

@@ -737,6 +737,51 @@ CASES = Sheet(
     ),
 )
 
+GROUNDING_TRANSFORMERS = Sheet(
+    "grounding_transformers",
+    "Grounding transformers (zig-zag, or a wye-delta bank) that give an ungrounded or delta-fed "
+    "system its path to ground: a zero-sequence impedance from the bus to ground, no path in "
+    "the positive and negative sequences.",
+    (
+        Column("grounding_transformer", ID, "Unique name of the grounding bank.", required=True),
+        Column("bus", BUS_REF, "Bus it is connected to.", required=True),
+        Column(
+            "kind",
+            CHOICE,
+            "zigzag (a zig-zag transformer) or wye_delta (a grounded-wye / delta bank).",
+            required=True,
+            choices=("zigzag", "wye_delta"),
+        ),
+        Column(
+            "z0_ohm",
+            NUMBER,
+            "Zero-sequence impedance per phase, ohms (as the maker states it).",
+            unit="ohm",
+            bound=POSITIVE,
+        ),
+        Column(
+            "z0_pct",
+            NUMBER,
+            "Or the zero-sequence impedance in % on the bank's kva and kv.",
+            unit="%",
+            bound=POSITIVE,
+        ),
+        Column("kva", NUMBER, "Rating for z0_pct.", unit="kVA", bound=POSITIVE),
+        Column("kv", NUMBER, "Rated line-to-line voltage for z0_pct.", unit="kV", bound=POSITIVE),
+        Column("xr", NUMBER, "X/R of the zero-sequence impedance.", required=True, bound=POSITIVE),
+        Column(
+            "neutral_ohm",
+            NUMBER,
+            "Impedance from the bank's neutral to ground, ohms; 0 = solidly grounded.",
+            unit="ohm",
+            default=0.0,
+            bound=NON_NEGATIVE,
+        ),
+        _in_service("the grounding bank"),
+    ),
+    alternatives=(Alternative((("z0_ohm",), ("z0_pct", "kva", "kv"))),),
+)
+
 SHEETS: tuple[Sheet, ...] = (
     STUDY,
     BUSES,
@@ -745,11 +790,19 @@ SHEETS: tuple[Sheet, ...] = (
     CABLES,
     IMPEDANCES,
     MACHINES,
+    GROUNDING_TRANSFORMERS,
     CASES,
 )
 
 # Sheets of elements (after buses): their first column is the element's name.
-ELEMENT_SHEETS: tuple[Sheet, ...] = (SOURCES, TRANSFORMERS, CABLES, IMPEDANCES, MACHINES)
+ELEMENT_SHEETS: tuple[Sheet, ...] = (
+    SOURCES,
+    TRANSFORMERS,
+    CABLES,
+    IMPEDANCES,
+    MACHINES,
+    GROUNDING_TRANSFORMERS,
+)
 
 # Sheets the template writes for people; the reader passes over them without a warning.
 GUIDE_SHEET = "guide"

@@ -95,6 +95,17 @@ EXAMPLES: dict[str, list[dict]] = {
             "count": 6,
         },
     ],
+    "grounding_transformers": [
+        {
+            "grounding_transformer": "ZZ-1",
+            "bus": "UTIL-13.8",
+            "kind": "zigzag",
+            "z0_ohm": 4.0,
+            "xr": 10,
+            "neutral_ohm": 0,
+            "in_service": "no",
+        },
+    ],
     "cases": [
         {"case": "utility minimum", "element": "UTILITY", "column": "sc_mva", "value": 250},
         {"case": "utility minimum", "element": "UTILITY", "column": "slg_ka", "value": 9},

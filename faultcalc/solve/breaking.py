@@ -98,7 +98,7 @@ def _machines(analysis):
     system = analysis.system
     shunts = analysis.pu.shunts
     kinds = np.array(shunts.column("kind"), dtype=object)
-    machine = np.flatnonzero(kinds != "source")
+    machine = np.flatnonzero((kinds != "source") & (kinds != "grounding_transformer"))
     if not len(machine):
         return None
     m = system.machines

@@ -283,6 +283,39 @@ def _joined(cls, parts: list[dict[str, object]]) -> Records:
     return Records(cls, columns, n)
 
 
+# A grounding bank's positive- and negative-sequence impedance: its magnetizing impedance,
+# taken as open (common practice for short-circuit studies), in per-unit: no current flows.
+OPEN_PU = 1e12
+
+
+def _grounding(system: System, kv_bus: np.ndarray, base_mva: float) -> dict[str, object]:
+    """ShuntPU columns of every grounding bank: no positive-sequence path (OPEN_PU, no source
+    voltage of its own matters behind it), zero sequence ``(Z0 + 3 Zn)`` to ground with
+    ``|Z0|`` in ohms as given or ``z0_pct/100 x kv^2 / (kva/1000)`` and R = |Z0| / sqrt(1 +
+    (X/R)^2)."""
+    g = system.grounding_transformers
+    kva, kv_rated = g.array("kva"), g.array("kv")
+    z_abs = np.where(
+        np.isnan(g.array("z0_ohm")),
+        g.array("z0_pct") / 100.0 * kv_rated**2 / (kva / 1000.0),
+        g.array("z0_ohm"),
+    )
+    xr = g.array("xr")
+    r = z_abs / np.sqrt(1.0 + xr * xr)
+    z0_ohm = r + 1j * r * xr + 3.0 * g.array("neutral_ohm")
+    n = len(g)
+    return dict(
+        element=g.column("grounding_transformer"),
+        kind=["grounding_transformer"] * n,
+        bus=g.column("bus"),
+        z1_pu=np.full(n, 1j * OPEN_PU),
+        z1_ohm=np.full(n, 1j * OPEN_PU) * z_base_ohm(kv_bus, base_mva),
+        base_kv=kv_bus,
+        z0_pu=z0_ohm / z_base_ohm(kv_bus, base_mva),
+        z0_note=[f"grounding bank ({k}): zero-sequence path to ground" for k in g.column("kind")],
+    )
+
+
 def _columns_of(cls, objects: list) -> dict[str, object]:
     """Column dict of a list of dataclass objects: complex, float and int fields as arrays
     (None as NaN), the others as lists."""
@@ -338,6 +371,9 @@ def to_per_unit(
     shunt_parts = [_columns_of(ShuntPU, shunts)]
     if system.machines:
         shunt_parts.append(_machines(system, kv_machines, base_mva))
+    grounding_at = system.bus_positions(system.grounding_transformers.column("bus"))
+    if system.grounding_transformers:
+        shunt_parts.append(_grounding(system, kv_all[grounding_at], base_mva))
     series = [_transformer(t, kv, base_mva) for t in system.transformers]
     series_parts = [_columns_of(SeriesPU, series)]
     cables = system.cables
@@ -439,7 +475,9 @@ def to_per_unit(
                 [_at(system, series, "to_bus"), cable_at[1], _at(system, impedances, "to_bus")]
             ),
         ),
-        shunt_buses=np.concatenate([_at(system, shunts, "bus"), machine_at]),
+        shunt_buses=np.concatenate(
+            [_at(system, shunts, "bus"), machine_at, np.asarray(grounding_at, np.int64)]
+        ),
         bus_kv=tuple(system.buses.array("kv").tolist()),
         series=_joined(SeriesPU, series_parts),
         shunts=_joined(ShuntPU, shunt_parts),
