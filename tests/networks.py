@@ -30,13 +30,15 @@ def random_sheets(
     zero_sequence: bool = False,
     machines: int = 0,
     clocks: bool = False,
+    grounding: int = 0,
 ) -> dict[str, list[dict]]:
     """A 13.8 kV network with 480 V networks hung under it through transformers.
 
     MV buses form a random tree (plus ``loops`` extra cables); every LV bus hangs from an MV bus
     through a transformer or from an LV bus through a cable or impedance. With
     ``zero_sequence`` the sources, cables and transformers get zero-sequence data and random
-    winding connections; ``machines`` adds motors and generators; ``clocks`` draws the
+    winding connections; ``machines`` adds motors and generators; ``grounding`` adds zig-zag
+    and wye-delta grounding banks at random buses; ``clocks`` draws the
     transformers' IEC 60076 clock numbers. Closed ties join only buses of one phase
     displacement, so every loop is consistent.
     """
@@ -192,4 +194,20 @@ def random_sheets(
         sheets["impedances"] = impedances
     if machine_rows:
         sheets["machines"] = machine_rows
+    if grounding:
+        banks = []
+        for k in range(grounding):
+            bus = buses[int(rng.integers(len(buses)))]
+            scale = (bus["kv"] / LV_KV) ** 2  # ohms that suit the bus's voltage
+            banks.append(
+                {
+                    "grounding_transformer": f"ZG{k}",
+                    "bus": bus["bus"],
+                    "kind": ["zigzag", "wye_delta"][k % 2],
+                    "z0_ohm": float(rng.uniform(0.02, 0.2) * scale),
+                    "xr": float(rng.uniform(4, 15)),
+                    "neutral_ohm": float(rng.choice([0.0, 0.0, 0.05]) * scale),
+                }
+            )
+        sheets["grounding_transformers"] = banks
     return sheets

@@ -129,6 +129,10 @@ def dense_reference(sheets, base_mva=100.0, prefault=1.0):
             z0 = _from_reactance(m.get("x0_pct", m["xd_pct"]) / 100, m["xr"]) * scale
             z0 += 3 * m["neutral_ohm"] / zbase(m["bus"]) / m.get("count", 1)
             shunt(y0, m["bus"], z0)
+    for g in sheets.get("grounding_transformers", []):
+        # a zero-sequence shunt Z0 + 3 Zn to ground, |Z0| in ohms with its X/R; no positive path
+        z0 = g["z0_ohm"] / math.sqrt(1 + g["xr"] ** 2) * complex(1, g["xr"])
+        shunt(y0, g["bus"], (z0 + 3 * g.get("neutral_ohm", 0.0)) / zbase(g["bus"]))
     # Zero-sequence islands with no path to ground: find them by flooding from grounded nodes.
     reach = set(grounds0)
     changed = True
@@ -158,6 +162,7 @@ CASES = [
     dict(seed=6, n_mv=30, n_lv=80, loops=10, sources=4, ties=3, off_nominal=True),
     dict(seed=7, zero_sequence=True),
     dict(seed=8, zero_sequence=True, machines=6),
+    dict(seed=12, zero_sequence=True, machines=3, grounding=4),
     dict(seed=9, loops=4, sources=2, zero_sequence=True, machines=10, ties=2),
     dict(
         seed=10,

@@ -284,12 +284,13 @@ def _joined(cls, parts: list[dict[str, object]]) -> Records:
 
 
 # A grounding bank's positive- and negative-sequence impedance: its magnetizing impedance,
-# taken as open (common practice for short-circuit studies), in per-unit: no current flows.
-OPEN_PU = 1e12
+# taken as open (common practice for short-circuit studies): 1e12 ohm, a physical value so
+# that the results do not depend on the MVA base; no current flows.
+OPEN_OHM = 1e12
 
 
 def _grounding(system: System, kv_bus: np.ndarray, base_mva: float) -> dict[str, object]:
-    """ShuntPU columns of every grounding bank: no positive-sequence path (OPEN_PU, no source
+    """ShuntPU columns of every grounding bank: no positive-sequence path (OPEN_OHM, no source
     voltage of its own matters behind it), zero sequence ``(Z0 + 3 Zn)`` to ground with
     ``|Z0|`` in ohms as given or ``z0_pct/100 x kv^2 / (kva/1000)`` and R = |Z0| / sqrt(1 +
     (X/R)^2)."""
@@ -308,8 +309,8 @@ def _grounding(system: System, kv_bus: np.ndarray, base_mva: float) -> dict[str,
         element=g.column("grounding_transformer"),
         kind=["grounding_transformer"] * n,
         bus=g.column("bus"),
-        z1_pu=np.full(n, 1j * OPEN_PU),
-        z1_ohm=np.full(n, 1j * OPEN_PU) * z_base_ohm(kv_bus, base_mva),
+        z1_pu=1j * OPEN_OHM / z_base_ohm(kv_bus, base_mva),
+        z1_ohm=np.full(n, 1j * OPEN_OHM),
         base_kv=kv_bus,
         z0_pu=z0_ohm / z_base_ohm(kv_bus, base_mva),
         z0_note=[f"grounding bank ({k}): zero-sequence path to ground" for k in g.column("kind")],

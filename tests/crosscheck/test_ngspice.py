@@ -80,6 +80,7 @@ NETWORKS = [
     ),
     # positive-sequence data only (zero sequence by the documented defaults)
     dict(seed=5, n_mv=5, n_lv=8, loops=1, sources=3, machines=6),
+    dict(seed=12, n_mv=4, n_lv=8, zero_sequence=True, machines=3, grounding=4),
 ]
 
 
