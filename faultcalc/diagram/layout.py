@@ -44,7 +44,7 @@ from .parts import (
     tie_gap,
 )
 from .shapes import LINE_PT, Line, Symbol, Text
-from .topology import Branch, Tree
+from .topology import GROUNDING, Branch, Tree
 
 __all__ = ["OVER", "Drawing", "Reference", "View", "plan", "render"]
 
@@ -470,7 +470,9 @@ def _draw_bus(drawing, view: View, bus, where, lines, p: Plan, colour) -> None:
             on_drop(drawing, "source", sx, zone_top, y, text, name)
     for c in kids:
         cx = c.left + LEFT
-        if c.kind == "machine":
+        if c.kind == "machine" and c.rungs[0] == GROUNDING:
+            hanging(drawing, "grounding", cx, y, c.lines, c.lines[0])
+        elif c.kind == "machine":
             kind = "generator" if c.rungs[0] == "G" else "motor"
             hanging(drawing, kind, cx, y, c.lines, c.lines[0], c.rungs[0])
         elif c.kind == "stub":

@@ -129,6 +129,17 @@ def strokes(s: Symbol) -> list[Stroke]:
                 dashed=True,
             )
         ]
+    if s.kind == "grounding":  # a grounding bank: a zig-zag winding down to earth (our own)
+        zig = [(x, y - r)]
+        for k in range(4):
+            zig.append((x + (0.35 if k % 2 == 0 else -0.35) * r, y - r * (0.7 - 0.3 * k)))
+        zig.append((x, y + r * 0.5))
+        return [
+            Stroke("line", points=tuple(zig), colour=c),
+            line((x - r * 0.6, y + r * 0.5), (x + r * 0.6, y + r * 0.5)),
+            line((x - r * 0.4, y + r * 0.72), (x + r * 0.4, y + r * 0.72)),
+            line((x - r * 0.2, y + r * 0.94), (x + r * 0.2, y + r * 0.94)),
+        ]
     if s.kind == "via":  # buses left out on the way: three dots on the drop
         return [circle(x, y + r * dy, r * 0.09, filled=True) for dy in (-0.5, 0.0, 0.5)]
     if s.kind == "ref":

@@ -14,6 +14,8 @@ from dataclasses import dataclass, field
 
 from ..model import System
 
+GROUNDING = "grounding"  # the letter slot of a grounding bank among a bus's machines
+
 # The series elements: sheet, name column, the two bus columns, the kind drawn.
 SERIES = (
     ("transformers", "transformer", "hv_bus", "lv_bus", "transformer"),
@@ -91,6 +93,12 @@ def tree_of(system: System) -> Tree:
         count = f"{m.count:g} x " if m.count and m.count != 1 else ""
         letter = "G" if m.kind == "generator" else "M"
         machines.setdefault(m.bus, []).append((m.machine, letter, (m.machine, f"{count}{size}")))
+    for g in system.grounding_transformers:  # hung below their bus like a machine
+        z0 = f"Z0 {g.z0_ohm:.4g} ohm" if g.z0_ohm is not None else f"Z0 {g.z0_pct:.4g} %"
+        kind = "zig-zag" if g.kind == "zigzag" else "wye-delta"
+        machines.setdefault(g.bus, []).append(
+            (g.grounding_transformer, GROUNDING, (g.grounding_transformer, f"{kind} {z0}"))
+        )
     roots = [b for b in buses if b in sources]
     if not roots:
         roots = [b for b in buses if any(k == "G" for _, k, _ in machines.get(b, ()))][:1]
