@@ -790,7 +790,7 @@ def _iec_notes(system: System) -> tuple[str, ...]:
     units = [u for u in m.column("unit_transformer") if u]
     unit_note = (
         (
-            "power-station units ("
+            "generating units ("
             + ", ".join(units[:10])
             + "): corrected by K_S or K_SO for every fault, also between a generator and its unit "
             "transformer, where IEC 60909-0 6.7 corrects the generator's share by K_G,S and the "

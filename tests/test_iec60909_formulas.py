@@ -48,17 +48,17 @@ def test_ks_on_load_tap_changer():
     # cos phi = 0.8 (sin 0.6), c_max = 1.1:
     # K_S = (110/10.5)^2 (10.5/115)^2 * 1.1 / (1 + |0.17 - 0.12| 0.6)
     #     = (110/115)^2 * 1.1 / 1.03 = 0.914934 * 1.067961 = 0.977114.
-    ks = iec.power_station_unit_factor_ks(110.0, 10.5, 115.0 / 10.5, 0.17, 0.12, 0.8, 1.1)
+    ks = iec.generating_unit_factor_ks(110.0, 10.5, 115.0 / 10.5, 0.17, 0.12, 0.8, 1.1)
     assert ks == pytest.approx(0.977114, abs=1e-6)
 
 
 def test_ks_uses_the_absolute_difference_of_reactances():
     # Hand calculation: |x''d - x_T| is the same with the two swapped, so K_S is too.
-    a = iec.power_station_unit_factor_ks(110.0, 10.5, 115.0 / 10.5, 0.17, 0.12, 0.8)
-    b = iec.power_station_unit_factor_ks(110.0, 10.5, 115.0 / 10.5, 0.12, 0.17, 0.8)
+    a = iec.generating_unit_factor_ks(110.0, 10.5, 115.0 / 10.5, 0.17, 0.12, 0.8)
+    b = iec.generating_unit_factor_ks(110.0, 10.5, 115.0 / 10.5, 0.12, 0.17, 0.8)
     assert a == pytest.approx(b, rel=1e-12)
     # Hand calculation: x''d = x_T gives K_S = (110/115)^2 * 1.1 = 1.006427.
-    same = iec.power_station_unit_factor_ks(110.0, 10.5, 115.0 / 10.5, 0.15, 0.15, 0.8)
+    same = iec.generating_unit_factor_ks(110.0, 10.5, 115.0 / 10.5, 0.15, 0.15, 0.8)
     assert same == pytest.approx(1.006427, abs=1e-6)
 
 
@@ -68,7 +68,7 @@ def test_kso_without_on_load_tap_changer():
     # K_SO = 110 / (10.5 * 1.05) * (10.5 / 115) * 1.1 / (1 + 0.17 * 0.6)
     #      = 110 / 120.75 * 1.1 / 1.102 = 0.910973 * 0.998185 = 0.909320.
     # With the tap term (1 + p_T) = 1.05: 0.909320 * 1.05 = 0.954786.
-    kso = iec.power_station_unit_factor_kso(
+    kso = iec.generating_unit_factor_kso(
         110.0, 10.5, 115.0 / 10.5, 0.17, 0.8, 1.1, p_g=0.05, p_t=[0.0, 0.05]
     )
     assert kso == pytest.approx([0.909320, 0.954786], abs=1e-6)
@@ -76,8 +76,8 @@ def test_kso_without_on_load_tap_changer():
 
 def test_kso_tap_sign_lowers_the_factor():
     # Hand calculation: (1 - 0.05) / (1 + 0.05) = 0.904762 of each other.
-    up = iec.power_station_unit_factor_kso(110.0, 10.5, 115.0 / 10.5, 0.17, 0.8, p_t=0.05)
-    down = iec.power_station_unit_factor_kso(110.0, 10.5, 115.0 / 10.5, 0.17, 0.8, p_t=-0.05)
+    up = iec.generating_unit_factor_kso(110.0, 10.5, 115.0 / 10.5, 0.17, 0.8, p_t=0.05)
+    down = iec.generating_unit_factor_kso(110.0, 10.5, 115.0 / 10.5, 0.17, 0.8, p_t=-0.05)
     assert down / up == pytest.approx(0.904762, abs=1e-6)
 
 

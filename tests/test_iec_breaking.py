@@ -175,7 +175,7 @@ def _unit_sheets(tap_changer: str | None, unit: bool = True):
 
 
 @pytest.mark.parametrize("tap_changer", ["yes", "no", None])
-def test_power_station_unit_corrected_by_k_s_or_k_so_by_hand(make_input, tap_changer):
+def test_generating_unit_corrected_by_k_s_or_k_so_by_hand(make_input, tap_changer):
     # IEC 60909-0 6.7 (from memory): Z_S = K_S (t_r^2 Z_G + Z_THV) at the HV side, with
     # K_S = (U_nQ / U_rG)^2 (1 / t_r^2) c / (1 + |x"d - x_T| sin phi) (on-load tap changer) or
     # K_SO = (U_nQ / U_rG) (1 / t_r) c / (1 + x"d sin phi) (without, main tap, p_G = 0); by hand

@@ -243,7 +243,7 @@ class Machine:
     rpm: float | None = None
     x0_pct: float | None = None
     power_factor: float | None = None  # generators: rated cos phi, for IEC 60909 K_G
-    unit_transformer: str | None = None  # generators: the transformer of a power-station unit
+    unit_transformer: str | None = None  # generators: the transformer of a generating unit
     unit_tap_changer: str = "no"  # that transformer has an on-load tap changer (K_S, else K_SO)
     in_service: str = "yes"  # the System holds only elements in service
     row: int | None = None

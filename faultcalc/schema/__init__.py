@@ -693,7 +693,7 @@ MACHINES = Sheet(
             "unit_transformer",
             TEXT,
             "Generators, method iec60909: the transformer (its name on the transformers sheet, "
-            "its LV winding on this generator's bus) forming a power-station unit with it; the "
+            "its LV winding on this generator's bus) forming a generating unit with it; the "
             "unit is corrected by K_S or K_SO (IEC 60909-0 6.7) instead of K_G and K_T.",
         ),
         Column(

@@ -93,7 +93,7 @@ def _sin_phi(cos_phi_rg) -> np.ndarray:
     return np.sqrt(1.0 - c * c)
 
 
-# --- correction factors of generators and power station units (clause 6) -----------------------
+# --- correction factors of generators and generating units (clause 6) -----------------------
 
 
 def generator_correction_factor_kg(
@@ -116,10 +116,10 @@ def generator_correction_factor_kg(
     return (u_n / u_rg) * _positive(c_max, "c_max") / (1.0 + x_d * _sin_phi(cos_phi_rg))
 
 
-def power_station_unit_factor_ks(
+def generating_unit_factor_ks(
     u_nq_kv, u_rg_kv, t_r, x_d_subtr_pu, x_t_pu, cos_phi_rg, c_max=1.1
 ) -> np.ndarray:
-    """K_S of a power station unit whose unit transformer has an on-load tap changer.
+    """K_S of a generating unit whose unit transformer has an on-load tap changer.
 
     From memory of IEC 60909-0:2016, clause 6.7.1, eq. (22)::
 
@@ -144,10 +144,10 @@ def power_station_unit_factor_ks(
     return (u_nq / u_rg) ** 2 / t**2 * c / (1.0 + np.abs(x_d - x_t) * _sin_phi(cos_phi_rg))
 
 
-def power_station_unit_factor_kso(
+def generating_unit_factor_kso(
     u_nq_kv, u_rg_kv, t_r, x_d_subtr_pu, cos_phi_rg, c_max=1.1, p_g=0.0, p_t=0.0
 ) -> np.ndarray:
-    """K_SO of a power station unit whose unit transformer has no on-load tap changer.
+    """K_SO of a generating unit whose unit transformer has no on-load tap changer.
 
     From memory of IEC 60909-0:2016, clause 6.7.2, eq. (24)::
 
@@ -159,7 +159,7 @@ def power_station_unit_factor_kso(
     term as (1 +/- p_T). Here ``p_t`` is signed and the factor is (1 + p_t), so pass a negative
     p_t for (1 - p_T). I do not recall for certain which sign the standard assigns to which tap
     direction, so the caller chooses it. The other variables are as in
-    ``power_station_unit_factor_ks``. The unit's impedance is Z_SO = K_SO (t_r^2 Z_G + Z_THV).
+    ``generating_unit_factor_ks``. The unit's impedance is Z_SO = K_SO (t_r^2 Z_G + Z_THV).
     """
     u_nq = _positive(u_nq_kv, "u_nq_kv")
     u_rg = _positive(u_rg_kv, "u_rg_kv")

@@ -12,7 +12,7 @@ the prefault voltage of every bus:
   temperature (IEC 60909-0 eq. 34). Network feeders take the c of their own bus, as in
   ``Z_Q = c U_nQ^2 / S"_kQ`` (IEC 60909-0 eq. 1). Cable resistances, from the tables or typed, are
   taken as given at ``conductor_temp_c``. Generators with a rated power factor are corrected by
-  K_G (IEC 60909-0 6.6.1), power-station units (a generator naming its unit transformer) by
+  K_G (IEC 60909-0 6.6.1), generating units (a generator naming its unit transformer) by
   K_S or K_SO (6.7) instead of K_G and K_T.
 """
 
@@ -50,7 +50,7 @@ def _per_bus(kv: np.ndarray, value) -> tuple[float, ...]:
 
 
 def _iec_transformers(system: System, units=frozenset()):
-    """Network transformers corrected by K_T; those of power-station units (``units``, by
+    """Network transformers corrected by K_T; those of generating units (``units``, by
     name) are corrected with their generator by K_S / K_SO instead."""
     kv = system.bus_kv()
     tol = system.settings.lv_tolerance_pct
@@ -125,7 +125,7 @@ def _iec_generators(system: System):
 
 
 def _iec_units(system: System) -> System:
-    """Power-station units (a generator and its unit transformer) corrected together by K_S
+    """Generating units (a generator and its unit transformer) corrected together by K_S
     (on-load tap changer) or K_SO (IEC 60909-0 6.7, from memory; K_SO at the main tap with the
     generator at its rated voltage): the generator's and the transformer's impedances both
     times the factor, as ``Z_S = K_S (t_r^2 Z_G + Z_THV)``."""
@@ -162,7 +162,7 @@ def _iec_units(system: System) -> System:
         if problems:
             continue
         if g.kind != "generator":
-            refuse("only a generator forms a power-station unit with a transformer")
+            refuse("only a generator forms a generating unit with a transformer")
         elif t is None:
             refuse(f"no transformer named {name!r} on the transformers sheet")
         elif t.lv_bus != g.bus:
@@ -171,7 +171,7 @@ def _iec_units(system: System) -> System:
                 f"generator's bus {g.bus}"
             )
         elif g.power_factor is None:
-            refuse("a power-station unit's correction needs the generator's power_factor")
+            refuse("a generating unit's correction needs the generator's power_factor")
         if problems:
             continue
         u_nq = bus_kv[t.hv_bus]
@@ -180,11 +180,11 @@ def _iec_units(system: System) -> System:
         t_r = t.hv_kv / t.lv_kv
         if g.unit_tap_changer == "yes":
             x_t = standards.transformer_x_pu(t.z_pct, t.xr)
-            factor = iec60909.power_station_unit_factor_ks(
+            factor = iec60909.generating_unit_factor_ks(
                 u_nq, g.kv, t_r, x_d, x_t, g.power_factor, c
             )
         else:
-            factor = iec60909.power_station_unit_factor_kso(u_nq, g.kv, t_r, x_d, g.power_factor, c)
+            factor = iec60909.generating_unit_factor_kso(u_nq, g.kv, t_r, x_d, g.power_factor, c)
         xd[k] *= float(factor)
         z[index[name]] *= float(factor)
         z0[index[name]] *= float(factor)
@@ -288,7 +288,7 @@ def describe(system: System) -> str:
             "transformers corrected by K_T = 0.95 cmax / (1 + 0.6 xT), conductors at 20 C; "
             "minimum currents with cmin (LV 0.95, above 1 kV 1.0), motors excluded, "
             f"conductors at {s.end_of_fault_temp_c:g} C; generators with a rated power factor "
-            "corrected by K_G, power-station units by K_S or K_SO; breaking current Ib "
+            "corrected by K_G, generating units by K_S or K_SO; breaking current Ib "
             f"at t_min {s.min_time_delay_s:g} s, DC component, steady-state Ik far from "
             f"generators and Ith for {s.fault_duration_s:g} s (IEC 60909-0:2016 clauses 9 to 14, "
             "from memory)"
