@@ -28,6 +28,9 @@ def _sheets(bank: dict | None):
                 hv_winding="YN",
                 lv_winding="D",
                 clock=1,
+                kva=1000,  # the impedances the hand calculation below uses
+                z_pct=5.75,
+                xr=5,
             )
         ],
     }

@@ -226,6 +226,13 @@ class Impedance:
 KVA_PER_HP = {"induction_motor": 1.0, "synchronous_motor": 1.0}
 
 
+def rated_kva_array(machines) -> np.ndarray:
+    """``Machine.rated_kva`` for every machine of a Records, on whole arrays."""
+    per_hp = np.array([KVA_PER_HP.get(k, np.nan) for k in machines.column("kind")], dtype=float)
+    kva = machines.array("kva")
+    return np.where(np.isnan(kva), machines.array("hp") * per_hp, kva)
+
+
 @dataclass(frozen=True)
 class Machine:
     """A motor or generator feeding the fault through its subtransient impedance."""

@@ -175,7 +175,7 @@ def _mv_breakers(buses: Typed, out: Collector, at: np.ndarray) -> None:
                         "leave it blank for this device",
                     )
             continue
-        kv, vmax = float(v["kv"][i]), float(v["rated_max_kv"][i])
+        kv = float(v["kv"][i])
         if not given["rated_max_kv"][k]:
             refuse(
                 "rated_max_kv",
@@ -183,7 +183,7 @@ def _mv_breakers(buses: Typed, out: Collector, at: np.ndarray) -> None:
                 f"an MV breaker ({device}) needs its rated maximum "
                 "voltage, e.g. 15 for a breaker on a 13.8 kV bus",
             )
-        elif kv > vmax * (1 + 1e-9):
+        elif kv > (vmax := float(v["rated_max_kv"][i])) * (1 + 1e-9):
             refuse(
                 "rated_max_kv",
                 vmax,

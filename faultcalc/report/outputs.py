@@ -248,10 +248,11 @@ class ResultFiles:
                 *targets, replace=self._existing, remove=stale, on_placed=self.on_placed
             ) as temps,
         ):
-            progress.plan(len(targets))
+            one_line = system is not None and len(result.buses) <= ONE_LINE_SHEET_BUSES
+            progress.plan(len(targets) + one_line)
             sheets = _sheets(system, result) if self.report_path is not None else None
             picture = None
-            if system is not None and len(result.buses) <= ONE_LINE_SHEET_BUSES:
+            if one_line:
                 progress.step("one-line")
                 picture = _png(sheets or _sheets(system, result))
             progress.step("workbook" + (" (summary)" if big else ""))

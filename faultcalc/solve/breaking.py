@@ -25,7 +25,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from . import iec60909, perunit
+from ..model import rated_kva_array
+from . import iec60909, perunit, standards
 
 MACHINE_CHUNK = 32  # machine nodes solved at a time, at most
 CHUNK_CELLS = 4_000_000  # and at most this many complex numbers (64 MB) per chunk of columns
@@ -71,7 +72,7 @@ def after_first_instant(analysis, rows: dict, z_without_motors=None) -> dict[str
             # drop across the machine's own reactance over the source voltage, 1 at its bus
             weight = np.minimum(1.0, np.abs(z_m[at] * partial) / e_m[at])
             decayed += (weight * (1.0 - mu * q_of[at]) * partial).sum(axis=1)
-            near |= (ratio[:, synchronous[at]] > 2.0).any(axis=1)
+            near |= (ratio[:, synchronous[at]] > iec60909.FAR_RATIO_LIMIT).any(axis=1)
     far = ~near
     ib = np.abs(i_f - decayed) * i_base
     i_steady = (
@@ -110,13 +111,13 @@ def _machines(analysis):
     kv_bus = np.asarray(analysis.pu.bus_kv, float)[bus_at]
     base = perunit.i_base_ka(kv_bus, analysis.pu.base_mva)
     kva, hp, count = m.array("kva"), m.array("hp"), m.array("count")
-    rated_kva = np.where(np.isnan(kva), hp, kva)  # 1 kVA per hp, as the impedances take it
-    rated_ka = rated_kva / 1000.0 / (np.sqrt(3.0) * m.array("kv")) * count  # the group's
+    rated_kva = rated_kva_array(m)  # as the impedances take it
+    rated_ka = perunit.i_base_ka(m.array("kv"), rated_kva / 1000.0) * count  # the group's
     kind = np.array(m.column("kind"), dtype=object)
     synchronous = np.isin(kind, SYNCHRONOUS)
     f = system.settings.frequency_hz
     rpm = m.array("rpm")
-    pole_pairs = np.where(np.isnan(rpm), np.nan, np.maximum(1.0, np.round(60.0 * f / rpm)))
+    pole_pairs = np.where(np.isnan(rpm), np.nan, standards.pole_pairs(rpm, f))
     p_mw = np.where(np.isnan(hp), kva * POWER_FACTOR_OF_MOTOR, hp * KW_PER_HP) / 1000.0
     q = np.ones(len(m))
     motor = ~synchronous & np.isfinite(pole_pairs)  # without its speed a motor keeps q = 1

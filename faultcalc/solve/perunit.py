@@ -35,7 +35,15 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import InputError, Problem
-from ..model import CABLE_Z0_FACTOR, FT_PER_KFT, KVA_PER_HP, M_PER_FT, Source, System, Transformer
+from ..model import (
+    CABLE_Z0_FACTOR,
+    FT_PER_KFT,
+    M_PER_FT,
+    Source,
+    System,
+    Transformer,
+    rated_kva_array,
+)
 from ..model.records import Records
 
 SQRT3 = math.sqrt(3.0)
@@ -57,8 +65,12 @@ def i_base_ka(kv: float, base_mva: float) -> float:
     return base_mva / (SQRT3 * kv)
 
 
-def split_by_xr(z_abs: float, xr: float) -> complex:
-    """Complex impedance of magnitude ``z_abs`` with reactance/resistance ratio ``xr``."""
+def split_by_xr(z_abs, xr):
+    """Complex impedance of magnitude ``z_abs`` with reactance/resistance ratio ``xr`` (numbers
+    or arrays)."""
+    if isinstance(z_abs, np.ndarray) or isinstance(xr, np.ndarray):
+        r = z_abs / np.sqrt(1.0 + xr * xr)
+        return r + 1j * r * xr
     r = z_abs / math.sqrt(1.0 + xr * xr)
     return complex(r, r * xr)
 
@@ -227,9 +239,7 @@ def _machines(system: System, kv_bus: np.ndarray, base_mva: float) -> dict[str, 
     with x0 = x0_pct/100 (xd_pct when blank) and the same X/R."""
     m = system.machines
     kind = m.column("kind")
-    per_hp = np.array([KVA_PER_HP.get(k, np.nan) for k in kind], dtype=float)
-    kva = m.array("kva")
-    rated_kva = np.where(np.isnan(kva), m.array("hp") * per_hp, kva)
+    rated_kva = rated_kva_array(m)
     count = m.array("count")
     scale = (base_mva / (rated_kva / 1000.0)) * (m.array("kv") / kv_bus) ** 2 / count
     xr = m.array("xr")
@@ -301,9 +311,7 @@ def _grounding(system: System, kv_bus: np.ndarray, base_mva: float) -> dict[str,
         g.array("z0_pct") / 100.0 * kv_rated**2 / (kva / 1000.0),
         g.array("z0_ohm"),
     )
-    xr = g.array("xr")
-    r = z_abs / np.sqrt(1.0 + xr * xr)
-    z0_ohm = r + 1j * r * xr + 3.0 * g.array("neutral_ohm")
+    z0_ohm = split_by_xr(z_abs, g.array("xr")) + 3.0 * g.array("neutral_ohm")
     n = len(g)
     return dict(
         element=g.column("grounding_transformer"),

@@ -53,11 +53,19 @@ def end_of_fault_factor(from_c: float, to_c: float) -> float:
     return (1.0 + IEC_ALPHA * (to_c - 20.0)) / (1.0 + IEC_ALPHA * (from_c - 20.0))
 
 
+def pole_pairs(rpm, frequency_hz: int = 60):
+    """Pairs of poles of a machine of nameplate speed ``rpm`` (a number or an array):
+    ``round(60 f / rpm)``, at least 1 (an induction motor runs a little below synchronous)."""
+    import numpy as np
+
+    return np.maximum(1.0, np.round(60.0 * frequency_hz / rpm))
+
+
 def two_pole(rpm: float | None, frequency_hz: int = 60) -> bool:
     """Whether a motor of nameplate speed ``rpm`` is a two-pole machine (the table's "3600
     r/min" class at 60 Hz): one pair of poles, ``round(60 f / rpm) == 1``; a two-pole induction
     motor runs at about 3550 to 3580 r/min at full load, so its nameplate is below 3600."""
-    return rpm is not None and rpm > 0 and round(60.0 * frequency_hz / rpm) == 1
+    return rpm is not None and rpm > 0 and float(pole_pairs(rpm, frequency_hz)) == 1.0
 
 
 def ieee_first_cycle_multiplier(

@@ -48,20 +48,28 @@ def sample_report(request, tmp_path_factory):
 
 
 def test_every_bus_and_its_maximum_as_the_workbook_prints_it(sample_report):
+    # Each bus's row of the report's summary table holds the Summary sheet's maximum cell as
+    # that cell prints (its number format, 0.00): the row read as a line of the page.
     from openpyxl import load_workbook
 
     result, reader, workbook = sample_report
-    pages = _pages(reader)
-    summary = next(i for i, t in enumerate(pages) if "Maximum available, kA" in _flat(t))
-    text = _flat(" ".join(pages[summary : summary + 3]))
-    book = load_workbook(workbook)
-    ws = book["Summary"] if "Summary" in book.sheetnames else None
-    for row in result.maximum.itertuples(index=False):
-        printed = f"{row.max_ka:.2f}"  # the workbook's kA format, 0.00
-        if ws is not None:  # as the Summary sheet prints it, when there is one
-            cells = [c for c in ws["A"] if c.value == row.bus]
-            assert cells, row.bus
-        assert re.search(rf"{re.escape(row.bus)} .*?{re.escape(printed)}", text), (row.bus, printed)
+    plain = _pages(reader)
+    first = next(i for i, t in enumerate(plain) if "Maximum available, kA" in _flat(t))
+    pages = [p.extract_text(extraction_mode="layout") for p in reader.pages]
+    lines = [line.split() for t in pages[first : first + 3] for line in t.splitlines()]
+    ws = load_workbook(workbook)["Summary"]
+    head = [c.value for c in ws[1]]
+    column = head.index("Maximum available, kA")
+    printed = {}
+    for cells in ws.iter_rows(min_row=2):
+        value = cells[column].value
+        if isinstance(value, float):
+            assert cells[column].number_format == "0.00"
+            printed[cells[0].value] = f"{value:.2f}"
+    assert set(printed) == set(result.maximum.bus)
+    for bus, figure in printed.items():
+        rows = [words for words in lines if words and words[0] == bus]
+        assert rows and figure in rows[0], (bus, figure, rows[:1])
 
 
 def test_title_page_names_the_input_its_hash_the_tool_and_leaves_room_for_review(
