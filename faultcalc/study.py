@@ -762,7 +762,7 @@ def _solve(
     interrupting = None
     if system.settings.method == "ieee":
         progress.step("interrupting network")
-        interrupting = _interrupting(system, found[0].prefault_pu, orderings)
+        interrupting = _interrupting(system, found[0].prefault_pu, orderings, first.e_bus)
     table = fault_table(first, progress, interrupting)
     if system.settings.method == "iec60909":
         progress.step("breaking, steady-state and thermal currents")
@@ -822,9 +822,8 @@ def _mv_notes(system: System) -> tuple[str, ...]:
     mv: set[str] = set()
     for one in [system, *(case for _, case in system.cases)]:
         devices = one.buses.column("device")
-        if any(d in duty.MV_DEVICES for d in set(devices)):
-            names = one.buses.column("bus")
-            mv |= {n for n, d in zip(names, devices, strict=True) if d in duty.MV_DEVICES}
+        names = one.buses.column("bus")
+        mv |= {n for n, d in zip(names, devices, strict=True) if d in duty.MV_DEVICES}
     mv = sorted(mv)
     if not mv:
         return ()
@@ -858,7 +857,7 @@ def _diagonals(system: System, prefault_pu, orderings: Orderings, *transforms):
     return pu, out
 
 
-def _without_motors(variant: System, prefault_pu, orderings: Orderings) -> np.ndarray:
+def _without_motors(variant: System, prefault_pu, orderings: Orderings) -> np.ndarray | None:
     """Method iec60909: Z1 at every bus with the asynchronous motors left out (they feed no
     steady current into a balanced fault), for Ik."""
     m = variant.machines
@@ -869,15 +868,21 @@ def _without_motors(variant: System, prefault_pu, orderings: Orderings) -> np.nd
     return _diagonals(system, prefault_pu, orderings, lambda z: z)[1][0]
 
 
-def _interrupting(system: System, prefault_pu, orderings: Orderings):
-    """The IEEE interrupting network's E/X current (kA) and X/R at every bus: X from the
-    X-only reduction, X/R from separate R and X reductions (IEEE C37.010)."""
+def _interrupting(system: System, prefault_pu, orderings: Orderings, e_bus=None):
+    """The IEEE interrupting network's E/X current (kA) and X/R at every bus above 1 kV (NaN
+    at the others): X from the X-only reduction, X/R from separate R and X reductions (IEEE
+    C37.010); E the open-circuit voltage ``e_bus`` when the study uses it, else the
+    prefault voltage."""
+    kv = system.buses.array("kv")
+    if not (kv > standards.LV_LIMIT_KV).any():  # nothing to compute: no bus above 1 kV
+        return np.full(len(kv), np.nan), np.full(len(kv), np.nan)
     pu, (z_x, z_r) = _diagonals(
         methods.interrupting_system(system), prefault_pu, orderings, _x_only, _r_only
     )
     x, r = z_x.imag, z_r.real
     kv = np.array(pu.bus_kv)
-    i_ka = np.array(pu.prefault_pu) / x * perunit.i_base_ka(kv, pu.base_mva)
+    e = np.array(pu.prefault_pu) if e_bus is None else e_bus
+    i_ka = e / x * perunit.i_base_ka(kv, pu.base_mva)
     xr = np.where(r > 0, x / np.where(r > 0, r, 1.0), np.inf)
     # only above 1 kV: LV devices are rated on first-cycle currents, and E/X, which leaves R
     # out, overstates a cable-fed LV bus badly

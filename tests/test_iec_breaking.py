@@ -305,3 +305,17 @@ def test_two_generators_naming_one_unit_transformer_are_refused(make_input):
     with pytest.raises(InputError) as found:
         run_study(read_system(make_input(sheets)))
     assert any("already forms a unit" in p.message for p in found.value.problems)
+
+
+def test_every_unit_that_does_not_fit_is_located(make_input):
+    # Found in a re-read: after the first bad unit the others were skipped unchecked.
+    from faultcalc.errors import InputError
+
+    sheets = _unit_sheets("no")
+    second = dict(sheets["machines"][0], machine="G2", unit_transformer="GSU-8")
+    sheets["machines"][0]["unit_transformer"] = "GSU-9"
+    sheets["machines"].append(second)
+    with pytest.raises(InputError) as found:
+        run_study(read_system(make_input(sheets)))
+    values = {p.value for p in found.value.problems if p.column == "unit_transformer"}
+    assert values == {"GSU-9", "GSU-8"}

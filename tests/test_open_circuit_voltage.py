@@ -45,3 +45,20 @@ def test_open_circuit_is_refused_with_the_iec_method(make_input):
     p = found.value.problems[0]
     assert (p.sheet, p.column, p.value) == ("study", "value", "open_circuit")
     assert "equivalent source" in p.message
+
+
+def test_the_interrupting_network_takes_the_open_circuit_voltage_too(make_input):
+    # Found in a re-read: method ieee's E/X kept the nominal voltage while the first-cycle
+    # currents took the open-circuit one. With a 13.2 kV winding on a 13.8 kV bus the 4.16 kV
+    # secondary's E/X rises by 13.8 / 13.2 like the rest (hand calculation, ideal ratio).
+    def sheets(setting):
+        out = _sheets(setting, method="ieee")
+        out["buses"][1]["kv"] = 4.16
+        out["transformers"][0]["lv_kv"] = 4.16
+        return out
+
+    nominal = run_study(read_system(make_input(sheets("nominal")))).buses.set_index("bus")
+    open_ = run_study(read_system(make_input(sheets("open_circuit")))).buses.set_index("bus")
+    assert open_.loc["LV", "i_int_ka"] == pytest.approx(
+        nominal.loc["LV", "i_int_ka"] * 13.8 / 13.2, rel=1e-12
+    )

@@ -23,7 +23,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..model import Cable, System
+from ..model import Cable, System, rated_kva_array
 from ..model.records import Records
 from . import standards
 
@@ -66,11 +66,6 @@ def _iec_transformers(system: System, units=frozenset()):
     return tuple(out)
 
 
-def _rated_hp(machines) -> np.ndarray:
-    kva, hp = machines.array("kva"), machines.array("hp")
-    return np.where(np.isnan(hp), kva, hp)  # 1 kVA per hp
-
-
 def interrupting_system(system: System) -> System:
     """The IEEE interrupting (1.5 to 4 cycle) network of ``system``: machine subtransient
     reactances times the multipliers of IEEE Std 551-2006 Table 9-1, induction motors below
@@ -84,7 +79,9 @@ def interrupting_system(system: System) -> System:
             standards.ieee_interrupting_multiplier(
                 k, h, None if r != r else r, system.settings.frequency_hz
             )
-            for k, h, r in zip(m.column("kind"), _rated_hp(m).tolist(), rpm.tolist(), strict=True)
+            for k, h, r in zip(
+                m.column("kind"), rated_kva_array(m).tolist(), rpm.tolist(), strict=True
+            )
         ],
         dtype=float,
     )
@@ -152,6 +149,7 @@ def _iec_units(system: System) -> System:
             problems.append(Problem("machines", g.row, "unit_transformer", name, message))
 
         t = system.transformers[index[name]] if name in index else None
+        before = len(problems)
         if name in taken:
             refuse(
                 f"transformer {name} already forms a unit with generator {taken[name]}; a "
@@ -159,7 +157,7 @@ def _iec_units(system: System) -> System:
                 "understate the current)"
             )
         taken.setdefault(name, g.machine)
-        if problems:
+        if len(problems) > before:
             continue
         if g.kind != "generator":
             refuse("only a generator forms a generating unit with a transformer")
@@ -172,7 +170,7 @@ def _iec_units(system: System) -> System:
             )
         elif g.power_factor is None:
             refuse("a generating unit's correction needs the generator's power_factor")
-        if problems:
+        if len(problems) > before:
             continue
         u_nq = bus_kv[t.hv_bus]
         x_d = g.xd_pct / 100.0
@@ -215,7 +213,7 @@ def variants(system: System) -> list[Variant]:
         return [Variant("max", system, prefault)]
     if s.method == "ieee":
         m = system.machines
-        rated = _rated_hp(m)
+        rated = rated_kva_array(m)
         rpm = m.array("rpm")
         factor = np.array(
             [
