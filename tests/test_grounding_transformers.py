@@ -27,7 +27,7 @@ def _sheets(bank: dict | None):
                 lv_kv=KV_LV,
                 hv_winding="YN",
                 lv_winding="D",
-                clock=1,
+                clock_number=1,
                 kva=1000,  # the impedances the hand calculation below uses
                 z_pct=5.75,
                 xr=5,
@@ -91,3 +91,26 @@ def test_a_bank_without_its_impedance_is_located(make_input):
     with pytest.raises(InputError) as found:
         read_system(make_input(_sheets(bank)))
     assert any(p.sheet == "grounding_transformers" and p.row == 2 for p in found.value.problems)
+
+
+def test_a_bank_on_a_bus_not_listed_is_refused(make_input):
+    # A misnamed bus was once placed on the last bus of the sheet without a word.
+    with pytest.raises(InputError) as caught:
+        read_system(make_input(_sheets(dict(ZIGZAG, bus="LV-TYPO"))))
+    (problem,) = caught.value.problems
+    assert (problem.sheet, problem.row, problem.column, problem.value) == (
+        "grounding_transformers",
+        2,
+        "bus",
+        "LV-TYPO",
+    )
+
+
+def test_a_bank_on_a_bus_out_of_service_goes_with_it(make_input):
+    sheets = _sheets(dict(ZIGZAG))
+    sheets["buses"][1]["in_service"] = "no"
+    system = read_system(make_input(sheets))
+    assert len(system.grounding_transformers) == 0
+    assert any("ZZ1" in w and "left out" in w for w in system.warnings)
+    result = run_study(system)
+    assert list(result.buses["bus"]) == ["HV"]
