@@ -153,6 +153,13 @@ def _zone_angles(system: System, group: dict[str, str]) -> dict[str, float]:
         a, b = group[t.hv_bus], group[t.lv_bus]
         links[a].append((b, -30.0 * t.phase_shift_clock))
         links[b].append((a, 30.0 * t.phase_shift_clock))
+    for t in system.three_winding_transformers:
+        for x in ("m", "l"):
+            other = getattr(t, f"{x}_bus")
+            if other is not None:
+                a, b = group[t.h_bus], group[other]
+                links[a].append((b, -30.0 * t.clock(x)))
+                links[b].append((a, 30.0 * t.clock(x)))
     for e in (*system.cables, *[i for i in system.impedances if not i.is_tie]):
         a, b = group[e.from_bus], group[e.to_bus]
         links[a].append((b, 0.0))
@@ -317,6 +324,8 @@ def build_netlist(
         )
     for t in system.transformers:
         _transformer(w, t, ph, ret)
+    for t in system.three_winding_transformers:
+        _three_winding(w, t, ph)
     if fault is not None:
         _fault(w, bus, fault, settings.fault_ohm, ph, ret, transient, close_s)
     w.add(".options rshunt=1e12")
@@ -474,3 +483,90 @@ def _transformer(w: _Writer, t, ph, ret) -> None:
     if t.hv_winding == "YN":
         extra = (z0_hv - z1_hv) / 3.0 if pair == ("YN", "D") else 0j
         w.impedance(hstar, ret(t.hv_bus), t.hv_neutral_ohm + extra, t.transformer)
+
+
+def _three_winding(w: _Writer, t, ph) -> None:
+    """A three-winding transformer (or autotransformer) as its real windings, phase by phase:
+    each winding's leakage leg (the star of the pair impedances, in ohms of that winding, with
+    its zero-sequence leg by the coupled drop of ``_series``) from its terminals to an inner
+    node; the h winding's inner port carries the currents of the m and l windings, each an
+    ideal transformer (a voltage-controlled voltage source and a current-controlled current
+    source) on the h port, connected as its winding (D, Y, YN) with its clock number. A
+    tertiary with no bus gets three inner terminals of its own; an autotransformer's h and m
+    stars are one node, grounded through its one neutral impedance."""
+    letters = ["h", "m"] + (["l"] if t.has_tertiary else [])
+
+    def pair_ohm_1mva(pair, zero):  # the pair on a 1 MVA base, as a per-unit number
+        z_pct = getattr(t, f"{pair}_z0_pct" if zero else f"{pair}_z_pct")
+        if z_pct is None:
+            z_pct = getattr(t, f"{pair}_z_pct")
+        return _split(z_pct / 100.0, getattr(t, f"{pair}_xr")) / (getattr(t, f"{pair}_kva") / 1000)
+
+    def legs(zero):
+        if not t.has_tertiary:
+            return {"h": pair_ohm_1mva("hm", zero), "m": 0j}
+        hm, hl, ml = (pair_ohm_1mva(p, zero) for p in ("hm", "hl", "ml"))
+        return {"h": (hm + hl - ml) / 2, "m": (hm + ml - hl) / 2, "l": (hl + ml - hm) / 2}
+
+    z1_legs, z0_legs = legs(False), legs(True)
+    label = f"x{w.count + 1}"
+    kind = "autotransformer" if t.kind == "auto" else "three-winding transformer"
+    w.comment(
+        f"{kind} {t.transformer}: "
+        + ", ".join(
+            f"{x} {getattr(t, x + '_bus') or '(no bus)'} ({getattr(t, x + '_winding')})"
+            for x in letters
+        )
+    )
+    stars = {x: f"{label}_{x}n" for x in letters}
+    if t.kind == "auto":
+        stars["m"] = stars["h"]
+    tertiary_nodes = [f"{label}_lt{k}" for k in range(3)]
+
+    def terminal(x, k):
+        bus = getattr(t, f"{x}_bus")
+        return ph(bus, k) if bus is not None else tertiary_nodes[k % 3]
+
+    def winding_volts(x):
+        kv = getattr(t, f"{x}_kv") or 1.0  # a tertiary not brought out: any rating
+        return kv * (1.0 if getattr(t, f"{x}_winding") == "D" else 1.0 / SQRT3)
+
+    def leg_ohm(x, z_pu):
+        kv = getattr(t, f"{x}_kv") or 1.0
+        return z_pu * kv**2 * (3.0 if getattr(t, f"{x}_winding") == "D" else 1.0)
+
+    h_w = t.h_winding
+    inner = [f"{label}_hi{k}" for k in range(3)]
+    h2 = [terminal("h", k - 1) if h_w == "D" else stars["h"] for k in range(3)]
+    _series(
+        w,
+        [terminal("h", k) for k in range(3)],
+        inner,
+        leg_ohm("h", z1_legs["h"]),
+        leg_ohm("h", z0_legs["h"]),
+        t.transformer,
+    )
+    for x in letters[1:]:
+        x_w = getattr(t, f"{x}_winding")
+        r, reverse = _connection(t.clock(x), h_w, x_w)
+        ratio = winding_volts("h") / winding_volts(x)
+        near, far, outer = [], [], []
+        for k in range(3):
+            j = k + r
+            if x_w == "D":
+                other = j - 1 if h_w == "D" else j + 1
+                far.append(terminal(x, other))
+            else:
+                far.append(stars[x])
+            near.append(f"{label}_{x}w{k}")
+            outer.append(terminal(x, j))
+        _series(w, outer, near, leg_ohm(x, z1_legs[x]), leg_ohm(x, z0_legs[x]), t.transformer)
+        for k in range(3):
+            s1, s2 = (far[k], near[k]) if reverse else (near[k], far[k])
+            sense = f"{label}_{x}s{k}"
+            w.add(f"E{label}_{x}{k} {s1} {sense} {inner[k]} {h2[k]} {1.0 / ratio:.12g}")
+            w.add(f"V{label}_{x}{k} {sense} {s2} 0")
+            w.add(f"F{label}_{x}{k} {h2[k]} {inner[k]} V{label}_{x}{k} {1.0 / ratio:.12g}")
+    for x in letters:
+        if getattr(t, f"{x}_winding") == "YN" and not (t.kind == "auto" and x == "m"):
+            w.impedance(stars[x], "0", complex(getattr(t, f"{x}_neutral_ohm")), t.transformer)

@@ -26,7 +26,7 @@ from .results import (
     Basis,
     StudyResult,
 )
-from .solve import asymmetry, breaking, duty, faults, methods, perunit, standards
+from .solve import asymmetry, breaking, duty, faults, methods, perunit, standards, threewinding
 from .solve.contributions import Phasors, as_table, contribution_phasors
 from .solve.network import Network, build_network, positive_matrix_variant, zone_angles_deg
 from .solve.thevenin import Orderings, SymmetricFactor
@@ -117,6 +117,22 @@ def _input_text(system: System) -> dict[str, str]:
             f'{count}{m.kind.replace("_", " ")} {rating}, {m.kv:g} kV, X"d {m.xd_pct:g} %, '
             f"X/R {m.xr:g}"
         )
+    for t in system.three_winding_transformers:
+        windings = "".join(
+            f"{getattr(t, x + '_winding')}{'' if x == 'h' else t.clock(x)}"
+            for x in ("h", "m", "l")
+            if getattr(t, x + "_winding") is not None
+        )
+        pairs = ", ".join(
+            f"Z{p.upper()} {getattr(t, p + '_z_pct'):g} % on {getattr(t, p + '_kva'):g} kVA X/R "
+            f"{getattr(t, p + '_xr'):g}"
+            for p in ("hm", "hl", "ml")
+            if getattr(t, p + "_z_pct") is not None
+        )
+        kvs = "/".join(f"{k:g}" for k in (t.h_kv, t.m_kv, t.l_kv) if k is not None)
+        what = "autotransformer" if t.kind == "auto" else "three-winding transformer"
+        tertiary = "; tertiary not brought out" if t.has_tertiary and t.l_bus is None else ""
+        text[t.transformer] = f"{what} {kvs} kV {windings}, {pairs}{tertiary}"
     for g in system.grounding_transformers:
         z0 = (
             f"Z0 {g.z0_ohm:g} ohm"
@@ -171,6 +187,12 @@ def _element_table(system: System, pu: perunit.PerUnitSystem, used: set[int]) ->
             note = "impedance on the LV side" + (
                 f"; off-nominal ratio {s.tap:.4f}" if abs(s.tap - 1) > 1e-12 else ""
             )
+        elif s.kind == "three_winding":
+            note = (
+                "star leg, on the winding's rated kV"
+                if s.to_bus.endswith(threewinding.STAR)
+                else "impedance on the m side"
+            ) + (f"; off-nominal ratio {s.tap:.4f}" if abs(s.tap - 1) > 1e-12 else "")
         rows.append(
             (
                 s.element,
@@ -184,7 +206,7 @@ def _element_table(system: System, pu: perunit.PerUnitSystem, used: set[int]) ->
                 s.z1_ohm.imag,
                 s.z1_pu.real,
                 s.z1_pu.imag,
-                s.tap if s.kind == "transformer" else np.nan,
+                s.tap if s.kind in ("transformer", "three_winding") else np.nan,
                 note,
                 *z0_parts(s.z0_pu if s.kind != "tie" else None),
                 s.z0_note,

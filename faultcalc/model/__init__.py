@@ -307,6 +307,71 @@ class GroundingTransformer:
         return self.grounding_transformer
 
 
+WINDING_LETTERS = ("h", "m", "l")
+
+
+@dataclass(frozen=True)
+class ThreeWindingTransformer:
+    """A three-winding transformer or an autotransformer (kind ``auto``: h and m share their
+    neutral, l is the tertiary). The l winding may be absent (an autotransformer without a
+    tertiary) or have no bus (a delta tertiary not brought out)."""
+
+    transformer: str
+    h_bus: str
+    h_kva: float
+    h_kv: float
+    h_winding: str
+    m_bus: str
+    m_kva: float
+    m_kv: float
+    m_winding: str
+    hm_z_pct: float
+    hm_kva: float
+    hm_xr: float
+    kind: str = "separate"
+    h_neutral_ohm: float = 0.0
+    m_neutral_ohm: float = 0.0
+    l_bus: str | None = None
+    l_kva: float | None = None
+    l_kv: float | None = None
+    l_winding: str | None = None
+    l_neutral_ohm: float = 0.0
+    hm_z0_pct: float | None = None
+    hl_z_pct: float | None = None
+    hl_kva: float | None = None
+    hl_xr: float | None = None
+    hl_z0_pct: float | None = None
+    ml_z_pct: float | None = None
+    ml_kva: float | None = None
+    ml_xr: float | None = None
+    ml_z0_pct: float | None = None
+    m_clock: int | None = None
+    l_clock: int | None = None
+    in_service: str = "yes"  # the System holds only elements in service
+    row: int | None = None
+
+    @property
+    def name(self) -> str:
+        return self.transformer
+
+    @property
+    def has_tertiary(self) -> bool:
+        return self.l_winding is not None
+
+    def buses(self) -> tuple[str, ...]:
+        """The buses of its windings (h, m, and l when brought out)."""
+        return (self.h_bus, self.m_bus) + ((self.l_bus,) if self.l_bus is not None else ())
+
+    def clock(self, letter: str) -> int:
+        """IEC 60076 clock number of winding m or l against h; blank means 1 where one of the
+        two windings is D and the other not, 0 otherwise."""
+        given = self.m_clock if letter == "m" else self.l_clock
+        if given is not None:
+            return given
+        other = self.m_winding if letter == "m" else self.l_winding
+        return 1 if (self.h_winding == "D") != (other == "D") else 0
+
+
 @dataclass(frozen=True)
 class System:
     """Everything read from one input: settings, buses and elements, plus reader warnings.
@@ -323,6 +388,7 @@ class System:
     impedances: Records[Impedance] = ()
     machines: Records[Machine] = ()
     grounding_transformers: Records[GroundingTransformer] = ()
+    three_winding_transformers: Records[ThreeWindingTransformer] = ()
     cases: tuple[tuple[str, System], ...] = ()  # named variations, each a whole System
     input_name: str = ""
     input_sha256: str = ""
@@ -396,4 +462,5 @@ ELEMENT_KINDS = {
     "impedances": Impedance,
     "machines": Machine,
     "grounding_transformers": GroundingTransformer,
+    "three_winding_transformers": ThreeWindingTransformer,
 }

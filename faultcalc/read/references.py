@@ -38,6 +38,7 @@ BUS_REFERENCES = (
     ("impedances", ("from_bus", "to_bus")),
     ("machines", ("bus",)),
     ("grounding_transformers", ("bus",)),
+    ("three_winding_transformers", ("h_bus", "m_bus", "l_bus")),
 )
 
 

@@ -12,7 +12,7 @@ from __future__ import annotations
 import numpy as np
 
 from .. import conductors, schema
-from . import names, slips
+from . import names, slips, threewinding
 from .collect import Collector
 from .columns import Typed
 from .references import (  # noqa: F401 - BUS_REFERENCES is read from here too
@@ -510,6 +510,9 @@ def check(sheets: dict[str, Typed], settings, out: Collector, at=None, buses=Non
     references(
         sheets["grounding_transformers"], ("bus",), buses, out, rows("grounding_transformers")
     )
+    three = "three_winding_transformers"
+    references(sheets[three], ("h_bus", "m_bus", "l_bus"), buses, out, rows(three))
+    threewinding.three_winding(sheets[three], buses, out, rows(three))
     machines(sheets["machines"], buses, out, rows("machines"))
     sources(sheets["sources"], buses, out, rows("sources"))
     some_source(sheets, out)

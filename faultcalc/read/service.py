@@ -104,6 +104,7 @@ BUS_COLUMNS = {
     "impedances": ("from_bus", "to_bus"),
     "machines": ("bus",),
     "grounding_transformers": ("bus",),
+    "three_winding_transformers": ("h_bus", "m_bus", "l_bus"),  # l_bus may be blank
 }
 
 
@@ -115,6 +116,7 @@ REMOVAL_ORDER = (
     "sources",
     "machines",
     "grounding_transformers",
+    "three_winding_transformers",
 )
 
 
@@ -138,8 +140,8 @@ def _carry_positions(
             positions = before.bus_positions(getattr(before, sheet).column(column))
             if rows is not None:
                 positions = positions[rows]
-            if renumber is not None:
-                positions = renumber[positions]
+            if renumber is not None:  # a blank reference (-1) stays blank
+                positions = np.where(positions >= 0, renumber[positions], -1)
             after.remember_positions(items.column(column), positions)
 
 
@@ -173,6 +175,14 @@ def _live(system: System, bus_in: np.ndarray) -> np.ndarray:
             keep = bus_in[i] & bus_in[j]
             a.append(i[keep])
             b.append(j[keep])
+    three = system.three_winding_transformers
+    if len(three):  # each winding's bus joined to h's
+        h = system.bus_positions(three.column("h_bus"))
+        for column in ("m_bus", "l_bus"):
+            other = system.bus_positions(three.column(column))
+            keep = (other >= 0) & bus_in[h] & bus_in[np.maximum(other, 0)]
+            a.append(h[keep])
+            b.append(other[keep])
     i = np.concatenate(a) if a else np.zeros(0, np.int64)
     j = np.concatenate(b) if b else np.zeros(0, np.int64)
     graph = coo_matrix((np.ones(len(i)), (i, j)), shape=(n, n))
@@ -206,7 +216,8 @@ def without_buses(system: System, names: list[str]) -> tuple[System, str]:
         items, columns = getattr(system, sheet), BUS_COLUMNS[sheet]
         keep = np.ones(len(items), bool)
         for column in columns:
-            keep &= keep_bus[system.bus_positions(items.column(column))]
+            positions = system.bus_positions(items.column(column))
+            keep &= np.where(positions >= 0, keep_bus[positions], True)  # -1: no bus
         removed += [items.column(NAME_COLUMN[sheet])[k] for k in np.flatnonzero(~keep).tolist()]
         if not keep.all():
             kept[sheet] = np.flatnonzero(keep)

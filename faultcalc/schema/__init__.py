@@ -782,6 +782,119 @@ GROUNDING_TRANSFORMERS = Sheet(
     alternatives=(Alternative((("z0_ohm",), ("z0_pct", "kva", "kv"))),),
 )
 
+
+def _winding_columns(letter: str, which: str, required: bool) -> tuple[Column, ...]:
+    """The bus, rating, voltage, connection and neutral of one winding of a three-winding
+    transformer (``letter`` h, m or l)."""
+    return (
+        Column(f"{letter}_bus", BUS_REF, f"Bus of the {which} winding.", required=required),
+        Column(
+            f"{letter}_kva",
+            NUMBER,
+            f"Rated power of the {which} winding.",
+            unit="kVA",
+            required=required,
+            bound=POSITIVE,
+        ),
+        Column(
+            f"{letter}_kv",
+            NUMBER,
+            f"Rated voltage of the {which} winding, line to line.",
+            unit="kV",
+            required=required,
+            bound=POSITIVE,
+        ),
+        Column(
+            f"{letter}_winding",
+            CHOICE,
+            f"Connection of the {which} winding (IEC 60076): D, Y or YN.",
+            required=required,
+            choices=WINDINGS,
+        ),
+        Column(
+            f"{letter}_neutral_ohm",
+            NUMBER,
+            f"Impedance from the {which} winding's neutral to ground (YN); 0 = solidly grounded.",
+            unit="ohm",
+            default=0.0,
+            bound=NON_NEGATIVE,
+        ),
+    )
+
+
+def _pair_columns(pair: str, which: str, required: bool) -> tuple[Column, ...]:
+    """The short-circuit impedance of one pair of windings, on the kVA it is stated on."""
+    return (
+        Column(
+            f"{pair}_z_pct",
+            NUMBER,
+            f"Impedance {which} (test report), in % on {pair}_kva and the windings' rated kV.",
+            unit="%",
+            required=required,
+            bound=POSITIVE,
+        ),
+        Column(
+            f"{pair}_kva",
+            NUMBER,
+            f"The kVA {pair}_z_pct is stated on.",
+            unit="kVA",
+            required=required,
+            bound=POSITIVE,
+        ),
+        Column(f"{pair}_xr", NUMBER, f"X/R of {pair}_z_pct.", required=required, bound=POSITIVE),
+        Column(
+            f"{pair}_z0_pct",
+            NUMBER,
+            f"Zero-sequence impedance {which}, in % on {pair}_kva (blank: {pair}_z_pct, as for "
+            "a bank of single-phase units); same X/R.",
+            unit="%",
+            bound=POSITIVE,
+            default_from=f"{pair}_z_pct",
+        ),
+    )
+
+
+THREE_WINDING_TRANSFORMERS = Sheet(
+    "three_winding_transformers",
+    "Three-winding transformers and autotransformers: the high (h), medium (m) and low (l) "
+    "voltage windings, and the impedance of each pair of windings from the test report. "
+    "Modelled as the star of three impedances (a negative one is legal). An autotransformer "
+    "(kind auto, YNa0) joins h and m through its series and common windings, with or without "
+    "a delta tertiary (l). A delta tertiary with no load brought out (l_bus blank) still "
+    "gives ground-fault current its path: fill l_winding D and the hl and ml impedances.",
+    (
+        Column("transformer", ID, "Unique name of the transformer.", required=True),
+        Column(
+            "kind",
+            CHOICE,
+            "separate: three separate windings; auto: h and m are an autotransformer (both "
+            "YN, one neutral: h_neutral_ohm), l its tertiary.",
+            default="separate",
+            choices=("separate", "auto"),
+        ),
+        *_winding_columns("h", "high-voltage", True),
+        *_winding_columns("m", "medium-voltage", True),
+        *_winding_columns("l", "low-voltage or tertiary", False),
+        *_pair_columns("hm", "between h and m", True),
+        *_pair_columns("hl", "between h and l", False),
+        *_pair_columns("ml", "between m and l", False),
+        Column(
+            "m_clock",
+            INTEGER,
+            "IEC 60076 clock number of m against h (YNyn0d1 -> 0): m lags h by 30 degrees per "
+            "hour. Blank = 1 when one of the two is D and the other not, 0 otherwise.",
+            bound=NON_NEGATIVE,
+        ),
+        Column(
+            "l_clock",
+            INTEGER,
+            "IEC 60076 clock number of l against h (YNyn0d1 -> 1). Blank as for m_clock.",
+            bound=NON_NEGATIVE,
+        ),
+        _in_service("the transformer"),
+    ),
+)
+
 SHEETS: tuple[Sheet, ...] = (
     STUDY,
     BUSES,
@@ -791,6 +904,7 @@ SHEETS: tuple[Sheet, ...] = (
     IMPEDANCES,
     MACHINES,
     GROUNDING_TRANSFORMERS,
+    THREE_WINDING_TRANSFORMERS,
     CASES,
 )
 
@@ -802,6 +916,7 @@ ELEMENT_SHEETS: tuple[Sheet, ...] = (
     IMPEDANCES,
     MACHINES,
     GROUNDING_TRANSFORMERS,
+    THREE_WINDING_TRANSFORMERS,
 )
 
 # Sheets the template writes for people; the reader passes over them without a warning.

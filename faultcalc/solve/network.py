@@ -89,16 +89,25 @@ def build_network(pu: PerUnitSystem, bus_rows=None) -> Network:
     only then).
     """
     node_of_bus = _merge_ties(pu)
-    n = int(node_of_bus.max()) + 1 if len(node_of_bus) else 0
+    n_bus_nodes = int(node_of_bus.max()) + 1 if len(node_of_bus) else 0
+    n = n_bus_nodes + len(pu.star_names)  # star points of three-winding transformers last
     series = pu.series
     k_all = np.arange(len(series), dtype=np.int64)
     tie = np.asarray(series.column("kind"), dtype=object) == "tie"
-    a, b = (node_of_bus[e] for e in pu.series_ends)
+    if pu.star_names:
+        stars = n_bus_nodes + np.arange(len(pu.star_names), dtype=np.int64)
+        node_of_end = np.concatenate([node_of_bus, stars])
+        one_ended = pu.series_ends[0] < 0  # a tertiary with no bus: to ground only
+        a = node_of_end[np.where(one_ended, pu.series_ends[1], pu.series_ends[0])]
+        b = node_of_end[pu.series_ends[1]]
+    else:
+        one_ended = np.zeros(len(series), bool)
+        a, b = (node_of_bus[e] for e in pu.series_ends)
     z1 = series.array("z1_pu", complex)
     z0 = np.nan_to_num(series.array("z0_pu", complex), nan=0.0)
     tap = series.array("tap", float)
     mode = np.asarray(series.column("z0_mode"), dtype=object)
-    shorted = ~tie & (a == b)
+    shorted = ~tie & (a == b) & ~one_ended
     warnings = [
         f"{e.kind} {e.element}: both ends ({e.from_bus}, "
         f"{e.to_bus}) are joined by closed ties, so it carries no fault current; "
@@ -106,11 +115,11 @@ def build_network(pu: PerUnitSystem, bus_rows=None) -> Network:
         for e in series.take(np.flatnonzero(shorted))
     ]
     used = ~tie & ~shorted
-    u = np.flatnonzero(used)
+    u = np.flatnonzero(used & ~one_ended)
     with np.errstate(divide="ignore", invalid="ignore"):
         y1_series = 1.0 / z1[u]
-    s0 = np.flatnonzero(used & (mode == pu_.Z0_SERIES))
-    sf = np.flatnonzero(used & (mode == pu_.Z0_SHUNT_FROM))
+    s0 = np.flatnonzero(used & ~one_ended & (mode == pu_.Z0_SERIES))
+    sf = np.flatnonzero(used & ~one_ended & (mode == pu_.Z0_SHUNT_FROM))
     st = np.flatnonzero(used & (mode == pu_.Z0_SHUNT_TO))
     shunt_node = node_of_bus[pu.shunt_buses]
     h_z1 = pu.shunts.array("z1_pu", complex)

@@ -119,6 +119,10 @@ class PerUnitSystem:
     series_ends: tuple[np.ndarray, np.ndarray]  # input index of each series element's buses
     shunt_buses: np.ndarray  # input index of each shunt's bus
     warnings: tuple[str, ...] = ()
+    # The star points of three-winding transformers: internal nodes after the buses. A series
+    # end at index len(bus_names) + k is star point k; an end of -1 is no bus (a delta
+    # tertiary not brought out: its zero-sequence path to ground at the star point only).
+    star_names: tuple[str, ...] = ()
 
 
 def _source(s: Source, kv: float, base_mva: float, prefault: float, problems, notes):
@@ -325,6 +329,27 @@ def _grounding(system: System, kv_bus: np.ndarray, base_mva: float) -> dict[str,
     )
 
 
+def _three_winding(system: System, kv_all: np.ndarray, base_mva: float):
+    """The legs of every three-winding transformer (solve/threewinding.py), their ends (bus
+    positions; a star point after the buses; -1 for no bus) and the star points' names."""
+    from . import threewinding
+
+    legs, ends_from, ends_to, stars = [], [], [], []
+    n_bus = len(system.buses)
+    for t in system.three_winding_transformers:
+        at = dict(zip(t.buses(), system.bus_positions(list(t.buses())).tolist(), strict=True))
+        kv = {bus: float(kv_all[k]) for bus, k in at.items()}
+        these, has_star = threewinding.legs(t, kv, base_mva)
+        for leg in these:
+            legs.append(leg)
+            ends_from.append(at[leg.from_bus] if leg.from_bus else -1)
+            ends_to.append(n_bus + len(stars) if has_star else at[leg.to_bus])
+        if has_star:
+            stars.append(threewinding.star_label(t))
+    ends = (np.array(ends_from, np.int64), np.array(ends_to, np.int64))
+    return legs, ends, stars
+
+
 def _columns_of(cls, objects: list) -> dict[str, object]:
     """Column dict of a list of dataclass objects: complex, float and int fields as arrays
     (None as NaN), the others as lists."""
@@ -457,6 +482,8 @@ def to_per_unit(
             )
         )
     series_parts.append(_columns_of(SeriesPU, impedances))
+    three_legs, three_ends, star_names = _three_winding(system, kv_all, base_mva)
+    series_parts.append(_columns_of(SeriesPU, three_legs))
     if cables_assumed:
         notes.append(
             f"cables {_names(cables_assumed)}: no zero-sequence data; Z0 taken as "
@@ -478,10 +505,20 @@ def to_per_unit(
         bus_names=tuple(system.buses.column("bus")),
         series_ends=(
             np.concatenate(
-                [_at(system, series, "from_bus"), cable_at[0], _at(system, impedances, "from_bus")]
+                [
+                    _at(system, series, "from_bus"),
+                    cable_at[0],
+                    _at(system, impedances, "from_bus"),
+                    three_ends[0],
+                ]
             ),
             np.concatenate(
-                [_at(system, series, "to_bus"), cable_at[1], _at(system, impedances, "to_bus")]
+                [
+                    _at(system, series, "to_bus"),
+                    cable_at[1],
+                    _at(system, impedances, "to_bus"),
+                    three_ends[1],
+                ]
             ),
         ),
         shunt_buses=np.concatenate(
@@ -491,4 +528,5 @@ def to_per_unit(
         series=_joined(SeriesPU, series_parts),
         shunts=_joined(ShuntPU, shunt_parts),
         warnings=tuple(notes),
+        star_names=tuple(star_names),
     )
