@@ -118,9 +118,10 @@ def _input_text(system: System) -> dict[str, str]:
             f"X/R {m.xr:g}"
         )
     for t in system.three_winding_transformers:
-        windings = "".join(
-            f"{getattr(t, x + '_winding')}{'' if x == 'h' else t.clock(x)}"
-            for x in ("h", "m", "l")
+        windings = t.h_winding + "".join(
+            ("a0" if t.kind == "auto" and x == "m" else f"{getattr(t, x + '_winding').lower()}")
+            + ("" if t.kind == "auto" and x == "m" else str(t.clock(x)))
+            for x in ("m", "l")
             if getattr(t, x + "_winding") is not None
         )
         pairs = ", ".join(
@@ -193,6 +194,8 @@ def _element_table(system: System, pu: perunit.PerUnitSystem, used: set[int]) ->
                 if s.to_bus.endswith(threewinding.STAR)
                 else "impedance on the m side"
             ) + (f"; off-nominal ratio {s.tap:.4f}" if abs(s.tap - 1) > 1e-12 else "")
+            if s.z1_pu.imag < 0:
+                note += "; a negative leg (legal: only two legs in series are measured)"
         rows.append(
             (
                 s.element,
@@ -300,7 +303,15 @@ def open_circuit_pu(pu, network: Network, factor1: SymmetricFactor) -> np.ndarra
 def element_locations(system: System) -> dict[str, tuple[str, int | None]]:
     """Element name -> (sheet, spreadsheet row), for locating problems found after reading."""
     where = {}
-    for sheet in ("sources", "transformers", "cables", "impedances", "machines"):
+    for sheet in (
+        "sources",
+        "transformers",
+        "cables",
+        "impedances",
+        "machines",
+        "grounding_transformers",
+        "three_winding_transformers",
+    ):
         for e in getattr(system, sheet):
             where[e.name] = (sheet, e.row)
     return where

@@ -7,6 +7,7 @@ import json
 import pytest
 from click.testing import CliRunner
 from openpyxl import load_workbook
+from openpyxl.utils import get_column_letter
 
 from faultcalc import __version__, read_system, sample_path, schema
 from faultcalc.cli import main
@@ -73,11 +74,12 @@ def test_template_has_every_sheet_column_help_and_choice_list(tmp_path):
         for cell in ws[1]:
             assert cell.comment is not None and len(cell.comment.text) > 20
         lists = {
-            str(dv.sqref).split(":")[0][0]: dv.formula1 for dv in ws.data_validations.dataValidation
+            str(dv.sqref).split(":")[0].rstrip("0123456789"): dv.formula1
+            for dv in ws.data_validations.dataValidation
         }
         for j, column in enumerate(sheet.columns):
             if column.kind == schema.CHOICE:
-                letter = chr(ord("A") + j)
+                letter = get_column_letter(j + 1)
                 assert lists[letter] == '"' + ",".join(column.choices) + '"'
     assert run("template", str(path)).exit_code == 1  # never overwrites
 

@@ -2,7 +2,8 @@
 the drawing's points, y growing downwards: written once here, drawn by every renderer (the
 matplotlib one for SVG and PNG, the reportlab one for PDF and the report).
 
-Symbols after IEC 60617 / IEEE 315: a transformer two overlapping circles, an impedance a
+Symbols after IEC 60617 / IEEE 315: a transformer two overlapping circles (a three-winding
+one three, drawn on each of its two branches from the h winding's bus), an impedance a
 rectangle, a machine a circle with its letter, a source a hatched square (the infeed), a
 cable a short line with two slanted marks, a tie's stub an arrow, an open switch a blade
 swung off its contact, an off-page reference a pentagon with the page's number in it.
@@ -74,10 +75,18 @@ def strokes(s: Symbol) -> list[Stroke]:
                 circle(x + r * 0.6, y, r * 0.08, filled=True),
                 line((x + r * 0.6, y), (x + r, y)),
             ]
+        if s.kind == "three_winding":  # three circles in a row
+            return [circle(x + dx * r, y, r * 0.42) for dx in (-0.55, 0.0, 0.55)]
         # a transformer as a tie: two circles side by side
         return [circle(x - r * 0.42, y, r * 0.55), circle(x + r * 0.42, y, r * 0.55)]
     if s.kind == "transformer":
         return [circle(x, y - r * 0.42, r * 0.55), circle(x, y + r * 0.42, r * 0.55)]
+    if s.kind == "three_winding":  # three overlapping circles: h above, the others below
+        return [
+            circle(x, y - r * 0.4, r * 0.5),
+            circle(x - r * 0.36, y + r * 0.25, r * 0.5),
+            circle(x + r * 0.36, y + r * 0.25, r * 0.5),
+        ]
     if s.kind == "impedance":
         return [Stroke("rect", x=x - r * 0.35, y=y - r * 0.8, w=r * 0.7, h=r * 1.6, colour=c)]
     if s.kind in ("motor", "generator"):

@@ -56,13 +56,22 @@ def _fmt(value, unit: str) -> str:
     return "" if value is None else f"{value:.4g} {unit}"
 
 
+def rating_text(kva: float) -> str:
+    """A transformer's rating as printed: kVA below 10,000 kVA, MVA from there.
+
+    >>> rating_text(1500), rating_text(100000)
+    ('1500 kVA', '100 MVA')
+    """
+    return f"{kva / 1000:.4g} MVA" if kva >= 10_000 else f"{kva:.4g} kVA"
+
+
 def branch_text(kind: str, item) -> tuple[str, ...]:
     """What is printed beside a branch: its name and the figures that identify it."""
     if kind == "transformer":
         windings = f"{item.hv_winding}{item.lv_winding.lower()}".strip()
         return (
             item.transformer,
-            f"{item.kva:.4g} kVA {item.z_pct:.3g} %Z",
+            f"{rating_text(item.kva)} {item.z_pct:.3g} %Z",
             f"{item.hv_kv:g}/{item.lv_kv:g} kV {windings}".rstrip(),
         )
     if kind == "cable":
@@ -70,6 +79,21 @@ def branch_text(kind: str, item) -> tuple[str, ...]:
         size = f"{item.sets:g} x {item.size}" if item.size else f"{item.sets:g} set(s)"
         return (item.cable, size, length) if length else (item.cable, size)
     return (item.element, f"R {item.r_ohm:.3g} + jX {item.x_ohm:.3g} ohm")
+
+
+def _three_text(t, x: str) -> tuple[str, ...]:
+    """What is printed beside one of a three-winding transformer's two branches (h to x)."""
+    what = "auto" if t.kind == "auto" else "3-winding"
+    if t.kind == "auto" and x == "m":
+        winding = "YNa0"
+    else:
+        winding = f"{t.h_winding}{getattr(t, x + '_winding').lower()}{t.clock(x)}"
+    pair = f"h{x}"
+    return (
+        f"{t.transformer} ({what}, h-{x})",
+        f"{rating_text(getattr(t, pair + '_kva'))} {getattr(t, pair + '_z_pct'):.3g} %Z",
+        f"{t.h_kv:g}/{getattr(t, x + '_kv'):g} kV {winding}",
+    )
 
 
 def tree_of(system: System) -> Tree:
@@ -83,6 +107,13 @@ def tree_of(system: System) -> Tree:
                 branch = Branch(kind, getattr(item, name), a, b, branch_text(kind, item))
                 adjacent[a].append(branch)
                 adjacent[b].append(branch)
+    for t in system.three_winding_transformers:  # two branches from h: to m and to l
+        for x in ("m", "l"):
+            other = getattr(t, f"{x}_bus")
+            if t.h_bus in known and other in known:
+                branch = Branch("three_winding", t.transformer, t.h_bus, other, _three_text(t, x))
+                adjacent[t.h_bus].append(branch)
+                adjacent[other].append(branch)
     sources: dict[str, list] = {}
     for s in system.sources:
         strength = f"{s.sc_mva:.4g} MVA" if s.sc_mva is not None else f"{s.sc_ka:.4g} kA"

@@ -30,6 +30,17 @@ SYNONYMS = {
         "zig_zag",
         "grounding_transformer",
     ),
+    "three_winding_transformers": (
+        "three_winding",
+        "three_windings",
+        "3_winding",
+        "3_winding_transformers",
+        "3w_transformers",
+        "autotransformers",
+        "autotransformer",
+        "auto_transformers",
+        "three_winding_transformer",
+    ),
     "cases": ("scenarios", "scenario", "variants", "variations"),
 }
 KNOWN = tuple(s.name for s in schema.SHEETS)

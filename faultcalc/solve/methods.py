@@ -25,7 +25,7 @@ import numpy as np
 
 from ..model import Cable, System, rated_kva_array
 from ..model.records import Records
-from . import standards
+from . import standards, threewinding
 
 MOTOR_KINDS = ("induction_motor", "synchronous_motor")
 
@@ -63,6 +63,29 @@ def _iec_transformers(system: System, units=frozenset()):
             standards.transformer_x_pu(t.z_pct, t.xr), standards.c_max(kv[t.lv_bus], tol)
         )
         out.append(dataclasses.replace(t, z_pct=t.z_pct * kt, z0_pct=t.z0_pct * kt))
+    return tuple(out)
+
+
+def _iec_three_winding(system: System):
+    """Three-winding transformers with each pair impedance corrected by its own K_T (IEC
+    60909-0:2016 6.3.3, eq. 13, from memory): ``K_Tab = 0.95 cmax / (1 + 0.6 x_Tab)``, x_Tab
+    the pair's reactance in per-unit of the pair's kVA, cmax of the lowest nominal voltage among
+    the pair's buses (a tertiary not brought out: the other winding's)."""
+    kv = system.bus_kv()
+    tol = system.settings.lv_tolerance_pct
+    out = []
+    for t in system.three_winding_transformers:
+        changes = {}
+        for pair in ("hm", "hl", "ml"):
+            if getattr(t, f"{pair}_z_pct") is None:
+                continue
+            buses = [getattr(t, f"{x}_bus") for x in pair]
+            low = min(kv[b] for b in buses if b is not None)
+            kt = standards.k_t(threewinding.winding_x_pu(t, pair), standards.c_max(low, tol))
+            z, z0 = getattr(t, f"{pair}_z_pct"), getattr(t, f"{pair}_z0_pct")
+            changes[f"{pair}_z_pct"] = z * kt
+            changes[f"{pair}_z0_pct"] = (z if z0 is None else z0) * kt
+        out.append(dataclasses.replace(t, **changes))
     return tuple(out)
 
 
@@ -229,7 +252,11 @@ def variants(system: System) -> list[Variant]:
     if s.method == "iec60909":
         kv = system.buses.array("kv")
         transformers = _iec_transformers(system, unit_transformers(system))
-        system = dataclasses.replace(system, transformers=transformers)
+        system = dataclasses.replace(
+            system,
+            transformers=transformers,
+            three_winding_transformers=_iec_three_winding(system),
+        )
         system = dataclasses.replace(system, machines=_iec_generators(system))
         system = _iec_units(system)
         transformers = system.transformers

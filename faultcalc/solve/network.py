@@ -253,7 +253,10 @@ def zone_angles_deg(pu: PerUnitSystem, network: Network, where=None) -> np.ndarr
                     element = pu.series[k]
                     located = where() if callable(where) else (where or {})
                     sheet, row = located.get(element.element, (element.kind + "s", None))
-                    column = "clock_number" if element.kind == "transformer" else None
+                    column = {
+                        "transformer": "clock_number",
+                        "three_winding": "m_clock, l_clock",
+                    }.get(element.kind)
                     problems.append(
                         Problem(
                             sheet,
