@@ -31,6 +31,7 @@ def random_sheets(
     machines: int = 0,
     clocks: bool = False,
     grounding: int = 0,
+    three_winding: int = 0,
 ) -> dict[str, list[dict]]:
     """A 13.8 kV network with 480 V networks hung under it through transformers.
 
@@ -38,7 +39,9 @@ def random_sheets(
     through a transformer or from an LV bus through a cable or impedance. With
     ``zero_sequence`` the sources, cables and transformers get zero-sequence data and random
     winding connections; ``machines`` adds motors and generators; ``grounding`` adds zig-zag
-    and wye-delta grounding banks at random buses; ``clocks`` draws the
+    and wye-delta grounding banks at random buses; ``three_winding`` adds three-winding
+    transformers and autotransformers from random MV buses to 4.16 kV or 69 kV buses of their
+    own (and a 0.48 kV tertiary bus, or a delta tertiary not brought out); ``clocks`` draws the
     transformers' IEC 60076 clock numbers. Closed ties join only buses of one phase
     displacement, so every loop is consistent.
     """
@@ -189,7 +192,14 @@ def random_sheets(
             row["neutral_ohm"] = float(rng.choice([0.0, 0.3]))
             row["x0_pct"] = float(rng.uniform(3, 10))
         machine_rows.append(row)
+    three_rows = []
+    for k in range(three_winding):
+        three_rows.append(
+            _three_winding_row(rng, k, f"M{rng.integers(n_mv)}", buses, zero_sequence)
+        )
     sheets = {"buses": buses, "sources": src, "transformers": transformers, "cables": cables}
+    if three_rows:
+        sheets["three_winding_transformers"] = three_rows
     if impedances:
         sheets["impedances"] = impedances
     if machine_rows:
@@ -211,3 +221,60 @@ def random_sheets(
             )
         sheets["grounding_transformers"] = banks
     return sheets
+
+
+def _three_winding_row(rng, k: int, h_bus: str, buses: list[dict], zero_sequence: bool) -> dict:
+    """A random three-winding transformer (or autotransformer) from ``h_bus`` (13.8 kV) to new
+    buses of its own, appended to ``buses``; windings, neutrals and clocks drawn at random."""
+    auto = bool(rng.random() < 0.4)
+    # an auto steps 13.8 kV down to 4.16 kV; a separate-winding unit too, or up to 69 kV as h
+    m_kv = 4.16
+    m_bus, l_bus = f"W{k}M", f"W{k}L"
+    buses.append({"bus": m_bus, "kv": m_kv})
+    buried = bool(rng.random() < 0.3)
+    if not buried:
+        buses.append({"bus": l_bus, "kv": LV_KV})
+    windings = ["YN", "YN", "D"]
+    if zero_sequence and not auto:
+        windings = [str(rng.choice(["D", "Y", "YN"])) for _ in range(3)]
+        if buried:
+            windings[2] = "D"
+    h_w, m_w, l_w = windings
+    kva = float(rng.choice([5000, 10000, 20000]))
+    row = {
+        "transformer": f"X3W{k}",
+        "kind": "auto" if auto else "separate",
+        "h_bus": h_bus,
+        "h_kva": kva,
+        "h_kv": MV_KV * float(rng.choice([1.0, 0.97])),
+        "h_winding": h_w,
+        "h_neutral_ohm": float(rng.choice([0.0, 0.0, 2.0])),
+        "m_bus": m_bus,
+        "m_kva": kva,
+        "m_kv": m_kv * float(rng.choice([1.0, 1.03])),
+        "m_winding": m_w,
+        "l_winding": l_w,
+        "hm_z_pct": float(rng.uniform(6, 10)),
+        "hm_kva": kva,
+        "hm_xr": float(rng.uniform(10, 30)),
+        "hl_z_pct": float(rng.uniform(10, 20)),
+        "hl_kva": kva / 3,
+        "hl_xr": float(rng.uniform(8, 25)),
+        "ml_z_pct": float(rng.uniform(5, 15)),
+        "ml_kva": kva / 3,
+        "ml_xr": float(rng.uniform(8, 25)),
+    }
+    if not auto:
+        row["m_neutral_ohm"] = float(rng.choice([0.0, 0.5]))
+        row["l_neutral_ohm"] = float(rng.choice([0.0, 0.05]))
+    if not buried:
+        row.update({"l_bus": l_bus, "l_kva": kva / 3, "l_kv": LV_KV})
+    if zero_sequence:  # every vector group's clock
+        for x, winding in (("m", m_w), ("l", l_w)):
+            if auto and x == "m":
+                continue
+            mixed = (h_w == "D") != (winding == "D")
+            row[f"{x}_clock"] = int(rng.choice([1, 5, 7, 11] if mixed else [0, 4, 6, 8]))
+        for pair in ("hm", "hl", "ml"):
+            row[f"{pair}_z0_pct"] = row[f"{pair}_z_pct"] * float(rng.uniform(0.8, 1.0))
+    return row

@@ -46,7 +46,12 @@ def dense_reference(sheets, base_mva=100.0, prefault=1.0):
             parent[root(e["to_bus"])] = root(e["from_bus"])
     nodes = sorted({root(n) for n in names})
     idx = {n: nodes.index(root(n)) for n in names}
-    size = len(nodes)
+    three = sheets.get("three_winding_transformers", [])
+    stars = [t["transformer"] for t in three if "l_winding" in t]
+    for k, name in enumerate(stars):  # star points after the buses, on a base of 1 kV
+        idx[name] = len(nodes) + k
+        kv[name] = 1.0
+    size = len(nodes) + len(stars)
     y1 = np.zeros((size, size), dtype=complex)
     y0 = np.zeros((size, size), dtype=complex)
     links0 = []  # zero-sequence branches, for finding islands without a ground path
@@ -133,6 +138,8 @@ def dense_reference(sheets, base_mva=100.0, prefault=1.0):
         # a zero-sequence shunt Z0 + 3 Zn to ground, |Z0| in ohms with its X/R; no positive path
         z0 = g["z0_ohm"] / math.sqrt(1 + g["xr"] ** 2) * complex(1, g["xr"])
         shunt(y0, g["bus"], (z0 + 3 * g.get("neutral_ohm", 0.0)) / zbase(g["bus"]))
+    for t in three:
+        _three_winding(t, kv, base_mva, stamp, shunt, y1, y0)
     # Zero-sequence islands with no path to ground: find them by flooding from grounded nodes.
     reach = set(grounds0)
     changed = True
@@ -153,6 +160,55 @@ def dense_reference(sheets, base_mva=100.0, prefault=1.0):
     return z1_ohm, z0_ohm
 
 
+def _three_winding(t, kv, base_mva, stamp, shunt, y1, y0):
+    """A three-winding transformer in the reference's own terms: each leg in ohms at the h
+    winding's voltage (the star point's physical level), the star point on a 1 kV base, each
+    bus behind the ratio of its winding's rated kV to h's; the autotransformer's zero sequence
+    by the equivalent with its neutral (stated in the README)."""
+    h_kv = t["h_kv"]
+
+    def pair_ohm(pair, zero=False):  # ohms at the h winding's rated voltage
+        pct = t.get(f"{pair}_z0_pct", t[f"{pair}_z_pct"]) if zero else t[f"{pair}_z_pct"]
+        return _by_xr(pct / 100, t[f"{pair}_xr"]) * h_kv**2 / (t[f"{pair}_kva"] / 1000)
+
+    auto = t.get("kind") == "auto"
+    zn = t.get("h_neutral_ohm", 0.0)  # ohms at h's level
+    n = h_kv / t["m_kv"]
+    if "l_winding" not in t:  # an autotransformer h-m without tertiary: one series branch
+        zb_m = kv[t["m_bus"]] ** 2 / base_mva
+        to_m = (t["m_kv"] / h_kv) ** 2  # ohms at h's level to ohms at m's
+        tap = (h_kv / kv[t["h_bus"]]) / (t["m_kv"] / kv[t["m_bus"]])
+        stamp(y1, t["h_bus"], t["m_bus"], pair_ohm("hm") * to_m / zb_m, tap)
+        z0 = pair_ohm("hm", True) + 3 * zn * (n - 1) ** 2
+        stamp(y0, t["h_bus"], t["m_bus"], z0 * to_m / zb_m, tap)
+        return
+    hm, hl, ml = (pair_ohm(p) for p in ("hm", "hl", "ml"))
+    hm0, hl0, ml0 = (pair_ohm(p, True) for p in ("hm", "hl", "ml"))
+    leg1 = {"h": (hm + hl - ml) / 2, "m": (hm + ml - hl) / 2, "l": (hl + ml - hm) / 2}
+    leg0 = {"h": (hm0 + hl0 - ml0) / 2, "m": (hm0 + ml0 - hl0) / 2, "l": (hl0 + ml0 - hm0) / 2}
+    star = t["transformer"]
+    zb_star = 1.0 / base_mva  # (1 kV)^2 / base
+    for x in ("h", "m", "l"):
+        bus = t.get(f"{x}_bus")
+        winding = t.get(f"{x}_winding", "YN")
+        rated = t.get(f"{x}_kv", h_kv)
+        # per-unit ratio bus : star = (rated / bus kV) / (h_kv / 1 kV)
+        tap = (rated / kv[bus]) / h_kv if bus is not None else 1.0
+        if bus is not None:
+            stamp(y1, bus, star, leg1[x] / zb_star, tap)
+        if auto:
+            extra = {"h": 3 * zn * (1 - n), "m": 3 * zn * n * (n - 1), "l": 3 * zn * n}[x]
+            if x == "l":
+                shunt(y0, star, (leg0[x] + extra) / zb_star)
+            else:
+                stamp(y0, bus, star, (leg0[x] + extra) / zb_star, tap)
+        elif winding == "YN":
+            zn_x = t.get(f"{x}_neutral_ohm", 0.0) * (h_kv / rated) ** 2  # to h's level
+            stamp(y0, bus, star, (leg0[x] + 3 * zn_x) / zb_star, tap)
+        elif winding == "D":
+            shunt(y0, star, leg0[x] / zb_star)
+
+
 CASES = [
     dict(seed=1),
     dict(seed=2, loops=3),
@@ -163,6 +219,8 @@ CASES = [
     dict(seed=7, zero_sequence=True),
     dict(seed=8, zero_sequence=True, machines=6),
     dict(seed=12, zero_sequence=True, machines=3, grounding=4),
+    dict(seed=13, three_winding=4),
+    dict(seed=14, loops=3, sources=2, zero_sequence=True, machines=4, three_winding=6),
     dict(seed=9, loops=4, sources=2, zero_sequence=True, machines=10, ties=2),
     dict(
         seed=10,

@@ -22,7 +22,15 @@ def study(path):
 
 def base_sheets():
     return random_sheets(
-        seed=11, n_mv=10, n_lv=30, loops=3, sources=2, ties=1, off_nominal=True, grounding=2
+        seed=11,
+        n_mv=10,
+        n_lv=30,
+        loops=3,
+        sources=2,
+        ties=1,
+        off_nominal=True,
+        grounding=2,
+        three_winding=3,
     )
 
 
@@ -93,7 +101,7 @@ def test_bus_names_do_not_matter(make_input):
     renamed = copy.deepcopy(sheets)
     for rows in renamed.values():
         for row in rows:
-            for key in ("bus", "hv_bus", "lv_bus", "from_bus", "to_bus"):
+            for key in ("bus", "hv_bus", "lv_bus", "from_bus", "to_bus", "h_bus", "m_bus", "l_bus"):
                 if key in row:
                     row[key] = rename[row[key]]
     other = study(make_input(renamed))
