@@ -89,9 +89,10 @@ def _three_text(t, x: str) -> tuple[str, ...]:
     else:
         winding = f"{t.h_winding}{getattr(t, x + '_winding').lower()}{t.clock(x)}"
     pair = f"h{x}"
+    rating = rating_text(getattr(t, pair + "_kva"))
     return (
-        f"{t.transformer} ({what}, h-{x})",
-        f"{rating_text(getattr(t, pair + '_kva'))} {getattr(t, pair + '_z_pct'):.3g} %Z",
+        t.transformer,
+        f"{what} h-{x} {rating} {getattr(t, pair + '_z_pct'):.3g} %Z",
         f"{t.h_kv:g}/{getattr(t, x + '_kv'):g} kV {winding}",
     )
 

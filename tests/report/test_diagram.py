@@ -28,6 +28,7 @@ NAMES = {
     "impedances": "element",
     "machines": "machine",
     "grounding_transformers": "grounding_transformer",
+    "three_winding_transformers": "transformer",
 }
 
 
@@ -70,7 +71,8 @@ def assert_everything_drawn(system, drawing) -> None:
         for name in getattr(system, sheet).column(column):
             assert name in texts, f"{sheet} {name} is not on the diagram"
     drawn = {s.owner for s in drawing.symbols}
-    for sheet in ("sources", "transformers", "cables", "impedances", "machines"):
+    sheets = ("sources", "transformers", "cables", "impedances", "machines")
+    for sheet in (*sheets, "three_winding_transformers"):
         for name in getattr(system, sheet).column(NAMES[sheet]):
             assert name in drawn, f"{sheet} {name} has no symbol"
 
@@ -107,7 +109,7 @@ def test_a_tie_between_buses_side_by_side_runs_straight_across():
 @pytest.mark.parametrize(
     "case",
     [
-        {"seed": 1, "n_mv": 10, "n_lv": 40, "machines": 6, "grounding": 3},
+        {"seed": 1, "n_mv": 10, "n_lv": 40, "machines": 6, "grounding": 3, "three_winding": 3},
         {"seed": 2, "n_mv": 12, "n_lv": 30, "loops": 3, "ties": 2, "machines": 4, "sources": 2},
         {"seed": 3, "n_mv": 30, "n_lv": 120, "loops": 2, "machines": 10},
     ],
