@@ -55,3 +55,80 @@ def test_the_text_is_json_dumps_row_by_row(tmp_path, monkeypatch, rows_at_a_time
         path = tmp_path / f"r{k}.json"
         jsonout.write_json_to(result, path)
         assert path.read_text(encoding="utf-8") == _reference_text(result)
+
+
+def test_every_kind_of_value_is_written_as_json_dumps_writes_it(monkeypatch):
+    # Floats of every magnitude (whole, tiny, huge, subnormal, -0.0, NaN, inf), integers, text
+    # with quotes, backslashes, controls and non-ASCII, None: the reference rows are built here
+    # with the standard library alone (json.dumps, allow_nan=False, NaN and inf as null).
+    import io
+    import math
+
+    import numpy as np
+    import pandas as pd
+
+    rng = np.random.default_rng(7)
+    floats = np.concatenate(
+        [
+            rng.lognormal(0, 12, 3000) * rng.choice([-1, 1], 3000),
+            np.round(rng.uniform(-1e6, 1e6, 500)),
+            [
+                0.0,
+                -0.0,
+                1.0,
+                1e15,
+                1e15 - 1,
+                9999999999999998.0,
+                1e16,
+                1e-4,
+                9.99e-5,
+                5e-324,
+                1.7976931348623157e308,
+                0.1 + 0.2,
+                np.nan,
+                np.inf,
+                -np.inf,
+            ],
+        ]
+    )
+    n = len(floats)
+    words = [
+        "plain",
+        'say "hi"',
+        "back\\slash",
+        "tab\there",
+        "line\nbreak",
+        "été",
+        "\u202e",
+        "",
+        "\x00",
+        "😀",
+    ]
+    table = pd.DataFrame(
+        {
+            "x": floats,
+            "k": rng.integers(-5, 5, n),
+            "name": [words[i % len(words)] for i in range(n)],
+            "mixed": [
+                None if i % 3 == 0 else (words[i % 10] if i % 3 == 1 else float(i))
+                for i in range(n)
+            ],
+        }
+    )
+
+    def value(v):
+        if isinstance(v, str) or v is None:
+            return v
+        v = float(v)
+        return v if math.isfinite(v) else None
+
+    rows = [
+        json.dumps({c: value(table[c].iloc[i]) for c in table.columns}, allow_nan=False)
+        for i in range(n)
+    ]
+    expected = "[\n    " + ",\n    ".join(rows) + "\n  ]"
+    for step in (1_000, 7, n):
+        monkeypatch.setattr(jsonout, "ROWS_AT_A_TIME", step)
+        out = io.StringIO()
+        jsonout._write_rows(out, table, "  ")
+        assert out.getvalue() == expected, step
