@@ -36,6 +36,8 @@ bench: $(VENV)/.installed
 	$(BIN)/python benchmarks/scale.py --sizes 1000000
 	$(BIN)/python benchmarks/engine.py
 	$(BIN)/python benchmarks/drawn.py
+	$(BIN)/python benchmarks/json_write.py
+	$(BIN)/python benchmarks/fleet.py
 
 samples: $(VENV)/.installed
 	$(BIN)/python scripts/make_samples.py

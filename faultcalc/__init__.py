@@ -12,7 +12,8 @@ Public API::
 ``TerminalProgress()`` draws a bar on stderr); by default they report nothing. Also:
 :func:`check_cables` and :func:`write_cable_checks`, :func:`write_netlist`,
 :func:`write_template`, :class:`ResultFiles` and :class:`OutputFiles` (output names checked
-before the work), :func:`contribution_bus_names`, :func:`sample_path`.
+before the work), :func:`contribution_bus_names`, :func:`sample_path`, :func:`run_fleet` and
+:func:`inputs_in` (many studies at once).
 
 Bad input raises :class:`InputError`, whose ``problems`` each carry ``sheet``, ``row``,
 ``column``, ``value`` and ``message``; an output that cannot be written, :class:`OutputError`.
@@ -58,6 +59,8 @@ _LAZY = {
     "write_netlist": "faultcalc.report.outputs",
     "write_results": "faultcalc.report.outputs",
     "write_template": "faultcalc.report.outputs",
+    "run_fleet": "faultcalc.fleet",
+    "inputs_in": "faultcalc.fleet",
 }
 
 
@@ -106,7 +109,9 @@ __all__ = [
     "bus_csv_path",
     "check_cables",
     "contribution_bus_names",
+    "inputs_in",
     "read_system",
+    "run_fleet",
     "run_study",
     "sample_path",
     "write_cable_checks",

@@ -29,6 +29,7 @@ from . import (
 EXIT_BAD_INPUT = 2
 EXIT_FAILURE = 1
 EXIT_OVER_RATING = 3
+EXIT_SOME_FAILED = 4  # fleet: some inputs failed, the others written
 
 
 def _fail(message: str, status: int) -> None:
@@ -305,6 +306,93 @@ def study(
     )
     if fail_on_overduty and not result.over_rating().empty:
         sys.exit(EXIT_OVER_RATING)
+
+
+@main.command()
+@click.argument(
+    "inputs", metavar="INPUT...", nargs=-1, required=True, type=click.Path(path_type=Path)
+)
+@click.option(
+    "-d",
+    "--out-dir",
+    required=True,
+    type=click.Path(path_type=Path, file_okay=False),
+    metavar="FOLDER",
+    help="Folder for every input's results and the summary (made if missing).",
+)
+@click.option("--json", "json_out", is_flag=True, help="Also write each input's results as JSON.")
+@click.option(
+    "--workers",
+    type=click.IntRange(min=1),
+    metavar="N",
+    help="Worker processes on this machine (default: one per core).",
+)
+@click.option(
+    "--scheduler",
+    metavar="ADDRESS",
+    help="Run on the Dask cluster of this scheduler (tcp://host:8786) instead of this machine.",
+)
+@OVERWRITE
+def fleet(
+    inputs: tuple[Path, ...],
+    out_dir: Path,
+    json_out: bool,
+    workers: int | None,
+    scheduler: str | None,
+    overwrite: bool,
+) -> None:
+    """Study many inputs at once: workbooks, CSV folders, or folders of them.
+
+    Each input is its own study, written to FOLDER as <name>-results.xlsx (and .json); a
+    failure of one input is said and the others go on. FOLDER/fleet-summary.csv holds one
+    row per input: status, buses, the maximum available current and where, devices over
+    their rating, the results file, and why an input failed.
+
+    \b
+    Example:
+      faultcalc fleet feeders/ -d feeder-results
+      faultcalc fleet a.xlsx b.xlsx --workers 2 -d results
+      faultcalc fleet feeders/ -d results --scheduler tcp://10.0.0.5:8786
+
+    \b
+    Exit status: 0 every input studied; 4 some inputs failed (the others written);
+    1 failure of the run itself.
+    """
+
+    def action():
+        from . import run_fleet
+
+        def done(row):
+            if row["status"] == "ok":
+                click.echo(
+                    f"ok      {row['input']}: {row['buses']} buses, maximum "
+                    f"{row['max_ka']:.2f} kA at {row['max_bus']}"
+                )
+            else:
+                first = str(row["message"]).splitlines()[:2]
+                click.echo(f"FAILED  {row['input']}: {' '.join(first)}")
+
+        try:
+            return run_fleet(
+                inputs,
+                out_dir,
+                json=json_out,
+                overwrite=overwrite,
+                workers=workers,
+                scheduler=scheduler,
+                on_done=done,
+            )
+        except ValueError as exc:
+            raise click.BadParameter(str(exc), param_hint="INPUT") from None
+
+    result = _guarded(action)
+    click.echo(
+        f"{len(result.summary)} inputs, {result.failed} failed, on {result.workers} worker(s) "
+        f"in {result.seconds:.1f} s; summary: {result.summary_path.resolve()}"
+    )
+    click.echo("Caution: for review by a qualified engineer; see each results workbook.")
+    if result.failed:
+        sys.exit(EXIT_SOME_FAILED)
 
 
 @main.command("check-cables")
