@@ -170,7 +170,11 @@ _PLAIN_TEXT = r"^[\x20\x21\x23-\x5b\x5d-\x7e]*$"
 def _write_rows(handle, table, indent: str) -> None:
     """The rows of ``table`` as ``json.dumps`` writes each (the same text), built column by
     column in Arrow: each column's values encoded at once, the rows joined element-wise, and
-    the text written from Arrow's buffer (no Python object per row)."""
+    the text written from Arrow's buffer (no Python object per row). Arrow's kernels let go of
+    the interpreter, so two threads encode the columns and the file is written from a thread
+    while the next rows are encoded."""
+    from concurrent.futures import ThreadPoolExecutor
+
     import pyarrow.compute as pc
 
     if not len(table):
@@ -180,27 +184,34 @@ def _write_rows(handle, table, indent: str) -> None:
     inner = indent + "  "
     separator = ",\n" + inner
     handle.write("[\n" + inner)
-    step = ROWS_AT_A_TIME
-    for start in range(0, len(table), step):
-        chunk = table.iloc[start : start + step]
-        parts: list = []
-        for k, name in enumerate(names):
-            parts.append(("{" if k == 0 else ", ") + json.dumps(name) + ": ")
-            parts.append(_encoded(chunk[name]))
-        parts.append("}" + separator)  # every row with its separator
-        rows = pc.binary_join_element_wise(*parts, "")
-        offsets = np.frombuffer(
-            rows.buffers()[1], dtype=np.int32, count=len(rows) + 1, offset=rows.offset * 4
-        )
-        end = int(offsets[-1])
-        if start + step >= len(table):  # the table's last row: no separator after it
-            end -= len(separator.encode("utf-8"))
-        data = memoryview(rows.buffers()[2])[int(offsets[0]) : end]
-        if hasattr(handle, "buffer"):  # a file: the rows as bytes (UTF-8 already)
-            handle.flush()
-            handle.buffer.write(data)
-        else:
+    if hasattr(handle, "buffer"):  # a file: the rows go as bytes (UTF-8 already)
+        handle.flush()
+        write = handle.buffer.write
+    else:
+
+        def write(data):
             handle.write(bytes(data).decode("utf-8"))
+
+    keys = [("{" if k == 0 else ", ") + json.dumps(name) + ": " for k, name in enumerate(names)]
+    step = ROWS_AT_A_TIME
+    with ThreadPoolExecutor(2) as pool:
+        writing = None
+        for start in range(0, len(table), step):
+            chunk = table.iloc[start : start + step]
+            encoded = list(pool.map(_encoded, [chunk[name] for name in names]))
+            parts = [x for pair in zip(keys, encoded, strict=True) for x in pair]
+            rows = pc.binary_join_element_wise(*parts, "}" + separator, "")
+            offsets = np.frombuffer(
+                rows.buffers()[1], dtype=np.int32, count=len(rows) + 1, offset=rows.offset * 4
+            )
+            end = int(offsets[-1])
+            if start + step >= len(table):  # the table's last row: no separator after it
+                end -= len(separator.encode("utf-8"))
+            if writing is not None:
+                writing.result()
+            data = memoryview(rows.buffers()[2])[int(offsets[0]) : end]
+            writing = pool.submit(write, data)  # ``data`` keeps ``rows``' buffer alive
+        writing.result()
     handle.write("\n" + indent + "]")
 
 
@@ -266,7 +277,7 @@ def _floats(values: np.ndarray):
         whole = (values == np.trunc(values)) & (size < _ARROW_HIGH)
         fraction = ~whole & (size >= _ARROW_LOW) & (size < _ARROW_HIGH)
     if not finite.any():
-        return pa.array(np.full(len(values), "null", dtype=object), pa.string())
+        return pa.repeat(pa.scalar("null"), len(values))
     text = pc.cast(pa.array(values), pa.string())
     if whole.any():
         text = pc.if_else(pa.array(whole), pc.binary_join_element_wise(text, ".0", ""), text)
