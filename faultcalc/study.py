@@ -182,6 +182,8 @@ def _element_table(system: System, pu: perunit.PerUnitSystem, used: set[int]) ->
         note = ""
         if s.kind == "tie":
             note = "buses merged into one node"
+        elif s.kind == "three_winding" and not s.from_bus:
+            note = "zero sequence only: a delta winding not brought out (star point to ground)"
         elif k not in used:
             note = "left out: both ends share one node"
         elif s.kind == "transformer":

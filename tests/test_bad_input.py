@@ -401,6 +401,42 @@ CASES = [
         "phase displacements do not add up",
     ),
     (
+        "three-winding transformer with its tertiary's kVA typed in MVA",
+        lambda s: s.update(
+            three_winding_transformers=[
+                {
+                    "transformer": "T3",
+                    "h_bus": "HV",
+                    "h_kva": 5000,
+                    "h_kv": 12.47,
+                    "h_winding": "D",
+                    "m_bus": "LV",
+                    "m_kva": 5000,
+                    "m_kv": 0.48,
+                    "m_winding": "YN",
+                    "l_bus": "PNL",
+                    "l_kva": 1000,
+                    "l_kv": 0.48,
+                    "l_winding": "YN",
+                    "hm_z_pct": 6,
+                    "hm_kva": 5000,
+                    "hm_xr": 8,
+                    "hl_z_pct": 7,
+                    "hl_kva": 1,
+                    "hl_xr": 8,
+                    "ml_z_pct": 4,
+                    "ml_kva": 1000,
+                    "ml_xr": 6,
+                }
+            ]
+        ),
+        "three_winding_transformers",
+        2,
+        "hl_kva",
+        1,
+        "hl_kva is in kVA",
+    ),
+    (
         "missing buses sheet",
         lambda s: s.pop("buses"),
         "buses",

@@ -178,8 +178,12 @@ def test_a_solidly_grounded_autotransformer_is_a_yn_yn_d_transformer(make_input)
 
 def test_the_neutral_impedance_of_an_autotransformer_without_tertiary(make_input):
     # Without a tertiary the auto's zero sequence is one series impedance Z_hm + 3 Zn (n - 1)^2
-    # (derived in solve/threewinding.py; checked against the simulated real windings in
-    # tests/crosscheck). Hand calculation of the line-to-ground current at S fed from P.
+    # (per-unit on h's base). Derivation (circuit theory): the neutral carries 3 (I_h + I_m)
+    # in amperes, i.e. 3 (i_h + n i_m) I_base,h in per-unit currents, and i_m = -i_h with no
+    # tertiary, so the neutral rises by 3 zn (1 - n) i_h in h's per-unit and n times that in
+    # m's; the terminal difference v_h - v_m gains 3 zn (1 - n)(1 - n) i_h. The same form as
+    # the autotransformer equivalent of Anderson, Analysis of Faulted Power Systems (value from
+    # memory). Hand calculation of the line-to-ground current at S fed from P.
     zn_ohm = 20.0
     row = _example(kind="auto", h_neutral_ohm=zn_ohm)
     for column in ("l_bus", "l_kva", "l_kv", "l_winding", "hl_z_pct", "hl_kva", "hl_xr"):
@@ -260,6 +264,10 @@ def test_contributions_through_each_winding_add_up(make_input):
         (dict(m_kv=70), "m_kv", "must not be higher than h_kv"),
         (dict(kind="auto", m_winding="D", m_clock=None), "m_winding", "YNa0"),
         (dict(kind="auto", m_neutral_ohm=5), "m_neutral_ohm", "one neutral"),
+        (dict(kind="auto", l_winding="YN"), "l_winding", "tertiary is a delta"),
+        (dict(hm_kva=15, hl_kva=15, ml_kva=10), "hm_kva", "hm_kva is in kVA"),
+        (dict(h_kv=66000), "h_kv", "more than 1.5 x apart"),
+        (dict(h_bus="S", m_bus="P"), "h_bus", "h_bus and m_bus look swapped"),
         (dict(hm_z_pct=0.07), "hm_z_pct", "not a fraction"),
         (dict(hm_z0_pct=700), "hm_z0_pct", "decimal point"),
         (dict(l_clock=2), "l_clock", "odd"),
@@ -305,7 +313,7 @@ def test_out_of_service_and_a_case_that_changes_it(make_input):
             lv_winding="YN",  # in phase with T3's yn0: a YN-d1 in parallel would be refused
         )
     ]
-    sheets["buses"][2]["in_service"] = "no"  # the tertiary's bus goes: so would the transformer
+    sheets["buses"][2]["in_service"] = "no"  # the tertiary's bus out: its winding opened
     sheets["cases"] = [
         {"case": "T3 in", "element": "T3", "column": "in_service", "value": "yes"},
         {"case": "T3 in", "element": "T", "column": "in_service", "value": "yes"},
@@ -320,3 +328,47 @@ def test_out_of_service_and_a_case_that_changes_it(make_input):
     z_par = _parallel(_z(0.07 * BASE_MVA / 10, XR), _z(0.07 * BASE_MVA / 15, XR))
     z = _z(BASE_MVA / 500, XR) + z_par
     assert case.loc["S", "i3ph_ka"] == pytest.approx(_i_base_ka(13.2) / abs(z), rel=1e-12)
+
+
+def test_a_tertiary_bus_out_of_service_opens_its_winding(make_input):
+    # The delta stays in the tank: with its bus out of service the transformer is the same as
+    # one whose tertiary is not brought out (circuit theory, no source), and the note says so.
+    sheets = _sheets(_example())
+    sheets["buses"][2]["in_service"] = "no"
+    system = read_system(make_input(sheets))
+    assert any("windings opened" in w and "T3 (winding l on T)" in w for w in system.warnings)
+    out = run_study(system).buses.set_index("bus")
+    buried = _study(
+        make_input, _sheets(_example(l_bus=None, l_kva=None, l_kv=None), buses=("P", "S"))
+    )
+    assert list(out.index) == ["P", "S"]
+    for column in ("i3ph_ka", "islg_ka"):
+        assert out.loc["S", column] == pytest.approx(buried.loc["S", column], rel=1e-12)
+
+
+def test_a_medium_voltage_bus_out_takes_the_transformer_and_what_it_alone_fed(make_input):
+    sheets = _sheets(_example())
+    sheets["buses"][1]["in_service"] = "no"  # S out: T3 goes, and T fed only through it
+    system = read_system(make_input(sheets))
+    note = next(w for w in system.warnings if "out of service: bus S" in w)
+    assert "fed only through it: bus(es) T" in note and "T3" in note
+    assert list(run_study(system).buses["bus"]) == ["P"]
+
+
+def test_iec_k_t_takes_cmax_of_the_pairs_low_voltage_bus(make_input):
+    # IEC 60909-0:2016 Table 1 (from memory): cmax = 1.05 at low voltage with a +6 % tolerance
+    # (lv_tolerance_pct 6) and 1.10 above 1 kV; the h-l pair of a 66/13.2/0.48 kV unit takes
+    # the 0.48 kV side's 1.05 in K_T = 0.95 cmax / (1 + 0.6 x_T), and the fault at L c = 1.05.
+    # Through Z_H + Z_L = K_HL Z_HL (hand calculation).
+    row = _example(l_kv=0.48)
+    sheets = _sheets(row)
+    sheets["buses"][2]["kv"] = 0.48
+    sheets["study"] = [
+        {"setting": "method", "value": "iec60909"},
+        {"setting": "lv_tolerance_pct", "value": 6},
+    ]
+    buses = _study(make_input, sheets)
+    x_hl = 0.09 * XR / math.hypot(1, XR)
+    k_hl = 0.95 * 1.05 / (1 + 0.6 * x_hl)
+    z = _z(1.1 * BASE_MVA / 500, XR) + k_hl * _z(0.09 * BASE_MVA / 15, XR)
+    assert buses.loc["T", "i3ph_ka"] == pytest.approx(1.05 * _i_base_ka(0.48) / abs(z), rel=1e-9)

@@ -176,13 +176,14 @@ def _live(system: System, bus_in: np.ndarray) -> np.ndarray:
             a.append(i[keep])
             b.append(j[keep])
     three = system.three_winding_transformers
-    if len(three):  # each winding's bus joined to h's
-        h = system.bus_positions(three.column("h_bus"))
-        for column in ("m_bus", "l_bus"):
-            other = system.bus_positions(three.column(column))
-            keep = (other >= 0) & bus_in[h] & bus_in[np.maximum(other, 0)]
-            a.append(h[keep])
-            b.append(other[keep])
+    if len(three):  # h and m joined when both are in; l to them when it is in too
+        h, m, low = (system.bus_positions(three.column(c)) for c in ("h_bus", "m_bus", "l_bus"))
+        both = bus_in[h] & bus_in[m]
+        a.append(h[both])
+        b.append(m[both])
+        tertiary = both & (low >= 0) & bus_in[np.maximum(low, 0)]
+        a.append(h[tertiary])
+        b.append(low[tertiary])
     i = np.concatenate(a) if a else np.zeros(0, np.int64)
     j = np.concatenate(b) if b else np.zeros(0, np.int64)
     graph = coo_matrix((np.ones(len(i)), (i, j)), shape=(n, n))
@@ -212,6 +213,19 @@ def without_buses(system: System, names: list[str]) -> tuple[System, str]:
     changes: dict[str, object] = {"buses": system.buses.subset(bus_kept)}
     removed: list[str] = []
     kept: dict[str, np.ndarray] = {}
+    opened: list[str] = []
+    three = system.three_winding_transformers
+    if len(three):  # a tertiary whose bus goes: the winding is opened, the transformer stays
+        h, m, low = (system.bus_positions(three.column(c)) for c in ("h_bus", "m_bus", "l_bus"))
+        tertiary_out = (low >= 0) & ~keep_bus[np.maximum(low, 0)] & keep_bus[h] & keep_bus[m]
+        if tertiary_out.any():
+            l_bus = list(three.column("l_bus"))
+            for k in np.flatnonzero(tertiary_out).tolist():
+                opened.append(f"{three.column('transformer')[k]} (winding l on {l_bus[k]})")
+                l_bus[k] = None
+            three = three.replace(l_bus=l_bus)
+            changes["three_winding_transformers"] = three
+            system = dataclasses.replace(system, three_winding_transformers=three)
     for sheet in REMOVAL_ORDER:
         items, columns = getattr(system, sheet), BUS_COLUMNS[sheet]
         keep = np.ones(len(items), bool)
@@ -227,6 +241,11 @@ def without_buses(system: System, names: list[str]) -> tuple[System, str]:
         note += f"; removed with it, fed only through it: bus(es) {', '.join(removed_buses)}"
     if removed:
         note += f"; elements connected to the removed buses left out: {', '.join(removed)}"
+    if opened:
+        note += (
+            "; windings opened (a delta still gives the zero sequence its path, a wye winding "
+            f"no longer carries current): {', '.join(opened)}"
+        )
     after = dataclasses.replace(system, **changes)
     _carry_positions(system, after, kept, bus_kept)
     return after, note

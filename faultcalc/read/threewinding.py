@@ -22,6 +22,10 @@ SHEET = "three_winding_transformers"
 # two-winding sheet's threshold).
 KV_MISMATCH_WARN = 0.05
 PAIRS = ("hm", "hl", "ml")
+# Doubtful but possible values, warned (common practice, no source): the X/R of power
+# transformers from about 3 to 60; pair impedances from about 3 to 35 % on their own kVA.
+XR_USUAL = (2.0, 80.0)
+Z_USUAL = (2.0, 40.0)
 PAIR_PARTS = ("z_pct", "kva", "xr")
 
 
@@ -31,14 +35,43 @@ def three_winding(sheet: Typed, buses: Buses, out: Collector, at: np.ndarray) ->
     v = sheet.values
     for i in at.tolist():
         row = int(sheet.rows[i])
+        bus_kv = {
+            x: float(buses.kv[buses.ends[(SHEET, f"{x}_bus")][i]])
+            for x in ("h", "m", "l")
+            if v[f"{x}_bus"][i] is not None
+        }
         problem = _first_problem(v, i)
         if problem is None:
             problem = _clock_problem(v, i)
+        if problem is None:
+            problem = _pair_slips(v, i, bus_kv)
         if problem is not None:
             column, value, message = problem
             out.problem(SHEET, row, column, value, message)
             sheet.ok[i] = False
             continue
+        for pair in PAIRS:
+            xr = v[f"{pair}_xr"][i]
+            if _given(v, f"{pair}_xr", i) and not XR_USUAL[0] <= xr <= XR_USUAL[1]:
+                out.warn(
+                    SHEET,
+                    row,
+                    f"{pair}_xr",
+                    float(xr),
+                    f"X/R {xr:g} is outside the {XR_USUAL[0]:g} to {XR_USUAL[1]:g} of power "
+                    "transformers (common practice, no source); check the test report",
+                )
+            z = v[f"{pair}_z_pct"][i]
+            if _given(v, f"{pair}_z_pct", i) and not Z_USUAL[0] <= z <= Z_USUAL[1]:
+                out.warn(
+                    SHEET,
+                    row,
+                    f"{pair}_z_pct",
+                    float(z),
+                    f"{z:g} % is outside the {Z_USUAL[0]:g} to {Z_USUAL[1]:g} % usual for a "
+                    "pair of windings of a three-winding transformer on its stated kVA "
+                    "(common practice, no source); check the test report",
+                )
         for letter in ("h", "m", "l"):
             bus = v[f"{letter}_bus"][i]
             if bus is None:
@@ -156,6 +189,13 @@ def _first_problem(v, i: int):
             )
         if not h_kv > m_kv:
             return ("m_kv", m_kv, "an autotransformer's m_kv is below its h_kv")
+        if tertiary and v["l_winding"][i] != "D":
+            return (
+                "l_winding",
+                v["l_winding"][i],
+                "an autotransformer's tertiary is a delta winding (l_winding D); a wye "
+                "winding behind an autotransformer is not modelled",
+            )
     for pair in PAIRS:
         if not _given(v, f"{pair}_z_pct", i):
             continue
@@ -196,4 +236,49 @@ def _clock_problem(v, i: int):
                 f"windings {h} and {other} have an {parity} clock number from 0 to 11 "
                 "(IEC 60076-1 vector groups)",
             )
+    return None
+
+
+# The two-winding sheet's gross-slip rules (read/slips.py), run on each pair of windings: the
+# columns they name, in this sheet's terms.
+def _pair_slips(v, i: int, bus_kv: dict[str, float]):
+    """The first gross slip of a pair of windings (kVA in MVA, kV in volts, a winding more than
+    1.5 x from its bus, swapped buses, %Z as a fraction), or None."""
+    for pair in PAIRS:
+        a, b = pair
+        if not _given(v, f"{pair}_z_pct", i):
+            continue
+        rated = {x: float(v[f"{x}_kv"][i]) for x in pair if _given(v, f"{x}_kv", i)}
+        if len(rated) < 2:  # a tertiary not brought out has no kV to check
+            continue
+        nominal = {x: bus_kv.get(x, rated[x]) for x in pair}
+        found = slips.transformer_slips(
+            np.array([float(v[f"{pair}_kva"][i])]),
+            np.array([rated[a]]),
+            np.array([rated[b]]),
+            np.array([float(v[f"{pair}_z_pct"][i])]),
+            np.array([nominal[a]]),
+            np.array([nominal[b]]),
+            [v[f"{a}_bus"][i]],
+            [v[f"{b}_bus"][i]],
+        )
+        # a pair's kVA is the base of its test impedance, not a rating: it may exceed what a
+        # winding of the pair could carry, so only a kVA too small (typed in MVA) is refused
+        found = [f for f in found if not (f.column == "kva" and "larger" in f.message)]
+        if found:
+            slip = found[0]
+            column = {
+                "hv_bus": f"{a}_bus",
+                "hv_kv": f"{a}_kv",
+                "lv_kv": f"{b}_kv",
+                "kva": f"{pair}_kva",
+                "z_pct": f"{pair}_z_pct",
+            }[slip.column]
+            message = (
+                slip.message.replace("hv_bus and lv_bus", f"{a}_bus and {b}_bus")
+                .replace("as hv_bus", f"as {a}_bus")
+                .replace("kva is in kVA", f"{pair}_kva is in kVA")
+                .replace("z_pct is in percent", f"{pair}_z_pct is in percent")
+            )
+            return column, slip.value, message
     return None

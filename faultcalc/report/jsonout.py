@@ -1,9 +1,9 @@
 """Results as JSON: the machine-readable twin of the workbook.
 
 The file is indented, with one line per bus (and per case bus, envelope row, contribution):
-the lists of rows are written 20,000 rows at a time, each column of those rows encoded at once
-(the text is json.dumps's for each row, tested), so a study of a million buses needs memory for
-20,000 rows' text, not for its whole JSON.
+the lists of rows are written ROWS_AT_A_TIME rows at a time, each column of those rows encoded
+at once in Arrow (the text is json.dumps's for each row, tested), so a study of a million buses
+needs memory for those rows' text, not for its whole JSON.
 """
 
 from __future__ import annotations
@@ -144,7 +144,7 @@ def write_json_to(result: StudyResult, path: Path) -> None:
 
     text = json.dumps(result_dict(result, later), indent=2, allow_nan=False)
     pieces = text.split(f'"{mark}')
-    with path.open("w", encoding="utf-8") as handle:
+    with path.open("w", encoding="utf-8", newline="\n") as handle:  # rows go as bytes too
         before = pieces[0]
         handle.write(before)
         for piece in pieces[1:]:
@@ -175,7 +175,6 @@ def _write_rows(handle, table, indent: str) -> None:
     while the next rows are encoded."""
     from concurrent.futures import ThreadPoolExecutor
 
-    import pyarrow.compute as pc
 
     if not len(table):
         handle.write("[]")
@@ -200,9 +199,9 @@ def _write_rows(handle, table, indent: str) -> None:
             chunk = table.iloc[start : start + step]
             encoded = list(pool.map(_encoded, [chunk[name] for name in names]))
             parts = [x for pair in zip(keys, encoded, strict=True) for x in pair]
-            rows = pc.binary_join_element_wise(*parts, "}" + separator, "")
-            offsets = np.frombuffer(
-                rows.buffers()[1], dtype=np.int32, count=len(rows) + 1, offset=rows.offset * 4
+            rows = _join(*parts, "}" + separator)
+            offsets = np.frombuffer(  # large strings: 64-bit offsets, rows past 2 GiB too
+                rows.buffers()[1], dtype=np.int64, count=len(rows) + 1, offset=rows.offset * 8
             )
             end = int(offsets[-1])
             if start + step >= len(table):  # the table's last row: no separator after it
@@ -213,6 +212,17 @@ def _write_rows(handle, table, indent: str) -> None:
             writing = pool.submit(write, data)  # ``data`` keeps ``rows``' buffer alive
         writing.result()
     handle.write("\n" + indent + "]")
+
+
+def _join(*parts):
+    """Arrow large strings and texts joined element-wise (texts as large-string scalars)."""
+    import pyarrow as pa
+    import pyarrow.compute as pc
+
+    big = pa.large_string()
+    return pc.binary_join_element_wise(
+        *(pa.scalar(p, big) if isinstance(p, str) else p for p in parts), pa.scalar("", big)
+    )
 
 
 def _encoded(column):
@@ -226,8 +236,8 @@ def _encoded(column):
     if values.dtype.kind == "f":
         return _floats(values)
     try:  # text and None only: the whole column at once
-        strings = pa.array(values, pa.string())
-    except (pa.ArrowInvalid, pa.ArrowTypeError):
+        strings = pa.array(values, pa.large_string())
+    except (pa.ArrowInvalid, pa.ArrowTypeError, UnicodeEncodeError):  # numbers, lone surrogates
         return _mixed(values)
     return _texts(strings)
 
@@ -238,14 +248,14 @@ def _texts(strings):
     import pyarrow as pa
     import pyarrow.compute as pc
 
-    quoted = pc.binary_join_element_wise('"', strings, '"', "")
+    quoted = _join('"', strings, '"')
     plain = pc.fill_null(pc.match_substring_regex(strings, _PLAIN_TEXT), True)
     if not pc.all(plain).as_py():
         other = np.flatnonzero(~plain.to_numpy(zero_copy_only=False))
         escaped = np.empty(len(strings), dtype=object)
         escaped[:] = ""
         escaped[other] = [json.dumps(v) for v in strings.take(pa.array(other)).to_pylist()]
-        quoted = pc.if_else(plain, quoted, pa.array(escaped, pa.string()))
+        quoted = pc.if_else(plain, quoted, pa.array(escaped, pa.large_string()))
     return pc.fill_null(quoted, "null")
 
 
@@ -262,7 +272,7 @@ def _mixed(values: np.ndarray):
         else:
             number = float(v)
             out.append(json.dumps(number) if math.isfinite(number) else "null")
-    return pa.array(out, pa.string())
+    return pa.array(out, pa.large_string())
 
 
 def _floats(values: np.ndarray):
@@ -277,10 +287,10 @@ def _floats(values: np.ndarray):
         whole = (values == np.trunc(values)) & (size < _ARROW_HIGH)
         fraction = ~whole & (size >= _ARROW_LOW) & (size < _ARROW_HIGH)
     if not finite.any():
-        return pa.repeat(pa.scalar("null"), len(values))
-    text = pc.cast(pa.array(values), pa.string())
+        return pa.repeat(pa.scalar("null", pa.large_string()), len(values))
+    text = pc.cast(pa.array(values), pa.large_string())
     if whole.any():
-        text = pc.if_else(pa.array(whole), pc.binary_join_element_wise(text, ".0", ""), text)
+        text = pc.if_else(pa.array(whole), _join(text, ".0"), text)
     other = np.flatnonzero(~whole & ~fraction)
     if not len(other):
         return text
@@ -290,7 +300,7 @@ def _floats(values: np.ndarray):
     replacement[by_repr] = list(map(float.__repr__, values[by_repr].tolist()))
     mask = np.zeros(len(values), bool)
     mask[other] = True
-    return pc.if_else(pa.array(mask), pa.array(replacement, pa.string()), text)
+    return pc.if_else(pa.array(mask), pa.array(replacement, pa.large_string()), text)
 
 
 def write_json(result: StudyResult, path: str | Path) -> None:

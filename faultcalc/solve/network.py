@@ -266,7 +266,7 @@ def zone_angles_deg(pu: PerUnitSystem, network: Network, where=None) -> np.ndarr
                             "closes a loop whose phase displacements do not add up (a loop "
                             "through transformers of different vector groups would circulate "
                             "current): check the transformers' winding connections and "
-                            "clock_number",
+                            "clock numbers",
                         )
                     )
     if problems:

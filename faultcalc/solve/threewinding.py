@@ -89,7 +89,7 @@ def legs(
                 t_h / t_m,
                 Z0_SERIES,
                 z0 * t_m**2,
-                (-t.clock("m")) % 12,
+                t.clock("m"),  # h to m: m lags h (0 for an auto)
                 "autotransformer without tertiary: zero sequence in series, "
                 "Z0 = Z0hm + 3 Zn (n - 1)^2",
             )
@@ -117,6 +117,8 @@ def legs(
             note = "zero sequence: delta, a path to ground at the star point"
         else:
             z0_leg, mode, note = None, Z0_OPEN, "zero sequence blocked (Y)"
+        if bus is None and winding != "D":  # a wye winding whose bus is out: open
+            continue
         if bus is None:  # a delta tertiary not brought out: its leg to ground only
             out.append(
                 SeriesPU(
