@@ -384,6 +384,14 @@ def fleet(
             )
         except ValueError as exc:
             raise click.BadParameter(str(exc), param_hint="INPUT") from None
+        except Interrupted as exc:  # the inputs finished are written: say so
+            _disarm()
+            _fail(
+                f"stopped by {signal.Signals(exc.signum).name}; the inputs finished before it "
+                f"are written, and {out_dir / 'fleet-summary.csv'} lists what was and was not "
+                "run",
+                128 + exc.signum,
+            )
 
     result = _guarded(action)
     click.echo(

@@ -69,8 +69,56 @@ def test_the_command_says_each_input_and_exits_4_when_one_failed(inputs, tmp_pat
     again = CliRunner().invoke(
         main, ["fleet", str(inputs / "plant_480v"), "-d", str(tmp_path / "r"), "--workers", "1"]
     )
-    assert again.exit_code == 4 and "exists" in again.output  # never overwritten unasked
+    assert again.exit_code == 1 and "exists already" in again.output  # never replaced unasked
     empty = tmp_path / "empty"
     empty.mkdir()
     none = CliRunner().invoke(main, ["fleet", str(empty), "-d", str(tmp_path / "r2")])
     assert none.exit_code == 2 and "no input found" in none.output
+
+
+def dies_on_bad(input_path, output, json_path, overwrite):
+    """A job whose worker process dies on the input named bad (a study killed mid-way)."""
+    import os
+
+    from faultcalc.fleet import study_one
+
+    if input_path.endswith("bad"):
+        os._exit(3)
+    return study_one(input_path, output, json_path, overwrite)
+
+
+def test_a_lost_worker_is_that_inputs_row_and_the_others_are_not_rerun(inputs, tmp_path):
+    import sys
+
+    import cloudpickle
+
+    cloudpickle.register_pickle_by_value(sys.modules[__name__])  # workers need not import us
+    fleet = run_fleet([inputs], tmp_path / "r", workers=2, job=dies_on_bad)
+    summary = fleet.summary.set_index(fleet.summary["input"].map(lambda p: p.split("/")[-1]))
+    assert summary.loc["bad", "status"] == "failed"
+    assert "worker was lost" in summary.loc["bad", "message"]
+    for name in ("plant_480v", "double_ended_480v"):  # done once, not again into their files
+        assert summary.loc[name, "status"] == "ok", summary.loc[name, "message"]
+
+
+def test_the_summary_is_not_replaced_unasked_and_names_do_not_depend_on_the_run(inputs, tmp_path):
+    from faultcalc.errors import OutputError
+
+    out = tmp_path / "r"
+    run_fleet([inputs / "plant_480v"], out, workers=1)
+    with pytest.raises(OutputError, match="exists already"):
+        run_fleet([inputs / "double_ended_480v"], out, workers=1)
+    # a folder whose name has a dot; two inputs of one name told apart by their paths alike
+    # in any run; an earlier run's results in the folder are not inputs
+    dotted = inputs / "plant.v2"
+    shutil.copytree(sample_path("plant_480v"), dotted)
+    other = tmp_path / "elsewhere" / "plant.v2"
+    shutil.copytree(sample_path("plant_480v"), other)
+    (inputs / "old-results.xlsx").write_bytes(b"")
+    first = run_fleet([dotted, other], tmp_path / "r2", workers=1)
+    names = sorted(p.name for p in (tmp_path / "r2").glob("*-results.xlsx"))
+    assert len(names) == 2 and all(n.startswith("plant.v2-") for n in names)
+    again = run_fleet([other, dotted], tmp_path / "r3", workers=1)
+    assert sorted(p.name for p in (tmp_path / "r3").glob("*-results.xlsx")) == names
+    assert first.failed == again.failed == 0
+    assert "old-results.xlsx" not in [p.name for p in inputs_in([inputs])]

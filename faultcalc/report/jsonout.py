@@ -175,7 +175,6 @@ def _write_rows(handle, table, indent: str) -> None:
     while the next rows are encoded."""
     from concurrent.futures import ThreadPoolExecutor
 
-
     if not len(table):
         handle.write("[]")
         return
