@@ -857,13 +857,15 @@ def _default_font(book: Workbook) -> None:
 
 def _named_fonts(book: Workbook) -> None:
     """Every font in the book names the one face (a font without a name prints in another)."""
+    unnamed = {k for k, f in enumerate(book._fonts) if f.name != FACE}  # the book's fonts
+    if not unnamed:
+        return
     for ws in book.worksheets:
-        for row in ws.iter_rows():
-            for cell in row:
-                if cell.has_style and cell.font.name != FACE:
-                    named = copy(cell.font)
-                    named.name = FACE
-                    cell.font = named
+        for cell in list(ws._cells.values()):  # the cells written (iter_rows would make more)
+            if cell.has_style and cell._style.fontId in unnamed:
+                named = copy(cell.font)
+                named.name = FACE
+                cell.font = named
 
 
 def build_workbook(result: StudyResult, *, diagram_png: bytes | None = None) -> Workbook:
