@@ -508,6 +508,9 @@ def check(sheets: dict[str, Typed], settings, out: Collector, at=None, buses=Non
     cables_from_tables(sheets["cables"], settings, buses, out, rows("cables"))
     references(sheets["machines"], ("bus",), buses, out, rows("machines"))
     machines(sheets["machines"], buses, out, rows("machines"))
+    references(
+        sheets["grounding_transformers"], ("bus",), buses, out, rows("grounding_transformers")
+    )
     sources(sheets["sources"], buses, out, rows("sources"))
     some_source(sheets, out)
     return buses

@@ -103,11 +103,19 @@ BUS_COLUMNS = {
     "cables": ("from_bus", "to_bus"),
     "impedances": ("from_bus", "to_bus"),
     "machines": ("bus",),
+    "grounding_transformers": ("bus",),
 }
 
 
 # The order in which the note names the elements left out with a bus.
-REMOVAL_ORDER = ("transformers", "cables", "impedances", "sources", "machines")
+REMOVAL_ORDER = (
+    "transformers",
+    "cables",
+    "impedances",
+    "sources",
+    "machines",
+    "grounding_transformers",
+)
 
 
 def _carry_positions(
