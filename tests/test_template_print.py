@@ -120,5 +120,7 @@ def test_the_template_prints_on_few_legible_pages(book):
         assert _pages(ws) <= (8 if ws.title == schema.GUIDE_SHEET else 2), ws.title
         total += _pages(ws)
     # it printed on 25, 18 of them header pieces and help cut across pages; 19 since the MV
-    # breaker, IEC 60909 and generating unit columns of #15 (machines and study: 2 pages)
-    assert total <= 20
+    # breaker, IEC 60909 and generating unit columns of #15 (machines and study: 2 pages); 22
+    # with the grounding_transformers and inverters sheets of #16 (a page each, and the guide
+    # one page longer for their columns)
+    assert total <= 22

@@ -38,6 +38,7 @@ BUS_REFERENCES = (
     ("impedances", ("from_bus", "to_bus")),
     ("machines", ("bus",)),
     ("grounding_transformers", ("bus",)),
+    ("inverters", ("bus",)),
 )
 
 

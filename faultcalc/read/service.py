@@ -104,6 +104,7 @@ BUS_COLUMNS = {
     "impedances": ("from_bus", "to_bus"),
     "machines": ("bus",),
     "grounding_transformers": ("bus",),
+    "inverters": ("bus",),
 }
 
 
@@ -115,6 +116,7 @@ REMOVAL_ORDER = (
     "sources",
     "machines",
     "grounding_transformers",
+    "inverters",
 )
 
 

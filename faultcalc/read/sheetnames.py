@@ -30,6 +30,18 @@ SYNONYMS = {
         "zig_zag",
         "grounding_transformer",
     ),
+    "inverters": (
+        "inverter",
+        "ibr",
+        "ibrs",
+        "pv",
+        "solar",
+        "batteries",
+        "battery",
+        "bess",
+        "converters",
+        "converter",
+    ),
     "cases": ("scenarios", "scenario", "variants", "variations"),
 }
 KNOWN = tuple(s.name for s in schema.SHEETS)
