@@ -68,6 +68,9 @@ BUS_COLUMNS = (
     "ik_ka",  # method iec60909: steady-state current (far from generators; else blank)
     "ith_ka",  # method iec60909: thermal equivalent current for the fault duration
     "iec_note",  # method iec60909: why Ik or Ith is not computed (near a generator)
+    "inverter_sweeps",  # inverters: the iteration's sweeps, the most over the fault types
+    "inverter_residual_pu",  # its last change per unit of an inverter's limit, the largest
+    "inverter_note",  # inverters: not converged (current not reported), ceased, angle held
 )
 
 # Columns of StudyResult.duty: each rated bus's worst duty over the base case and every case.
