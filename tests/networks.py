@@ -31,6 +31,7 @@ def random_sheets(
     machines: int = 0,
     clocks: bool = False,
     grounding: int = 0,
+    inverters: int = 0,
 ) -> dict[str, list[dict]]:
     """A 13.8 kV network with 480 V networks hung under it through transformers.
 
@@ -38,7 +39,9 @@ def random_sheets(
     through a transformer or from an LV bus through a cable or impedance. With
     ``zero_sequence`` the sources, cables and transformers get zero-sequence data and random
     winding connections; ``machines`` adds motors and generators; ``grounding`` adds zig-zag
-    and wye-delta grounding banks at random buses; ``clocks`` draws the
+    and wye-delta grounding banks at random buses; ``inverters`` adds inverter-based sources
+    (drawn last, so a network without them is the same), a few with a negative-sequence share
+    or a cessation voltage; ``clocks`` draws the
     transformers' IEC 60076 clock numbers. Closed ties join only buses of one phase
     displacement, so every loop is consistent.
     """
@@ -210,4 +213,24 @@ def random_sheets(
                 }
             )
         sheets["grounding_transformers"] = banks
+    if inverters:
+        rows = []
+        for k in range(inverters):
+            bus = buses[int(rng.integers(len(buses)))]
+            low = bus["kv"] < 1
+            row = {
+                "inverter": f"PV{k}",
+                "bus": bus["bus"],
+                "kva": float(rng.uniform(20, 150) if low else rng.uniform(500, 3000)),
+                "kv": bus["kv"],
+                "count": int(rng.integers(1, 4)),
+                "current_limit_pu": float(rng.uniform(1.05, 1.5)),
+            }
+            if rng.random() < 0.4:
+                row["behaviour"] = "negative_share"
+                row["negative_share_pct"] = float(rng.uniform(10, 40))
+            if rng.random() < 0.3:
+                row["cease_below_pu"] = float(rng.uniform(0.3, 0.6))
+            rows.append(row)
+        sheets["inverters"] = rows
     return sheets
