@@ -22,7 +22,15 @@ def study(path):
 
 def base_sheets():
     return random_sheets(
-        seed=11, n_mv=10, n_lv=30, loops=3, sources=2, ties=1, off_nominal=True, grounding=2
+        seed=11,
+        n_mv=10,
+        n_lv=30,
+        loops=3,
+        sources=2,
+        ties=1,
+        off_nominal=True,
+        grounding=2,
+        inverters=4,
     )
 
 

@@ -39,13 +39,14 @@ inverters' nodes are used (one solve with a column per inverter node against the
 factor; arrays of shape (buses, inverter nodes)): the cost grows with the inverter nodes, not
 with the buses.
 
-The iteration (vectorized over all faulted buses): Gauss-Seidel sweeps over the inverter
-nodes, each node's currents solved exactly given the others' (``_positive`` and ``_negative``:
-its terminal voltage is ``c + B I``, B its driving-point impedance with the fault applied, so
-``V1 = r u`` with ``r = m X + sqrt(|c|^2 - (m R)^2)`` and u at ``arg c - asin(m R / |c|)``),
-accelerated by Anderson mixing of the last sweeps; the buses still unsettled after
-NEWTON_AFTER sweeps get Newton's method on the same map (its Jacobian by finite differences),
-then sweep again. Two cases have no such operating point:
+The iteration (vectorized over all faulted buses): sweeps in which every inverter node's
+currents are solved exactly given the others' from the sweep before (``_positive`` and
+``_negative``: its terminal voltage is ``c + B I``, B its driving-point impedance with the
+fault applied, so ``V1 = r u`` with ``r = m X + sqrt(|c|^2 - (m R)^2)`` and u at
+``arg c - asin(m R / |c|)``; all nodes at once, so the answer does not depend on the order of
+the input's rows), accelerated by Anderson mixing of the last sweeps; the buses still
+unsettled after NEWTON_AFTER sweeps get Newton's method on the same map (its Jacobian by
+finite differences), then sweep again. Two cases have no such operating point:
 
 * a node cut off from every source by the fault (behind a bolted fault: the grid alone leaves
   it no voltage): its inverters would have only each other's voltages to lock to, and their
@@ -73,7 +74,7 @@ import numpy as np
 from .perunit import i_base_ka
 
 TOLERANCE = 1e-11  # largest change of a node's currents per unit of its limit, converged
-MAX_SWEEPS = 60  # Gauss-Seidel sweeps per round of cessation, at most
+MAX_SWEEPS = 60  # sweeps per round of cessation, at most
 ANDERSON_DEPTH = 5  # sweeps mixed by the acceleration
 NO_VOLTAGE_PU = 1e-9  # below this terminal voltage there is no angle to lock to
 # A node where the grid alone (every inverter at zero) leaves less than this fraction of its
@@ -266,7 +267,7 @@ class Solution:
     i2: np.ndarray
     i0: np.ndarray
     converged: np.ndarray  # bool per faulted bus (True where the fault is not defined)
-    sweeps: np.ndarray  # Gauss-Seidel sweeps taken (over every round of cessation)
+    sweeps: np.ndarray  # sweeps taken (over every round of cessation)
     residual: np.ndarray  # the last sweep's largest change per unit of a node's limit
     ceased: np.ndarray  # (faulted buses, inverters): momentary cessation
     held: np.ndarray  # (faulted buses, inverters): current lagging the prefault voltage
@@ -331,7 +332,6 @@ def solve(
     z_ss = inv.z_nodes
     diag = np.diagonal(z_ss)
     b_pos = diag[None, :] - zc * zc * a11[:, None]  # driving point of each node, fault on
-    b_neg = diag[None, :] - zc * zc * a22[:, None]
     e_f = np.broadcast_to(np.asarray(e_f, complex), (n_f,))
     e_nodes = np.asarray(e_nodes, complex)
     grid = e_nodes[None, :] - zc * (a11 * e_f)[:, None]  # V1 with every inverter at zero
@@ -366,21 +366,12 @@ def solve(
             u_pre = e_nodes / np.abs(e_nodes)
             i1[todo] = -1j * m1[todo] * u_pre[None, :]
             first = False
+        else:  # again after cessation: the currents of what ceased start within their limits
+            for cur, lim in ((i1, m1), (i2, m2)):
+                size = np.abs(cur[todo])
+                cur[todo] *= np.where(size > lim[todo], lim[todo] / np.where(size > 0, size, 1), 1)
         done, swept, left = _iterate(
-            todo,
-            i1,
-            i2,
-            m1,
-            m2,
-            zc,
-            z_ss,
-            b_pos,
-            b_neg,
-            (a11, a12, a21, a22),
-            e_f,
-            e_nodes,
-            max_sweeps,
-            cut_off,
+            todo, i1, i2, m1, m2, zc, z_ss, (a11, a12, a21, a22), e_f, e_nodes, max_sweeps, cut_off
         )
         sweeps[todo] += swept
         residual[todo] = left
@@ -437,13 +428,13 @@ def _voltages(rows, i1, i2, zc, z_ss, a, e_f, e_nodes):
     return v1, v2
 
 
-def _iterate(todo, i1, i2, m1, m2, zc, z_ss, b_pos, b_neg, a, e_f, e_nodes, max_sweeps, cut_off):
+def _iterate(todo, i1, i2, m1, m2, zc, z_ss, a, e_f, e_nodes, max_sweeps, cut_off):
     """Sweeps for the faulted buses ``todo`` (their currents in ``i1``, ``i2`` updated in
     place) until converged or ``max_sweeps``, accelerated by Anderson mixing of the last
     ANDERSON_DEPTH sweeps (Walker and Ni, 2011: the sweep is a fixed-point map; its slow
-    modes, two capped inverters close together, converge in a few sweeps instead of hundreds;
-    a bus whose residual grows takes the plain sweep and forgets its history). Returns
-    (converged, sweeps, residual) for the rows of ``todo``."""
+    modes, inverters close together, settle in a few sweeps instead of hundreds; a bus whose
+    residual grows takes the plain sweep and forgets its history). Returns (converged,
+    sweeps, residual) for the rows of ``todo``."""
     n_s = z_ss.shape[0]
     done = np.zeros(len(todo), bool)
     swept = np.zeros(len(todo), np.int64)
@@ -462,13 +453,11 @@ def _iterate(todo, i1, i2, m1, m2, zc, z_ss, b_pos, b_neg, a, e_f, e_nodes, max_
             _newton(rows, i1, i2, m1, m2, zc, z_ss, a, e_f, e_nodes, cut_off)
             xs, gs = [], []
         x = np.concatenate([i1[rows], i2[rows]], axis=1)
-        g = np.concatenate(
-            _sweep(
-                rows, i1[rows], i2[rows], m1, m2, zc, z_ss, b_pos, b_neg, a, e_f, e_nodes, cut_off
-            ),
-            axis=1,
-        )
+        g = _jacobi(_as_real(i1[rows], i2[rows]), rows, m1, m2, zc, z_ss, a, e_f, e_nodes, cut_off)
+        g = np.concatenate(_as_complex(g, n_s), axis=1)
         node_scale = np.concatenate([scale[rows], scale[rows]], axis=1)
+        # a node without current (all ceased) is measured against the largest of its bus
+        node_scale = np.where(node_scale > 0, node_scale, node_scale.max(axis=1)[:, None])
         with np.errstate(divide="ignore", invalid="ignore"):
             change = np.where(
                 node_scale > 0, np.abs(g - x) / np.where(node_scale > 0, node_scale, 1.0), 0.0
@@ -510,33 +499,6 @@ def _iterate(todo, i1, i2, m1, m2, zc, z_ss, b_pos, b_neg, a, e_f, e_nodes, max_
         age = np.minimum(age + 1, ANDERSON_DEPTH)
         i1[rows], i2[rows] = nxt[:, :n_s], nxt[:, n_s:]
     return done, swept, left
-
-
-def _sweep(rows, cur1, cur2, m1, m2, zc, z_ss, b_pos, b_neg, a, e_f, e_nodes, cut_off):
-    """One Gauss-Seidel sweep over the inverter nodes from the currents ``cur1``, ``cur2`` of
-    the faulted buses ``rows`` (copies changed): each node's currents solved exactly with the
-    others' as they are, its terminal voltage kept up to date without a full recomputation."""
-    a11, a12, a21, a22 = a
-    n_s = z_ss.shape[0]
-    v1, v2 = _voltages_of(rows, cur1, cur2, zc, z_ss, a, e_f, e_nodes)
-    z = zc[rows]
-    cur1, cur2 = cur1.copy(), cur2.copy()
-    d1 = np.zeros_like(cur1)
-    d2 = np.zeros_like(cur2)
-    f1 = np.zeros(len(rows), complex)  # change of the fault's I1, I2 so far this sweep
-    f2 = np.zeros(len(rows), complex)
-    for j in range(n_s):
-        vj1 = v1[:, j] + d1[:, :j] @ z_ss[:j, j] - z[:, j] * f1
-        vj2 = v2[:, j] + d2[:, :j] @ z_ss[:j, j] - z[:, j] * f2
-        bp, bn = b_pos[rows, j], b_neg[rows, j]
-        new1, _ = _positive(vj1 - bp * cur1[:, j], bp, m1[rows, j], e_nodes[j], cut_off[rows, j])
-        new2 = _negative(vj2 - bn * cur2[:, j], bn, m2[rows, j])
-        d1[:, j], d2[:, j] = new1 - cur1[:, j], new2 - cur2[:, j]
-        cur1[:, j], cur2[:, j] = new1, new2
-        de1, de2 = z[:, j] * d1[:, j], z[:, j] * d2[:, j]
-        f1 += a11[rows] * de1 + a12[rows] * de2
-        f2 += a21[rows] * de1 + a22[rows] * de2
-    return cur1, cur2
 
 
 def _voltages_of(rows, cur1, cur2, zc, z_ss, a, e_f, e_nodes):
