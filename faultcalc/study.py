@@ -21,10 +21,13 @@ from .results import (
     BUS_COLUMNS,
     DUTY_COLUMNS,
     ELEMENT_COLUMNS,
+    FAULT_OF_COLUMN,
     LABEL_COLUMNS,
     MAXIMUM_COLUMNS,
+    NOT_CONVERGED,
     Basis,
     StudyResult,
+    unconverged,
 )
 from .solve import asymmetry, breaking, duty, faults, inverters, methods, perunit, standards
 from .solve.contributions import (
@@ -133,6 +136,20 @@ def _input_text(system: System) -> dict[str, str]:
             f"{g.kind.replace('_', '-')} grounding bank, {z0}, X/R {g.xr:g}, neutral "
             f"{g.neutral_ohm:g} ohm"
         )
+    for inv in system.inverters:
+        count = f"{inv.count} x " if inv.count != 1 else ""
+        behaviour = (
+            f"{inv.negative_share_pct:g} % of it negative-sequence in unbalanced faults"
+            if inv.behaviour == "negative_share"
+            else "positive-sequence current only"
+        )
+        cease = (
+            f"; ceases below {inv.cease_below_pu:g} pu" if inv.cease_below_pu is not None else ""
+        )
+        text[inv.inverter] = (
+            f"{count}{inv.kva:g} kVA inverter, {inv.kv:g} kV, limit {inv.current_limit_pu:g} x "
+            f"rated current ({inv.limit_ka * 1000:.4g} A), {behaviour}{cease}"
+        )
     return text
 
 
@@ -165,6 +182,26 @@ def _element_table(system: System, pu: perunit.PerUnitSystem, used: set[int]) ->
                 note,
                 *z0_parts(s.z0_pu),
                 s.z0_note,
+            )
+        )
+    bus_kv = system.bus_kv()
+    for inv in system.inverters:
+        limit_pu = inv.limit_ka / perunit.i_base_ka(bus_kv[inv.bus], pu.base_mva)
+        rows.append(
+            (
+                inv.inverter,
+                "inverter",
+                inv.bus,
+                "",
+                text[inv.inverter],
+                inv.bus,
+                bus_kv[inv.bus],
+                *(np.nan,) * 5,
+                f"current source at its limit: {inv.limit_ka * 1000:.5g} A, {limit_pu:.6g} "
+                "per-unit; no impedance",
+                np.nan,
+                np.nan,
+                "no zero-sequence current",
             )
         )
     for k, s in enumerate(pu.series):
@@ -613,7 +650,11 @@ def _duty(system: System, rows: dict, interrupting: bool) -> dict[str, object]:
         **{k: np.full(n, np.nan) for k in MV_DUTY_COLUMNS},
     }
     rated = [k for k, d in enumerate(device) if d is not None]
+    stuck = [NOT_CONVERGED in (note or "") for note in rows["inverter_note"]]
     for k, b in zip(rated, system.buses.take(rated), strict=True):
+        if stuck[k]:  # a current not converged on has no duty: said, never "below rating"
+            out["duty_status"][k] = duty.STATUS_NOT_COMPUTED
+            continue
         if b.device in duty.MV_DEVICES:
             _mv_duty(out, k, b, rows, interrupting, system.settings.frequency_hz)
             continue
@@ -770,10 +811,12 @@ def _envelope(tables: dict[str, pd.DataFrame], order: list[str]) -> pd.DataFrame
     worst_of = {}
     for column in ENVELOPE_COLUMNS:
         worst, value = _worst(tables, column)
+        stuck = _stuck(tables, slice(None), FAULT_OF_COLUMN.get(column))  # duty: any type
+        value = np.where(stuck, np.nan, value)  # the worst is not known without them
         worst_of[column] = worst
         out[column] = value
         out[column.replace("_ka", "").replace("_pct", "") + "_case"] = np.where(
-            np.isfinite(value), case_names[worst], ""
+            stuck, NOT_CONVERGED, np.where(np.isfinite(value), case_names[worst], "")
         )
     rated = np.flatnonzero(np.isfinite(out["duty_pct"]))
     worst = worst_of["duty_pct"][rated]
@@ -781,6 +824,10 @@ def _envelope(tables: dict[str, pd.DataFrame], order: list[str]) -> pd.DataFrame
         values = np.full(len(base), blank, dtype=object)
         values[rated] = _pick(tables, column, worst, rated)
         out[column] = values
+    not_computed = np.zeros(len(base), bool)
+    for t in tables.values():
+        not_computed |= (t.duty_status == duty.STATUS_NOT_COMPUTED).to_numpy()
+    out["duty_status"] = np.where(not_computed, duty.STATUS_NOT_COMPUTED, out["duty_status"])
     return pd.DataFrame(out)
 
 
@@ -794,8 +841,11 @@ def _worst_duty(
     names = list(tables)
     base = tables[names[0]]
     rated = np.zeros(len(base), dtype=bool)
+    not_computed = np.zeros(len(base), dtype=bool)
     for table in tables.values():
         rated |= np.isfinite(table.duty_pct.to_numpy(dtype=float))
+        not_computed |= (table.duty_status == duty.STATUS_NOT_COMPUTED).to_numpy()
+    rated |= not_computed
     rows = np.flatnonzero(rated)
     worst, pct = _worst(tables, "duty_pct", rows)
     out: dict[str, object] = {"bus": base.bus.iloc[rows].to_numpy(dtype=object)}
@@ -833,6 +883,16 @@ def _worst_duty(
         base.duty_status.iloc[rows].to_numpy(dtype=object),
     )
     out["description"] = [descriptions.get(b, "") for b in out["bus"]]
+    stuck = not_computed[rows]  # in any case: the worst duty is not known
+    if stuck.any():
+        for column in ("duty_pct", "duty_ka", "mf", "duty_xr"):
+            out[column] = np.where(stuck, np.nan, np.asarray(out[column], dtype=float))
+        for column, words in (
+            ("duty_status", duty.STATUS_NOT_COMPUTED),
+            ("duty_case", NOT_CONVERGED),
+            ("duty_fault", ""),
+        ):
+            out[column] = np.where(stuck, words, np.asarray(out[column], dtype=object))
     table = pd.DataFrame(out, columns=list(DUTY_COLUMNS))
     for column in ("rating_ka", "test_xr", "mf", "duty_ka"):
         table[column] = table[column].astype(float)
@@ -860,7 +920,9 @@ def _labels(
             "kv": _kv(tables, rows),
             "label_ka": value,
             "label_fault": fault,
-            "label_case": np.array(names, dtype=object)[table],
+            "label_case": np.where(
+                _stuck(tables, rows), NOT_CONVERGED, np.array(names, dtype=object)[table]
+            ),
         },
         columns=list(LABEL_COLUMNS),
     )
@@ -882,7 +944,17 @@ def _largest_fault(tables: dict[str, pd.DataFrame], rows) -> tuple[np.ndarray, .
     worst, value = _largest(stack)
     kinds = len(LABEL_FAULTS)
     fault = np.array(faults.FAULT_TYPES, dtype=object)[worst % kinds]
+    value = np.where(_stuck(tables, rows), np.nan, value)  # never a maximum without them
     return worst // kinds, value, np.where(np.isfinite(value), fault, "")
+
+
+def _stuck(tables: dict[str, pd.DataFrame], rows, fault: str | None = None) -> np.ndarray:
+    """At ``rows`` of the aligned ``tables``: where any table holds a current of ``fault``
+    (any when None) that the inverter iteration did not converge on."""
+    stuck = np.zeros(len(next(iter(tables.values()))), bool)
+    for t in tables.values():
+        stuck |= unconverged(t, fault)
+    return stuck[rows]
 
 
 def _maximum(
@@ -904,7 +976,11 @@ def _maximum(
             "kv": _kv(tables, rows),
             "max_ka": value,
             "max_fault": fault,
-            "max_case": np.where(np.isfinite(value), np.array(names, dtype=object)[table], ""),
+            "max_case": np.where(
+                _stuck(tables, rows),
+                NOT_CONVERGED,
+                np.where(np.isfinite(value), np.array(names, dtype=object)[table], ""),
+            ),
             "xr": np.where(np.isfinite(value), xr, np.nan),
             "ip_ka": _worst(tables, "ip_ka")[1],
             "iasym_ka": _worst(tables, "iasym_ka")[1],

@@ -236,3 +236,51 @@ def test_limit_outside_the_usual_range_is_warned(make_input):
     # 1.05 to 1.5 x rated current usual (value from memory); 1.8 studied, with a warning
     system = read_system(make_input(feeder({"current_limit_pu": 1.8})))
     assert any("current_limit_pu" in w and "1.05 to 1.5" in w for w in system.warnings)
+
+
+def test_no_duty_maximum_or_label_from_a_current_not_converged_on(
+    make_input, tmp_path, monkeypatch
+):
+    # Where the iteration did not converge the device's duty is "not computed" (never "below
+    # rating"), the bus's maximum and its service label have no figure (never the largest of
+    # the other fault types), and every output says "not converged" where the current would
+    # be (common practice, no source: a number not computed is not shown as one).
+    import json
+    import subprocess
+
+    from faultcalc import write_json, write_workbook
+    from faultcalc.report.labeltext import label_lines
+    from faultcalc.report.pdf.build import write_report_to
+    from faultcalc.results import NOT_CONVERGED
+    from faultcalc.solve import duty
+
+    monkeypatch.setattr(inverters, "MAX_SWEEPS", 1)
+    sheets = feeder({})
+    sheets["buses"][2].update(device="mccb", rating_ka=25, service="yes")
+    result = study(make_input, sheets)
+    f = result.buses.set_index("bus").loc["F"]
+    assert f.duty_status == duty.STATUS_NOT_COMPUTED and np.isnan(f.duty_pct)
+    worst = result.duty.set_index("bus").loc["F"]
+    assert worst.duty_status == duty.STATUS_NOT_COMPUTED and np.isnan(worst.duty_pct)
+    top = result.maximum.set_index("bus").loc["F"]
+    assert np.isnan(top.max_ka) and top.max_case == NOT_CONVERGED
+    label = result.labels.set_index("bus").loc["F"]
+    assert np.isnan(label.label_ka) and label.label_case == NOT_CONVERGED
+    words = " ".join(line.text for line in label_lines(result, "F"))
+    assert "not computed" in words and "nan" not in words
+    write_json(result, tmp_path / "r.json")
+    row = next(b for b in json.loads((tmp_path / "r.json").read_text())["buses"] if b["bus"] == "F")
+    assert row["i3ph_ka"] is None and NOT_CONVERGED in row["inverter_note"]
+    from openpyxl import load_workbook
+
+    write_workbook(result, tmp_path / "r.xlsx")
+    book = load_workbook(tmp_path / "r.xlsx")
+    cells = [c.value for row_ in book["Fault currents"].iter_rows() for c in row_]
+    assert NOT_CONVERGED in cells
+    summary = [c.value for row_ in book["Summary"].iter_rows() for c in row_]
+    assert NOT_CONVERGED in summary
+    write_report_to(result, tmp_path / "r.pdf")
+    text = subprocess.run(
+        ["pdftotext", str(tmp_path / "r.pdf"), "-"], capture_output=True, text=True, check=True
+    ).stdout
+    assert "Inverter-based sources" in text and NOT_CONVERGED in text

@@ -116,6 +116,7 @@ EXAMPLES: dict[str, list[dict]] = {
             "current_limit_pu": 1.2,
             "behaviour": "positive",
             "cease_below_pu": 0.5,
+            "in_service": "no",
         },
     ],
     "cases": [
