@@ -36,6 +36,7 @@ bench: $(VENV)/.installed
 	$(BIN)/python benchmarks/scale.py --sizes 1000000
 	$(BIN)/python benchmarks/engine.py
 	$(BIN)/python benchmarks/drawn.py
+	$(BIN)/python benchmarks/inverters.py
 
 samples: $(VENV)/.installed
 	$(BIN)/python scripts/make_samples.py

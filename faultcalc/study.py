@@ -1123,8 +1123,14 @@ def _inverter_notes(system: System, tables: dict[str, pd.DataFrame]) -> tuple[st
             "memory); left out of the minimum currents; no momentary cessation",
         )
     notes = []
-    sweeps = max(float(np.nanmax(t.inverter_sweeps, initial=0)) for t in tables.values())
-    residual = max(float(np.nanmax(t.inverter_residual_pu, initial=0)) for t in tables.values())
+
+    def most(column: str) -> float:  # NaN (a case without inverters) counts as none
+        return max(
+            float(np.fmax.reduce(np.append(t[column].to_numpy(dtype=float), 0.0)))
+            for t in tables.values()
+        )
+
+    sweeps, residual = most("inverter_sweeps"), most("inverter_residual_pu")
     failed, ceased, held = [], [], []
     for name, t in tables.items():
         where = "" if name == "base" else f" (case '{name}')"

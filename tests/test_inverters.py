@@ -284,3 +284,24 @@ def test_no_duty_maximum_or_label_from_a_current_not_converged_on(
         ["pdftotext", str(tmp_path / "r.pdf"), "-"], capture_output=True, text=True, check=True
     ).stdout
     assert "Inverter-based sources" in text and NOT_CONVERGED in text
+
+
+def test_cases_change_inverters(make_input):
+    # A case takes the inverter out, another makes it ceases at 0.9 pu: both are the feeder
+    # alone at F (the fault at F leaves about 0.45 pu at A, above), a third triples it; the
+    # envelope takes the largest (common practice, no source).
+    sheets = feeder({})
+    sheets["cases"] = [
+        {"case": "pv off", "element": "PV", "column": "in_service", "value": "no"},
+        {"case": "pv ceases", "element": "PV", "column": "cease_below_pu", "value": 0.9},
+        {"case": "pv big", "element": "PV", "column": "count", "value": 3 * COUNT},
+    ]
+    result = study(make_input, sheets)
+    alone = study(make_input, feeder(None)).buses.set_index("bus")
+    for case in ("pv off", "pv ceases"):
+        f = result.cases[case].set_index("bus").loc["F"]
+        assert f.i3ph_ka == pytest.approx(alone.loc["F", "i3ph_ka"], rel=1e-12), case
+    big = result.cases["pv big"].set_index("bus").loc["F", "i3ph_ka"]
+    assert big > result.buses.set_index("bus").loc["F", "i3ph_ka"]
+    envelope = result.envelope.set_index("bus").loc["F"]
+    assert envelope.i3ph_case == "pv big" and envelope.i3ph_ka == pytest.approx(big)

@@ -76,6 +76,7 @@ from .perunit import i_base_ka
 TOLERANCE = 1e-11  # largest change of a node's currents per unit of its limit, converged
 MAX_SWEEPS = 60  # sweeps per round of cessation, at most
 ANDERSON_DEPTH = 5  # sweeps mixed by the acceleration
+ANDERSON_FROM = 3  # the first sweep mixed (the plain ones before it settle many buses alone)
 NO_VOLTAGE_PU = 1e-9  # below this terminal voltage there is no angle to lock to
 # A node where the grid alone (every inverter at zero) leaves less than this fraction of its
 # prefault voltage is cut off from every source by the fault (behind a bolted fault): its
@@ -194,47 +195,59 @@ def _positive(c, b, m, v_pre, dead=False):
 
     With V = r u (|u| = 1): ``u (r + j m b) = c``, so ``|r - m X + j m R| = |c|`` and the
     voltage that grows from |c| as m grows is ``r = m X + sqrt(|c|^2 - (m R)^2)``; where
-    |c| < m R the square root is taken as 0 (u at ``arg c - 90`` degrees, the nearest)."""
+    |c| < m R the square root is taken as 0 (u at ``arg c - 90`` degrees, the nearest). The
+    cap and the held angle are worked out only where they apply."""
+    c, b, m = np.broadcast_arrays(np.asarray(c, complex), np.asarray(b, complex), m)
+    v_pre = np.broadcast_to(np.asarray(v_pre, complex), c.shape)
     r_b, x_b = b.real, b.imag
-    c_abs = np.abs(c)
+    c2 = c.real * c.real + c.imag * c.imag
     v_max = np.abs(v_pre)
-    u_pre = v_pre / np.where(v_max > 0, v_max, 1.0)
-    b2 = r_b * r_b + x_b * x_b
-
-    def voltage(mm):
-        return mm * x_b + np.sqrt(np.maximum(c_abs * c_abs - (mm * r_b) ** 2, 0.0))
-
-    r = voltage(m)
-    held = dead | (c_abs <= NO_VOLTAGE_PU)
-    over = ~held & (r > v_max)
-    # |V| = |v_pre|: the smaller root of |b|^2 m^2 - 2 |v_pre| X m + |v_pre|^2 - |c|^2 = 0;
-    # without a real root |V| reaches |v_pre| where the square root is 0: m X = |v_pre|
-    disc = c_abs * c_abs * b2 - v_max * v_max * r_b * r_b
-    root = np.sqrt(np.maximum(disc, 0.0))
-    with np.errstate(divide="ignore", invalid="ignore"):
-        m_cap = np.where(b2 > 0, (v_max * x_b - root) / np.where(b2 > 0, b2, 1.0), 0.0)
-        m_cap = np.where(disc < 0, v_max / np.where(x_b > 0, x_b, np.inf), m_cap)
-    m_cap = np.where(c_abs >= v_max, 0.0, np.clip(m_cap, 0.0, m))
-    m_used = np.where(over, m_cap, m)
-    r = voltage(m_used)
-    den = (r - m_used * x_b) + 1j * m_used * r_b
+    root = np.sqrt(np.maximum(c2 - (m * r_b) ** 2, 0.0))
+    held = np.broadcast_to(dead, c.shape) | (c2 <= NO_VOLTAGE_PU * NO_VOLTAGE_PU)
+    over = ~held & (m * x_b + root > v_max)
+    m_used = np.array(m, dtype=float)
+    if over.any():
+        m_used[over] = _capped(c2[over], r_b[over], x_b[over], v_max[over], m[over])
+        root[over] = np.sqrt(np.maximum(c2[over] - (m_used[over] * r_b[over]) ** 2, 0.0))
+    den = root + 1j * m_used * r_b
     with np.errstate(divide="ignore", invalid="ignore"):
         w = c / den
-        u = np.where(np.abs(w) > 0, w / np.abs(w), u_pre)
-    i_locked = -1j * m_used * u
-    # held at the prefault angle: I = -j m' u_pre, m' at most what keeps |V| at |v_pre|
+    size = np.abs(w)
+    u_pre = v_pre / np.where(v_max > 0, v_max, 1.0)
+    u = np.where(size > 0, w / np.where(size > 0, size, 1.0), u_pre)
+    current = -1j * m_used * u
+    if held.any():  # I = -j m' u_pre, m' at most what keeps |V| at |v_pre|
+        current[held] = _held(c[held], b[held], m[held], v_pre[held], v_max[held])
+    return current, held & (m > 0)
+
+
+def _capped(c2, r_b, x_b, v_max, m):
+    """The current magnitude that holds |V| at |v_pre|: the smaller root of ``|b|^2 m^2 -
+    2 |v_pre| X m + |v_pre|^2 - |c|^2 = 0``; without a real root |V| reaches |v_pre| where
+    the square root is 0, ``m X = |v_pre|``; none at all where |c| is already at |v_pre|."""
+    b2 = r_b * r_b + x_b * x_b
+    disc = c2 * b2 - v_max * v_max * r_b * r_b
+    with np.errstate(divide="ignore", invalid="ignore"):
+        m_cap = np.where(b2 > 0, (v_max * x_b - np.sqrt(np.maximum(disc, 0.0))) / b2, 0.0)
+        m_cap = np.where(disc < 0, v_max / np.where(x_b > 0, x_b, np.inf), m_cap)
+    return np.where(c2 >= v_max * v_max, 0.0, np.clip(m_cap, 0.0, m))
+
+
+def _held(c, b, m, v_pre, v_max):
+    """The held current ``-j m' u_pre`` (u_pre the prefault voltage's direction), m' the
+    smaller of m and what keeps |c + b I| at |v_pre|."""
+    u_pre = v_pre / np.where(v_max > 0, v_max, 1.0)
     step = -1j * b * u_pre  # dV per unit of m'
     s2 = np.abs(step) ** 2
     cross = (np.conj(c) * step).real
+    c2 = np.abs(c) ** 2
     with np.errstate(divide="ignore", invalid="ignore"):
         m_rise = np.where(
             s2 > 0,
-            (-cross + np.sqrt(np.maximum(cross * cross - s2 * (c_abs**2 - v_max**2), 0.0)))
-            / np.where(s2 > 0, s2, 1.0),
+            (-cross + np.sqrt(np.maximum(cross * cross - s2 * (c2 - v_max**2), 0.0))) / s2,
             np.inf,
         )
-    m_held = np.clip(np.where(c_abs >= v_max, 0.0, m_rise), 0.0, m)
-    return np.where(held, -1j * m_held * u_pre, i_locked), held & (m > 0)
+    return -1j * np.clip(np.where(c2 >= v_max * v_max, 0.0, m_rise), 0.0, m) * u_pre
 
 
 def _negative(c, b, m):
@@ -319,7 +332,55 @@ def solve(
     The network's frame has no phase displacement: a zone at angle theta holds positive-
     sequence phasors turned by theta and negative-sequence ones by -theta. The currents into
     the fault returned are the real ones at the faulted bus (its zone's turn applied).
+
+    The faulted buses are solved CHUNK_CELLS / (inverter nodes) at a time (each is its own
+    problem), so the memory stays bounded however many buses there are.
     """
+    n_f, n_s = len(fault_nodes), len(inv.nodes)
+    step = max(256, CHUNK_CELLS // max(1, 4 * n_s * max(ANDERSON_DEPTH, 1)))
+    if n_f <= step:
+        return _solve_chunk(
+            inv, fault, fault_nodes, z1_f, z0_f, zf, e_f, e_nodes, angle_f, keep, max_sweeps
+        )
+    parts = []
+    for start in range(0, n_f, step):
+        cut = slice(start, start + step)
+
+        def part(values, cut=cut):
+            values = np.asarray(values)
+            return values[cut] if values.ndim and len(values) == n_f else values
+
+        parts.append(
+            _solve_chunk(
+                inv,
+                fault,
+                fault_nodes[cut],
+                *(part(v) for v in (z1_f, z0_f, zf, e_f)),
+                e_nodes,
+                part(angle_f),
+                keep,
+                max_sweeps,
+            )
+        )
+    fields = {}
+    for name in Solution.__dataclass_fields__:
+        values = [getattr(p, name) for p in parts]
+        if name == "share":
+            fields[name] = values[0]
+        elif values[0] is None:
+            fields[name] = None
+        else:
+            fields[name] = np.concatenate(values)
+    return Solution(**fields)
+
+
+# Entries of the sweeps' history (residuals and sweeps, real parts) per chunk of faulted
+# buses, at most: 4 M floats, 32 MB each.
+CHUNK_CELLS = 4_000_000
+
+
+def _solve_chunk(inv, fault, fault_nodes, z1_f, z0_f, zf, e_f, e_nodes, angle_f, keep, max_sweeps):
+    """``solve`` for one chunk of faulted buses."""
     max_sweeps = MAX_SWEEPS if max_sweeps is None else max_sweeps
     n_f, n_s = len(fault_nodes), len(inv.nodes)
     z1_f = np.asarray(z1_f, complex)
@@ -428,6 +489,49 @@ def _voltages(rows, i1, i2, zc, z_ss, a, e_f, e_nodes):
     return v1, v2
 
 
+class _Rows:
+    """What the sweeps need of the faulted buses being iterated, row by row (taken once, cut
+    as buses converge): their columns of Z1 at the inverter nodes, the fault's coefficients,
+    each node's driving point with the fault on, limits and prefault voltages."""
+
+    def __init__(self, rows, m1, m2, zc, z_ss, a, e_f, e_nodes, cut_off):
+        self.rows = rows
+        self.z = zc[rows]
+        self.a11, self.a12, self.a21, self.a22 = (x[rows] for x in a)
+        self.e_f = e_f[rows]
+        self.m1, self.m2 = m1[rows], m2[rows]
+        self.cut = cut_off[rows]
+        diag = np.diagonal(z_ss)[None, :]
+        self.b_pos = diag - self.z * self.z * self.a11[:, None]
+        self.b_neg = diag - self.z * self.z * self.a22[:, None]
+        self.z_ss, self.e_nodes = z_ss, e_nodes
+        self.negative = bool((self.m2 > 0).any())
+
+    def take(self, keep) -> _Rows:
+        out = object.__new__(_Rows)
+        for name, value in vars(self).items():
+            is_row = isinstance(value, np.ndarray) and value.shape[:1] == (len(self.rows),)
+            setattr(out, name, value[keep] if is_row and name not in ("z_ss", "e_nodes") else value)
+        out.negative = bool((out.m2 > 0).any())
+        return out
+
+    def sweep(self, cur1, cur2):
+        """Every node's exact solve at once, the others' currents ``cur1``, ``cur2``."""
+        z = self.z
+        e1 = self.e_f + (z * cur1).sum(axis=1)
+        e2 = (z * cur2).sum(axis=1) if self.negative else 0.0
+        f1 = self.a11 * e1 + self.a12 * e2
+        v1 = self.e_nodes[None, :] + cur1 @ self.z_ss - z * f1[:, None]
+        new1, _ = _positive(
+            v1 - self.b_pos * cur1, self.b_pos, self.m1, self.e_nodes[None, :], self.cut
+        )
+        if not self.negative:
+            return new1, np.zeros_like(cur2)
+        f2 = self.a21 * e1 + self.a22 * e2
+        v2 = cur2 @ self.z_ss - z * f2[:, None]
+        return new1, _negative(v2 - self.b_neg * cur2, self.b_neg, self.m2)
+
+
 def _iterate(todo, i1, i2, m1, m2, zc, z_ss, a, e_f, e_nodes, max_sweeps, cut_off):
     """Sweeps for the faulted buses ``todo`` (their currents in ``i1``, ``i2`` updated in
     place) until converged or ``max_sweeps``, accelerated by Anderson mixing of the last
@@ -436,68 +540,73 @@ def _iterate(todo, i1, i2, m1, m2, zc, z_ss, a, e_f, e_nodes, max_sweeps, cut_of
     residual grows takes the plain sweep and forgets its history). Returns (converged,
     sweeps, residual) for the rows of ``todo``."""
     n_s = z_ss.shape[0]
+    depth = max(ANDERSON_DEPTH, 1)
     done = np.zeros(len(todo), bool)
     swept = np.zeros(len(todo), np.int64)
     left = np.full(len(todo), np.inf)
     live = np.arange(len(todo))
-    scale = m1 + m2
-    xs: list[np.ndarray] = []  # the last iterates and their sweeps, rows of ``live``
-    gs: list[np.ndarray] = []
-    age = np.zeros(0, np.int64)  # per live row: history entries since its last restart
+    ctx = _Rows(todo, m1, m2, zc, z_ss, a, e_f, e_nodes, cut_off)
+    scale = np.concatenate([ctx.m1 + ctx.m2] * 2, axis=1)
+    # a node without current (all ceased) is measured against the largest of its bus
+    scale = np.where(scale > 0, scale, scale.max(axis=1, initial=0.0)[:, None])
+    scale = np.where(scale > 0, scale, 1.0)
+    x = np.concatenate([i1[todo], i2[todo]], axis=1)
+    # the last ``depth`` differences of residual and sweep, a ring (their order does not
+    # matter to the least squares), with the sweep each slot was written in
+    d_f = np.zeros((len(todo), 4 * n_s, depth))
+    d_g = np.zeros((len(todo), 4 * n_s, depth))
+    written = np.full(depth, -1)
+    f_last = g_last = None
+    restart = np.zeros(len(todo), np.int64)  # history before this sweep is not used
     before = np.full(len(todo), np.inf)
     for sweep in range(max_sweeps):
         if not len(live):
             break
-        rows = todo[live]
         if sweep == NEWTON_AFTER:  # what is left goes to Newton's method, then sweeps again
+            rows = todo[live]
+            i1[rows], i2[rows] = x[:, :n_s], x[:, n_s:]
             _newton(rows, i1, i2, m1, m2, zc, z_ss, a, e_f, e_nodes, cut_off)
-            xs, gs = [], []
-        x = np.concatenate([i1[rows], i2[rows]], axis=1)
-        g = _jacobi(_as_real(i1[rows], i2[rows]), rows, m1, m2, zc, z_ss, a, e_f, e_nodes, cut_off)
-        g = np.concatenate(_as_complex(g, n_s), axis=1)
-        node_scale = np.concatenate([scale[rows], scale[rows]], axis=1)
-        # a node without current (all ceased) is measured against the largest of its bus
-        node_scale = np.where(node_scale > 0, node_scale, node_scale.max(axis=1)[:, None])
-        with np.errstate(divide="ignore", invalid="ignore"):
-            change = np.where(
-                node_scale > 0, np.abs(g - x) / np.where(node_scale > 0, node_scale, 1.0), 0.0
-            ).max(axis=1, initial=0.0)
+            x = np.concatenate([i1[rows], i2[rows]], axis=1)
+            f_last = None
+        g = np.concatenate(ctx.sweep(x[:, :n_s], x[:, n_s:]), axis=1)
+        f = g - x
+        change = (np.abs(f) / scale).max(axis=1, initial=0.0)
         swept[live] += 1
         left[live] = change
-        finished = change <= TOLERANCE
-        done[live[finished]] = True
-        i1[rows[finished]], i2[rows[finished]] = g[finished, :n_s], g[finished, n_s:]
         grew = change > before[live]
         before[live] = change
-        keep = ~finished
-        live, rows, x, g, grew = live[keep], rows[keep], x[keep], g[keep], grew[keep]
-        xs = [h[keep] for h in xs]
-        gs = [h[keep] for h in gs]
-        age = (np.zeros(len(keep), np.int64) if len(age) != len(keep) else age)[keep]
-        age = np.where(grew, 0, age)
-        xs.append(x)
-        gs.append(g)
-        del xs[: -ANDERSON_DEPTH - 1], gs[: -ANDERSON_DEPTH - 1]
-        nxt = g.copy()
-        depth = len(xs) - 1
-        if depth:
-            f = [(gg - xx).view(float) for gg, xx in zip(gs, xs, strict=True)]
-            d_f = np.stack([f[k + 1] - f[k] for k in range(depth)], axis=2)
-            d_g = np.stack([(gs[k + 1] - gs[k]).view(float) for k in range(depth)], axis=2)
-            usable = np.arange(depth)[None, :] >= depth - np.minimum(age, depth)[:, None]
-            d_f = d_f * usable[:, None, :]
-            d_g = d_g * usable[:, None, :]
-            gram = np.einsum("nki,nkj->nij", d_f, d_f)
+        finished = change <= TOLERANCE
+        if finished.any():
+            done[live[finished]] = True
+            rows = todo[live[finished]]
+            i1[rows], i2[rows] = g[finished, :n_s], g[finished, n_s:]
+            keep = ~finished
+            live, x, g, f, grew = live[keep], x[keep], g[keep], f[keep], grew[keep]
+            ctx, scale, restart = ctx.take(keep), scale[keep], restart[keep]
+            d_f, d_g = d_f[keep], d_g[keep]
+            if f_last is not None:
+                f_last, g_last = f_last[keep], g_last[keep]
+            if not len(live):
+                break
+        restart = np.where(grew, sweep + 1, restart)
+        x = g
+        if f_last is not None and ANDERSON_DEPTH and sweep >= ANDERSON_FROM:
+            slot = sweep % depth
+            d_f[:, :, slot] = (f - f_last).view(float)
+            d_g[:, :, slot] = (g - g_last).view(float)
+            written[slot] = sweep
+            usable = (written[None, :] >= restart[:, None]) & (written[None, :] >= 0)
+            df = d_f * usable[:, None, :]
+            gram = np.matmul(df.transpose(0, 2, 1), df)
             trace = np.trace(gram, axis1=1, axis2=2)
-            eye = np.eye(depth)[None, :, :]
-            gram = gram + eye * (1e-12 * trace[:, None, None] + ~usable[:, :, None] * 1.0)
-            rhs = np.einsum("nki,nk->ni", d_f, f[-1])
-            gamma = np.linalg.solve(gram, rhs[:, :, None])[:, :, 0] * usable
-            step = np.einsum("nki,ni->nk", d_g, gamma)
-            nxt = (g.view(float) - step).view(complex)
-            nxt[grew] = g[grew]
-        age = np.minimum(age + 1, ANDERSON_DEPTH)
-        i1[rows], i2[rows] = nxt[:, :n_s], nxt[:, n_s:]
+            gram += np.eye(depth)[None] * (1e-12 * trace[:, None, None] + ~usable[:, :, None])
+            rhs = np.matmul(df.transpose(0, 2, 1), f.view(float)[:, :, None])
+            gamma = np.linalg.solve(gram, rhs) * usable[:, :, None]
+            mixed = (g.view(float) - np.matmul(d_g, gamma)[:, :, 0]).view(complex)
+            x = np.where(grew[:, None], g, mixed)
+        f_last, g_last = f, g
+    rows = todo[live]
+    i1[rows], i2[rows] = x[:, :n_s], x[:, n_s:]
     return done, swept, left
 
 
@@ -575,16 +684,9 @@ def _as_complex(x, n_s):
 def _jacobi(x, rows, m1, m2, zc, z_ss, a, e_f, e_nodes, cut_off):
     """Every node's exact solve at once with the others' currents ``x`` (real form)."""
     n_s = z_ss.shape[0]
-    cur1, cur2 = _as_complex(x, n_s)
-    a11, a22 = a[0][rows], a[3][rows]
-    z = zc[rows]
-    diag = np.diagonal(z_ss)[None, :]
-    b_pos = diag - z * z * a11[:, None]
-    b_neg = diag - z * z * a22[:, None]
-    v1, v2 = _voltages_of(rows, cur1, cur2, zc, z_ss, a, e_f, e_nodes)
-    new1, _ = _positive(v1 - b_pos * cur1, b_pos, m1[rows], e_nodes[None, :], cut_off[rows])
-    new2 = _negative(v2 - b_neg * cur2, b_neg, m2[rows])
-    return _as_real(new1, new2)
+    ctx = _Rows(rows, m1, m2, zc, z_ss, a, e_f, e_nodes, cut_off)
+    ctx.negative = True  # the Jacobian's columns of I2 must see V2 move
+    return _as_real(*ctx.sweep(*_as_complex(x, n_s)))
 
 
 def _newton_chunk(x, rows, m1, m2, zc, z_ss, a, e_f, e_nodes, cut_off):
