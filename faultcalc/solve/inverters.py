@@ -610,20 +610,6 @@ def _iterate(todo, i1, i2, m1, m2, zc, z_ss, a, e_f, e_nodes, max_sweeps, cut_of
     return done, swept, left
 
 
-def _voltages_of(rows, cur1, cur2, zc, z_ss, a, e_f, e_nodes):
-    """V1, V2 at the inverter nodes for the faulted buses ``rows`` with the currents
-    ``cur1``, ``cur2`` (their rows)."""
-    a11, a12, a21, a22 = a
-    z = zc[rows]
-    e1 = e_f[rows] + (z * cur1).sum(axis=1)
-    e2 = (z * cur2).sum(axis=1)
-    f1 = a11[rows] * e1 + a12[rows] * e2
-    f2 = a21[rows] * e1 + a22[rows] * e2
-    v1 = e_nodes[None, :] + cur1 @ z_ss - z * f1[:, None]
-    v2 = cur2 @ z_ss - z * f2[:, None]
-    return v1, v2
-
-
 def bus_faults(solutions: dict[str, Solution], grounded: np.ndarray):
     """Magnitudes per faulted bus (faults.BusFaults) from the sequence currents of each fault
     type: three-phase the largest phase, line-to-ground phase a, line-to-line phase b,
