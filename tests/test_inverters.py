@@ -305,3 +305,22 @@ def test_cases_change_inverters(make_input):
     assert big > result.buses.set_index("bus").loc["F", "i3ph_ka"]
     envelope = result.envelope.set_index("bus").loc["F"]
     assert envelope.i3ph_case == "pv big" and envelope.i3ph_ka == pytest.approx(big)
+
+
+def test_ieee_interrupting_network_adds_the_limit_currents(make_input):
+    # Method ieee, the 1.5-4 cycle network of a 13.8 kV version of the feeder: the inverter's
+    # limit current does not decay, and is added in magnitude through the X-only network:
+    # I = E / X_FF + (X_FA / X_FF) L with X_FF = Xs + X1 + X2, X_FA = Xs + X1, their common
+    # path (hand calculation; IEEE C37.010's E/X with the converter added as IEC 60909-0 6.9
+    # adds it, the conservative choice).
+    kv = 13.8
+    sheets = feeder({"kv": kv, "kva": 2000}, method="ieee")
+    for b in sheets["buses"]:
+        b["kv"] = kv
+    sheets["sources"][0]["sc_mva"] = 300
+    f = study(make_input, sheets).buses.set_index("bus").loc["F"]
+    x_s = _z(kv**2 / 300, SOURCE_XR).imag
+    x_ff, x_fa = x_s + Z_1.imag + Z_2.imag, x_s + Z_1.imag
+    limit = LIMIT_PU * COUNT * 2000 / (math.sqrt(3) * kv)
+    expected = kv * 1000 / math.sqrt(3) / x_ff + x_fa / x_ff * limit
+    assert f.i_int_ka == pytest.approx(expected / 1000, rel=1e-9)
