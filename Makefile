@@ -38,6 +38,7 @@ bench: $(VENV)/.installed
 	$(BIN)/python benchmarks/drawn.py
 	$(BIN)/python benchmarks/json_write.py
 	$(BIN)/python benchmarks/fleet.py
+	$(BIN)/python benchmarks/inverters.py
 
 samples: $(VENV)/.installed
 	$(BIN)/python scripts/make_samples.py

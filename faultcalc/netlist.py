@@ -204,12 +204,19 @@ def build_netlist(
     stop_s: float = 0.05,
     step_s: float = 1e-5,
     reactance_only: bool = False,
+    inverter_currents: dict | None = None,
 ) -> str:
     """The netlist text; ``fault`` None writes the unfaulted network (open-circuit voltages).
     ``reactance_only`` leaves every resistance out (the X-only network of IEEE C37.010's E/X).
 
     With ``transient`` the fault closes at ``close_s`` (a switch, 1 micro-ohm closed) and the
     analysis runs to ``stop_s``; otherwise it is an AC analysis at the system frequency.
+
+    Inverters are fixed-phasor current sources (``inverter_currents``: name -> phase currents
+    a, b, c in amperes; by default the tool's converged iteration for this fault, from
+    ``study.inverter_phasors``): the simulator checks the network's answer to those currents,
+    and the voltages it prints let a reader check each inverter's angle against its terminal
+    voltage. Without a fault (the open-circuit network) they inject nothing.
     """
     if fault is not None and fault not in FAULTS:
         raise NetlistError(f"fault must be one of {', '.join(FAULTS)}")
@@ -298,6 +305,17 @@ def build_netlist(
         star_source(label, m.bus, settings.prefault_pu * kv[m.bus] / SQRT3, z1, z0)
     for i, g in enumerate(system.grounding_transformers):
         _grounding_bank(w, g, f"gnd{i + 1}_{_safe(g.grounding_transformer)}", ph)
+    if len(system.inverters):
+        if transient:
+            raise NetlistError("the transient netlist does not write inverters")
+        if fault is not None and inverter_currents is None:
+            from .study import inverter_phase_currents
+
+            try:
+                inverter_currents = inverter_phase_currents(system, bus, fault)
+            except ValueError as exc:
+                raise NetlistError(str(exc)) from None
+        _inverters(w, system, inverter_currents if fault is not None else None, ph)
     for c in system.cables:
         z1, z0 = c.z_ohm, c.z0_ohm
         w.comment(f"cable {c.cable}: {c.from_bus} - {c.to_bus}")
@@ -375,6 +393,27 @@ def _grounding_bank(w: _Writer, g, label: str, ph) -> None:
     w.impedance(f"{label}_z", "0", z0, label)
     for k, node in enumerate(phases):
         w.add(f"F{label}_{k} {node} 0 V{label}_s 1")
+
+
+def _inverters(w: _Writer, system: System, currents: dict | None, ph) -> None:
+    """Each inverter as three current sources from ground into its bus's phases, at the fixed
+    phasors ``currents`` (None: no fault, no current)."""
+    if currents is None:
+        w.comment("inverters: no fault, no current (prefault load currents neglected)")
+        return
+    for i, inv in enumerate(system.inverters):
+        label = f"inv{i + 1}_{_safe(inv.inverter)}"
+        phases = currents[inv.inverter]
+        w.comment(
+            f"inverter {inv.inverter} at {inv.bus}: fixed current sources at the tool's "
+            f"converged solution for this fault (limit {inv.limit_ka * 1000:.6g} A)"
+        )
+        for k in range(3):
+            amps = complex(phases[k])
+            w.add(
+                f"I{label}_{PHASES[k]} 0 {ph(inv.bus, k)} AC {abs(amps):.12g} "
+                f"{math.degrees(math.atan2(amps.imag, amps.real)):.12g}"
+            )
 
 
 def _series(w: _Writer, a: list[str], b: list[str], z1: complex, z0: complex, label: str):

@@ -7,6 +7,7 @@ import functools
 from collections.abc import Callable
 from dataclasses import dataclass, field
 
+import numpy as np
 import pandas as pd
 
 from .model import Settings
@@ -68,7 +69,35 @@ BUS_COLUMNS = (
     "ik_ka",  # method iec60909: steady-state current (far from generators; else blank)
     "ith_ka",  # method iec60909: thermal equivalent current for the fault duration
     "iec_note",  # method iec60909: why Ik or Ith is not computed (near a generator)
+    "inverter_sweeps",  # inverters: the iteration's sweeps, the most over the fault types
+    "inverter_residual_pu",  # its last change per unit of an inverter's limit, the largest
+    "inverter_note",  # inverters: not converged (current not reported), ceased, angle held
 )
+
+# In place of a current the inverter iteration did not converge on (never a number): in the
+# bus tables' inverter_note ("3ph: not converged ..."), the maximum's and labels' case.
+NOT_CONVERGED = "not converged"
+# The fault type behind each current column of the bus table.
+FAULT_OF_COLUMN = {
+    "i3ph_ka": "3ph",
+    "s3ph_mva": "3ph",
+    "ip_ka": "3ph",
+    "iasym_ka": "3ph",
+    "islg_ka": "slg",
+    "ill_ka": "ll",
+    "illg_ka": "llg",
+    "ig_llg_ka": "llg",
+}
+
+
+def unconverged(table: pd.DataFrame, fault: str | None = None) -> np.ndarray:
+    """Rows of a bus table whose inverter iteration did not converge for ``fault`` (for any
+    fault type when None): their currents are NaN and must not be reported as a number."""
+    if "inverter_note" not in table or not len(table):
+        return np.zeros(len(table), bool)
+    key = NOT_CONVERGED if fault is None else f"{fault}: {NOT_CONVERGED}"
+    return table["inverter_note"].fillna("").astype(str).str.contains(key, regex=False).to_numpy()
+
 
 # Columns of StudyResult.duty: each rated bus's worst duty over the base case and every case.
 DUTY_COLUMNS = (

@@ -21,13 +21,32 @@ from .results import (
     BUS_COLUMNS,
     DUTY_COLUMNS,
     ELEMENT_COLUMNS,
+    FAULT_OF_COLUMN,
     LABEL_COLUMNS,
     MAXIMUM_COLUMNS,
+    NOT_CONVERGED,
     Basis,
     StudyResult,
+    unconverged,
 )
-from .solve import asymmetry, breaking, duty, faults, methods, perunit, standards, threewinding
-from .solve.contributions import Phasors, as_table, contribution_phasors
+from .solve import (
+    asymmetry,
+    breaking,
+    duty,
+    faults,
+    inverters,
+    methods,
+    perunit,
+    standards,
+    threewinding,
+)
+from .solve.contributions import (
+    CONTRIBUTION_FAULTS,
+    InverterState,
+    Phasors,
+    as_table,
+    contribution_phasors,
+)
 from .solve.network import Network, build_network, positive_matrix_variant, zone_angles_deg
 from .solve.thevenin import Orderings, SymmetricFactor
 
@@ -144,6 +163,20 @@ def _input_text(system: System) -> dict[str, str]:
             f"{g.kind.replace('_', '-')} grounding bank, {z0}, X/R {g.xr:g}, neutral "
             f"{g.neutral_ohm:g} ohm"
         )
+    for inv in system.inverters:
+        count = f"{inv.count} x " if inv.count != 1 else ""
+        behaviour = (
+            f"{inv.negative_share_pct:g} % of it negative-sequence in unbalanced faults"
+            if inv.behaviour == "negative_share"
+            else "positive-sequence current only"
+        )
+        cease = (
+            f"; ceases below {inv.cease_below_pu:g} pu" if inv.cease_below_pu is not None else ""
+        )
+        text[inv.inverter] = (
+            f"{count}{inv.kva:g} kVA inverter, {inv.kv:g} kV, limit {inv.current_limit_pu:g} x "
+            f"rated current ({inv.limit_ka * 1000:.4g} A), {behaviour}{cease}"
+        )
     return text
 
 
@@ -176,6 +209,26 @@ def _element_table(system: System, pu: perunit.PerUnitSystem, used: set[int]) ->
                 note,
                 *z0_parts(s.z0_pu),
                 s.z0_note,
+            )
+        )
+    bus_kv = system.bus_kv()
+    for inv in system.inverters:
+        limit_pu = inv.limit_ka / perunit.i_base_ka(bus_kv[inv.bus], pu.base_mva)
+        rows.append(
+            (
+                inv.inverter,
+                "inverter",
+                inv.bus,
+                "",
+                text[inv.inverter],
+                inv.bus,
+                bus_kv[inv.bus],
+                *(np.nan,) * 5,
+                f"current source at its limit: {inv.limit_ka * 1000:.5g} A, {limit_pu:.6g} "
+                "per-unit; no impedance",
+                np.nan,
+                np.nan,
+                "no zero-sequence current",
             )
         )
     for k, s in enumerate(pu.series):
@@ -252,6 +305,8 @@ class Analysis:
     angle_deg: np.ndarray  # phase displacement of each node's zone (positive sequence)
     orderings: Orderings  # the study's cache of factor orderings, for the X/R variants
     e_bus: np.ndarray | None = None  # open-circuit voltage magnitude per bus (pu), when used
+    inverters: inverters.Inverters | None = None  # with the columns of Z1 at their nodes
+    e_phasor: np.ndarray | None = None  # open-circuit voltage per bus (pu, complex), when used
 
 
 # progress.step calls per analyse + fault_table, for the progress bar's plan.
@@ -283,11 +338,24 @@ def analyse(
     factor0 = SymmetricFactor(network.y0, orderings)
     z0_node = np.where(network.grounded, factor0.diagonal(), complex(np.nan, np.nan))
     angles = zone_angles_deg(pu, network, lambda: element_locations(system))
-    e_bus = None
+    e_bus = e_phasor = None
     if system.settings.prefault_voltage == "open_circuit":
-        e_bus = open_circuit_pu(pu, network, factor1)
+        e_phasor = open_circuit_phasor_pu(pu, network, factor1)
+        e_bus = np.abs(e_phasor)
+    inverter_set = inverters.prepare(system, pu, network, factor1)
     return Analysis(
-        system, pu, network, factor1, factor0, z1_node, z0_node, angles, orderings, e_bus
+        system,
+        pu,
+        network,
+        factor1,
+        factor0,
+        z1_node,
+        z0_node,
+        angles,
+        orderings,
+        e_bus,
+        inverter_set,
+        e_phasor if inverter_set is not None else None,
     )
 
 
@@ -295,11 +363,16 @@ def open_circuit_pu(pu, network: Network, factor1: SymmetricFactor) -> np.ndarra
     """The open-circuit (no-load) voltage magnitude at every bus, per-unit of its nominal kV,
     with every source and machine at its internal voltage (``prefault_pu`` of its bus) behind
     its impedance: one solve, ``V = Y^-1 I`` with the sources' Norton currents ``E / z``."""
+    return np.abs(open_circuit_phasor_pu(pu, network, factor1))
+
+
+def open_circuit_phasor_pu(pu, network: Network, factor1: SymmetricFactor) -> np.ndarray:
+    """The open-circuit voltage of ``open_circuit_pu`` as a phasor (the network's frame)."""
     injections = np.zeros(factor1.n, dtype=complex)
     e = np.asarray(pu.prefault_pu, dtype=float)[pu.shunt_buses]
     z = pu.shunts.array("z1_pu", complex)
     np.add.at(injections, network.node_of_bus[pu.shunt_buses], e / z)
-    return np.abs(factor1.solve(injections)[network.node_of_bus])
+    return factor1.solve(injections)[network.node_of_bus]
 
 
 def element_locations(system: System) -> dict[str, tuple[str, int | None]]:
@@ -323,9 +396,122 @@ def contributions_of(a: Analysis, buses: list[int]) -> list[Phasors]:
     """Complex contributions to faults at the buses with these input indices."""
     zf_pu = a.system.settings.fault_ohm / perunit.z_base_ohm(np.array(a.pu.bus_kv), a.pu.base_mva)
     pu = a.pu if a.e_bus is None else dataclasses.replace(a.pu, prefault_pu=tuple(a.e_bus))
+    state = None
+    if a.inverters is not None:
+        state = (
+            _inverter_states(a, buses)
+            if a.system.settings.method != "iec60909"
+            else _iec_inverter_states(a, buses, zf_pu)
+        )
     return contribution_phasors(
-        pu, a.network, a.factor1, a.factor0, a.z1_node, a.z0_node, buses, zf_pu, a.angle_deg
+        pu,
+        a.network,
+        a.factor1,
+        a.factor0,
+        a.z1_node,
+        a.z0_node,
+        buses,
+        zf_pu,
+        a.angle_deg,
+        inverter_state=state,
     )
+
+
+def _inverter_states(a: Analysis, buses: list[int]) -> dict:
+    """The converged inverter iteration of the faults the contributions show, per (bus, fault),
+    every current turned to the faulted bus's prefault voltage (the angle reference)."""
+    inv = a.inverters
+    at = np.asarray(buses, np.int64)
+    solved = inverter_solutions(a, at, CONTRIBUTION_FAULTS, keep=True)
+    e_all = np.asarray(a.pu.prefault_pu, complex) if a.e_phasor is None else a.e_phasor
+    out = {}
+    for fault, s in solved.items():
+        for row, b in enumerate(buses):
+            if not s.converged[row] or np.isnan(s.i1[row]):
+                continue
+            # contributions.py's frame: the faulted bus's real currents, and every phasor,
+            # against its prefault phase-a voltage; the negative sequence of the network's
+            # frame turned by twice its zone's displacement (see inverters.solve)
+            zone = np.exp(1j * np.radians(a.angle_deg[a.network.node_of_bus[b]]))
+            turn = np.conj(e_all[b]) / abs(e_all[b])
+            own1, own2 = s.inverter_currents(inv, row)
+            own2 = own2 / zone**2
+            out[(b, fault)] = InverterState(
+                (s.i1[row] * turn / zone, s.i2[row] * turn / zone, s.i0[row] * turn / zone),
+                s.injection1[row] * turn,
+                s.injection2[row] * turn / zone**2,
+                inv.z_columns,
+                tuple(
+                    zip(
+                        inv.names,
+                        inv.buses,
+                        (own1 * turn).tolist(),
+                        (own2 * turn).tolist(),
+                        strict=True,
+                    )
+                ),
+            )
+    return out
+
+
+def _iec_inverter_states(a: Analysis, buses: list[int], zf_pu) -> dict:
+    """Method iec60909: the network's own contributions (the standard adds the inverters'
+    currents in magnitude, which gives no phasors) and each inverter at its I_skPF lagging its
+    prefault voltage by 90 degrees, listed beside them."""
+    inv = a.inverters
+    nodes = a.network.node_of_bus
+    out = {}
+    for b in buses:
+        n = nodes[b]
+        z0 = a.z0_node[n] if a.network.grounded[n] else np.nan
+        e = a.pu.prefault_pu[b]
+        for fault in CONTRIBUTION_FAULTS:
+            if fault == "slg" and np.isnan(z0):
+                continue
+            seq = faults.sequence_currents(fault, a.z1_node[n], a.z1_node[n], z0, e, zf_pu[b])
+            out[(b, fault)] = InverterState(
+                (complex(seq.i1), complex(seq.i2), complex(seq.i0)),
+                np.zeros(len(inv.nodes), complex),
+                np.zeros(len(inv.nodes), complex),
+                inv.z_columns,
+                tuple(
+                    (name, bus, -1j * lim, 0j)
+                    for name, bus, lim in zip(
+                        inv.names, inv.buses, inv.limit_pu.tolist(), strict=True
+                    )
+                ),
+            )
+    return out
+
+
+def inverter_phase_currents(system: System, bus: str, fault: str) -> dict[str, np.ndarray]:
+    """Each inverter's phase currents (a, b, c), amperes, delivered into its bus for a fault
+    of type ``fault`` at ``bus``: the converged iteration of the network as entered (method
+    thevenin, the network the netlist writes), each phasor in the frame of its zone (its
+    angle against the prefault phase-a voltage of the network's first bus: positive
+    sequence turned by the zone's displacement, negative sequence the other way).
+
+    Raises ValueError when the iteration did not converge for that fault (there is no
+    current to write)."""
+    plain = dataclasses.replace(
+        system, settings=dataclasses.replace(system.settings, method="thevenin"), cases=()
+    )
+    a = analyse(plain)
+    at = plain.bus_positions([bus])
+    (s,) = inverter_solutions(a, np.asarray(at, np.int64), (fault,), keep=True).values()
+    if not s.converged[0] or np.isnan(s.i1[0]):
+        raise ValueError(
+            f"the inverter iteration did not converge for a {fault} fault at {bus}: no "
+            "current to write"
+        )
+    inv = a.inverters
+    own1, own2 = s.inverter_currents(inv, 0)
+    theta = np.radians(a.angle_deg[a.network.node_of_bus[inv.bus_index]])
+    amps = perunit.i_base_ka(np.array(a.pu.bus_kv)[inv.bus_index], a.pu.base_mva) * 1000.0
+    c1 = own1 * np.exp(1j * theta) * amps
+    c2 = own2 * np.exp(-1j * theta) * amps
+    phases = faults.phase_currents(c1, c2, np.zeros_like(c1))  # (3, inverters)
+    return {name: phases[:, k] for k, name in enumerate(inv.names)}
 
 
 def _diagonal_variant(a: Analysis, transform) -> np.ndarray:
@@ -354,7 +540,16 @@ def fault_table(a: Analysis, progress: Progress | None = None, interrupting=None
     z_base = perunit.z_base_ohm(kv, pu.base_mva)
     i_base = perunit.i_base_ka(kv, pu.base_mva)
     zf_pu = settings.fault_ohm / z_base
-    f = faults.all_faults(z1, z1, z0, e, zf_pu)
+    iterated = None
+    if a.inverters is not None and settings.method == "iec60909":
+        # IEC 60909-0:2016 6.9 (from memory): c + sum_j |Z_kj| I_skPFj behind the fault
+        e_raised = inverters.iec_open_circuit_pu(a.inverters, network.node_of_bus, e)
+        f = faults.all_faults(z1, z1, z0, e_raised, zf_pu)
+    elif a.inverters is not None:
+        iterated = inverter_solutions(a, np.arange(len(kv)))
+        f = inverters.bus_faults(iterated, ~np.isnan(z0))
+    else:
+        f = faults.all_faults(z1, z1, z0, e, zf_pu)
     table = np.vstack([f.i3ph, f.islg, f.ill, f.illg])
     largest = np.argmax(np.where(np.isnan(table), -np.inf, table), axis=0)
     grounded = ~np.isnan(z0)
@@ -409,9 +604,78 @@ def fault_table(a: Analysis, progress: Progress | None = None, interrupting=None
     rows.update(i_int_ka=i_int, xr_int=xr_int)
     rows.update({c: np.full(n, np.nan) for c in ("ib_ka", "idc_ka", "ik_ka", "ith_ka")})
     rows.update(iec_note=[""] * n)  # method iec60909: filled by _solve
+    rows.update(_inverter_columns(a, iterated, n))
     progress.step("equipment duty")
     rows.update(_duty(a.system, rows, interrupting is not None))
     return pd.DataFrame(rows, columns=list(BUS_COLUMNS))
+
+
+INVERTER_NAMES_SHOWN = 5  # inverters named in a bus's note, at most, per fault type
+
+
+def inverter_solutions(
+    a: Analysis, buses: np.ndarray, faults_wanted=inverters.FAULTS, keep: bool = False
+) -> dict[str, inverters.Solution]:
+    """The inverter iteration for faults at the buses (input positions) ``buses`` of one
+    analysed system, each fault type solved for all of them at once."""
+    network, pu = a.network, a.pu
+    inv = a.inverters
+    nodes = network.node_of_bus[buses]
+    kv = np.array(pu.bus_kv)[buses]
+    zf_pu = a.system.settings.fault_ohm / perunit.z_base_ohm(kv, pu.base_mva)
+    e_all = np.asarray(pu.prefault_pu, complex) if a.e_phasor is None else a.e_phasor
+    e_nodes = np.empty(len(inv.nodes), complex)
+    e_nodes[inv.slot] = e_all[inv.bus_index]
+    z1, z0 = a.z1_node[nodes], a.z0_node[nodes]
+    angle = np.radians(a.angle_deg[nodes])
+    return {
+        fault: inverters.solve(
+            inv, fault, nodes, z1, z0, zf_pu, e_all[buses], e_nodes, angle_f=angle, keep=keep
+        )
+        for fault in faults_wanted
+    }
+
+
+def _inverter_columns(a: Analysis, solutions, n: int) -> dict[str, object]:
+    """The bus table's inverter columns: the iteration's sweeps and residual (the largest over
+    the four fault types) and a note of what did not converge, ceased or held its angle."""
+    if solutions is None:
+        note = (
+            "IEC 60909-0 6.9: inverters as current sources, magnitudes added"
+            if a.inverters is not None
+            else ""
+        )
+        return {
+            "inverter_sweeps": np.full(n, np.nan),
+            "inverter_residual_pu": np.full(n, np.nan),
+            "inverter_note": [note] * n,
+        }
+    names = np.array(a.inverters.names, dtype=object)
+    parts: list[list[str]] = [[] for _ in range(n)]
+
+    def named(flags: np.ndarray) -> str:
+        found = names[flags]
+        shown = ", ".join(found[:INVERTER_NAMES_SHOWN])
+        more = len(found) - INVERTER_NAMES_SHOWN
+        return shown + (f" and {more} more" if more > 0 else "")
+
+    for fault, s in solutions.items():
+        for k in np.flatnonzero(~s.converged).tolist():
+            parts[k].append(
+                f"{fault}: not converged after {s.sweeps[k]} sweeps (residual "
+                f"{s.residual[k]:.1e}): current not reported"
+            )
+        for k in np.flatnonzero(s.ceased.any(axis=1) & s.converged).tolist():
+            parts[k].append(f"{fault}: ceased {named(s.ceased[k])}")
+        for k in np.flatnonzero(s.held.any(axis=1) & s.converged).tolist():
+            parts[k].append(f"{fault}: angle held at prefault {named(s.held[k])}")
+    sweeps = np.max([s.sweeps for s in solutions.values()], axis=0)
+    residual = np.max([s.residual for s in solutions.values()], axis=0)
+    return {
+        "inverter_sweeps": sweeps.astype(float),
+        "inverter_residual_pu": residual,
+        "inverter_note": ["; ".join(p) for p in parts],
+    }
 
 
 def _duty(system: System, rows: dict, interrupting: bool) -> dict[str, object]:
@@ -431,7 +695,11 @@ def _duty(system: System, rows: dict, interrupting: bool) -> dict[str, object]:
         **{k: np.full(n, np.nan) for k in MV_DUTY_COLUMNS},
     }
     rated = [k for k, d in enumerate(device) if d is not None]
+    stuck = [NOT_CONVERGED in (note or "") for note in rows["inverter_note"]]
     for k, b in zip(rated, system.buses.take(rated), strict=True):
+        if stuck[k]:  # a current not converged on has no duty: said, never "below rating"
+            out["duty_status"][k] = duty.STATUS_NOT_COMPUTED
+            continue
         if b.device in duty.MV_DEVICES:
             _mv_duty(out, k, b, rows, interrupting, system.settings.frequency_hz)
             continue
@@ -588,10 +856,12 @@ def _envelope(tables: dict[str, pd.DataFrame], order: list[str]) -> pd.DataFrame
     worst_of = {}
     for column in ENVELOPE_COLUMNS:
         worst, value = _worst(tables, column)
+        stuck = _stuck(tables, slice(None), FAULT_OF_COLUMN.get(column))  # duty: any type
+        value = np.where(stuck, np.nan, value)  # the worst is not known without them
         worst_of[column] = worst
         out[column] = value
         out[column.replace("_ka", "").replace("_pct", "") + "_case"] = np.where(
-            np.isfinite(value), case_names[worst], ""
+            stuck, NOT_CONVERGED, np.where(np.isfinite(value), case_names[worst], "")
         )
     rated = np.flatnonzero(np.isfinite(out["duty_pct"]))
     worst = worst_of["duty_pct"][rated]
@@ -599,6 +869,10 @@ def _envelope(tables: dict[str, pd.DataFrame], order: list[str]) -> pd.DataFrame
         values = np.full(len(base), blank, dtype=object)
         values[rated] = _pick(tables, column, worst, rated)
         out[column] = values
+    not_computed = np.zeros(len(base), bool)
+    for t in tables.values():
+        not_computed |= (t.duty_status == duty.STATUS_NOT_COMPUTED).to_numpy()
+    out["duty_status"] = np.where(not_computed, duty.STATUS_NOT_COMPUTED, out["duty_status"])
     return pd.DataFrame(out)
 
 
@@ -612,8 +886,11 @@ def _worst_duty(
     names = list(tables)
     base = tables[names[0]]
     rated = np.zeros(len(base), dtype=bool)
+    not_computed = np.zeros(len(base), dtype=bool)
     for table in tables.values():
         rated |= np.isfinite(table.duty_pct.to_numpy(dtype=float))
+        not_computed |= (table.duty_status == duty.STATUS_NOT_COMPUTED).to_numpy()
+    rated |= not_computed
     rows = np.flatnonzero(rated)
     worst, pct = _worst(tables, "duty_pct", rows)
     out: dict[str, object] = {"bus": base.bus.iloc[rows].to_numpy(dtype=object)}
@@ -651,6 +928,16 @@ def _worst_duty(
         base.duty_status.iloc[rows].to_numpy(dtype=object),
     )
     out["description"] = [descriptions.get(b, "") for b in out["bus"]]
+    stuck = not_computed[rows]  # in any case: the worst duty is not known
+    if stuck.any():
+        for column in ("duty_pct", "duty_ka", "mf", "duty_xr"):
+            out[column] = np.where(stuck, np.nan, np.asarray(out[column], dtype=float))
+        for column, words in (
+            ("duty_status", duty.STATUS_NOT_COMPUTED),
+            ("duty_case", NOT_CONVERGED),
+            ("duty_fault", ""),
+        ):
+            out[column] = np.where(stuck, words, np.asarray(out[column], dtype=object))
     table = pd.DataFrame(out, columns=list(DUTY_COLUMNS))
     for column in ("rating_ka", "test_xr", "mf", "duty_ka"):
         table[column] = table[column].astype(float)
@@ -678,7 +965,9 @@ def _labels(
             "kv": _kv(tables, rows),
             "label_ka": value,
             "label_fault": fault,
-            "label_case": np.array(names, dtype=object)[table],
+            "label_case": np.where(
+                _stuck(tables, rows), NOT_CONVERGED, np.array(names, dtype=object)[table]
+            ),
         },
         columns=list(LABEL_COLUMNS),
     )
@@ -700,7 +989,17 @@ def _largest_fault(tables: dict[str, pd.DataFrame], rows) -> tuple[np.ndarray, .
     worst, value = _largest(stack)
     kinds = len(LABEL_FAULTS)
     fault = np.array(faults.FAULT_TYPES, dtype=object)[worst % kinds]
+    value = np.where(_stuck(tables, rows), np.nan, value)  # never a maximum without them
     return worst // kinds, value, np.where(np.isfinite(value), fault, "")
+
+
+def _stuck(tables: dict[str, pd.DataFrame], rows, fault: str | None = None) -> np.ndarray:
+    """At ``rows`` of the aligned ``tables``: where any table holds a current of ``fault``
+    (any when None) that the inverter iteration did not converge on."""
+    stuck = np.zeros(len(next(iter(tables.values()))), bool)
+    for t in tables.values():
+        stuck |= unconverged(t, fault)
+    return stuck[rows]
 
 
 def _maximum(
@@ -722,7 +1021,11 @@ def _maximum(
             "kv": _kv(tables, rows),
             "max_ka": value,
             "max_fault": fault,
-            "max_case": np.where(np.isfinite(value), np.array(names, dtype=object)[table], ""),
+            "max_case": np.where(
+                _stuck(tables, rows),
+                NOT_CONVERGED,
+                np.where(np.isfinite(value), np.array(names, dtype=object)[table], ""),
+            ),
             "xr": np.where(np.isfinite(value), xr, np.nan),
             "ip_ka": _worst(tables, "ip_ka")[1],
             "iasym_ka": _worst(tables, "iasym_ka")[1],
@@ -852,6 +1155,64 @@ def _iec_notes(system: System) -> tuple[str, ...]:
     )
 
 
+def _inverter_notes(system: System, tables: dict[str, pd.DataFrame]) -> tuple[str, ...]:
+    """What the inverters did, said once: how they were modelled, the iteration's convergence
+    over every bus and case (the most sweeps, the largest residual), and where it did not
+    converge (those currents are not reported), ceased or held its angle."""
+    if not any(len(s.inverters) for s in [system, *(c for _, c in system.cases)]):
+        return ()
+    if system.settings.method == "iec60909":
+        return (
+            "inverters (method iec60909): current sources at their limit current I_skPF, added "
+            "to c Un / sqrt(3) with the magnitudes |Z_kj| I_skPFj (IEC 60909-0:2016 6.9, from "
+            "memory); left out of the minimum currents; no momentary cessation",
+        )
+    notes = []
+
+    def most(column: str) -> float:  # NaN (a case without inverters) counts as none
+        return max(
+            float(np.fmax.reduce(np.append(t[column].to_numpy(dtype=float), 0.0)))
+            for t in tables.values()
+        )
+
+    sweeps, residual = most("inverter_sweeps"), most("inverter_residual_pu")
+    failed, ceased, held = [], [], []
+    for name, t in tables.items():
+        where = "" if name == "base" else f" (case '{name}')"
+        note = t.inverter_note.fillna("").astype(str)
+        failed += [f"{b}{where}" for b in t.bus[note.str.contains("not converged")]]
+        ceased += [f"{b}{where}" for b in t.bus[note.str.contains("ceased")]]
+        held += [f"{b}{where}" for b in t.bus[note.str.contains("angle held")]]
+
+    def some(buses: list[str]) -> str:
+        return ", ".join(buses[:10]) + (f" and {len(buses) - 10} more" if len(buses) > 10 else "")
+
+    notes.append(
+        "inverters: each at its limit current lagging its positive-sequence terminal voltage by "
+        "90 degrees, or less where its voltage would rise above prefault, found by iteration "
+        f"for every bus and fault type: at most {sweeps:.0f} sweeps, largest final residual "
+        f"{residual:.1e} of a limit current (see the inverter_* columns)"
+    )
+    if failed:
+        notes.append(
+            f"inverters: the iteration did not converge for some fault types at {some(failed)}: "
+            "those currents are not reported (blank), see inverter_note; strong inverters "
+            "close together in a weak part of the network may have no steady state"
+        )
+    if ceased:
+        notes.append(
+            "inverters below their cease_below_pu (momentary cessation) inject nothing in "
+            f"faults at {some(ceased)} (see inverter_note)"
+        )
+    if held:
+        notes.append(
+            f"inverters cut off from every source by faults at {some(held)}: their current lags "
+            "the prefault voltage by 90 degrees (no terminal voltage to lock to; see "
+            "inverter_note)"
+        )
+    return tuple(notes)
+
+
 def _mv_notes(system: System) -> tuple[str, ...]:
     """What the MV breaker duty assumed, said once per study that has an MV breaker."""
     mv: set[str] = set()
@@ -918,11 +1279,29 @@ def _interrupting(system: System, prefault_pu, orderings: Orderings, e_bus=None)
     kv = np.array(pu.bus_kv)
     e = np.array(pu.prefault_pu) if e_bus is None else e_bus
     i_ka = e / x * perunit.i_base_ka(kv, pu.base_mva)
+    if len(system.inverters):
+        i_ka = i_ka + _inverters_interrupting_ka(system, prefault_pu, orderings, x)
     xr = np.where(r > 0, x / np.where(r > 0, r, 1.0), np.inf)
     # only above 1 kV: LV devices are rated on first-cycle currents, and E/X, which leaves R
     # out, overstates a cable-fed LV bus badly
     mv = kv > standards.LV_LIMIT_KV
     return np.where(mv, i_ka, np.nan), np.where(mv, xr, np.nan)
+
+
+def _inverters_interrupting_ka(system: System, prefault_pu, orderings: Orderings, x):
+    """The inverters' share of the IEEE interrupting network's current at every bus: their
+    limit currents, which do not decay, with the X-only reduction's transfer reactances added
+    in magnitude, ``sum_j |X_kj| I_j / X_kk`` (the conservative way of IEC 60909-0 6.9); one
+    solve with a column per inverter node against the X-only network's factor."""
+    variant = methods.interrupting_system(system)
+    pu = perunit.to_per_unit(variant, prefault_pu=prefault_pu)
+    network = build_network(
+        pu, lambda: dict(zip(system.buses.column("bus"), system.buses.column("row"), strict=True))
+    )
+    factor = SymmetricFactor(positive_matrix_variant(pu, network, _x_only), orderings)
+    inv = inverters.prepare(variant, pu, network, factor)
+    raised = inverters.iec_open_circuit_pu(inv, network.node_of_bus, 0.0)
+    return raised / x * perunit.i_base_ka(np.array(pu.bus_kv), pu.base_mva)
 
 
 def _keeping_warnings(study):
@@ -1057,7 +1436,8 @@ def _study(system: System, contributions, calculated_at, progress: Progress) -> 
         + network.warnings
         + tuple(case_warnings)
         + _mv_notes(system)
-        + _iec_notes(system),
+        + _iec_notes(system)
+        + _inverter_notes(system, {"base": buses, **case_tables}),
         cautions=CAUTIONS,
         basis=basis,
         contributions=contribution_table,

@@ -32,6 +32,7 @@ def random_sheets(
     clocks: bool = False,
     grounding: int = 0,
     three_winding: int = 0,
+    inverters: int = 0,
 ) -> dict[str, list[dict]]:
     """A 13.8 kV network with 480 V networks hung under it through transformers.
 
@@ -40,8 +41,10 @@ def random_sheets(
     ``zero_sequence`` the sources, cables and transformers get zero-sequence data and random
     winding connections; ``machines`` adds motors and generators; ``grounding`` adds zig-zag
     and wye-delta grounding banks at random buses; ``three_winding`` adds three-winding
-    transformers and autotransformers from random MV buses to 4.16 kV or 69 kV buses of their
-    own (and a 0.48 kV tertiary bus, or a delta tertiary not brought out); ``clocks`` draws the
+    transformers and autotransformers from random MV buses to 4.16 kV buses of their own (and a
+    0.48 kV tertiary bus, or a delta tertiary not brought out); ``inverters`` adds
+    inverter-based sources (drawn last, so a network without them is the same), a few with a
+    negative-sequence share or a cessation voltage; ``clocks`` draws the
     transformers' IEC 60076 clock numbers. Closed ties join only buses of one phase
     displacement, so every loop is consistent.
     """
@@ -220,6 +223,26 @@ def random_sheets(
                 }
             )
         sheets["grounding_transformers"] = banks
+    if inverters:
+        rows = []
+        for k in range(inverters):
+            bus = buses[int(rng.integers(len(buses)))]
+            low = bus["kv"] < 1
+            row = {
+                "inverter": f"PV{k}",
+                "bus": bus["bus"],
+                "kva": float(rng.uniform(20, 150) if low else rng.uniform(500, 3000)),
+                "kv": bus["kv"],
+                "count": int(rng.integers(1, 4)),
+                "current_limit_pu": float(rng.uniform(1.05, 1.5)),
+            }
+            if rng.random() < 0.4:
+                row["behaviour"] = "negative_share"
+                row["negative_share_pct"] = float(rng.uniform(10, 40))
+            if rng.random() < 0.3:
+                row["cease_below_pu"] = float(rng.uniform(0.3, 0.6))
+            rows.append(row)
+        sheets["inverters"] = rows
     return sheets
 
 

@@ -448,6 +448,96 @@ CASES = [
 ]
 
 
+def with_inverter(**changes):
+    """An inverters sheet with one 250 kVA 480 V inverter on PNL (invented), ``changes``
+    applied to its row (None leaves a column out)."""
+
+    def edit(sheets):
+        row = {"inverter": "PV", "bus": "PNL", "kva": 250, "kv": 0.48, "current_limit_pu": 1.2}
+        row.update(changes)
+        sheets["inverters"] = [{k: v for k, v in row.items() if v is not None}]
+
+    return edit
+
+
+# Inverters: each value no inverter has, located with the slip named (read/slips.py).
+CASES += [
+    (
+        "inverter limit as a percent",
+        with_inverter(current_limit_pu=120),
+        "inverters",
+        2,
+        "current_limit_pu",
+        120,
+        "1.2 for 120 %",
+    ),
+    (
+        "inverter limit below rated current",
+        with_inverter(current_limit_pu=0.8),
+        "inverters",
+        2,
+        "current_limit_pu",
+        0.8,
+        "outside the 1 to 2",
+    ),
+    ("inverter kv in volts", with_inverter(kv=480), "inverters", 2, "kv", 480, "volts"),
+    (
+        "inverter on an unknown bus",
+        with_inverter(bus="NOPE"),
+        "inverters",
+        2,
+        "bus",
+        "NOPE",
+        "no bus of that name",
+    ),
+    (
+        "inverter cessation as a percent",
+        with_inverter(cease_below_pu=50),
+        "inverters",
+        2,
+        "cease_below_pu",
+        50,
+        "0.5 for 50 %",
+    ),
+    (
+        "negative share without its share",
+        with_inverter(behaviour="negative_share"),
+        "inverters",
+        2,
+        "negative_share_pct",
+        None,
+        "needs the negative-sequence share",
+    ),
+    (
+        "negative share of the whole limit",
+        with_inverter(behaviour="negative_share", negative_share_pct=100),
+        "inverters",
+        2,
+        "negative_share_pct",
+        100,
+        "leaves no positive-sequence current",
+    ),
+    (
+        "inverter behaviour unknown",
+        with_inverter(behaviour="grid_forming"),
+        "inverters",
+        2,
+        "behaviour",
+        "grid_forming",
+        "positive, negative_share",
+    ),
+    (
+        "inverter without its kva column",
+        with_inverter(kva=None),
+        "inverters",
+        1,
+        "kva",
+        None,
+        "required column is missing",
+    ),
+]
+
+
 @pytest.mark.parametrize("case", CASES, ids=[c[0] for c in CASES])
 def test_bad_input_is_located(make_input, tmp_path, case):
     _, edit, sheet, row, column, value, words = case

@@ -93,24 +93,30 @@ def test_a_bank_without_its_impedance_is_located(make_input):
     assert any(p.sheet == "grounding_transformers" and p.row == 2 for p in found.value.problems)
 
 
-def test_a_bank_on_a_bus_not_listed_is_refused(make_input):
-    # A misnamed bus was once placed on the last bus of the sheet without a word.
-    with pytest.raises(InputError) as caught:
-        read_system(make_input(_sheets(dict(ZIGZAG, bus="LV-TYPO"))))
-    (problem,) = caught.value.problems
+def test_a_bank_on_an_unknown_bus_is_located(make_input):
+    # common practice (no source): a reference to a bus that is not on the buses sheet is a
+    # located error, as on every other element sheet (it was taken as the last bus)
+    with pytest.raises(InputError) as found:
+        read_system(make_input(_sheets(dict(ZIGZAG, bus="NOPE"))))
+    (problem,) = found.value.problems
     assert (problem.sheet, problem.row, problem.column, problem.value) == (
         "grounding_transformers",
         2,
         "bus",
-        "LV-TYPO",
+        "NOPE",
     )
 
 
-def test_a_bank_on_a_bus_out_of_service_goes_with_it(make_input):
-    sheets = _sheets(dict(ZIGZAG))
+def test_a_bank_goes_with_its_bus_out_of_service(make_input):
+    # A bank on a bus taken out of service leaves with it (it was hung on the last bus of the
+    # sheet): the other feeder's bus keeps its own zero-sequence path, equal to its positive
+    # one (a source with Z0 = Z1: I_slg = I_3ph, symmetrical components by hand).
+    sheets = _sheets(ZIGZAG)
     sheets["buses"][1]["in_service"] = "no"
+    sheets["buses"].append({"bus": "X", "kv": KV_LV})
+    sheets["sources"].append({"source": "U2", "bus": "X", "sc_mva": 100, "xr": 5})
     system = read_system(make_input(sheets))
-    assert len(system.grounding_transformers) == 0
-    assert any("ZZ1" in w and "left out" in w for w in system.warnings)
-    result = run_study(system)
-    assert list(result.buses["bus"]) == ["HV"]
+    assert not len(system.grounding_transformers)
+    assert any("ZZ1" in w for w in system.warnings)
+    x = run_study(system).buses.set_index("bus").loc["X"]
+    assert x.islg_ka == pytest.approx(x.i3ph_ka, rel=1e-12)

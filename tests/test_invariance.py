@@ -31,6 +31,7 @@ def base_sheets():
         off_nominal=True,
         grounding=2,
         three_winding=3,
+        inverters=4,
     )
 
 

@@ -44,7 +44,7 @@ from .parts import (
     tie_gap,
 )
 from .shapes import LINE_PT, Line, Symbol, Text
-from .topology import GROUNDING, Branch, Tree
+from .topology import GROUNDING, INVERTER, Branch, Tree
 
 __all__ = ["OVER", "Drawing", "Reference", "View", "plan", "render"]
 
@@ -472,6 +472,8 @@ def _draw_bus(drawing, view: View, bus, where, lines, p: Plan, colour) -> None:
         cx = c.left + LEFT
         if c.kind == "machine" and c.rungs[0] == GROUNDING:
             hanging(drawing, "grounding", cx, y, c.lines, c.lines[0])
+        elif c.kind == "machine" and c.rungs[0] == INVERTER:
+            hanging(drawing, "inverter", cx, y, c.lines, c.lines[0])
         elif c.kind == "machine":
             kind = "generator" if c.rungs[0] == "G" else "motor"
             hanging(drawing, kind, cx, y, c.lines, c.lines[0], c.rungs[0])

@@ -149,6 +149,20 @@ def strokes(s: Symbol) -> list[Stroke]:
             line((x - r * 0.4, y + r * 0.72), (x + r * 0.4, y + r * 0.72)),
             line((x - r * 0.2, y + r * 0.94), (x + r * 0.2, y + r * 0.94)),
         ]
+    if s.kind == "inverter":  # an inverter: a box split corner to corner, DC above, AC below
+        half = r * 0.75  # (our own symbol)
+        return [
+            line((x, y - r), (x, y - half)),
+            polygon(
+                (x - half, y - half),
+                (x + half, y - half),
+                (x + half, y + half),
+                (x - half, y + half),
+            ),
+            line((x - half, y + half), (x + half, y - half)),
+            Stroke("letter", x=x - half * 0.45, y=y - half * 0.4, text="=", size=6.5, colour=c),
+            Stroke("letter", x=x + half * 0.45, y=y + half * 0.45, text="~", size=6.5, colour=c),
+        ]
     if s.kind == "via":  # buses left out on the way: three dots on the drop
         return [circle(x, y + r * dy, r * 0.09, filled=True) for dy in (-0.5, 0.0, 0.5)]
     if s.kind == "ref":

@@ -15,6 +15,7 @@ from dataclasses import dataclass, field
 from ..model import System
 
 GROUNDING = "grounding"  # the letter slot of a grounding bank among a bus's machines
+INVERTER = "inverter"  # and of an inverter
 
 # The series elements: sheet, name column, the two bus columns, the kind drawn.
 SERIES = (
@@ -130,6 +131,15 @@ def tree_of(system: System) -> Tree:
         kind = "zig-zag" if g.kind == "zigzag" else "wye-delta"
         machines.setdefault(g.bus, []).append(
             (g.grounding_transformer, GROUNDING, (g.grounding_transformer, f"{kind} {z0}"))
+        )
+    for inv in system.inverters:  # hung below their bus like a machine
+        count = f"{inv.count:g} x " if inv.count != 1 else ""
+        machines.setdefault(inv.bus, []).append(
+            (
+                inv.inverter,
+                INVERTER,
+                (inv.inverter, f"{count}{inv.kva:.4g} kVA, limit {inv.current_limit_pu:.3g} pu"),
+            )
         )
     roots = [b for b in buses if b in sources]
     if not roots:

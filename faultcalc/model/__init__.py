@@ -373,6 +373,34 @@ class ThreeWindingTransformer:
 
 
 @dataclass(frozen=True)
+class Inverter:
+    """An inverter-based source (solar PV, battery): a current held at its control's limit,
+    ``current_limit_pu`` x its rated current, at the angle its control sets (see
+    ``faultcalc.solve.inverters``)."""
+
+    inverter: str
+    bus: str
+    kva: float
+    kv: float
+    current_limit_pu: float
+    count: int = 1
+    behaviour: str = "positive"  # or "negative_share"
+    negative_share_pct: float | None = None
+    cease_below_pu: float | None = None
+    in_service: str = "yes"  # the System holds only elements in service
+    row: int | None = None
+
+    @property
+    def name(self) -> str:
+        return self.inverter
+
+    @property
+    def limit_ka(self) -> float:
+        """The group's limit current, kA: current_limit_pu x count x kva / (sqrt(3) kv)."""
+        return self.current_limit_pu * self.count * self.kva / (math.sqrt(3.0) * self.kv) / 1000
+
+
+@dataclass(frozen=True)
 class System:
     """Everything read from one input: settings, buses and elements, plus reader warnings.
 
@@ -389,6 +417,7 @@ class System:
     machines: Records[Machine] = ()
     grounding_transformers: Records[GroundingTransformer] = ()
     three_winding_transformers: Records[ThreeWindingTransformer] = ()
+    inverters: Records[Inverter] = ()
     cases: tuple[tuple[str, System], ...] = ()  # named variations, each a whole System
     input_name: str = ""
     input_sha256: str = ""
@@ -463,4 +492,5 @@ ELEMENT_KINDS = {
     "machines": Machine,
     "grounding_transformers": GroundingTransformer,
     "three_winding_transformers": ThreeWindingTransformer,
+    "inverters": Inverter,
 }

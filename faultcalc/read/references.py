@@ -39,6 +39,7 @@ BUS_REFERENCES = (
     ("machines", ("bus",)),
     ("grounding_transformers", ("bus",)),
     ("three_winding_transformers", ("h_bus", "m_bus", "l_bus")),
+    ("inverters", ("bus",)),
 )
 
 

@@ -446,6 +446,91 @@ def machines(sheet: Typed, buses: Buses, out: Collector, at: np.ndarray) -> None
             )
 
 
+# Inverter current limits usual in manufacturers' data: warned outside (value from memory;
+# IEEE 1547-2018 and IEEE 2800-2022 set the ride-through the current is held in, not the
+# limit). A negative-sequence share above half the limit is unusual (common practice, no
+# source).
+INVERTER_LIMIT_USUAL = (1.05, 1.5)
+NEGATIVE_SHARE_USUAL_PCT = 50.0
+
+
+def inverters(sheet: Typed, buses: Buses, out: Collector, at: np.ndarray) -> None:
+    """An inverter's rated kV against its bus, its current limit, cessation voltage and
+    negative-sequence share: refused when no inverter has them, warned when unusual."""
+    v, f = sheet.values, sheet.filled
+    name = sheet.spec.name
+    at = _ok(sheet, at)
+    missing = []  # refused after the slips, so that a row's other problems are said too
+    for i in at.tolist():
+        row = int(sheet.rows[i])
+        if v["behaviour"][i] == "negative_share" and not f["negative_share_pct"][i]:
+            out.problem(
+                name,
+                row,
+                "negative_share_pct",
+                None,
+                "behaviour negative_share needs the negative-sequence share of the limit "
+                "current in % (e.g. 20)",
+            )
+            missing.append(i)
+        elif v["behaviour"][i] != "negative_share" and f["negative_share_pct"][i]:
+            out.warn(
+                name,
+                row,
+                "negative_share_pct",
+                float(v["negative_share_pct"][i]),
+                "used only with behaviour negative_share; ignored (behaviour positive: "
+                "positive-sequence current only)",
+            )
+    kv, limit = v["kv"][at], v["current_limit_pu"][at]
+    is_share = np.array([v["behaviour"][i] == "negative_share" for i in at.tolist()], bool)
+    share = np.where(is_share, v["negative_share_pct"][at], np.nan)
+    bus = [v["bus"][i] for i in at.tolist()]
+    bus_kv = _kv_at(sheet, "bus", buses, at)
+    found = slips.inverter_slips(kv, bus_kv, bus, limit, v["cease_below_pu"][at], share)
+    refuse_slips(sheet, at, found, out)
+    sheet.ok[missing] = False
+    with np.errstate(divide="ignore", invalid="ignore"):
+        off = np.abs(kv / bus_kv - 1.0) > KV_MISMATCH_WARN
+    low, high = INVERTER_LIMIT_USUAL
+    unusual = (limit < low) | (limit > high)
+    large_share = share > NEGATIVE_SHARE_USUAL_PCT
+    for k in np.flatnonzero(off | unusual | large_share).tolist():
+        i = int(at[k])
+        if not sheet.ok[i]:
+            continue
+        row = int(sheet.rows[i])
+        if off[k]:
+            out.warn(
+                name,
+                row,
+                "kv",
+                float(kv[k]),
+                f"inverter rated {kv[k]:g} kV on bus {bus[k]} of {bus_kv[k]:g} kV; its rated "
+                "current is taken at its own kV; check the rating",
+            )
+        if unusual[k]:
+            out.warn(
+                name,
+                row,
+                "current_limit_pu",
+                float(limit[k]),
+                f"outside the {low:g} to {high:g} x rated current usual for inverters' fault "
+                "current (manufacturers' data; IEEE 1547-2018 and IEEE 2800-2022 set the "
+                "ride-through, not the limit; value from memory); check the manufacturer's "
+                "figure",
+            )
+        if large_share[k]:
+            out.warn(
+                name,
+                row,
+                "negative_share_pct",
+                float(share[k]),
+                f"more than {NEGATIVE_SHARE_USUAL_PCT:g} % of the limit current as "
+                "negative-sequence current is unusual; check the control's setting",
+            )
+
+
 def sources(sheet: Typed, buses: Buses, out: Collector, at: np.ndarray) -> None:
     v, f = sheet.values, sheet.filled
     ok = _ok(sheet, at)
@@ -514,6 +599,8 @@ def check(sheets: dict[str, Typed], settings, out: Collector, at=None, buses=Non
     references(sheets[three], ("h_bus", "m_bus", "l_bus"), buses, out, rows(three))
     threewinding.three_winding(sheets[three], buses, out, rows(three))
     machines(sheets["machines"], buses, out, rows("machines"))
+    references(sheets["inverters"], ("bus",), buses, out, rows("inverters"))
+    inverters(sheets["inverters"], buses, out, rows("inverters"))
     sources(sheets["sources"], buses, out, rows("sources"))
     some_source(sheets, out)
     return buses

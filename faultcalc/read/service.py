@@ -105,6 +105,7 @@ BUS_COLUMNS = {
     "machines": ("bus",),
     "grounding_transformers": ("bus",),
     "three_winding_transformers": ("h_bus", "m_bus", "l_bus"),  # l_bus may be blank
+    "inverters": ("bus",),
 }
 
 
@@ -117,6 +118,7 @@ REMOVAL_ORDER = (
     "machines",
     "grounding_transformers",
     "three_winding_transformers",
+    "inverters",
 )
 
 

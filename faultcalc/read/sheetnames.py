@@ -41,6 +41,18 @@ SYNONYMS = {
         "auto_transformers",
         "three_winding_transformer",
     ),
+    "inverters": (
+        "inverter",
+        "ibr",
+        "ibrs",
+        "pv",
+        "solar",
+        "batteries",
+        "battery",
+        "bess",
+        "converters",
+        "converter",
+    ),
     "cases": ("scenarios", "scenario", "variants", "variations"),
 }
 KNOWN = tuple(s.name for s in schema.SHEETS)

@@ -369,3 +369,91 @@ def prefault_finding(value: float) -> tuple[bool, str] | None:
             "IEC 60909-0 voltage factors and of ANSI C84.1 range B; check it"
         )
     return None
+
+
+# Inverter current limit, per-unit of rated current: the fault current of grid-following
+# inverters is held between about 1.05 and 1.5 x rated (the range usual in manufacturers'
+# data; IEEE 1547-2018 and IEEE 2800-2022 set the ride-through it must be held in, not the
+# limit itself; values from memory). Below 1.0 the inverter could not carry its own rated
+# current; above 2.0 no inverter's semiconductors carry it: a percent (120 for 1.2) or a
+# multiple of another base was typed.
+MIN_INVERTER_LIMIT_PU = 1.0
+MAX_INVERTER_LIMIT_PU = 2.0
+# Momentary cessation below a voltage of 1 pu or more would stop the inverter in normal
+# operation (IEEE 1547-2018 permits it below about 0.5 pu; value from memory): a percent typed.
+MAX_CEASE_PU = 1.0
+# A negative-sequence share of 100 % or more leaves no positive-sequence current.
+MAX_NEGATIVE_SHARE_PCT = 100.0
+
+
+def inverter_slips(
+    kv: np.ndarray,
+    bus_kv: np.ndarray,
+    bus: list[str],
+    limit_pu: np.ndarray,
+    cease_pu: np.ndarray,
+    share_pct: np.ndarray,
+) -> list[Slip]:
+    """Rated kV inconsistent with the bus, a current limit no inverter has, a cessation
+    voltage at or above 1 pu, a negative-sequence share of 100 % or more."""
+    found: list[Slip] = []
+    off = _off(kv, bus_kv)
+    bad_limit = (limit_pu < MIN_INVERTER_LIMIT_PU) | (limit_pu > MAX_INVERTER_LIMIT_PU)
+    bad_cease = cease_pu >= MAX_CEASE_PU
+    bad_share = share_pct >= MAX_NEGATIVE_SHARE_PCT
+    for i in np.flatnonzero(off | bad_limit | bad_cease | bad_share).tolist():
+        if off[i]:
+            found.append(
+                Slip(
+                    i,
+                    "kv",
+                    float(kv[i]),
+                    f"inverter rated {kv[i]:g} kV on bus {bus[i]} of {bus_kv[i]:g} kV, more "
+                    f"than {KV_RATIO_LIMIT:g} x apart: {_kv_hint(kv[i], bus_kv[i])} (an "
+                    "inverter behind its own step-up transformer goes on the transformer's "
+                    "low-voltage bus)",
+                )
+            )
+        if bad_limit[i]:
+            hint = (
+                f"; current_limit_pu is per-unit: {limit_pu[i] / 100:g} for {limit_pu[i]:g} %"
+                if 100 * MIN_INVERTER_LIMIT_PU <= limit_pu[i] <= 100 * MAX_INVERTER_LIMIT_PU
+                else ""
+            )
+            found.append(
+                Slip(
+                    i,
+                    "current_limit_pu",
+                    float(limit_pu[i]),
+                    f"a current limit of {limit_pu[i]:g} x rated current is outside the "
+                    f"{MIN_INVERTER_LIMIT_PU:g} to {MAX_INVERTER_LIMIT_PU:g} x any inverter has "
+                    f"(usually 1.05 to 1.5){hint}",
+                )
+            )
+        if bad_cease[i]:
+            hint = (
+                f"; cease_below_pu is per-unit: {cease_pu[i] / 100:g} for {cease_pu[i]:g} %"
+                if cease_pu[i] >= 10
+                else ""
+            )
+            found.append(
+                Slip(
+                    i,
+                    "cease_below_pu",
+                    float(cease_pu[i]),
+                    f"ceasing below {cease_pu[i]:g} pu would stop the inverter at its normal "
+                    f"voltage (IEEE 1547-2018 permits momentary cessation below about 0.5 pu, "
+                    f"value from memory){hint}",
+                )
+            )
+        if bad_share[i]:
+            found.append(
+                Slip(
+                    i,
+                    "negative_share_pct",
+                    float(share_pct[i]),
+                    f"a negative-sequence share of {share_pct[i]:g} % of the limit current "
+                    "leaves no positive-sequence current; give the share in % (e.g. 20)",
+                )
+            )
+    return found

@@ -10,7 +10,7 @@ import math
 from openpyxl.drawing.image import Image
 from openpyxl.styles import Alignment
 
-from ..results import StudyResult
+from ..results import NOT_CONVERGED, StudyResult
 from ..solve import duty
 from .sheetfit import PRINT_PT_PER_WIDTH, lines_needed, row_height_pt
 from .sheetpages import page
@@ -67,7 +67,9 @@ def summary_rows(result: StudyResult) -> list[tuple]:
                 r.bus,
                 r.description if isinstance(r.description, str) else "",
                 r.kv,
-                r.max_ka if found else "no fault current",
+                r.max_ka
+                if found
+                else (NOT_CONVERGED if r.max_case == NOT_CONVERGED else "no fault current"),
                 FAULT_WORDS.get(r.max_fault, ""),
                 _case_words(r.max_case) if found else "",
                 r.xr,

@@ -31,14 +31,19 @@ def label_lines(result: StudyResult, bus: str) -> list[Line]:
     lines = [
         Line("SERVICE EQUIPMENT", 16, True),
         Line("Maximum available fault current", 14, True),
-        Line(f"{label.label_ka:.1f} kA", 40, True),
+        Line(f"{label.label_ka:.1f} kA", 40, True)
+        if label.label_ka == label.label_ka
+        else Line("not computed", 40, True),
         Line(
             "symmetrical RMS, the largest of three-phase, line-to-ground, line-to-line and double "
             "line-to-ground faults" + over,
             10,
         ),
         Line(
-            f"Set by a {FAULT_WORDS[label.label_fault]} fault in {case_words(label.label_case)}.",
+            f"Set by a {FAULT_WORDS[label.label_fault]} fault in {case_words(label.label_case)}."
+            if label.label_fault
+            else "The inverter iteration did not converge for a fault here: no figure to mark "
+            "(see the study's warnings).",
             11,
             True,
         ),

@@ -13,7 +13,14 @@ FAULT_WORDS = {
 # base current of the bus a source or machine is connected to); a branch's are at the faulted
 # bus's (the base current of the faulted bus).
 AT_OWN_BUS = frozenset(
-    {"source", "generator", "induction_motor", "synchronous_motor", "grounding_transformer"}
+    {
+        "source",
+        "generator",
+        "induction_motor",
+        "synchronous_motor",
+        "grounding_transformer",
+        "inverter",
+    }
 )
 
 

@@ -11,7 +11,7 @@ from openpyxl.styles import Alignment, Border, PatternFill, Side
 
 from ..cautions import SHORT_CAUTION
 from ..read.names import key as name_key
-from ..results import StudyResult
+from ..results import FAULT_OF_COLUMN, NOT_CONVERGED, StudyResult
 from ..solve import duty
 from .basis import basis_items
 from .files import staged
@@ -81,6 +81,16 @@ NO_PATH = "no path"
 
 def _ka_or_note(value):
     return NO_PATH if isinstance(value, float) and math.isnan(value) else value
+
+
+def _shown(r, field: str, value):
+    """A bus row's value as the sheets print it: "not converged" for a current the inverter
+    iteration did not converge on, "no path" for a missing ground current, else the value."""
+    fault = FAULT_OF_COLUMN.get(field.replace("_min", ""))
+    blank = isinstance(value, float) and math.isnan(value)
+    if blank and fault and f"{fault}: {NOT_CONVERGED}" in (getattr(r, "inverter_note", "") or ""):
+        return NOT_CONVERGED
+    return _ka_or_note(value) if field in NO_PATH_FIELDS else value
 
 
 def _fault_columns(result: StudyResult) -> list[tuple[Col, object]]:
@@ -316,6 +326,40 @@ def _fault_columns(result: StudyResult) -> list[tuple[Col, object]]:
             ),
             (Col("Interrupting network X/R", 10, XR), "xr_int"),
         ]
+    b = result.buses
+    if b.inverter_sweeps.notna().any() or b.inverter_note.fillna("").astype(bool).any():
+        cols += [
+            (
+                Col(
+                    "Inverter iteration, sweeps",
+                    9,
+                    "0",
+                    "Sweeps the inverters' iteration took for faults here, the most over the "
+                    "four fault types (method iec60909 adds their currents instead).",
+                ),
+                "inverter_sweeps",
+            ),
+            (
+                Col(
+                    "Inverter residual, of a limit current",
+                    10,
+                    "0.0E+00",
+                    "The largest change of an inverter's current in the last sweep, per unit of "
+                    "its limit: converged below 1E-11.",
+                ),
+                "inverter_residual_pu",
+            ),
+            (
+                Col(
+                    "Inverters",
+                    40,
+                    note="Faults where the iteration did not converge (no current reported), "
+                    "inverters that ceased (momentary cessation) or held their prefault angle "
+                    "(no voltage left to lock to).",
+                ),
+                "inverter_note",
+            ),
+        ]
     return cols
 
 
@@ -353,14 +397,15 @@ def _fault_sheet(ws, result: StudyResult) -> None:
         row = []
         for _, get in spec:
             value = get(r) if callable(get) else getattr(r, get)
-            row.append(_ka_or_note(value) if get in NO_PATH_FIELDS else value)
+            row.append(_shown(r, get, value) if isinstance(get, str) else value)
         rows.append(tuple(row))
     _table(ws, [c for c, _ in spec], rows)
     fields = [get for _, get in spec]
     for i, r in enumerate(b.itertuples(index=False), start=2):
         ws.cell(row=i, column=fields.index(FIELD_OF[r.max_fault]) + 1).font = BOLD
         for j, field in enumerate(fields, start=1):
-            if field in NO_PATH_FIELDS and ws.cell(row=i, column=j).value == NO_PATH:
+            shown_as_words = field in NO_PATH_FIELDS or field in FAULT_OF_COLUMN
+            if shown_as_words and ws.cell(row=i, column=j).value in (NO_PATH, NOT_CONVERGED):
                 ws.cell(row=i, column=j).alignment = Alignment(horizontal="right", vertical="top")
     statuses = [w.duty_status if w else st for w, st in zip(found, b.duty_status, strict=True)]
     _fill_rows(ws, statuses, len(spec))
@@ -481,7 +526,7 @@ def _duty_sheet(ws, result: StudyResult) -> None:
             r.duty_ka,
             r.duty_pct,
             r.duty_status,
-            FAULT_WORDS[r.duty_fault],
+            FAULT_WORDS.get(r.duty_fault, ""),
         )
         if with_mv:
             row += (
@@ -544,12 +589,12 @@ def _case_sheet(ws, result: StudyResult) -> None:
                     name,
                     r.bus,
                     r.kv,
-                    r.i3ph_ka,
-                    _ka_or_note(r.islg_ka),
-                    r.ill_ka,
-                    r.illg_ka,
-                    r.ip_ka,
-                    r.iasym_ka,
+                    _shown(r, "i3ph_ka", r.i3ph_ka),
+                    _shown(r, "islg_ka", r.islg_ka),
+                    _shown(r, "ill_ka", r.ill_ka),
+                    _shown(r, "illg_ka", r.illg_ka),
+                    _shown(r, "ip_ka", r.ip_ka),
+                    _shown(r, "iasym_ka", r.iasym_ka),
                     r.duty_pct,
                     r.duty_status if r.device else "",
                     FAULT_WORDS.get(r.duty_fault, "") if r.device else "",

@@ -895,6 +895,76 @@ THREE_WINDING_TRANSFORMERS = Sheet(
     ),
 )
 
+INVERTERS = Sheet(
+    "inverters",
+    "Inverter-based sources (solar PV, battery storage, full-converter wind): each feeds a "
+    "fault with a current held at its control's limit, not through an impedance. Group "
+    "identical units with 'count'.",
+    (
+        Column("inverter", ID, "Unique name of the inverter or group.", required=True),
+        Column("bus", BUS_REF, "Bus its AC terminals are connected to.", required=True),
+        Column(
+            "kva",
+            NUMBER,
+            "Rated apparent power of one inverter.",
+            unit="kVA",
+            required=True,
+            bound=POSITIVE,
+        ),
+        Column(
+            "kv",
+            NUMBER,
+            "Rated line-to-line AC voltage of the inverter; with kva it gives the rated "
+            "current kva / (sqrt(3) kv).",
+            unit="kV",
+            required=True,
+            bound=POSITIVE,
+        ),
+        Column(
+            "count",
+            INTEGER,
+            "Number of identical inverters in the group.",
+            default=1,
+            bound=AT_LEAST_ONE,
+        ),
+        Column(
+            "current_limit_pu",
+            NUMBER,
+            "Fault current the inverter's control holds, per-unit of its rated current (from "
+            "the manufacturer; usually 1.05 to 1.5; refused below 1 or above 2).",
+            unit="pu",
+            required=True,
+            bound=POSITIVE,
+        ),
+        Column(
+            "behaviour",
+            CHOICE,
+            "positive: balanced positive-sequence current only (the common case); "
+            "negative_share: in unbalanced faults the share negative_share_pct of the limit "
+            "current is negative-sequence current.",
+            default="positive",
+            choices=("positive", "negative_share"),
+        ),
+        Column(
+            "negative_share_pct",
+            NUMBER,
+            "With behaviour negative_share: the negative-sequence current in unbalanced faults, "
+            "in % of the limit current (the positive-sequence current takes the rest).",
+            unit="%",
+            bound=POSITIVE,
+        ),
+        Column(
+            "cease_below_pu",
+            NUMBER,
+            "Momentary cessation: below this positive-sequence terminal voltage (per-unit of "
+            "the bus's nominal kV) the inverter injects nothing. Blank: it never ceases.",
+            unit="pu",
+            bound=POSITIVE,
+        ),
+        _in_service("the inverter"),
+    ),
+)
+
 SHEETS: tuple[Sheet, ...] = (
     STUDY,
     BUSES,
@@ -905,6 +975,7 @@ SHEETS: tuple[Sheet, ...] = (
     MACHINES,
     GROUNDING_TRANSFORMERS,
     THREE_WINDING_TRANSFORMERS,
+    INVERTERS,
     CASES,
 )
 
@@ -917,6 +988,7 @@ ELEMENT_SHEETS: tuple[Sheet, ...] = (
     MACHINES,
     GROUNDING_TRANSFORMERS,
     THREE_WINDING_TRANSFORMERS,
+    INVERTERS,
 )
 
 # Sheets the template writes for people; the reader passes over them without a warning.

@@ -130,6 +130,19 @@ EXAMPLES: dict[str, list[dict]] = {
             "in_service": "no",
         },
     ],
+    "inverters": [
+        {
+            "inverter": "PV-1",
+            "bus": "SWBD-1",
+            "kva": 250,
+            "kv": 0.48,
+            "count": 2,
+            "current_limit_pu": 1.2,
+            "behaviour": "positive",
+            "cease_below_pu": 0.5,
+            "in_service": "no",
+        },
+    ],
     "cases": [
         {"case": "utility minimum", "element": "UTILITY", "column": "sc_mva", "value": 250},
         {"case": "utility minimum", "element": "UTILITY", "column": "slg_ka", "value": 9},

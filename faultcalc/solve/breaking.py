@@ -79,6 +79,15 @@ def after_first_instant(analysis, rows: dict, z_without_motors=None) -> dict[str
         i_f if z_without_motors is None else (np.asarray(pu.prefault_pu) / (z_without_motors + zf))
     )
     ik = np.where(far, np.abs(i_steady) * i_base, np.nan)
+    if getattr(analysis, "inverters", None) is not None:
+        # full-converter sources do not decay: their I_skPF, added as in I"k (IEC 60909-0:2016
+        # 6.9, from memory), is in Ib and Ik too
+        from .inverters import iec_open_circuit_pu
+
+        raised = iec_open_circuit_pu(analysis.inverters, network.node_of_bus, 0.0)
+        i_pf_ka = raised / np.abs(z_kk + zf) * i_base
+        ib = ib + i_pf_ka
+        ik = ik + i_pf_ka
     m = iec60909.dc_heat_factor_m(np.asarray(rows["kappa"], float), f, settings.fault_duration_s)
     ith = np.where(far, iec60909.thermal_equivalent_current_ka(i3, m, np.ones(n)), np.nan)
     xr = np.asarray(rows["xr_fault"], dtype=float)

@@ -71,8 +71,14 @@ def contribution_phasors(
     buses: list[int],
     zf_pu: np.ndarray,
     angle_deg: np.ndarray,
+    inverter_state=None,
 ) -> list[Phasors]:
-    """Contributions to faults at the buses with indices ``buses`` (input order)."""
+    """Contributions to faults at the buses with indices ``buses`` (input order).
+
+    ``inverter_state``: for each (bus, fault) the inverters' part (``InverterState``): the
+    fault's sequence currents with them, their injections at their nodes and the columns of
+    Z1 there, and each inverter's own currents; a (bus, fault) missing from it (the
+    iteration did not converge) has no contributions."""
     rows = []
     prefault = pu.prefault_pu
     i_base = i_base_ka(np.asarray(pu.bus_kv), pu.base_mva)
@@ -90,11 +96,22 @@ def contribution_phasors(
             if fault == "slg" and not grounded:
                 continue
             z0 = z0_node[n] if grounded else np.nan
-            seq = sequence_currents(fault, z1_node[n], z1_node[n], z0, prefault[b], zf_pu[b])
-            if1, if2, if0 = complex(seq.i1), complex(seq.i2), complex(seq.i0)
+            state = None
+            if inverter_state is not None:
+                state = inverter_state.get((b, fault))
+                if state is None:
+                    continue
+            if state is None:
+                seq = sequence_currents(fault, z1_node[n], z1_node[n], z0, prefault[b], zf_pu[b])
+                if1, if2, if0 = complex(seq.i1), complex(seq.i2), complex(seq.i0)
+            else:
+                if1, if2, if0 = state.fault_pu
             dv1 = -z1_cols[:, col[n]] * if1
             dv2 = -z1_cols[:, col[n]] * if2
             dv0 = -z0_cols[:, col[n]] * if0 if grounded else np.zeros(network.n_nodes, complex)
+            if state is not None:  # the inverters' injections, by superposition
+                dv1 = dv1 + state.z_columns @ state.injection1
+                dv2 = dv2 + state.z_columns @ state.injection2
             per_elem: dict[tuple[str, int], list] = {}
 
             def add(key, from_bus, base_ka, seq_index, value, table=per_elem):
@@ -139,6 +156,22 @@ def contribution_phasors(
                         else:
                             injected = -y / tap * dv[f] + y * dv[t]
                         add(("series", e_idx), far, i_base[b], k, -injected)
+            if state is not None:  # each inverter's own current, turned into its zone's frame
+                for name, bus, c1, c2 in state.inverters:
+                    at = bus_index[bus]
+                    theta = angle_deg[network.node_of_bus[at]] - angle_deg[n]
+                    c1, c2, _ = _rotate(c1, c2, 0j, theta)
+                    rows.append(
+                        Phasors(
+                            pu.bus_names[b],
+                            fault,
+                            name,
+                            "inverter",
+                            bus,
+                            phase_currents(c1, c2, 0j) * i_base[at],
+                            0j,
+                        )
+                    )
             for (what, idx), (from_bus, base_ka, c1, c2, c0) in per_elem.items():
                 element = pu.shunts[idx] if what == "shunt" else pu.series[idx]
                 if what == "shunt":
@@ -157,6 +190,19 @@ def contribution_phasors(
                     )
                 )
     return rows
+
+
+@dataclass(frozen=True)
+class InverterState:
+    """The inverters' part of one fault at one bus: the fault's sequence currents with them
+    (per-unit), their injections at the inverter nodes and the columns of Z1 there, and each
+    inverter's (name, bus, I1, I2) in per-unit of its bus, network frame."""
+
+    fault_pu: tuple[complex, complex, complex]
+    injection1: np.ndarray
+    injection2: np.ndarray
+    z_columns: np.ndarray
+    inverters: tuple[tuple[str, str, complex, complex], ...]
 
 
 def _incident(stamps) -> dict[int, list[int]]:

@@ -72,6 +72,7 @@ STATUS_OVER = "exceeds rating"
 STATUS_NEAR = "within 10% of rating"
 STATUS_BELOW = "below rating"
 STATUS_NONE = "no rating given"
+STATUS_NOT_COMPUTED = "not computed: the inverter iteration did not converge"
 
 
 def test_xr(device: str, rating_ka: float) -> float:

@@ -278,6 +278,7 @@ def variants(system: System) -> list[Variant]:
                     if kind not in MOTOR_KINDS
                 ]
             ),
+            inverters=(),  # not relied on for minimum currents (the README's method)
         )
         return [
             Variant(

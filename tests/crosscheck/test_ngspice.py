@@ -428,3 +428,218 @@ def test_simulated_phase_displacement_of_a_tertiary(tmp_path, clock):
     lag = math.degrees(np.angle(v1("b1") / v1("b3")))
     assert (lag - 30 * clock + 180) % 360 - 180 == pytest.approx(0, abs=1e-6)
     assert abs(np.angle(v1("b1") / v1("b2"))) < 1e-9  # YNa0: m in phase with h
+
+
+INVERTER_NETWORKS = [
+    # radial and meshed MV, two sources, motors and generators, inverters with and without a
+    # negative-sequence share or a cessation voltage
+    dict(seed=21, n_mv=4, n_lv=8, loops=1, sources=2, zero_sequence=True, machines=3, inverters=4),
+    # every vector group, off-nominal ratios, the open-circuit prefault, fault impedance
+    dict(
+        seed=22,
+        n_mv=4,
+        n_lv=8,
+        loops=1,
+        sources=2,
+        zero_sequence=True,
+        machines=3,
+        inverters=5,
+        off_nominal=True,
+        clocks=True,
+    ),
+]
+
+
+def _inverter_system(tmp_path, case):
+    sheets = random_sheets(**case)
+    if case.get("off_nominal"):
+        sheets["study"] = [
+            {"setting": "prefault_voltage", "value": "open_circuit"},
+            {"setting": "fault_ohm", "value": 0.003},
+        ]
+    return read_system(write_csv_folder(tmp_path / "net", sheets))
+
+
+@pytest.mark.parametrize(
+    "case", INVERTER_NETWORKS, ids=[f"net{c['seed']}" for c in INVERTER_NETWORKS]
+)
+def test_inverter_networks(tmp_path, case):
+    # The netlist writes each inverter as three fixed current sources at the tool's converged
+    # solution for that fault; the simulator solves the network around them: every fault type
+    # at every bus, the same tolerances (off-nominal ratios with the open-circuit prefault,
+    # which needs no scaling: the voltages of the simulation are the tool's).
+    system = _inverter_system(tmp_path, case)
+    result = run_study(system).buses
+    assert result.inverter_note.str.contains("not converged").sum() == 0
+    worst = compare(system) if not case.get("off_nominal") else _unscaled(system, result)
+    print(f"inverter network {case['seed']}: worst relative difference {worst}")
+
+
+def _unscaled(system, result) -> dict[str, float]:
+    worst = dict.fromkeys(COLUMN, 0.0)
+    for row in result.itertuples(index=False):
+        for fault, column in COLUMN.items():
+            tool = getattr(row, column)
+            if np.isnan(tool):
+                continue
+            relative = abs(fault_current_ka(system, row.bus, fault) / tool - 1)
+            worst[fault] = max(worst[fault], relative)
+            assert relative <= TOLERANCE[fault], (row.bus, fault)
+    return worst
+
+
+@pytest.mark.parametrize(
+    "case", INVERTER_NETWORKS, ids=[f"net{c['seed']}" for c in INVERTER_NETWORKS]
+)
+def test_the_inverters_operating_point_in_the_simulation(tmp_path, case):
+    # The tool's converged currents are an operating point of the simulated network: at each
+    # inverter's terminals in the simulation (its bus's phase voltages), I1 lags V1 by 90
+    # degrees at its limit (1 - share) L with |V1| at most prefault, or is below its limit with
+    # |V1| at prefault; I2 leads V2 by 90 degrees at its share s L, or is below it with V2 at
+    # zero; a ceased inverter injects nothing and its |V1| is below its cease_below_pu; one
+    # whose own current in the resistance of its path makes more voltage than the rest of the
+    # network (no voltage it can lag by 90 degrees) opposes that rest. Prefault: the
+    # simulation's open-circuit V1 at the bus.
+    from faultcalc.netlist import _groups
+    from faultcalc.study import inverter_phase_currents
+
+    system = _inverter_system(tmp_path, case)
+    result = run_study(system).buses.set_index("bus")
+    group = _groups(system)
+    names = list(dict.fromkeys(group[b.bus] for b in system.buses))
+    node = {g: f"b{i + 1}" for i, g in enumerate(names)}
+    kv = system.bus_kv()
+    prefault = run(build_netlist(system, None, None))
+
+    def seq(values, k):  # sequence k (1 or 2) of phases a, b, c
+        va, vb, vc = values
+        return (va + (A if k == 1 else A * A) * vb + (A * A if k == 1 else A) * vc) / 3
+
+    def volts(sim, bus):
+        n = node[group[bus]]
+        return [sim[f"u_{n}{p}"] for p in "abc"]
+
+    checked = {"limit": 0, "capped": 0, "off": 0, "nearest": 0, "negative": 0, "ceased": 0}
+    for bus in result.index:
+        for fault in COLUMN:
+            if (
+                np.isnan(result.loc[bus, COLUMN[fault]])
+                or "held" in result.loc[bus, "inverter_note"]
+            ):
+                continue
+            currents = inverter_phase_currents(system, bus, fault)
+            sim = run(build_netlist(system, bus, fault, inverter_currents=currents))
+            for inv in system.inverters:
+                base_v = kv[inv.bus] * 1000 / math.sqrt(3)
+                v1, v2 = (seq(volts(sim, inv.bus), k) for k in (1, 2))
+                i1, i2 = (seq(currents[inv.inverter], k) for k in (1, 2))
+                v_pre = abs(seq(volts(prefault, inv.bus), 1))
+                share = 0.0
+                if inv.behaviour == "negative_share" and fault != "3ph":
+                    share = inv.negative_share_pct / 100
+                limit_a = inv.limit_ka * 1000
+                ceased = inv.cease_below_pu is not None and abs(v1) / base_v < inv.cease_below_pu
+                if ceased:
+                    assert abs(i1) + abs(i2) < 1e-9 * limit_a, (bus, fault, inv.inverter)
+                    checked["ceased"] += 1
+                    continue
+                if abs(i1) < 1e-9 * limit_a:  # off: the voltage is above prefault without it
+                    assert abs(v1) >= v_pre * (1 - 1e-9), (bus, fault, inv.inverter)
+                    checked["off"] += 1
+                elif abs(math.degrees(np.angle(i1 / v1)) + 90) > 1e-6:
+                    # no terminal voltage can be lagged by 90 degrees: then I1 = -m c / |c|,
+                    # c = V1 - B I1 the voltage without it and B its driving point with the
+                    # fault on, which the simulation gives from one more run with its current
+                    # changed a little (the network is linear)
+                    step = 1e-3 * limit_a * np.array([1, A * A, A])
+                    nudged = dict(currents, **{inv.inverter: currents[inv.inverter] + step})
+                    moved = run(build_netlist(system, bus, fault, inverter_currents=nudged))
+                    b = (seq(volts(moved, inv.bus), 1) - v1) / (1e-3 * limit_a)
+                    c = v1 - b * i1
+                    assert abs(c) < abs(i1) * b.real, (bus, fault, inv.inverter)
+                    angle = math.degrees(np.angle(-i1 / c))  # B from a difference of two
+                    # runs printed to 12 digits: a looser 1e-4 degree
+                    assert angle == pytest.approx(0.0, abs=1e-4), (bus, fault, inv.inverter)
+                    assert abs(i1) == pytest.approx((1 - share) * limit_a, rel=1e-9)
+                    checked["nearest"] += 1
+                else:
+                    _check_positive(i1, v1, v_pre, (1 - share) * limit_a, checked, (bus, fault))
+                if share:
+                    if abs(i2) >= share * limit_a * (1 - 1e-9):
+                        lead = math.degrees(np.angle(i2 / v2))
+                        # the simulator prints 12 digits of the phase voltages: a V2 of 1e-4
+                        # pu has its angle to about 1e-6 degree / 1e-4
+                        tolerance = 1e-6 + math.degrees(1e-10 * base_v / abs(v2))
+                        assert lead == pytest.approx(90.0, abs=tolerance), (
+                            bus,
+                            fault,
+                            inv.inverter,
+                        )
+                    else:
+                        assert abs(v2) <= 1e-7 * base_v
+                    checked["negative"] += 1
+    print(f"inverter operating points checked, network {case['seed']}: {checked}")
+    assert checked["limit"] and checked["capped"]
+
+
+def _check_positive(i1, v1, v_pre, limit_a, checked, where):
+    """I1 lags V1 by 90 degrees, at its limit with |V1| at most prefault, or below it with
+    |V1| at prefault."""
+    lag = math.degrees(np.angle(i1 / v1))
+    assert lag == pytest.approx(-90.0, abs=1e-6), where
+    if abs(i1) >= limit_a * (1 - 1e-9):
+        assert abs(i1) == pytest.approx(limit_a, rel=1e-9), where
+        assert abs(v1) <= v_pre * (1 + 1e-9), where
+        checked["limit"] += 1
+    else:
+        assert abs(v1) == pytest.approx(v_pre, rel=1e-7), where
+        checked["capped"] += 1
+
+
+def test_contributions_with_inverters(tmp_path):
+    # With inverters the contributions are superposed on their converged currents: every
+    # source's, machine's and inverter's current (largest phase and its angle against the
+    # faulted bus's prefault phase-a voltage) against the simulation of the netlist, which
+    # writes the inverters as current sources at those currents; three-phase and
+    # line-to-ground faults at every bus (nominal ratios: off them the simulation's sources
+    # carry prefault currents that circulate between them, which superposition leaves out).
+    from faultcalc.netlist import _groups, _safe
+    from faultcalc.study import inverter_phase_currents
+
+    system = _inverter_system(tmp_path, INVERTER_NETWORKS[0])
+    table = run_study(system, contributions="all").contributions
+    group = _groups(system)
+    names = list(dict.fromkeys(group[b.bus] for b in system.buses))
+    node = {g: f"b{i + 1}" for i, g in enumerate(names)}
+    labels = {
+        s.source: f"src{i + 1}_{_safe(s.source)}".lower() for i, s in enumerate(system.sources)
+    }
+    labels |= {
+        m.machine: f"mach{i + 1}_{_safe(m.machine)}".lower() for i, m in enumerate(system.machines)
+    }
+    prefault = run(build_netlist(system, None, None))
+    checked = {"source": 0, "inverter": 0}
+    for (bus, fault), rows in table.groupby(["faulted_bus", "fault"]):
+        currents = inverter_phase_currents(system, bus, fault)
+        sim = run(build_netlist(system, bus, fault, inverter_currents=currents))
+        n = node[group[bus]]
+        v1 = (prefault[f"u_{n}a"] + A * prefault[f"u_{n}b"] + A * A * prefault[f"u_{n}c"]) / 3
+        for row in rows.itertuples(index=False):
+            if row.kind == "inverter":
+                phases = list(currents[row.element])
+                kind = "inverter"
+            elif row.element in labels:
+                phases = [sim[f"is_{labels[row.element]}_{k}"] for k in "abc"]
+                kind = "source"
+            else:
+                continue
+            where = (bus, fault, row.element, row.kind)
+            # 1e-9 kA: the simulator's 12 printed digits of a machine's few milliamperes
+            simulated = max(abs(p) for p in phases) / 1000
+            assert row.i_ka == pytest.approx(simulated, rel=1e-6, abs=1e-9), where
+            if row.i_ka > 1e-6:
+                angle = math.degrees(np.angle(phases["abc".index(row.phase)] / v1))
+                assert (row.angle_deg - angle + 180) % 360 - 180 == pytest.approx(0, abs=1e-4)
+            checked[kind] += 1
+    print(f"contributions with inverters: {checked}")
+    assert checked["inverter"] >= 2 * len(system.buses) * len(system.inverters) - 4

@@ -29,6 +29,7 @@ NAMES = {
     "machines": "machine",
     "grounding_transformers": "grounding_transformer",
     "three_winding_transformers": "transformer",
+    "inverters": "inverter",
 }
 
 
@@ -109,7 +110,15 @@ def test_a_tie_between_buses_side_by_side_runs_straight_across():
 @pytest.mark.parametrize(
     "case",
     [
-        {"seed": 1, "n_mv": 10, "n_lv": 40, "machines": 6, "grounding": 3, "three_winding": 3},
+        {
+            "seed": 1,
+            "n_mv": 10,
+            "n_lv": 40,
+            "machines": 6,
+            "grounding": 3,
+            "three_winding": 3,
+            "inverters": 4,
+        },
         {"seed": 2, "n_mv": 12, "n_lv": 30, "loops": 3, "ties": 2, "machines": 4, "sources": 2},
         {"seed": 3, "n_mv": 30, "n_lv": 120, "loops": 2, "machines": 10},
     ],

@@ -109,6 +109,7 @@ def write_report_to(
         story += [sections.NextPageTemplate(template), sections.PageBreak(), slot]
     story += sections.summary(result, note)
     story += sections.after_first_instant(result)
+    story += sections.inverters(result)
     story += sections.equipment(result)
     story += sections.cases(result)
     story += sections.contributions(result)

@@ -24,7 +24,7 @@ from reportlab.platypus import (
 )
 
 from ... import typeface as fonts
-from ...results import StudyResult
+from ...results import NOT_CONVERGED, StudyResult
 from ...solve import duty
 from ..basis import basis_items
 from ..labeltext import label_lines
@@ -369,8 +369,8 @@ def summary(result: StudyResult, note: str | None) -> list:
                 r.bus,
                 r.description,
                 fixed(r.kv, 3),
-                ka(r.max_ka),
-                FAULT_WORDS[r.max_fault],
+                NOT_CONVERGED if r.max_case == NOT_CONVERGED else ka(r.max_ka),
+                FAULT_WORDS.get(r.max_fault, ""),
                 r.max_case,
                 fixed(r.xr, 2),
                 ka(r.ip_ka),
@@ -482,6 +482,62 @@ def after_first_instant(result: StudyResult) -> list:
     return []
 
 
+def inverters(result: StudyResult) -> list:
+    """The inverters' part: how they were modelled and, with the iteration, what it did at
+    every bus. Nothing without inverters."""
+    b = result.buses
+    notes = b.inverter_note.fillna("").astype(str)
+    if not (b.inverter_sweeps.notna().any() or notes.astype(bool).any()):
+        return []
+    out = heading("Inverter-based sources", landscape=True)
+    if result.basis.settings.method == "iec60909":
+        out.append(
+            Paragraph(
+                "Method iec60909: each inverter is a current source at its limit current "
+                "I_skPF, added to the equivalent source with the magnitudes of the transfer "
+                'impedances: I"k = (c Un / sqrt(3) + sum |Z_kj| I_skPFj) / |Z_kk| (IEC '
+                "60909-0:2016 6.9, from memory), in every fault type; left out of the minimum "
+                "currents; no momentary cessation. See the README's method.",
+                BODY,
+            )
+        )
+        return out
+    out.append(
+        Paragraph(
+            "Base case. Each inverter delivers its limit current lagging its positive-sequence "
+            "terminal voltage by 90 degrees, or less where its voltage would rise above "
+            "prefault (a negative-sequence share leading V2 with behaviour negative_share), "
+            "found by iteration for every bus and fault type; below cease_below_pu it injects "
+            "nothing. Where the iteration did not converge no current is reported. See the "
+            "README's method.",
+            BODY,
+        )
+    )
+    rows = [
+        [
+            r.bus,
+            fixed(r.kv, 3),
+            NOT_CONVERGED if f"3ph: {NOT_CONVERGED}" in note else ka(r.i3ph_ka),
+            NOT_CONVERGED if f"slg: {NOT_CONVERGED}" in note else ka(r.islg_ka),
+            fixed(r.inverter_sweeps, 0),
+            "" if _blank(r.inverter_residual_pu) else f"{r.inverter_residual_pu:.1e}",
+            note,
+        ]
+        for r, note in zip(b.itertuples(index=False), notes, strict=True)
+    ]
+    head = [
+        "Bus",
+        "Nominal kV",
+        "3-phase, kA",
+        "Line-to-ground, kA",
+        "Sweeps",
+        "Residual, of a limit",
+        "Inverters",
+    ]
+    out.append(table(head, rows, [0.14, 0.07, 0.08, 0.09, 0.06, 0.08, 0.48], {1, 2, 3, 4, 5}))
+    return out
+
+
 def equipment(result: StudyResult) -> list:
     out = heading("Equipment evaluation", landscape=True)
     with_cases = bool(result.cases)
@@ -517,7 +573,7 @@ def equipment(result: StudyResult) -> list:
             fixed(r.duty_ka, 2),
             fixed(r.duty_pct, 1),
             r.duty_status,
-            FAULT_WORDS[r.duty_fault],
+            FAULT_WORDS.get(r.duty_fault, ""),
         ]
         if with_mv:
             row += [r.duty_basis, fixed(r.capability_ka, 2), fixed(r.closing_pct, 1)]
@@ -587,9 +643,9 @@ def cases(result: StudyResult) -> list:
         rows.append(
             [
                 r["bus"],
-                ka(r["i3ph_ka"]),
+                NOT_CONVERGED if r["i3ph_case"] == NOT_CONVERGED else ka(r["i3ph_ka"]),
                 r["i3ph_case"],
-                ka(r["islg_ka"]),
+                NOT_CONVERGED if r["islg_case"] == NOT_CONVERGED else ka(r["islg_ka"]),
                 r["islg_case"],
                 ka(r["ill_ka"]),
                 ka(r["illg_ka"]),
