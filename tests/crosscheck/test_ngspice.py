@@ -447,6 +447,21 @@ INVERTER_NETWORKS = [
         off_nominal=True,
         clocks=True,
     ),
+    # with three-winding transformers and autotransformers (their windings off nominal too)
+    # and a grounding bank
+    dict(
+        seed=31,
+        n_mv=4,
+        n_lv=6,
+        loops=1,
+        sources=2,
+        zero_sequence=True,
+        machines=2,
+        grounding=1,
+        three_winding=3,
+        inverters=3,
+        off_nominal=True,
+    ),
 ]
 
 
