@@ -14,7 +14,7 @@ import itertools
 import time
 import traceback
 from collections.abc import Callable, Iterable
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from pathlib import Path
 
 # The columns of the summary, one row per input, in the order the inputs were given.
@@ -133,7 +133,6 @@ class FleetResult:
     failed: int = 0
     seconds: float = 0.0
     workers: int = 0
-    rows: list = field(default_factory=list)
 
 
 def run_fleet(
@@ -266,7 +265,6 @@ def run_fleet(
         failed=int((table["status"] != "ok").sum()),
         seconds=time.perf_counter() - start,
         workers=n_workers,
-        rows=[rows[k] for k in sorted(rows)],
     )
 
 

@@ -138,10 +138,7 @@ def _input_text(system: System) -> dict[str, str]:
         )
     for t in system.three_winding_transformers:
         windings = t.h_winding + "".join(
-            ("a0" if t.kind == "auto" and x == "m" else f"{getattr(t, x + '_winding').lower()}")
-            + ("" if t.kind == "auto" and x == "m" else str(t.clock(x)))
-            for x in ("m", "l")
-            if getattr(t, x + "_winding") is not None
+            t.winding_code(x) for x in ("m", "l") if getattr(t, x + "_winding") is not None
         )
         pairs = ", ".join(
             f"Z{p.upper()} {getattr(t, p + '_z_pct'):g} % on {getattr(t, p + '_kva'):g} kVA X/R "

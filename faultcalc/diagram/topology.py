@@ -85,10 +85,7 @@ def branch_text(kind: str, item) -> tuple[str, ...]:
 def _three_text(t, x: str) -> tuple[str, ...]:
     """What is printed beside one of a three-winding transformer's two branches (h to x)."""
     what = "auto" if t.kind == "auto" else "3-winding"
-    if t.kind == "auto" and x == "m":
-        winding = "YNa0"
-    else:
-        winding = f"{t.h_winding}{getattr(t, x + '_winding').lower()}{t.clock(x)}"
+    winding = t.h_winding + t.winding_code(x)
     pair = f"h{x}"
     rating = rating_text(getattr(t, pair + "_kva"))
     return (

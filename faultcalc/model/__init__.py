@@ -362,6 +362,13 @@ class ThreeWindingTransformer:
         """The buses of its windings (h, m, and l when brought out)."""
         return (self.h_bus, self.m_bus) + ((self.l_bus,) if self.l_bus is not None else ())
 
+    def winding_code(self, letter: str) -> str:
+        """Winding m or l as IEC 60076 writes it after h: connection in lower case and clock
+        number ("yn0", "d1"); an autotransformer's m is "a0"."""
+        if self.kind == "auto" and letter == "m":
+            return "a0"
+        return f"{getattr(self, letter + '_winding').lower()}{self.clock(letter)}"
+
     def clock(self, letter: str) -> int:
         """IEC 60076 clock number of winding m or l against h; blank means 1 where one of the
         two windings is D and the other not, 0 otherwise."""

@@ -23,9 +23,7 @@ from .references import (  # noqa: F401 - BUS_REFERENCES is read from here too
     references,
     update_buses,
 )
-
-# Rated winding kV against bus kV: beyond this the off-nominal ratio is worth a warning.
-KV_MISMATCH_WARN = 0.05
+from .slips import KV_MISMATCH_WARN  # noqa: F401 - rated kV against bus kV, warned beyond
 
 
 def every(sheet: Typed) -> np.ndarray:

@@ -26,6 +26,9 @@ KV_RATIO_LIMIT = 1.5
 # No AC system is built above 1200 kV, the highest voltage for equipment in IEC 60038 Table 5
 # (value from memory of IEC 60038:2009): a larger kv cell holds volts.
 MAX_KV = 1200.0
+# Rated winding kV against bus kV: beyond this the off-nominal ratio is worth a warning (common
+# practice, no source); beyond KV_RATIO_LIMIT it is refused.
+KV_MISMATCH_WARN = 0.05
 # The smallest three-phase transformer ratings by their windings, so that kVA typed in MVA is
 # caught at every voltage: 3 kVA for low-voltage dry types (value from memory of NEMA ST 20);
 # 5 kVA with a primary up to 35 kV and a low-voltage secondary (an open-delta bank of two 5 kVA

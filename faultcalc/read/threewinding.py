@@ -18,9 +18,6 @@ from .columns import Typed
 from .references import Buses
 
 SHEET = "three_winding_transformers"
-# Rated winding kV against bus kV: beyond this the off-nominal ratio is worth a warning (the
-# two-winding sheet's threshold).
-KV_MISMATCH_WARN = 0.05
 PAIRS = ("hm", "hl", "ml")
 # Doubtful but possible values, warned (common practice, no source): the X/R of power
 # transformers from about 3 to 60; pair impedances from about 3 to 35 % on their own kVA.
@@ -79,7 +76,7 @@ def three_winding(sheet: Typed, buses: Buses, out: Collector, at: np.ndarray) ->
             position = buses.ends[(SHEET, f"{letter}_bus")][i]
             nominal = float(buses.kv[position])
             rated = float(v[f"{letter}_kv"][i])
-            if abs(rated / nominal - 1.0) > KV_MISMATCH_WARN:
+            if abs(rated / nominal - 1.0) > slips.KV_MISMATCH_WARN:
                 out.warn(
                     SHEET,
                     row,

@@ -25,7 +25,7 @@ import numpy as np
 
 from ..model import Cable, System, rated_kva_array
 from ..model.records import Records
-from . import standards, threewinding
+from . import standards
 
 MOTOR_KINDS = ("induction_motor", "synchronous_motor")
 
@@ -81,8 +81,9 @@ def _iec_three_winding(system: System):
                 continue
             buses = [getattr(t, f"{x}_bus") for x in pair]
             low = min(kv[b] for b in buses if b is not None)
-            kt = standards.k_t(threewinding.winding_x_pu(t, pair), standards.c_max(low, tol))
             z, z0 = getattr(t, f"{pair}_z_pct"), getattr(t, f"{pair}_z0_pct")
+            x_t = standards.transformer_x_pu(z, getattr(t, f"{pair}_xr"))  # on the pair's kVA
+            kt = standards.k_t(x_t, standards.c_max(low, tol))
             changes[f"{pair}_z_pct"] = z * kt
             changes[f"{pair}_z0_pct"] = (z if z0 is None else z0) * kt
         out.append(dataclasses.replace(t, **changes))

@@ -336,8 +336,9 @@ def _three_winding(system: System, kv_all: np.ndarray, base_mva: float):
 
     legs, ends_from, ends_to, stars = [], [], [], []
     n_bus = len(system.buses)
+    index = system.bus_index()
     for t in system.three_winding_transformers:
-        at = dict(zip(t.buses(), system.bus_positions(list(t.buses())).tolist(), strict=True))
+        at = {bus: index[bus] for bus in t.buses()}
         kv = {bus: float(kv_all[k]) for bus, k in at.items()}
         these, has_star = threewinding.legs(t, kv, base_mva)
         for leg in these:

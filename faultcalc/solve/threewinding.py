@@ -25,8 +25,6 @@ Conventions (each stated in the README's method section):
 
 from __future__ import annotations
 
-import numpy as np
-
 from ..model import ThreeWindingTransformer
 from .perunit import Z0_OPEN, Z0_SERIES, Z0_SHUNT_TO, SeriesPU, split_by_xr, z_base_ohm
 
@@ -162,9 +160,3 @@ def legs(
 def leg_is_open(leg: SeriesPU) -> bool:
     """A leg with no bus (a delta tertiary not brought out): no positive-sequence path."""
     return leg.from_bus == ""
-
-
-def winding_x_pu(t: ThreeWindingTransformer, pair: str) -> float:
-    """The pair's reactance in per-unit of the pair's own kVA (for IEC 60909-0 K_T)."""
-    xr = getattr(t, f"{pair}_xr")
-    return getattr(t, f"{pair}_z_pct") / 100.0 * xr / np.hypot(1.0, xr)

@@ -86,6 +86,23 @@ def fault_current_ka(system, bus: str, fault: str, reactance_only: bool = False)
     return amps / 1000.0
 
 
+def netlist_names(system):
+    """How the netlist names things: each bus's group (closed ties), each group's node stem
+    (``b1`` ...) and each source's and machine's label (its printed currents)."""
+    from faultcalc.netlist import _groups, _safe
+
+    group = _groups(system)
+    names = list(dict.fromkeys(group[b.bus] for b in system.buses))
+    node = {g: f"b{i + 1}" for i, g in enumerate(names)}
+    labels = {
+        s.source: f"src{i + 1}_{_safe(s.source)}".lower() for i, s in enumerate(system.sources)
+    }
+    labels |= {
+        m.machine: f"mach{i + 1}_{_safe(m.machine)}".lower() for i, m in enumerate(system.machines)
+    }
+    return group, node, labels
+
+
 def open_circuit_pu(system) -> dict[str, float]:
     """Positive-sequence prefault voltage of every bus in the simulation, per-unit of nominal."""
     from faultcalc.netlist import _groups, build_netlist

@@ -25,7 +25,7 @@ import pytest
 from click.testing import CliRunner
 from conftest import write_csv_folder
 from networks import random_sheets
-from spice import A, fault_current_ka, ngspice_path, open_circuit_pu, run
+from spice import A, fault_current_ka, netlist_names, ngspice_path, open_circuit_pu, run
 
 from faultcalc import SAMPLES, read_system, run_study, sample_path
 from faultcalc.cli import main
@@ -217,17 +217,7 @@ def test_source_and_machine_contributions(name):
     system = read_system(sample_path(name))
     result = run_study(system, contributions="all")
     table = result.contributions
-    from faultcalc.netlist import _groups, _safe
-
-    group = _groups(system)
-    names = list(dict.fromkeys(group[b.bus] for b in system.buses))
-    node = {g: f"b{i + 1}" for i, g in enumerate(names)}
-    labels = {
-        s.source: f"src{i + 1}_{_safe(s.source)}".lower() for i, s in enumerate(system.sources)
-    }
-    labels |= {
-        m.machine: f"mach{i + 1}_{_safe(m.machine)}".lower() for i, m in enumerate(system.machines)
-    }
+    group, node, labels = netlist_names(system)
     prefault = run(build_netlist(system, None, None))
     checked = 0
     for (bus, fault), rows in table.groupby(["faulted_bus", "fault"]):
@@ -618,20 +608,11 @@ def test_contributions_with_inverters(tmp_path):
     # writes the inverters as current sources at those currents; three-phase and
     # line-to-ground faults at every bus (nominal ratios: off them the simulation's sources
     # carry prefault currents that circulate between them, which superposition leaves out).
-    from faultcalc.netlist import _groups, _safe
     from faultcalc.study import inverter_phase_currents
 
     system = _inverter_system(tmp_path, INVERTER_NETWORKS[0])
     table = run_study(system, contributions="all").contributions
-    group = _groups(system)
-    names = list(dict.fromkeys(group[b.bus] for b in system.buses))
-    node = {g: f"b{i + 1}" for i, g in enumerate(names)}
-    labels = {
-        s.source: f"src{i + 1}_{_safe(s.source)}".lower() for i, s in enumerate(system.sources)
-    }
-    labels |= {
-        m.machine: f"mach{i + 1}_{_safe(m.machine)}".lower() for i, m in enumerate(system.machines)
-    }
+    group, node, labels = netlist_names(system)
     prefault = run(build_netlist(system, None, None))
     checked = {"source": 0, "inverter": 0}
     for (bus, fault), rows in table.groupby(["faulted_bus", "fault"]):
