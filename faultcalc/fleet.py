@@ -252,11 +252,18 @@ def run_fleet(
             if cluster is not None:
                 cluster.close()
             if len(rows) < len(jobs):  # stopped part way: the summary says what was done
+                from .report.files import remove_leftovers
+                from .report.outputs import bus_csv_path
+
                 for k, args in enumerate(jobs):
-                    rows.setdefault(
-                        k,
-                        dict(dict.fromkeys(SUMMARY_COLUMNS, ""), input=args[0], status="not run"),
+                    if k in rows:
+                        continue
+                    rows[k] = dict(
+                        dict.fromkeys(SUMMARY_COLUMNS, ""), input=args[0], status="not run"
                     )
+                    # a worker stopped with the cluster while it wrote leaves its temporaries
+                    targets = [args[1], bus_csv_path(args[1])] + ([args[2]] if args[2] else [])
+                    remove_leftovers(targets)
                 _write_summary(rows, summary_path)
     table = _write_summary(rows, summary_path)
     return FleetResult(

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import contextlib
 import errno
+import glob
 import os
 import shutil
 import signal
@@ -37,6 +38,22 @@ def _temporary(target: Path) -> Path:
         raise OutputError(f"cannot write in {folder}: {exc.strerror}") from None
     os.close(handle)
     return Path(name)
+
+
+def remove_leftovers(targets) -> list[Path]:
+    """Remove the temporary files that writes of ``targets`` left beside them (a process
+    killed while it wrote, such as a fleet's worker stopped with its cluster); the files
+    removed. Only this module's own names (``_temporary``) are touched."""
+    removed = []
+    for target in map(Path, targets):
+        folder = target.parent if str(target.parent) else Path(".")
+        for leftover in folder.glob(f".{glob.escape(target.name)}.*.part"):
+            try:
+                leftover.unlink()
+                removed.append(leftover)
+            except OSError:
+                pass
+    return removed
 
 
 def _appeared(target: Path) -> OutputError:

@@ -195,3 +195,17 @@ def test_size_bound(tmp_path, monkeypatch):
     with pytest.raises(InputError) as info:
         read_system(sample_path())
     assert "more than the" in info.value.problems[0].message
+
+
+def test_leftover_temporaries_of_a_killed_write_are_removed_and_nothing_else(tmp_path):
+    # A fleet's worker stopped with its cluster while it wrote leaves its temporary beside
+    # the target (common practice, no source: a killed process runs no clean-up).
+    from faultcalc.report.files import _temporary, remove_leftovers
+
+    target = tmp_path / "f5-results.xlsx"
+    left = _temporary(target)
+    other = tmp_path / ".f5-results.xlsx.keep"  # not one of ours
+    other.write_text("x")
+    near = _temporary(tmp_path / "f5-results.xlsx2")  # another target's
+    assert remove_leftovers([target]) == [left]
+    assert not left.exists() and other.exists() and near.exists()
