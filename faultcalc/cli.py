@@ -215,8 +215,8 @@ def _run(
     result = run_study(system, contributions=contributions, progress=bar)
     written = files.write(result, system=system, progress=bar)
     _disarm()
-    if written.removed is not None:
-        click.echo(f"removed {written.removed.name}, left by an earlier, larger study", err=True)
+    for removed in written.removed_files:
+        click.echo(f"removed {removed.name}, left by an earlier, larger study", err=True)
     for w in result.warnings:
         click.echo(f"warning: {w}", err=True)
     click.echo(_summary(result))
@@ -226,6 +226,11 @@ def _run(
     )
     if written.summary:
         click.echo(f"bus results (every bus): {written.bus_csv.resolve()}")
+    if written.contributions_csv is not None:
+        click.echo(
+            f"contributions (every row; the workbook holds the largest): "
+            f"{written.contributions_csv.resolve()}"
+        )
     if json_path:
         click.echo(f"results JSON: {json_path.resolve()}")
     if report_path:

@@ -259,6 +259,24 @@ class StudyResult:
             ),
         )
 
+    def contributions_at_most(self, rows: int) -> tuple[pd.DataFrame, int]:
+        """The contributions cut to whole faulted buses, the largest fault current first,
+        while they hold at most ``rows`` rows (the first such bus always): the table (rows in
+        their order) and the number of faulted buses kept. The table whole when it fits."""
+        c = self.contributions
+        if c is None:
+            raise ValueError("the study has no contributions")
+        per_bus = c.groupby("faulted_bus", observed=True, sort=False).size()
+        if len(c) <= rows:
+            return c, len(per_bus)
+        fault_ka = self.buses.set_index("bus")[["i3ph_ka", "islg_ka", "ill_ka", "illg_ka"]]
+        largest = fault_ka.max(axis=1, skipna=True).reindex(per_bus.index)
+        order = largest.sort_values(ascending=False, kind="stable").index
+        within = per_bus[order].cumsum().to_numpy() <= rows
+        within[0] = True
+        keep = order[within]
+        return c[c.faulted_bus.isin(keep)].reset_index(drop=True), len(keep)
+
     @functools.cached_property
     def elements(self) -> pd.DataFrame:
         """One row per element, columns ELEMENT_COLUMNS: the input restated on the common base.

@@ -40,6 +40,7 @@ from .solve import (
     standards,
     threewinding,
 )
+from .solve.contribution_table import contribution_table
 from .solve.contributions import (
     CONTRIBUTION_FAULTS,
     InverterState,
@@ -387,6 +388,19 @@ def element_locations(system: System) -> dict[str, tuple[str, int | None]]:
         for e in getattr(system, sheet):
             where[e.name] = (sheet, e.row)
     return where
+
+
+def contributions_table_of(a: Analysis, buses: list[int]) -> pd.DataFrame:
+    """The contributions table (CONTRIBUTION_COLUMNS) of faults at these input indices: in
+    whole arrays (solve/contribution_table.py), or fault by fault where inverters make each
+    fault an iteration of its own."""
+    if a.inverters is not None:
+        return as_table(contributions_of(a, buses))
+    zf_pu = a.system.settings.fault_ohm / perunit.z_base_ohm(np.array(a.pu.bus_kv), a.pu.base_mva)
+    pu = a.pu if a.e_bus is None else dataclasses.replace(a.pu, prefault_pu=tuple(a.e_bus))
+    return contribution_table(
+        pu, a.network, a.factor1, a.factor0, a.z1_node, a.z0_node, buses, zf_pu, a.angle_deg
+    )
 
 
 def contributions_of(a: Analysis, buses: list[int]) -> list[Phasors]:
@@ -1384,7 +1398,7 @@ def _study(system: System, contributions, calculated_at, progress: Progress) -> 
     contribution_table = None
     if wanted:
         progress.step("contributions")
-        contribution_table = as_table(contributions_of(a, wanted))
+        contribution_table = contributions_table_of(a, wanted)
 
     case_tables: dict[str, pd.DataFrame] = {}
     base_warnings = set(pu.warnings + network.warnings)

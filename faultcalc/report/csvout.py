@@ -17,12 +17,15 @@ guidance on CSV injection advises; numbers, negative ones included, are written 
 
 from __future__ import annotations
 
+import os
+import threading
 from pathlib import Path
 
 import numpy as np
 import pandas as pd
 
 from ..results import BUS_COLUMNS, StudyResult
+from ..solve.contributions import CONTRIBUTION_COLUMNS
 
 SIGNIFICANT_DIGITS = 10
 # The first characters that make a spreadsheet program read a field as a formula (OWASP, CSV
@@ -30,6 +33,7 @@ SIGNIFICANT_DIGITS = 10
 FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
 TEXT_PREFIX = "'"
 CSV_COLUMNS = (*BUS_COLUMNS, "input_sha256")
+CONTRIBUTION_CSV_COLUMNS = (*CONTRIBUTION_COLUMNS, "input_sha256")
 
 
 def round_significant(values: np.ndarray, digits: int = SIGNIFICANT_DIGITS) -> np.ndarray:
@@ -50,28 +54,90 @@ def round_significant(values: np.ndarray, digits: int = SIGNIFICANT_DIGITS) -> n
 
 
 def write_bus_csv_to(result: StudyResult, path: Path) -> None:
+    _write_table_csv(result.buses, BUS_COLUMNS, result.basis.input_sha256, path)
+
+
+def write_contributions_csv_to(result: StudyResult, path: Path) -> None:
+    """Every row of ``result.contributions`` (CONTRIBUTION_COLUMNS, then input_sha256 on the
+    first row only: on every row it would be half of a file of millions of rows)."""
+    _write_table_csv(
+        result.contributions, CONTRIBUTION_COLUMNS, result.basis.input_sha256, path, every_row=False
+    )
+
+
+def _write_table_csv(
+    table: pd.DataFrame, columns, sha256: str, path: Path, every_row: bool = True
+) -> None:
     import pyarrow as pa
     import pyarrow.csv as pcsv
 
-    table = result.buses[list(BUS_COLUMNS)]
+    table = table[list(columns)]
     arrays = []
-    for name in BUS_COLUMNS:
+    for name in columns:
         column = table[name]
         if pd.api.types.is_float_dtype(column.dtype):
             arrays.append(pa.array(round_significant(column.to_numpy()), from_pandas=True))
+        elif isinstance(column.dtype, pd.CategoricalDtype):  # text kept as codes: its values
+            whole = pa.array(column, from_pandas=True)
+            arrays.append(
+                pa.DictionaryArray.from_arrays(whole.indices, neutralised(whole.dictionary))
+            )
         else:  # text: Arrow-backed in pandas with pyarrow installed, so no copy
             arrays.append(neutralised(pa.array(column, from_pandas=True)))
-    arrays.append(pa.repeat(pa.scalar(result.basis.input_sha256, pa.string()), len(table)))
-    data = pa.Table.from_arrays(arrays, names=list(CSV_COLUMNS))
+    if every_row or not len(table):
+        arrays.append(pa.repeat(pa.scalar(sha256, pa.string()), len(table)))
+    else:  # the first row only, the others empty (nulls print as nothing)
+        sha = pa.DictionaryArray.from_arrays(
+            pa.array(
+                np.zeros(len(table), np.int32),
+                pa.int32(),
+                mask=np.r_[False, np.ones(len(table) - 1, bool)],
+            ),
+            pa.array([sha256]),
+        )
+        arrays.append(sha)
+    names = [*columns, "input_sha256"]
+    data = pa.Table.from_arrays(arrays, names=names)
     with open(path, "wb") as handle:
-        handle.write((",".join(CSV_COLUMNS) + "\n").encode())
+        handle.write((",".join(names) + "\n").encode())
         start = handle.tell()
         try:  # unquoted unless a text field needs quotes (then Arrow refuses and all are)
-            pcsv.write_csv(data, handle, write_options=_options(pcsv, "none"))
+            _write_rows(pa, pcsv, data, handle, path, "none")
         except pa.ArrowInvalid:
             handle.seek(start)
             handle.truncate()
-            pcsv.write_csv(data, handle, write_options=_options(pcsv, "needed"))
+            _write_rows(pa, pcsv, data, handle, path, "needed")
+
+
+# Rows above which a CSV is written in two halves at once (two threads: Arrow's writer lets go
+# of the interpreter), the second half in memory, appended after the first. Measured on 20
+# million contribution rows: 22 s in one, 15 s in two.
+SPLIT_ROWS = 1_000_000
+
+
+def _write_rows(pa, pcsv, data, handle, path: Path, quoting: str) -> None:
+    if len(data) <= SPLIT_ROWS or (os.cpu_count() or 1) < 2:
+        pcsv.write_csv(data, handle, write_options=_options(pcsv, quoting))
+        return
+    half = len(data) // 2
+    second = pa.BufferOutputStream()  # in memory: no second file to write, read and remove
+    failed: list[BaseException] = []
+
+    def later_half():
+        try:
+            pcsv.write_csv(data.slice(half), second, write_options=_options(pcsv, quoting))
+        except BaseException as exc:  # noqa: BLE001 - raised again below, in this thread
+            failed.append(exc)
+
+    worker = threading.Thread(target=later_half, daemon=True)
+    worker.start()
+    try:
+        pcsv.write_csv(data.slice(0, half), handle, write_options=_options(pcsv, quoting))
+    finally:
+        worker.join()
+    if failed:
+        raise failed[0]
+    handle.write(memoryview(second.getvalue()))
 
 
 def neutralised(array):

@@ -35,6 +35,13 @@ from ..progress import Progress, reporter
 from .files import same_file, staged
 
 BIG_OUTPUT_BUSES = 5_000
+# Contributions: above this many rows every row goes to ``<results>-contributions.csv`` and
+# the workbook's Contributions sheet holds whole faulted buses, those of the largest fault
+# currents, up to this many rows (a contribution row costs about 0.7 ms to build and save in
+# the workbook, measured: 10,000 rows about 7 s). The report prints at most
+# REPORT_CONTRIBUTION_ROWS of them (about 40 pages).
+BIG_CONTRIBUTION_ROWS = 10_000
+REPORT_CONTRIBUTION_ROWS = 2_000
 # The workbook's One-line sheet is drawn for studies up to this many buses (about what one
 # large sheet holds legibly, see faultcalc.diagram); a larger one-line is in the report.
 ONE_LINE_SHEET_BUSES = 150
@@ -48,6 +55,17 @@ def bus_csv_path(output: str | Path) -> Path:
     """
     output = Path(output)
     return output.with_name(output.stem + "-buses.csv")
+
+
+def contributions_csv_path(output: str | Path) -> Path:
+    """The companion of a results workbook that holds every contribution row when they are
+    more than BIG_CONTRIBUTION_ROWS.
+
+    >>> contributions_csv_path("out/plant-results.xlsx").as_posix()
+    'out/plant-results-contributions.csv'
+    """
+    output = Path(output)
+    return output.with_name(output.stem + "-contributions.csv")
 
 
 def _is_input(target: Path, input_path: Path | None) -> bool:
@@ -148,6 +166,10 @@ class WrittenResults:
     bus_csv: Path | None  # every bus, when the study had more than ``big_above_buses``
     removed: Path | None  # a bus CSV of an earlier, larger study, removed
     big_above_buses: int  # the number of buses above which the workbook is a summary
+    # every contribution row, when they were more than BIG_CONTRIBUTION_ROWS
+    contributions_csv: Path | None = None
+    # every companion CSV of an earlier study removed (the bus CSV first, as in ``removed``)
+    removed_files: tuple[Path, ...] = ()
 
     @property
     def summary(self) -> bool:
@@ -203,13 +225,16 @@ class ResultFiles:
         self.input_path = None if input_path is None else Path(input_path)
         self.overwrite = overwrite
         self.bus_csv = bus_csv_path(self.output)
-        if self.json_path is not None and same_file(self.json_path, self.bus_csv):
-            raise OutputError(
-                f"the JSON file cannot be {self.bus_csv.name}: that name is for the bus CSV"
-            )
-        # A bus CSV left by an earlier run is a target too: replaced by a large study, removed
-        # by a smaller one, so that none is left beside a workbook it does not belong to.
-        self._companion = [self.bus_csv] if os.path.lexists(self.bus_csv) else []
+        self.contributions_csv = contributions_csv_path(self.output)
+        for companion, what in ((self.bus_csv, "bus"), (self.contributions_csv, "contributions")):
+            if self.json_path is not None and same_file(self.json_path, companion):
+                raise OutputError(
+                    f"the JSON file cannot be {companion.name}: that name is for the {what} CSV"
+                )
+        # A companion CSV left by an earlier run is a target too: replaced by a large study,
+        # removed by a smaller one, so that none is left beside a workbook it does not belong
+        # to.
+        self._companion = [c for c in (self.bus_csv, self.contributions_csv) if os.path.lexists(c)]
         named = [t for t in (self.output, self.json_path, self.report_path) if t]
         self._existing = _check_targets(self.input_path, named + self._companion, overwrite)
         for i, one in enumerate(named):
@@ -228,7 +253,7 @@ class ResultFiles:
         (required with a report). ``progress`` is told the phase "writing the results" and
         its steps.
         """
-        from .csvout import write_bus_csv_to
+        from .csvout import write_bus_csv_to, write_contributions_csv_to
         from .jsonout import write_json_to
         from .workbook import write_workbook_to
 
@@ -236,11 +261,15 @@ class ResultFiles:
             raise ValueError("a report draws the one-line: give the studied system")
         big_above = BIG_OUTPUT_BUSES
         big = len(result.buses) > big_above
+        many = (
+            result.contributions is not None and len(result.contributions) > BIG_CONTRIBUTION_ROWS
+        )
         targets = [self.output] + [t for t in (self.json_path, self.report_path) if t]
-        if big:
-            _check_targets(self.input_path, [self.bus_csv], self.overwrite)
-            targets.append(self.bus_csv)
-        stale = [] if big else self._companion
+        written = [t for t, on in ((self.bus_csv, big), (self.contributions_csv, many)) if on]
+        if written:
+            _check_targets(self.input_path, written, self.overwrite)
+            targets += written
+        stale = [c for c in self._companion if c not in written]
         progress = reporter(progress)
         with (
             progress.phase("writing the results"),
@@ -261,6 +290,7 @@ class ResultFiles:
                 temps[0],
                 summary_of=self.bus_csv.name if big else None,
                 diagram_png=picture,
+                contributions_in=self.contributions_csv.name if many else None,
             )
             if self.json_path:
                 progress.step("JSON")
@@ -274,17 +304,23 @@ class ResultFiles:
                     temps[targets.index(self.report_path)],
                     sheets=sheets,
                     summary_of=self.bus_csv.name if big else None,
+                    contributions_in=self.contributions_csv.name if many else None,
                 )
             if big:
                 progress.step("every bus as CSV")
-                write_bus_csv_to(result, temps[-1])
+                write_bus_csv_to(result, temps[targets.index(self.bus_csv)])
+            if many:
+                progress.step("every contribution as CSV")
+                write_contributions_csv_to(result, temps[targets.index(self.contributions_csv)])
         return WrittenResults(
             workbook=self.output,
             json=self.json_path,
             report=self.report_path,
             bus_csv=self.bus_csv if big else None,
-            removed=stale[0] if stale else None,
+            removed=self.bus_csv if self.bus_csv in stale else None,
             big_above_buses=big_above,
+            contributions_csv=self.contributions_csv if many else None,
+            removed_files=tuple(stale),
         )
 
 

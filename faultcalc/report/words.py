@@ -38,3 +38,21 @@ def contribution_kv(result) -> list[float | None]:
         kv.get(own if kind in AT_OWN_BUS else faulted)
         for own, kind, faulted in zip(c.from_bus, c.kind, c.faulted_bus, strict=True)
     ]
+
+
+def contributions_cut_note(result, kept: int, rows: int, every_row_in: str | None, here: str):
+    """What a cut contributions table (StudyResult.contributions_at_most) left out, and where
+    every row is: ``every_row_in`` (a file name), or None when no file holds them."""
+    c = result.contributions
+    faulted = c.faulted_bus.nunique()
+    where = (
+        f"every one of the {len(c):,} rows is in {every_row_in} (its last column, "
+        "input_sha256, is the input's SHA-256)"
+        if every_row_in
+        else "write the results with faultcalc study (or write_results) to have every row in "
+        "a CSV file beside the workbook"
+    )
+    return (
+        f"Contributions at {kept:,} of the {faulted:,} faulted buses ({rows:,} rows): those with "
+        f"the largest fault currents, each with all its rows, as many as {here} holds; {where}."
+    )

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from copy import copy
 from pathlib import Path
@@ -31,7 +32,7 @@ from .sheetpages import (
 from .sheettable import BOLD, CAUTION_FILL, FLAG_FILL, TITLE, Col, font, note_below, title_columns
 from .sheettable import only_row as _only_row
 from .sheettable import table as _table
-from .words import FAULT_WORDS, contribution_kv
+from .words import FAULT_WORDS, contribution_kv, contributions_cut_note
 
 KA = "0.00"
 MVA = "0.0"
@@ -1022,10 +1023,22 @@ def write_workbook_to(
     summary_of: str | None = None,
     *,
     diagram_png: bytes | None = None,
+    contributions_in: str | None = None,
 ) -> None:
     """Write the workbook; ``summary_of`` names the CSV holding every bus of a large study,
-    and the workbook then holds the summary; ``diagram_png`` adds the One-line sheet."""
+    and the workbook then holds the summary; ``diagram_png`` adds the One-line sheet;
+    ``contributions_in`` names the CSV holding every contribution row when they are more
+    than a sheet takes (BIG_CONTRIBUTION_ROWS): the sheet then holds the largest."""
+    from .outputs import BIG_CONTRIBUTION_ROWS
+
     note = None
+    contribution_note = None
+    if result.contributions is not None and len(result.contributions) > BIG_CONTRIBUTION_ROWS:
+        cut, kept = result.contributions_at_most(BIG_CONTRIBUTION_ROWS)
+        contribution_note = contributions_cut_note(
+            result, kept, len(cut), contributions_in, "this sheet"
+        )
+        result = dataclasses.replace(result, contributions=cut)
     if summary_of is not None:
         cut = result.summary()
         note = _summary_note(len(result.buses), len(cut.buses), summary_of)
@@ -1035,6 +1048,8 @@ def write_workbook_to(
         for ws in book.worksheets:
             if ws.title in ("Summary", "Fault currents", "Element impedances", "Cases", "Envelope"):
                 _note_below(ws, note)
+    if contribution_note:
+        _note_below(book["Contributions"], contribution_note)
     book.save(path)
 
 

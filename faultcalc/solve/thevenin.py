@@ -82,16 +82,40 @@ class SymmetricFactor:
             return self._forest_diagonal()
         return self._general_diagonal()
 
+    def pair_values(self, i: np.ndarray, j: np.ndarray) -> np.ndarray | None:
+        """``Z_ij`` for node pairs joined by a branch (entries of the admittance matrix), or
+        None where only solves give them (a network with a loop).
+
+        Radial networks: in the elimination tree (the network's own tree, postordered) one of
+        i, j is the other's parent p, and the selected-inverse recurrence for the child c
+        (its only entry below the diagonal is at p) reads ``Z_pc = -l_pc Z_pp``."""
+        if self._tree is None:
+            return None
+        post, parent_pos = self._tree
+        position = np.empty(self.n, dtype=np.int64)
+        position[post] = np.arange(self.n)
+        pi, pj = position[np.asarray(i, np.int64)], position[np.asarray(j, np.int64)]
+        child = np.where(parent_pos[pi] == pj, pi, pj)
+        if not np.array_equal(parent_pos[child], np.where(child == pi, pj, pi)):
+            raise ValueError("pair_values: a pair that is not joined by a branch")
+        l_pj, _ = self._forest_parts()
+        z = self.diagonal()
+        return -l_pj[child] * z[post[parent_pos[child]]]
+
+    def _forest_parts(self):
+        """Per position: the entry of L below the diagonal (0 at roots) and 1/d."""
+        low = self._lu.L.tocoo()
+        below = low.row != low.col
+        l_pj = np.zeros(self.n, dtype=complex)
+        l_pj[low.col[below]] = low.data[below]
+        return l_pj, 1.0 / self._lu.U.diagonal()
+
     def _forest_diagonal(self) -> np.ndarray:
         """Radial networks: ``Z_jj = 1/d_j + l_pj^2 Z_pp`` from the root down, evaluated for
         all buses at once by pointer jumping (log2 of the depth steps of whole-array work)."""
         post, parent_pos = self._tree
         n = self.n
-        low = self._lu.L.tocoo()
-        below = low.row != low.col
-        l_pj = np.zeros(n, dtype=complex)
-        l_pj[low.col[below]] = low.data[below]
-        a = 1.0 / self._lu.U.diagonal()
+        l_pj, a = self._forest_parts()
         m = l_pj * l_pj
         up = parent_pos.copy()
         root = up < 0

@@ -69,6 +69,7 @@ def write_report_to(
     *,
     sheets=(),
     summary_of: str | None = None,
+    contributions_in: str | None = None,
 ) -> int:
     """Write the report of ``result`` to ``path`` (not atomically: the caller stages it);
     returns its number of pages.
@@ -76,6 +77,8 @@ def write_report_to(
     ``sheets``: the one-line diagram's pages (faultcalc.diagram Drawings), each laid on a page
     of its own size. ``summary_of``: the CSV that holds every bus of a study too large to
     print bus by bus; the report then prints the buses a reviewer reads first and says so.
+    ``contributions_in``: the CSV that holds every contribution row (the workbook's sheet
+    then holds a part of them); the report prints at most REPORT_CONTRIBUTION_ROWS.
     """
 
     counts = _counts(result)
@@ -112,7 +115,7 @@ def write_report_to(
     story += sections.inverters(result)
     story += sections.equipment(result)
     story += sections.cases(result)
-    story += sections.contributions(result)
+    story += sections.contributions(result, contributions_in)
     story += sections.cable_check(result)
     story += sections.warnings(result)
     story += sections.input_restated(

@@ -6,6 +6,7 @@ Paragraph: reportlab reads '<' and '&' in a paragraph as markup.
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from xml.sax.saxutils import escape
 
@@ -29,7 +30,7 @@ from ...solve import duty
 from ..basis import basis_items
 from ..labeltext import label_lines
 from ..words import FAULT_WORDS as OUTPUT_FAULT_WORDS
-from ..words import contribution_kv
+from ..words import contribution_kv, contributions_cut_note
 from .pages import LANDSCAPE, MARGIN_PT, PORTRAIT, SMALL_PT
 
 FAULT_WORDS = {**OUTPUT_FAULT_WORDS, "": ""}
@@ -678,10 +679,25 @@ def cases(result: StudyResult) -> list:
     return out
 
 
-def contributions(result: StudyResult) -> list:
+def contributions(result: StudyResult, every_row_in: str | None = None) -> list:
+    """The contributions, at most REPORT_CONTRIBUTION_ROWS rows of them (whole faulted buses,
+    the largest fault currents); ``every_row_in``: the CSV holding every row, if written."""
+    from ..outputs import REPORT_CONTRIBUTION_ROWS
+
     if result.contributions is None:
         return []
     out = heading("Contributions to the fault current", landscape=True)
+    cut_note = ""
+    if len(result.contributions) > REPORT_CONTRIBUTION_ROWS:
+        cut, kept = result.contributions_at_most(REPORT_CONTRIBUTION_ROWS)
+        cut_note = " " + contributions_cut_note(
+            result,
+            kept,
+            len(cut),
+            every_row_in or "the workbook's Contributions sheet",
+            "this report prints",
+        ).replace(" (its last column, input_sha256, is the input's SHA-256)", "")
+        result = dataclasses.replace(result, contributions=cut)
     rows = [
         [
             r.faulted_bus,
@@ -712,9 +728,10 @@ def contributions(result: StudyResult) -> list:
             + (
                 f" {dropped:,} rows carrying less than 0.005 kA (a branch with nothing behind "
                 "it) are left out here; the workbook's Contributions sheet has every row."
-                if dropped
+                if dropped and not cut_note
                 else ""
-            ),
+            )
+            + cut_note,
             BODY,
         )
     )

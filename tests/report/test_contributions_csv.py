@@ -1,0 +1,114 @@
+"""Many contributions: every row in <results>-contributions.csv, the workbook's sheet and the
+report holding whole faulted buses of the largest fault currents, and the CSV reading back.
+
+Check values: the study's own contributions table (common practice (no source): a results
+file must hold what was computed); the input's SHA-256 recomputed with hashlib by the rule the
+README states for a CSV folder (as tests/report/test_big_output.py does).
+"""
+
+from __future__ import annotations
+
+import csv
+import math
+
+import numpy as np
+import openpyxl
+import pytest
+from click.testing import CliRunner
+
+from faultcalc import cli, read_system, run_study
+from faultcalc.report import csvout, outputs
+from faultcalc.report.words import FAULT_WORDS
+from faultcalc.solve.contributions import CONTRIBUTION_COLUMNS
+from tests.networks import random_sheets
+from tests.report.test_big_output import _folder_sha256
+
+
+def _invoke(*args):
+    return CliRunner().invoke(cli.main, [str(a) for a in args])
+
+
+def _read_back(path):
+    with path.open(newline="") as handle:
+        return list(csv.DictReader(handle))
+
+
+SHEETS = dict(seed=8, n_mv=6, n_lv=14, zero_sequence=True, machines=5, clocks=True)
+
+
+def test_many_contributions_go_to_a_csv_beside_a_cut_sheet(make_input, monkeypatch, tmp_path):
+    monkeypatch.setattr(outputs, "BIG_CONTRIBUTION_ROWS", 60)
+    folder = make_input(random_sheets(**SHEETS))
+    out = tmp_path / "r.xlsx"
+    run = _invoke("study", folder, "-o", out, "--contributions", "all")
+    assert run.exit_code == 0, run.output
+    csv_path = tmp_path / "r-contributions.csv"
+    assert str(csv_path.resolve()) in run.output
+    result = run_study(read_system(folder), contributions="all")
+    c = result.contributions
+    assert len(c) > 60
+    rows = _read_back(csv_path)
+    assert list(rows[0]) == [*CONTRIBUTION_COLUMNS, "input_sha256"]
+    assert rows[0]["input_sha256"] == _folder_sha256(folder)
+    assert all(r["input_sha256"] == "" for r in rows[1:])  # the first row only
+    for column in ("faulted_bus", "fault", "element", "kind", "from_bus", "phase"):
+        assert [r[column] for r in rows] == c[column].tolist(), column
+    for column in ("i_ka", "angle_deg", "ig_ka"):
+        got = np.array([float(r[column]) if r[column] else math.nan for r in rows])
+        np.testing.assert_allclose(got, c[column].to_numpy(float), rtol=1e-9, equal_nan=True)
+
+    # The sheet: whole faulted buses, those of the largest fault currents, at most 60 rows.
+    book = openpyxl.load_workbook(out, read_only=True)
+    sheet = list(book["Contributions"].iter_rows(values_only=True))
+    words = {FAULT_WORDS["3ph"], FAULT_WORDS["slg"]}
+    body = [r for r in sheet if len(r) > 2 and r[1] in words]
+    faulted = list(dict.fromkeys(r[0] for r in body))
+    per_bus = c.groupby("faulted_bus", observed=True, sort=False).size()
+    assert 0 < len(body) <= 60 and sum(per_bus[b] for b in faulted) == len(body)
+    largest = result.buses.set_index("bus")[["i3ph_ka", "islg_ka", "ill_ka", "illg_ka"]].max(
+        axis=1
+    )[per_bus.index]
+    top = list(largest.sort_values(ascending=False, kind="stable").index[: len(faulted)])
+    assert sorted(faulted) == sorted(top)
+    text = " ".join(str(v) for r in sheet for v in r if v)
+    assert f"Contributions at {len(faulted)} of the {len(per_bus)} faulted buses" in text
+    assert "r-contributions.csv" in text
+
+
+def test_contributions_csv_goes_with_its_workbook(make_input, monkeypatch, tmp_path):
+    monkeypatch.setattr(outputs, "BIG_CONTRIBUTION_ROWS", 60)
+    folder = make_input(random_sheets(**SHEETS))
+    out, csv_path = tmp_path / "r.xlsx", tmp_path / "r-contributions.csv"
+    assert _invoke("study", folder, "-o", out, "--contributions", "all").exit_code == 0
+    refused = _invoke("study", folder, "-o", out)
+    assert refused.exit_code == 1 and "--overwrite" in refused.output
+    smaller = _invoke("study", folder, "-o", out, "--contributions", "M0", "--overwrite")
+    assert smaller.exit_code == 0, smaller.output
+    assert "removed r-contributions.csv" in smaller.output and not csv_path.exists()
+    clash = _invoke(
+        "study", folder, "-o", out, "--json", csv_path, "--overwrite", "--contributions", "all"
+    )
+    assert clash.exit_code == 1 and "that name is for the contributions CSV" in clash.output
+
+
+def test_contributions_at_most_keeps_whole_buses(make_input):
+    result = run_study(read_system(make_input(random_sheets(**SHEETS))), contributions="all")
+    c = result.contributions
+    whole, kept = result.contributions_at_most(len(c))
+    assert whole is c and kept == c.faulted_bus.nunique()
+    cut, kept = result.contributions_at_most(1)  # the first bus always, whole
+    assert cut.faulted_bus.nunique() == kept == 1
+    assert len(cut) == (c.faulted_bus == cut.faulted_bus[0]).sum()
+
+
+@pytest.mark.parametrize("split", [False, True])
+def test_a_csv_written_in_two_halves_is_the_same_file(make_input, monkeypatch, tmp_path, split):
+    result = run_study(read_system(make_input(random_sheets(**SHEETS))), contributions="all")
+    one = tmp_path / "one.csv"
+    csvout.write_contributions_csv_to(result, one)
+    monkeypatch.setattr(csvout, "SPLIT_ROWS", 3 if split else 10**9)
+    monkeypatch.setattr(csvout.os, "cpu_count", lambda: 2)
+    two = tmp_path / "two.csv"
+    csvout.write_contributions_csv_to(result, two)
+    assert two.read_bytes() == one.read_bytes()
+    assert len(_read_back(two)) == len(result.contributions)
