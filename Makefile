@@ -39,6 +39,7 @@ bench: $(VENV)/.installed
 	$(BIN)/python benchmarks/json_write.py
 	$(BIN)/python benchmarks/fleet.py
 	$(BIN)/python benchmarks/inverters.py
+	$(BIN)/python benchmarks/contributions.py
 
 samples: $(VENV)/.installed
 	$(BIN)/python scripts/make_samples.py
