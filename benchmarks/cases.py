@@ -12,7 +12,12 @@ three elements). Printed, best of 3 each:
   per case      (run_study with the cases - study base) / number of cases (target: at most
                 the study base)
 
-    python benchmarks/cases.py [--buses 100000]
+With ``--single K`` the sheet is instead K cases of one element each (a cable's length, a
+motor out, the utility's strength, in turn), and the run against the base study is printed
+with the #17 target (100 single-element cases on 100,000 buses within 5 x the base study);
+``--meshed`` studies the generated network with its 2 % loop-closing cables.
+
+    python benchmarks/cases.py [--buses 100000] [--single 100] [--meshed]
 """
 
 from __future__ import annotations
@@ -61,36 +66,71 @@ def cases_rows(n: int) -> list[list[str]]:
     ]
 
 
+def single_rows(n: int, count: int) -> list[list[str]]:
+    """``count`` invented cases of one element each."""
+    rows = []
+    for k in range(count):
+        if k % 3 == 0:
+            rows.append([f"cable {k}", f"C{1 + (k * 7919) % (n - 2)}", "length_m", "777", ""])
+        elif k % 3 == 1:
+            rows.append([f"motor {k}", f"M{k}", "in_service", "no", ""])
+        else:
+            rows.append([f"utility {k}", "UTILITY", "sc_mva", str(400 + k), ""])
+    return rows
+
+
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--buses", type=int, default=100_000)
+    parser.add_argument("--single", type=int, default=0)
+    parser.add_argument("--meshed", action="store_true")
     args = parser.parse_args()
     from faultcalc import read_system, run_study
+    from faultcalc.solve import lowrank
 
-    base = OUT / f"cases-base-{args.buses}"
-    with_cases = OUT / f"cases-{args.buses}"
+    kind = "meshed-" if args.meshed else ""
+    base = OUT / f"cases-base-{kind}{args.buses}"
+    with_cases = OUT / f"cases-{kind}{args.single or ''}-{args.buses}"
     if not (base / "buses.csv").exists():
-        generate(args.buses, base)
+        generate(args.buses, base, meshed=args.meshed)
     if with_cases.exists():
         shutil.rmtree(with_cases)
     shutil.copytree(base, with_cases)
     with (with_cases / "cases.csv").open("w", newline="") as handle:
         writer = csv.writer(handle)
         writer.writerow(["case", "element", "column", "value", "label"])
-        writer.writerows(cases_rows(args.buses))
+        writer.writerows(
+            single_rows(args.buses, args.single) if args.single else cases_rows(args.buses)
+        )
     read_system(base)  # imports and caches warmed
     read_base, system = best(lambda: read_system(base))
     read_cases, cased = best(lambda: read_system(with_cases))
     count = len(cased.cases)
     study_base, _ = best(lambda: run_study(system))
-    study_all, _ = best(lambda: run_study(cased))
+    counts = {}
+    real = lowrank.StudyFactors.__init__
+
+    def counting(self):
+        real(self)
+        counts["factors"] = self
+
+    lowrank.StudyFactors.__init__ = counting
+    study_all, _ = best(lambda: run_study(cased), repeats=1 if args.single else 3)
+    lowrank.StudyFactors.__init__ = real
     per_case = (study_all - study_base) / count
-    print(f"{args.buses:,} buses, {count} cases")
+    f = counts["factors"]
+    print(f"{args.buses:,} buses{' meshed' if args.meshed else ''}, {count} cases")
+    print(f"factorizations of the cases: {f.updates} as updates, {f.fresh} afresh")
     print(f"read base   {read_base:8.3f} s")
     print(f"read cases  {read_cases:8.3f} s")
     print(f"ratio       {read_cases / read_base:8.2f}   (target at most 2)")
     print(f"study base  {study_base:8.3f} s")
     print(f"per case    {per_case:8.3f} s   (target at most the study base)")
+    if args.single:
+        print(
+            f"all cases   {study_all:8.3f} s   = {study_all / study_base:.2f} x the base study "
+            "(target: 100 single-element cases on 100,000 buses within 5 x)"
+        )
 
 
 if __name__ == "__main__":

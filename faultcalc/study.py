@@ -48,6 +48,7 @@ from .solve.contributions import (
     as_table,
     contribution_phasors,
 )
+from .solve.lowrank import StudyFactors, factorize
 from .solve.network import Network, build_network, positive_matrix_variant, zone_angles_deg
 from .solve.thevenin import Orderings, SymmetricFactor
 
@@ -330,10 +331,10 @@ def analyse(
         pu, lambda: dict(zip(system.buses.column("bus"), system.buses.column("row"), strict=True))
     )
     progress.step("Thevenin impedances Z1 = Z2")
-    factor1 = SymmetricFactor(network.y1, orderings)
+    factor1 = factorize(network.y1, orderings)
     z1_node = factor1.diagonal()
     progress.step("Thevenin impedances Z0")
-    factor0 = SymmetricFactor(network.y0, orderings)
+    factor0 = factorize(network.y0, orderings)
     z0_node = np.where(network.grounded, factor0.diagonal(), complex(np.nan, np.nan))
     angles = zone_angles_deg(pu, network, lambda: element_locations(system))
     e_bus = e_phasor = None
@@ -527,7 +528,7 @@ def inverter_phase_currents(system: System, bus: str, fault: str) -> dict[str, n
 
 def _diagonal_variant(a: Analysis, transform) -> np.ndarray:
     y = positive_matrix_variant(a.pu, a.network, transform)
-    return SymmetricFactor(y, a.orderings).diagonal()[a.network.node_of_bus]
+    return factorize(y, a.orderings).diagonal()[a.network.node_of_bus]
 
 
 def _r_only(z: np.ndarray) -> np.ndarray:
@@ -1260,7 +1261,7 @@ def _diagonals(system: System, prefault_pu, orderings: Orderings, *transforms):
     out = []
     for transform in transforms:
         y = positive_matrix_variant(pu, network, transform)
-        out.append(SymmetricFactor(y, orderings).diagonal()[network.node_of_bus])
+        out.append(factorize(y, orderings).diagonal()[network.node_of_bus])
     return pu, out
 
 
@@ -1309,7 +1310,7 @@ def _inverters_interrupting_ka(system: System, prefault_pu, orderings: Orderings
     network = build_network(
         pu, lambda: dict(zip(system.buses.column("bus"), system.buses.column("row"), strict=True))
     )
-    factor = SymmetricFactor(positive_matrix_variant(pu, network, _x_only), orderings)
+    factor = factorize(positive_matrix_variant(pu, network, _x_only), orderings)
     inv = inverters.prepare(variant, pu, network, factor)
     raised = inverters.iec_open_circuit_pu(inv, network.node_of_bus, 0.0)
     return raised / x * perunit.i_base_ka(np.array(pu.bus_kv), pu.base_mva)
@@ -1390,8 +1391,10 @@ def _study(system: System, contributions, calculated_at, progress: Progress) -> 
         settings.method in ("ieee", "iec60909")  # the interrupting or the breaking currents
     )
     progress.plan(per_system * (1 + len(system.cases)) + 1 + bool(wanted))
-    orderings = Orderings()  # one per study: the base case, its variants and its cases
-    a, buses = _solve(system, progress, orderings)
+    # One per study: the base case's orderings and factorizations, which its cases update.
+    orderings = StudyFactors()
+    with orderings.base():
+        a, buses = _solve(system, progress, orderings)
     pu, network = a.pu, a.network
     groups = _tie_groups(pu.bus_names, network.node_of_bus)
 
