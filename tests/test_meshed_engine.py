@@ -27,11 +27,13 @@ def meshed_admittance(
     grounds: int = 1,
     stars: int = 0,
     islands: int = 1,
+    radial: int = 0,
 ) -> sp.csc_matrix:
     """``islands`` random trees over ``n`` buses, each grounded at ``grounds`` buses, with
     ``loops`` loop-closing branches inside the islands (between random pairs, or buses 2 to 9
     apart in number) and ``stars`` star nodes joined to three buses of one island by three
-    branches, without a path of their own to ground."""
+    branches, without a path of their own to ground. The last ``radial`` islands keep no loop
+    and no star."""
     rng = np.random.default_rng(seed)
     island = np.sort(rng.integers(0, islands, n))
     island[:islands] = np.arange(islands)  # none empty
@@ -42,8 +44,9 @@ def meshed_admittance(
         for k in range(1, len(buses)):
             a.append(buses[k])
             b.append(buses[int(rng.integers(0, k))])
+    meshed = np.flatnonzero(island < islands - radial)
     for _ in range(loops):
-        i = int(rng.integers(0, n))
+        i = int(rng.choice(meshed))
         buses = np.flatnonzero(island == island[i])
         if distant:
             j = int(rng.choice(buses))
@@ -54,7 +57,7 @@ def meshed_admittance(
             b.append(j)
     size = n + stars
     for s in range(stars):
-        buses = np.flatnonzero(island == island[int(rng.integers(0, n))])
+        buses = np.flatnonzero(island == island[int(rng.choice(meshed))])
         for j in rng.choice(buses, 3, replace=len(buses) < 3):
             a.append(n + s)
             b.append(int(j))
@@ -77,6 +80,7 @@ NETWORKS = {  # and whether the predicted work calls for a dense top
     "30 % distant loops": dict(n=800, loops=240, seed=4),
     "grounded at 12 buses, 40 star nodes": dict(n=1200, loops=100, seed=5, grounds=12, stars=40),
     "5 islands": dict(n=1200, loops=300, seed=6, islands=5, grounds=2, stars=10),
+    "a radial island beside 2 meshed": dict(n=1200, loops=200, seed=7, islands=3, radial=1),
 }
 # Too little work for a block: 2 % of 1,500 buses is about 5,000 triplets of the recurrence.
 NO_TOP = {"2 % distant loops"}
@@ -121,7 +125,9 @@ def test_meshed_diagonal_against_the_dense_inverse(name, dense_tops):
     "path",
     ["recurrence only", "dense top of at most 50 columns", "all one dense block"],
 )
-@pytest.mark.parametrize("name", ["10 % distant loops", "5 islands"])
+@pytest.mark.parametrize(
+    "name", ["10 % distant loops", "5 islands", "a radial island beside 2 meshed"]
+)
 def test_every_split_between_recurrence_and_dense_top(monkeypatch, dense_tops, name, path):
     """Dense reference: numpy.linalg.inv; 1e-9 relative, however the columns are shared
     between the recurrence and the dense top (the top's size checked as forced)."""
@@ -151,10 +157,7 @@ def test_the_dense_top_is_closed_under_the_parent():
     ptr, idx = low.indptr, low.indices
     size = np.diff(ptr) - 1
     parent = np.where(size > 0, idx[np.minimum(ptr[:-1] + 1, len(idx) - 1)], -1)
-    depth = thevenin._depths(parent)
-    order = np.argsort(depth, kind="stable")
-    bounds = np.searchsorted(depth[order], np.arange(depth.max() + 2))
-    top = thevenin._top_columns(size, parent, order, bounds)
+    top = thevenin._top_columns(size, thevenin._subtree_most(size, parent))
     inside = np.zeros(len(size), dtype=bool)
     inside[top] = True
     assert 0 < len(top) < len(size)

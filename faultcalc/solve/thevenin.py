@@ -138,26 +138,30 @@ class SymmetricFactor:
         size = np.diff(ptr) - 1  # entries below the diagonal, per column
         start = ptr[:-1] + 1
         parent = np.where(size > 0, idx[np.minimum(start, len(idx) - 1)], -1)
-        depth = _depths(parent)
-        order = np.argsort(depth, kind="stable")
-        bounds = np.searchsorted(depth[order], np.arange(depth.max() + 2))
+        most = _subtree_most(size, parent)
         z_diag = inv_d.astype(complex)
-        top = _top_columns(size, parent, order, bounds)
+        top = _top_columns(size, most)
         top_pos = np.full(n, -1, dtype=np.int64)
         top_pos[top] = np.arange(len(top))
         z_top = np.zeros((0, 0), dtype=complex)
         if len(top):
             z_top = _dense_top(top, top_pos, ptr, idx, val, inv_d)
             z_diag[top] = np.diagonal(z_top)
-        # The recurrence for the columns below the top; their entries, by (column, row) key.
+        # Columns whose subtree has one entry below the diagonal a column (trees hanging from
+        # the meshed part) need only their parent's Z_pp: done last, by pointer jumping.
+        hanging = (most == 1) & (size == 1) & (top_pos < 0)
+        # The recurrence for the other columns below the top, depth by depth; their entries,
+        # by (column, row) key.
         column = np.repeat(np.arange(n, dtype=np.int64), np.diff(ptr))
         below = np.flatnonzero((idx != column) & (top_pos[column] < 0))
         keys = column[below] * n + idx[below]  # increasing: columns in order, rows sorted
         z_low = np.zeros(len(idx), dtype=complex)  # Z on the pattern of L, by position
         pattern = (idx, val, keys, below, n, top_pos, z_top, z_low, z_diag)
-        for level in range(1, len(bounds) - 1):
-            columns = order[bounds[level] : bounds[level + 1]]
-            columns = columns[top_pos[columns] < 0]
+        rest = np.flatnonzero((size > 0) & ~hanging & (top_pos < 0))
+        depth = _depths(parent)[rest]
+        order = np.argsort(depth, kind="stable")
+        rest, depth = rest[order], depth[order]
+        for columns in np.split(rest, np.flatnonzero(np.diff(depth)) + 1):
             if not len(columns):
                 continue
             work = np.cumsum(size[columns] ** 2)
@@ -167,6 +171,19 @@ class SymmetricFactor:
             for batch in np.split(columns, np.unique(cuts)):
                 if len(batch):
                     _selinv_batch(batch, size[batch], start[batch], pattern)
+        if hanging.any():  # Z_jj = 1/d_j + l_pj^2 Z_pp, as in _forest_diagonal
+            m = np.zeros(n, dtype=complex)
+            m[hanging] = val[start[hanging]] ** 2
+            up = np.where(hanging, parent, np.arange(n))
+            a = z_diag
+            while True:
+                a = a + m * a[up]
+                m = m * m[up]
+                nxt = up[up]
+                if np.array_equal(nxt, up):
+                    break
+                up = nxt
+            z_diag = a
         # The factored matrix is y[q][:, q] with q = argsort(perm_c).
         return z_diag[lu.perm_c]
 
@@ -211,14 +228,28 @@ SELINV_BATCH = 4_000_000
 # (measured on a two-core machine: about 120 ns and 0.2 ns); only their ratio matters.
 SPARSE_COST = 120e-9
 DENSE_COST = 0.2e-9
-# Columns in the dense top at most (its three t x t complex arrays: 0.4 GB at 3,000).
+# Columns in the dense top at most (two t x t complex arrays: 0.3 GB at 3,000).
 DENSE_TOP_MAX = 3_000
 
 
-def _top_columns(size, parent, order, bounds) -> np.ndarray:
+def _subtree_most(size: np.ndarray, parent: np.ndarray) -> np.ndarray:
+    """The largest count of entries below the diagonal in each column's subtree of the
+    elimination tree, from the leaves up (a parent's column comes after its children's)."""
+    most = size.copy()
+    depth = _depths(parent)
+    order = np.argsort(-depth, kind="stable")
+    bounds = np.flatnonzero(np.diff(depth[order])) + 1
+    for cols in np.split(order, bounds):
+        cols = cols[parent[cols] >= 0]
+        np.maximum.at(most, parent[cols], most[cols])
+    return most
+
+
+def _top_columns(size: np.ndarray, most: np.ndarray) -> np.ndarray:
     """The columns done as one dense block: those whose subtree of the elimination tree has a
-    column with at least ``h`` entries below the diagonal, ``h`` chosen by the predicted work
-    (``DENSE_COST`` t^3 for the block against ``SPARSE_COST`` |S_j|^2 a column left out).
+    column with at least ``h`` entries below the diagonal (``most`` at least ``h``), ``h``
+    chosen by the predicted work (``DENSE_COST`` t^3 for the block against ``SPARSE_COST``
+    |S_j|^2 a column left out).
 
     Any set closed under taking the parent serves (the block is then a trailing block of the
     factor in some order); this one is, and holds the columns that fill.
@@ -226,10 +257,6 @@ def _top_columns(size, parent, order, bounds) -> np.ndarray:
     work = size.astype(float) ** 2
     if SPARSE_COST * work.sum() < 1e-3:  # a millisecond of recurrence: no block
         return np.zeros(0, dtype=np.int64)
-    most = size.copy()  # the largest column count in each subtree, from the leaves up
-    for level in range(len(bounds) - 2, 0, -1):
-        cols = order[bounds[level] : bounds[level + 1]]
-        np.maximum.at(most, parent[cols], most[cols])
     # With h = most[by[i]], the block is by[: i + 1] and up to equal values of ``most``.
     by = np.argsort(-most, kind="stable")
     t = np.arange(1, len(by) + 1, dtype=float)
