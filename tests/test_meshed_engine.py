@@ -73,17 +73,19 @@ def meshed_admittance(
     return sp.coo_matrix((vals, (rows, cols)), shape=(size, size)).tocsc()
 
 
-NETWORKS = {  # and whether the predicted work calls for a dense top
+NETWORKS = {
     "2 % distant loops": dict(n=1500, loops=30, seed=1),
     "10 % distant loops": dict(n=1500, loops=150, seed=2),
     "10 % near loops": dict(n=1500, loops=150, seed=3, distant=False),
-    "30 % distant loops": dict(n=800, loops=240, seed=4),
+    "20 % distant loops": dict(n=800, loops=160, seed=4),
+    "60 % distant loops": dict(n=800, loops=480, seed=4),
     "grounded at 12 buses, 40 star nodes": dict(n=1200, loops=100, seed=5, grounds=12, stars=40),
     "5 islands": dict(n=1200, loops=300, seed=6, islands=5, grounds=2, stars=10),
     "a radial island beside 2 meshed": dict(n=1200, loops=200, seed=7, islands=3, radial=1),
 }
-# Too little work for a block: 2 % of 1,500 buses is about 5,000 triplets of the recurrence.
-NO_TOP = {"2 % distant loops"}
+# Enough recurrence saved for the dense top to pay for its start (DENSE_START) on its own:
+# about 500,000 triplets of the recurrence (60 ms predicted); the others 3,000 to 52,000.
+WITH_TOP = {"60 % distant loops"}
 
 
 @functools.cache
@@ -109,55 +111,61 @@ def dense_tops(monkeypatch):
 
 @pytest.mark.parametrize("name", NETWORKS)
 def test_meshed_diagonal_against_the_dense_inverse(name, dense_tops):
-    """Dense reference: numpy.linalg.inv; 1e-9 relative. The top the engine chose by the
-    predicted work is a dense block of part of the columns, not all and not none (none on
-    the light network)."""
+    """Dense reference: numpy.linalg.inv; 1e-9 relative, as the engine chooses between the
+    recurrence and a dense top (a top of part of the columns on the heaviest network only)."""
     y, z = network(name)
     dense = np.diag(z)
     np.testing.assert_allclose(diagonal_of_inverse(y), dense, rtol=1e-9, atol=0)
-    if name in NO_TOP:
-        assert dense_tops == []
-    else:
+    if name in WITH_TOP:
         assert len(dense_tops) == 1 and 0 < dense_tops[0] < y.shape[0] / 2
+    else:
+        assert dense_tops == []
 
 
-@pytest.mark.parametrize(
-    "path",
-    ["recurrence only", "dense top of at most 50 columns", "all one dense block"],
-)
+PATHS = {  # the engine's costs, forced; and the dense top's size it must give
+    "recurrence only": (dict(DENSE_COST=np.inf), lambda t, n: t == []),
+    "top chosen by the work, no start cost": (
+        dict(DENSE_START=0.0),
+        lambda t, n: len(t) == 1 and 0 < t[0] < n / 2,
+    ),
+    "top of at most 50 columns": (
+        dict(DENSE_START=0.0, DENSE_TOP_MAX=50),
+        lambda t, n: len(t) == 1 and 0 < t[0] <= 50,
+    ),
+    "all one dense block": (dict(DENSE_START=0.0, DENSE_COST=0.0), lambda t, n: t == [n]),
+}
+
+
+@pytest.mark.parametrize("path", PATHS)
 @pytest.mark.parametrize(
     "name", ["10 % distant loops", "5 islands", "a radial island beside 2 meshed"]
 )
 def test_every_split_between_recurrence_and_dense_top(monkeypatch, dense_tops, name, path):
     """Dense reference: numpy.linalg.inv; 1e-9 relative, however the columns are shared
     between the recurrence and the dense top (the top's size checked as forced)."""
-    if path == "recurrence only":
-        monkeypatch.setattr(thevenin, "DENSE_COST", np.inf)
-    elif path == "dense top of at most 50 columns":
-        monkeypatch.setattr(thevenin, "DENSE_TOP_MAX", 50)
-    else:
-        monkeypatch.setattr(thevenin, "DENSE_COST", 0.0)
+    costs, expected = PATHS[path]
+    for constant, value in costs.items():
+        monkeypatch.setattr(thevenin, constant, value)
     y, z = network(name)
     dense = np.diag(z)
     np.testing.assert_allclose(SymmetricFactor(y).diagonal(), dense, rtol=1e-9, atol=0)
-    want = {"recurrence only": [], "dense top of at most 50 columns": None}.get(path, [y.shape[0]])
-    if want is None:
-        assert len(dense_tops) == 1 and 0 < dense_tops[0] <= 50
-    else:
-        assert dense_tops == want
+    assert expected(dense_tops, y.shape[0]), dense_tops
 
 
-def test_the_dense_top_is_closed_under_the_parent():
+def test_the_dense_top_is_closed_under_the_parent(monkeypatch):
     """The block is a trailing block of the factor only if every column's parent in the
     elimination tree (its first row below the diagonal) is in it too: checked on the
-    factor's own pattern, with the block the engine chooses."""
+    factor's own pattern, with the block the engine chooses (no start cost)."""
+    monkeypatch.setattr(thevenin, "DENSE_START", 0.0)
     y, _ = network("5 islands")
     low = SymmetricFactor(y)._lu.L.tocsc()
     low.sort_indices()
     ptr, idx = low.indptr, low.indices
     size = np.diff(ptr) - 1
     parent = np.where(size > 0, idx[np.minimum(ptr[:-1] + 1, len(idx) - 1)], -1)
-    top = thevenin._top_columns(size, thevenin._subtree_most(size, parent))
+    top = thevenin._top_columns(
+        size, thevenin._subtree_most(size, parent, thevenin._depths(parent))
+    )
     inside = np.zeros(len(size), dtype=bool)
     inside[top] = True
     assert 0 < len(top) < len(size)

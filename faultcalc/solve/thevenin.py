@@ -6,7 +6,11 @@ Chen (1973), also given by Erisman and Tinney (1975), produces the entries of ``
 the pattern of ``L`` only, from the root of the elimination tree down (all columns at one depth
 at once). For a radial network the pattern has one entry below the diagonal per column, so the
 cost grows linearly with the number of buses; radial networks take a shorter path still (a
-postorder factorization and pointer jumping). No linear solve per bus.
+postorder factorization and pointer jumping). Loops fill the factor near the root of the
+elimination tree: that top is inverted as one dense block (LAPACK) when the predicted work
+says it is cheaper than the recurrence there, so the cost stays near that of the
+factorization wherever the loops close; trees hanging from the meshed part take the pointer
+jumping of the radial path. No linear solve per bus.
 
 The admittance matrix of a network of R-L branches and sources is complex symmetric with
 positive semi-definite real and negative semi-definite imaginary parts and a path to ground from
@@ -138,7 +142,8 @@ class SymmetricFactor:
         size = np.diff(ptr) - 1  # entries below the diagonal, per column
         start = ptr[:-1] + 1
         parent = np.where(size > 0, idx[np.minimum(start, len(idx) - 1)], -1)
-        most = _subtree_most(size, parent)
+        depth = _depths(parent)
+        most = _subtree_most(size, parent, depth)
         z_diag = inv_d.astype(complex)
         top = _top_columns(size, most)
         top_pos = np.full(n, -1, dtype=np.int64)
@@ -158,7 +163,7 @@ class SymmetricFactor:
         z_low = np.zeros(len(idx), dtype=complex)  # Z on the pattern of L, by position
         pattern = (idx, val, keys, below, n, top_pos, z_top, z_low, z_diag)
         rest = np.flatnonzero((size > 0) & ~hanging & (top_pos < 0))
-        depth = _depths(parent)[rest]
+        depth = depth[rest]
         order = np.argsort(depth, kind="stable")
         rest, depth = rest[order], depth[order]
         for columns in np.split(rest, np.flatnonzero(np.diff(depth)) + 1):
@@ -225,18 +230,20 @@ def _selinv_batch(cols, s, first, pattern):
 SELINV_BATCH = 4_000_000
 
 # Predicted seconds per triplet of the recurrence and per t^3 of a dense top of t columns
-# (measured on a two-core machine: about 120 ns and 0.2 ns); only their ratio matters.
+# (measured on a two-core machine: about 120 ns and 0.2 ns), and for starting the dense top:
+# the threaded LAPACK call waits for its threads, up to 70 ms measured with the other core
+# busy (about 1 ms on one thread), so a top that saves less is left to the recurrence.
 SPARSE_COST = 120e-9
 DENSE_COST = 0.2e-9
+DENSE_START = 10e-3
 # Columns in the dense top at most (two t x t complex arrays: 0.3 GB at 3,000).
 DENSE_TOP_MAX = 3_000
 
 
-def _subtree_most(size: np.ndarray, parent: np.ndarray) -> np.ndarray:
+def _subtree_most(size: np.ndarray, parent: np.ndarray, depth: np.ndarray) -> np.ndarray:
     """The largest count of entries below the diagonal in each column's subtree of the
-    elimination tree, from the leaves up (a parent's column comes after its children's)."""
+    elimination tree (``parent``, ``depth``), from the deepest columns up."""
     most = size.copy()
-    depth = _depths(parent)
     order = np.argsort(-depth, kind="stable")
     bounds = np.flatnonzero(np.diff(depth[order])) + 1
     for cols in np.split(order, bounds):
@@ -248,20 +255,20 @@ def _subtree_most(size: np.ndarray, parent: np.ndarray) -> np.ndarray:
 def _top_columns(size: np.ndarray, most: np.ndarray) -> np.ndarray:
     """The columns done as one dense block: those whose subtree of the elimination tree has a
     column with at least ``h`` entries below the diagonal (``most`` at least ``h``), ``h``
-    chosen by the predicted work (``DENSE_COST`` t^3 for the block against ``SPARSE_COST``
-    |S_j|^2 a column left out).
+    chosen by the predicted work (``DENSE_START + DENSE_COST`` t^3 for the block against
+    ``SPARSE_COST`` |S_j|^2 a column left out).
 
     Any set closed under taking the parent serves (the block is then a trailing block of the
     factor in some order); this one is, and holds the columns that fill.
     """
     work = size.astype(float) ** 2
-    if SPARSE_COST * work.sum() < 1e-3:  # a millisecond of recurrence: no block
+    if SPARSE_COST * work.sum() < DENSE_START:
         return np.zeros(0, dtype=np.int64)
     # With h = most[by[i]], the block is by[: i + 1] and up to equal values of ``most``.
     by = np.argsort(-most, kind="stable")
     t = np.arange(1, len(by) + 1, dtype=float)
     saved = np.cumsum(work[by])
-    cost = DENSE_COST * t**3 - SPARSE_COST * saved
+    cost = DENSE_START + DENSE_COST * t**3 - SPARSE_COST * saved
     last = np.r_[most[by][1:] != most[by][:-1], True]  # the ends of runs of one value
     cost[~last | (t > DENSE_TOP_MAX)] = np.inf
     best = int(np.argmin(cost))
