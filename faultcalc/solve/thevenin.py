@@ -6,7 +6,11 @@ Chen (1973), also given by Erisman and Tinney (1975), produces the entries of ``
 the pattern of ``L`` only, from the root of the elimination tree down (all columns at one depth
 at once). For a radial network the pattern has one entry below the diagonal per column, so the
 cost grows linearly with the number of buses; radial networks take a shorter path still (a
-postorder factorization and pointer jumping). No linear solve per bus.
+postorder factorization and pointer jumping). Loops fill the factor near the root of the
+elimination tree: that top is inverted as one dense block (LAPACK) when the predicted work
+says it is cheaper than the recurrence there, so the cost stays near that of the
+factorization wherever the loops close; trees hanging from the meshed part take the pointer
+jumping of the radial path. No linear solve per bus.
 
 The admittance matrix of a network of R-L branches and sources is complex symmetric with
 positive semi-definite real and negative semi-definite imaginary parts and a path to ground from
@@ -18,6 +22,7 @@ from __future__ import annotations
 import numpy as np
 import scipy.sparse as sp
 import scipy.sparse.linalg as sla
+from scipy.linalg import blas, lapack
 from scipy.sparse.csgraph import breadth_first_order, connected_components
 
 
@@ -139,6 +144,12 @@ class SymmetricFactor:
         S_j, then ``Z_jj = 1/d_j - sum_k l_kj Z_kj``. Every row in S_j is an ancestor of j in
         the elimination tree, so all columns at one depth of that tree are independent: they
         are done together, depth by depth from the root, as whole-array work.
+
+        Loops fill the factor near the root of the elimination tree (the buses the loops join,
+        eliminated last), where the recurrence costs |S_j|^2 per column and little elsewhere.
+        That top is done as one dense block instead (``_dense_top``) when the predicted work
+        says so, and the recurrence does the columns below it, reading Z on the top from the
+        block.
         """
         n = self.n
         if n == 0:
@@ -154,59 +165,160 @@ class SymmetricFactor:
         inv_d = 1.0 / lu.U.diagonal()
         size = np.diff(ptr) - 1  # entries below the diagonal, per column
         start = ptr[:-1] + 1
-        column = np.repeat(np.arange(n, dtype=np.int64), np.diff(ptr))
-        below = np.flatnonzero(idx != column)  # positions of the entries below the diagonal
-        keys = column[below] * n + idx[below]  # increasing: columns in order, rows sorted
         parent = np.where(size > 0, idx[np.minimum(start, len(idx) - 1)], -1)
         depth = _depths(parent)
-        order = np.argsort(depth, kind="stable")
-        bounds = np.searchsorted(depth[order], np.arange(depth.max() + 2))
-        z_low = np.zeros(len(idx), dtype=complex)  # Z on the pattern of L, by position
+        most = _subtree_most(size, parent, depth)
         z_diag = inv_d.astype(complex)
-        for level in range(1, len(bounds) - 1):
-            columns = order[bounds[level] : bounds[level + 1]]
+        top = _top_columns(size, most)
+        top_pos = np.full(n, -1, dtype=np.int64)
+        top_pos[top] = np.arange(len(top))
+        z_top = np.zeros((0, 0), dtype=complex)
+        if len(top):
+            z_top = _dense_top(top, top_pos, ptr, idx, val, inv_d)
+            z_diag[top] = np.diagonal(z_top)
+        # Columns whose subtree has one entry below the diagonal a column (trees hanging from
+        # the meshed part) need only their parent's Z_pp: done last, by pointer jumping.
+        hanging = (most == 1) & (size == 1) & (top_pos < 0)
+        # The recurrence for the other columns below the top, depth by depth; their entries,
+        # by (column, row) key.
+        column = np.repeat(np.arange(n, dtype=np.int64), np.diff(ptr))
+        below = np.flatnonzero((idx != column) & (top_pos[column] < 0))
+        keys = column[below] * n + idx[below]  # increasing: columns in order, rows sorted
+        z_low = np.zeros(len(idx), dtype=complex)  # Z on the pattern of L, by position
+        pattern = (idx, val, keys, below, n, top_pos, z_top, z_low, z_diag)
+        rest = np.flatnonzero((size > 0) & ~hanging & (top_pos < 0))
+        depth = depth[rest]
+        order = np.argsort(depth, kind="stable")
+        rest, depth = rest[order], depth[order]
+        for columns in np.split(rest, np.flatnonzero(np.diff(depth)) + 1):
+            if not len(columns):
+                continue
             work = np.cumsum(size[columns] ** 2)
             cuts = np.searchsorted(
                 work, np.arange(1, int(work[-1] // SELINV_BATCH) + 1) * SELINV_BATCH
             )
             for batch in np.split(columns, np.unique(cuts)):
                 if len(batch):
-                    self._selinv_batch(batch, size, start, idx, val, keys, below, n, z_low, z_diag)
+                    _selinv_batch(batch, size[batch], start[batch], pattern)
+        if hanging.any():  # Z_jj = 1/d_j + l_pj^2 Z_pp, as in _forest_diagonal
+            m = np.zeros(n, dtype=complex)
+            m[hanging] = val[start[hanging]] ** 2
+            up = np.where(hanging, parent, np.arange(n))
+            a = z_diag
+            while True:
+                a = a + m * a[up]
+                m = m * m[up]
+                nxt = up[up]
+                if np.array_equal(nxt, up):
+                    break
+                up = nxt
+            z_diag = a
         # The factored matrix is y[q][:, q] with q = argsort(perm_c).
         return z_diag[lu.perm_c]
 
-    @staticmethod
-    def _selinv_batch(cols, size, start, idx, val, keys, below, n, z_low, z_diag):
-        """The recurrence for independent columns ``cols`` (none is an ancestor of another)."""
-        s = size[cols]
-        pair_col, pair_pos = _segments(cols, start[cols], s)  # (k, j) entries, k in S_j
-        pair_k = idx[pair_pos]
-        pair_s = np.repeat(s, s)  # each pair (k, j) meets every m in S_j
-        pair, m_pos = _segments(np.arange(len(pair_pos)), start[pair_col], pair_s)
-        k = pair_k[pair]
-        m = idx[m_pos]
-        lo, hi = np.minimum(m, k), np.maximum(m, k)
-        found = np.searchsorted(keys, lo * n + hi)
-        found = np.minimum(found, len(keys) - 1)
-        off = m != k
-        if not np.array_equal(keys[found[off]], lo[off] * n + hi[off]):
+
+def _selinv_batch(cols, s, first, pattern):
+    """The recurrence for independent columns ``cols`` (none is an ancestor of another), with
+    ``s`` entries below the diagonal starting at position ``first``."""
+    idx, val, keys, below, n, top_pos, z_top, z_low, z_diag = pattern
+    pair_col, pair_pos = _segments(np.arange(len(cols)), first, s)  # (k, j) entries, k in S_j
+    pair_k = idx[pair_pos]
+    pair_s = np.repeat(s, s)  # each pair (k, j) meets every m in S_j
+    pair, m_pos = _segments(np.arange(len(pair_pos)), first[pair_col], pair_s)
+    k = pair_k[pair]
+    m = idx[m_pos]
+    lo, hi = np.minimum(m, k), np.maximum(m, k)
+    z_mk = z_diag[k]  # m == k
+    dense = (m != k) & (top_pos[lo] >= 0)  # both on the top (hi is an ancestor of lo)
+    z_mk[dense] = z_top[top_pos[hi[dense]], top_pos[lo[dense]]]
+    sparse = np.flatnonzero((m != k) & (top_pos[lo] < 0))
+    if len(sparse):
+        want = lo[sparse] * n + hi[sparse]
+        found = np.minimum(np.searchsorted(keys, want), len(keys) - 1)
+        if not np.array_equal(keys[found], want):
             raise FactorizationError("the factor's pattern is not closed")
-        z_mk = np.where(off, z_low[below[found]], z_diag[k])
-        terms = val[m_pos] * z_mk
-        z_kj = -(
-            np.bincount(pair, terms.real, len(pair_pos))
-            + 1j * np.bincount(pair, terms.imag, len(pair_pos))
-        )
-        z_low[pair_pos] = z_kj
-        local = np.repeat(np.arange(len(cols)), s)
-        drop = val[pair_pos] * z_kj
-        z_diag[cols] -= np.bincount(local, drop.real, len(cols)) + 1j * np.bincount(
-            local, drop.imag, len(cols)
-        )
+        z_mk[sparse] = z_low[below[found]]
+    terms = val[m_pos] * z_mk
+    z_kj = -(
+        np.bincount(pair, terms.real, len(pair_pos))
+        + 1j * np.bincount(pair, terms.imag, len(pair_pos))
+    )
+    z_low[pair_pos] = z_kj
+    drop = val[pair_pos] * z_kj
+    z_diag[cols] -= np.bincount(pair_col, drop.real, len(cols)) + 1j * np.bincount(
+        pair_col, drop.imag, len(cols)
+    )
 
 
 # Triplets (column, k, m) done in one whole-array step of the selected inverse, at most.
 SELINV_BATCH = 4_000_000
+
+# Predicted seconds per triplet of the recurrence and per t^3 of a dense top of t columns
+# (measured on a two-core machine: about 120 ns and 0.2 ns), and for starting the dense top:
+# the threaded LAPACK call waits for its threads, up to 70 ms measured with the other core
+# busy (about 1 ms on one thread), so a top that saves less is left to the recurrence.
+SPARSE_COST = 120e-9
+DENSE_COST = 0.2e-9
+DENSE_START = 10e-3
+# Columns in the dense top at most (two t x t complex arrays: 0.3 GB at 3,000).
+DENSE_TOP_MAX = 3_000
+
+
+def _subtree_most(size: np.ndarray, parent: np.ndarray, depth: np.ndarray) -> np.ndarray:
+    """The largest count of entries below the diagonal in each column's subtree of the
+    elimination tree (``parent``, ``depth``), from the deepest columns up."""
+    most = size.copy()
+    order = np.argsort(-depth, kind="stable")
+    bounds = np.flatnonzero(np.diff(depth[order])) + 1
+    for cols in np.split(order, bounds):
+        cols = cols[parent[cols] >= 0]
+        np.maximum.at(most, parent[cols], most[cols])
+    return most
+
+
+def _top_columns(size: np.ndarray, most: np.ndarray) -> np.ndarray:
+    """The columns done as one dense block: those whose subtree of the elimination tree has a
+    column with at least ``h`` entries below the diagonal (``most`` at least ``h``), ``h``
+    chosen by the predicted work (``DENSE_START + DENSE_COST`` t^3 for the block against
+    ``SPARSE_COST`` |S_j|^2 a column left out).
+
+    Any set closed under taking the parent serves (the block is then a trailing block of the
+    factor in some order); this one is, and holds the columns that fill.
+    """
+    work = size.astype(float) ** 2
+    if SPARSE_COST * work.sum() < DENSE_START:
+        return np.zeros(0, dtype=np.int64)
+    # With h = most[by[i]], the block is by[: i + 1] and up to equal values of ``most``.
+    by = np.argsort(-most, kind="stable")
+    t = np.arange(1, len(by) + 1, dtype=float)
+    saved = np.cumsum(work[by])
+    cost = DENSE_START + DENSE_COST * t**3 - SPARSE_COST * saved
+    last = np.r_[most[by][1:] != most[by][:-1], True]  # the ends of runs of one value
+    cost[~last | (t > DENSE_TOP_MAX)] = np.inf
+    best = int(np.argmin(cost))
+    if not cost[best] < 0:
+        return np.zeros(0, dtype=np.int64)
+    return np.sort(by[: best + 1])
+
+
+def _dense_top(top, top_pos, ptr, idx, val, inv_d) -> np.ndarray:
+    """Z on the columns ``top`` (closed under taking the parent), as a dense array.
+
+    With B the other columns, L is block lower triangular in the order (B, top), so the
+    top's block of the inverse is ``L_tt^-T D_t^-1 L_tt^-1``: a triangular inverse (LAPACK
+    ztrtri) and a triangular product (BLAS ztrmm), no transpose conjugated (Y is complex
+    symmetric, not Hermitian).
+    """
+    t = len(top)
+    owner, pos = _segments(np.arange(t), ptr[top], ptr[top + 1] - ptr[top])
+    block = np.zeros((t, t), dtype=complex, order="F")
+    block[top_pos[idx[pos]], owner] = val[pos]  # every row of a top column is on the top
+    inv_l, info = lapack.ztrtri(block, lower=1, unitdiag=1, overwrite_c=1)
+    if info:
+        raise FactorizationError("the dense top of the factor is singular")
+    return blas.ztrmm(
+        1.0, inv_l, inv_d[top][:, None] * inv_l, side=0, lower=1, trans_a=1, overwrite_b=1
+    )
 
 
 def _segments(owner, first, count):
