@@ -1393,7 +1393,7 @@ def _study(system: System, contributions, calculated_at, progress: Progress) -> 
     progress.plan(per_system * (1 + len(system.cases)) + 1 + bool(wanted))
     # One per study: the base case's orderings and factorizations, which its cases update.
     orderings = StudyFactors()
-    with orderings.base():
+    with orderings.base(keep=bool(system.cases)):
         a, buses = _solve(system, progress, orderings)
     pu, network = a.pu, a.network
     groups = _tie_groups(pu.bus_names, network.node_of_bus)

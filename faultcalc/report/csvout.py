@@ -19,6 +19,7 @@ from __future__ import annotations
 
 import os
 import threading
+from concurrent.futures import ThreadPoolExecutor
 from pathlib import Path
 
 import numpy as np
@@ -72,11 +73,18 @@ def _write_table_csv(
     import pyarrow.csv as pcsv
 
     table = table[list(columns)]
+    floats = [n for n in columns if pd.api.types.is_float_dtype(table[n].dtype)]
+    if len(table) > SPLIT_ROWS and (os.cpu_count() or 1) > 1:  # numpy lets go of the
+        with ThreadPoolExecutor(2) as pool:  # interpreter on whole arrays
+            done = pool.map(lambda n: round_significant(table[n].to_numpy()), floats)
+            rounded = dict(zip(floats, done, strict=True))
+    else:
+        rounded = {n: round_significant(table[n].to_numpy()) for n in floats}
     arrays = []
     for name in columns:
         column = table[name]
-        if pd.api.types.is_float_dtype(column.dtype):
-            arrays.append(pa.array(round_significant(column.to_numpy()), from_pandas=True))
+        if name in rounded:
+            arrays.append(pa.array(rounded[name], from_pandas=True))
         elif isinstance(column.dtype, pd.CategoricalDtype):  # text kept as codes: its values
             whole = pa.array(column, from_pandas=True)
             arrays.append(

@@ -38,9 +38,9 @@ BIG_OUTPUT_BUSES = 5_000
 # Contributions: above this many rows every row goes to ``<results>-contributions.csv`` and
 # the workbook's Contributions sheet holds whole faulted buses, those of the largest fault
 # currents, up to this many rows (a contribution row costs about 0.7 ms to build and save in
-# the workbook, measured: 10,000 rows about 7 s). The report prints at most
+# the workbook, measured: 10,000 rows about 7 s, so 5,000 about 3.5 s). The report prints at most
 # REPORT_CONTRIBUTION_ROWS of them (about 40 pages).
-BIG_CONTRIBUTION_ROWS = 10_000
+BIG_CONTRIBUTION_ROWS = 5_000
 REPORT_CONTRIBUTION_ROWS = 2_000
 # The workbook's One-line sheet is drawn for studies up to this many buses (about what one
 # large sheet holds legibly, see faultcalc.diagram); a larger one-line is in the report.

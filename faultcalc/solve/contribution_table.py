@@ -19,6 +19,9 @@ stamps, the zero-sequence ones).
 
 from __future__ import annotations
 
+import os
+from concurrent.futures import ThreadPoolExecutor
+
 import numpy as np
 import pandas as pd
 
@@ -60,10 +63,16 @@ def contribution_table(
         len(parts.h_node), n_nodes if isinstance(z1, _Columns) or isinstance(z0, _Columns) else 1
     )
     size = max(1, BLOCK_ENTRIES // max(1, per_bus))
-    pieces = []
-    for start in range(0, len(buses), size):
-        block = buses[start : start + size]
-        pieces.append(parts.rows(block, z1, z0, z1_node, z0_node, zf_pu, angle_deg))
+    blocks = [buses[start : start + size] for start in range(0, len(buses), size)]
+
+    def rows(block):
+        return parts.rows(block, z1, z0, z1_node, z0_node, zf_pu, angle_deg)
+
+    if len(blocks) > 1 and (os.cpu_count() or 1) > 1:  # numpy lets go of the interpreter
+        with ThreadPoolExecutor(2) as pool:  # on whole arrays: two blocks at once
+            pieces = list(pool.map(rows, blocks))
+    else:
+        pieces = [rows(block) for block in blocks]
     return parts.table(pieces)
 
 
@@ -357,12 +366,13 @@ def _source_of_z(factor, parts: _Parts, seq: int, faulted: int, diagonal):
 class _Columns:
     """Z entries from the columns at the faulted nodes, solved a block at a time."""
 
-    def __init__(self, factor, h_node):
-        self.factor, self.h_node = factor, h_node
+    def __init__(self, factor, h_node, z=None):
+        self.factor, self.h_node, self.z = factor, h_node, z
 
     def at(self, unique_nodes):
-        self.z = _columns(self.factor, unique_nodes)  # (n_nodes, len(unique_nodes))
-        return self
+        """The columns at ``unique_nodes``: (n_nodes, len(unique_nodes)), a new object (the
+        blocks run in threads)."""
+        return _Columns(self.factor, self.h_node, _columns(self.factor, unique_nodes))
 
     def shunts(self, n, c):
         return self.z[self.h_node][:, c]

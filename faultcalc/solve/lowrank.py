@@ -63,12 +63,13 @@ class StudyFactors(Orderings):
         self.updates = 0  # factorizations a case had as updates (for tests and benchmarks)
         self.fresh = 0  # factorizations a case had afresh
 
-    def base(self):
+    def base(self, keep: bool = True):
+        """Bracket the base case; ``keep`` False (a study without cases) keeps nothing."""
         cache = self
 
         class _Base:
             def __enter__(self):
-                cache._keeping = True
+                cache._keeping = keep
 
             def __exit__(self, *exc):
                 cache._keeping = False
@@ -137,6 +138,8 @@ class _Matrix:
         column = np.repeat(np.arange(d.shape[1]), np.diff(d.indptr))
         scale = np.maximum(self.scale[column], self.scale[d.indices])
         real = np.abs(d.data) > ROUNDING * scale
+        if np.count_nonzero(real) > MAX_UPDATE_NODES**2:  # too many to lie on few nodes
+            return np.arange(y.shape[0]), None
         touched = np.unique(np.concatenate([column[real], d.indices[real]]))
         if len(touched) > MAX_UPDATE_NODES:
             return touched, None
