@@ -112,3 +112,24 @@ def test_a_csv_written_in_two_halves_is_the_same_file(make_input, monkeypatch, t
     csvout.write_contributions_csv_to(result, two)
     assert two.read_bytes() == one.read_bytes()
     assert len(_read_back(two)) == len(result.contributions)
+
+
+def test_the_report_prints_whole_buses_and_says_where_the_rest_is(monkeypatch, tmp_path):
+    from pypdf import PdfReader
+
+    from faultcalc import sample_path
+
+    monkeypatch.setattr(outputs, "BIG_CONTRIBUTION_ROWS", 40)
+    monkeypatch.setattr(outputs, "REPORT_CONTRIBUTION_ROWS", 25)
+    out, report = tmp_path / "p.xlsx", tmp_path / "p.pdf"
+    run = _invoke("study", sample_path(), "-o", out, "--report", report, "--contributions", "all")
+    assert run.exit_code == 0, run.output
+    text = " ".join(" ".join(p.extract_text().split()) for p in PdfReader(report).pages)
+    result = run_study(read_system(sample_path()), contributions="all")
+    cut, kept = result.contributions_at_most(25)
+    total = len(result.contributions)
+    assert (
+        f"Contributions at {kept} of the {result.contributions.faulted_bus.nunique()} faulted "
+        f"buses ({len(cut)} rows)" in text
+    )
+    assert f"every one of the {total} rows is in p-contributions.csv" in text

@@ -695,7 +695,7 @@ def contributions(result: StudyResult, every_row_in: str | None = None) -> list:
             kept,
             len(cut),
             every_row_in or "the workbook's Contributions sheet",
-            "this report prints",
+            "this report",
         ).replace(" (its last column, input_sha256, is the input's SHA-256)", "")
         result = dataclasses.replace(result, contributions=cut)
     rows = [
@@ -731,7 +731,13 @@ def contributions(result: StudyResult, every_row_in: str | None = None) -> list:
                 if dropped and not cut_note
                 else ""
             )
-            + cut_note,
+            + cut_note
+            + (
+                f" Of the {len(result.contributions):,} rows, {dropped:,} carrying less than "
+                "0.005 kA (a branch with nothing behind it) are left out here."
+                if dropped and cut_note
+                else ""
+            ),
             BODY,
         )
     )
