@@ -40,6 +40,8 @@ bench: $(VENV)/.installed
 	$(BIN)/python benchmarks/fleet.py
 	$(BIN)/python benchmarks/inverters.py
 	$(BIN)/python benchmarks/contributions.py
+	$(BIN)/python benchmarks/cases.py --single 100
+	$(BIN)/python benchmarks/cases.py --single 100 --meshed
 
 samples: $(VENV)/.installed
 	$(BIN)/python scripts/make_samples.py

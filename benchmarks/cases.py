@@ -15,9 +15,10 @@ three elements). Printed, best of 3 each:
 With ``--single K`` the sheet is instead K cases of one element each (a cable's length, a
 motor out, the utility's strength, in turn), and the run against the base study is printed
 with the #17 target (100 single-element cases on 100,000 buses within 5 x the base study);
-``--meshed`` studies the generated network with its 2 % loop-closing cables.
+``--meshed`` studies the generated network with its 2 % loop-closing cables; ``--fresh``
+factorizes every case afresh (no low-rank updates), for comparison.
 
-    python benchmarks/cases.py [--buses 100000] [--single 100] [--meshed]
+    python benchmarks/cases.py [--buses 100000] [--single 100] [--meshed] [--fresh]
 """
 
 from __future__ import annotations
@@ -84,9 +85,12 @@ def main() -> None:
     parser.add_argument("--buses", type=int, default=100_000)
     parser.add_argument("--single", type=int, default=0)
     parser.add_argument("--meshed", action="store_true")
+    parser.add_argument("--fresh", action="store_true", help="every case factorized afresh")
     args = parser.parse_args()
     from faultcalc import read_system, run_study
     from faultcalc.solve import lowrank
+
+    lowrank.UPDATE_CASES = not args.fresh
 
     kind = "meshed-" if args.meshed else ""
     base = OUT / f"cases-base-{kind}{args.buses}"
