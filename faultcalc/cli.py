@@ -216,7 +216,12 @@ def _run(
     written = files.write(result, system=system, progress=bar)
     _disarm()
     for removed in written.removed_files:
-        click.echo(f"removed {removed.name}, left by an earlier, larger study", err=True)
+        why = (
+            "an earlier, larger study"
+            if removed == written.removed
+            else "an earlier study with more contribution rows"
+        )
+        click.echo(f"removed {removed.name}, left by {why}", err=True)
     for w in result.warnings:
         click.echo(f"warning: {w}", err=True)
     click.echo(_summary(result))

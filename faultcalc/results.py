@@ -191,7 +191,9 @@ class StudyResult:
     warnings: tuple[str, ...]
     cautions: tuple[str, ...]
     basis: Basis
-    contributions: pd.DataFrame | None = None  # CONTRIBUTION_COLUMNS, when asked for
+    # CONTRIBUTION_COLUMNS, when asked for; text columns categorical (millions of rows, few
+    # names)
+    contributions: pd.DataFrame | None = None
     cable_checks: pd.DataFrame | None = None  # cablecheck.CHECK_COLUMNS, typed cables only
     cases: dict[str, pd.DataFrame] = field(default_factory=dict)  # case -> bus table
     envelope: pd.DataFrame | None = None  # worst value per bus over base and cases
@@ -201,6 +203,9 @@ class StudyResult:
     label_cases_left_out: tuple[str, ...] = ()  # cases whose rows say label = no
     maximum: pd.DataFrame | None = None  # MAXIMUM_COLUMNS, one row per bus of any case
     case_changes: dict[str, tuple[str, ...]] = field(default_factory=dict)  # what each case sets
+    # A summary's (see ``summary``): the nominal kV of every bus of the whole study, for the
+    # contributions, which may name buses the summary leaves out; None in a whole result.
+    bus_kv_all: dict[str, float] | None = None
 
     def over_rating(self) -> pd.DataFrame:
         """Rows of ``duty`` whose worst duty exceeds the rating, the largest duty first."""
@@ -239,6 +244,9 @@ class StudyResult:
         names = set(b.bus.iloc[keep])
         return dataclasses.replace(
             self,
+            bus_kv_all=(
+                dict(zip(b.bus, b.kv, strict=True)) if self.bus_kv_all is None else self.bus_kv_all
+            ),
             buses=b.iloc[keep].reset_index(drop=True),
             descriptions=tuple(self.descriptions[i] for i in keep),
             node_groups=tuple(self.node_groups[i] for i in keep),
@@ -262,10 +270,13 @@ class StudyResult:
     def contributions_at_most(self, rows: int) -> tuple[pd.DataFrame, int]:
         """The contributions cut to whole faulted buses, the largest fault current first,
         while they hold at most ``rows`` rows (the first such bus always): the table (rows in
-        their order) and the number of faulted buses kept. The table whole when it fits."""
+        their order) and the number of faulted buses kept. The table whole when it fits.
+        Ranked by ``buses``: call it on the whole result, not on a summary."""
         c = self.contributions
         if c is None:
             raise ValueError("the study has no contributions")
+        if self.bus_kv_all is not None:
+            raise ValueError("contributions_at_most ranks by every bus: not on a summary")
         per_bus = c.groupby("faulted_bus", observed=True, sort=False).size()
         if len(c) <= rows:
             return c, len(per_bus)

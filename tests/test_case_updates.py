@@ -128,3 +128,66 @@ def test_a_large_change_is_factorized_afresh(make_input, monkeypatch):
     )
     run_study(read_system(make_input(sheets)))
     assert seen and all(u is None for u in seen)
+
+
+def test_an_update_that_would_lose_digits_is_refused(make_input, monkeypatch):
+    # With the cancellation guard at its tightest no update is made (the cases are factorized
+    # afresh) and the tables are still right; without it, updates are made (the control).
+    spec = NETWORKS[1]
+    made = []
+    real = lowrank.UpdatedFactor.__init__
+
+    def counting(self, *args):
+        made.append(1)
+        real(self, *args)
+
+    for guard, expect_updates in ((0.0, False), (lowrank.MAX_CANCELLATION, True)):
+        made.clear()
+        monkeypatch.setattr(lowrank, "MAX_CANCELLATION", guard)
+        monkeypatch.setattr(lowrank.UpdatedFactor, "__init__", counting)
+        guarded, _ = _run(make_input, spec, "thevenin", monkeypatch, fresh=False)
+        assert bool(made) == expect_updates
+    fresh, _ = _run(make_input, spec, "thevenin", monkeypatch, fresh=True)
+    for name, table in guarded.cases.items():
+        np.testing.assert_allclose(
+            table.i3ph_ka.to_numpy(), fresh.cases[name].i3ph_ka.to_numpy(), rtol=1e-9
+        )
+
+
+def test_updated_factor_against_a_dense_inverse():
+    # Every entry the study takes from a factor: the diagonal, columns, solves and the values
+    # on the branches of a radial network (dense reference: numpy.linalg.inv).
+    import scipy.sparse as sp
+
+    from faultcalc.solve.thevenin import SymmetricFactor
+
+    rng = np.random.default_rng(3)
+    n = 40
+    parent = (rng.random(n - 1) * np.arange(1, n)).astype(int)
+    child = np.arange(1, n)
+    y_branch = 1 / (rng.uniform(0.01, 0.1, n - 1) + 1j * rng.uniform(0.05, 0.3, n - 1))
+    rows = np.r_[child, parent, child, parent, 0]
+    cols = np.r_[child, parent, parent, child, 0]
+    vals = np.r_[y_branch, y_branch, -y_branch, -y_branch, 1 / (0.001 + 0.02j)]
+    y = sp.csc_matrix(sp.coo_matrix((vals, (rows, cols)), shape=(n, n)))
+    change = y.copy().tolil()
+    k = 17  # the branch from 17 to its parent twice as strong, a motor at 30
+    p = parent[k - 1]
+    change[k, k] += y_branch[k - 1]
+    change[p, p] += y_branch[k - 1]
+    change[k, p] -= y_branch[k - 1]
+    change[p, k] -= y_branch[k - 1]
+    change[30, 30] += 1 / (0.05 + 0.4j)
+    change = sp.csc_matrix(change)
+    cache = lowrank.StudyFactors()
+    with cache.base():
+        cache.factor(y)
+    updated = cache.factor(change)
+    assert isinstance(updated, lowrank.UpdatedFactor) and cache.updates == 1
+    dense = np.linalg.inv(change.toarray())
+    np.testing.assert_allclose(updated.diagonal(), np.diag(dense), rtol=1e-10)
+    np.testing.assert_allclose(updated.columns([3, 30]), dense[:, [3, 30]], rtol=1e-10)
+    rhs = rng.normal(size=(n, 2)) + 0j
+    np.testing.assert_allclose(updated.solve(rhs), dense @ rhs, rtol=1e-9, atol=1e-12)
+    np.testing.assert_allclose(updated.pair_values(child, parent), dense[child, parent], rtol=1e-10)
+    assert isinstance(SymmetricFactor(change).pair_values(child, parent), np.ndarray)

@@ -53,11 +53,13 @@ def test_batched_table_matches_the_per_bus_path(make_input, spec):
     assert np.array_equal(np.isnan(batched.angle_deg), np.isnan(per_bus.angle_deg))
 
 
-def test_batched_table_in_blocks_and_in_any_bus_order(make_input, monkeypatch):
-    # Blocks of one faulted node at a time, buses asked twice and out of order: the same rows.
+@pytest.mark.parametrize("spec", [NETWORKS[2], NETWORKS[3]], ids=["meshed", "radial"])
+def test_batched_table_in_blocks_and_in_any_bus_order(make_input, monkeypatch, spec):
+    # Blocks of one faulted node at a time (run two at once in threads), buses asked twice
+    # and out of order: the same rows; the radial network by the shunts' columns.
     from faultcalc.solve import contribution_table as module
 
-    a = analyse(read_system(make_input(random_sheets(**NETWORKS[2]))))
+    a = analyse(read_system(make_input(random_sheets(**spec))))
     buses = [5, 0, 5, 3, 27, 1]
     whole, per_bus = _both(a, buses)
     monkeypatch.setattr(module, "BLOCK_ENTRIES", 1)

@@ -185,7 +185,8 @@ class ResultFiles:
     ----------
     output : str or Path
         The results workbook (``.xlsx``); ``<output>-buses.csv`` beside it holds every bus of
-        a study of more than BIG_OUTPUT_BUSES buses.
+        a study of more than BIG_OUTPUT_BUSES buses, and ``<output>-contributions.csv`` every
+        contribution row when they are more than BIG_CONTRIBUTION_ROWS.
     json_path : str or Path, optional
         Also write the results as JSON.
     report_path : str or Path, optional
@@ -195,7 +196,7 @@ class ResultFiles:
         The study's input: refused as an output.
     overwrite : bool, default False
         Replace files that exist now (and only those); without it an existing workbook, JSON
-        or bus CSV is refused.
+        or companion CSV is refused.
     on_placed : callable, optional
         Called once every file is in place (see :class:`OutputFiles`).
 
@@ -203,7 +204,7 @@ class ResultFiles:
     ------
     OutputError
         A path is the input, exists already (without ``overwrite``) or is a folder; the JSON
-        is the workbook or the bus CSV.
+        is the workbook or a companion CSV.
     """
 
     def __init__(
@@ -359,7 +360,8 @@ def write_results(
 ) -> WrittenResults:
     """Write a study's results as ``faultcalc study`` does: the workbook, the JSON if asked
     for and, above BIG_OUTPUT_BUSES buses, a summary workbook with every bus in
-    ``<output>-buses.csv``; all or none, atomically.
+    ``<output>-buses.csv`` (and above BIG_CONTRIBUTION_ROWS contribution rows, every one in
+    ``<output>-contributions.csv``); all or none, atomically.
 
     The same as ``ResultFiles(output, json_path, ...).write(result, progress=progress)``;
     make the :class:`ResultFiles` before the study to have the names refused before it runs.
@@ -378,7 +380,7 @@ def write_results(
     Returns
     -------
     WrittenResults
-        The files written, the bus CSV of a large study and a stale bus CSV removed.
+        The files written, the companion CSVs of a large study and the stale ones removed.
 
     Raises
     ------

@@ -1036,7 +1036,7 @@ def write_workbook_to(
     if result.contributions is not None and len(result.contributions) > BIG_CONTRIBUTION_ROWS:
         cut, kept = result.contributions_at_most(BIG_CONTRIBUTION_ROWS)
         contribution_note = contributions_cut_note(
-            result, kept, len(cut), contributions_in, "this sheet"
+            result.contributions, kept, len(cut), BIG_CONTRIBUTION_ROWS, contributions_in
         )
         result = dataclasses.replace(result, contributions=cut)
     if summary_of is not None:

@@ -423,10 +423,14 @@ def _columns(factor, nodes: np.ndarray) -> np.ndarray:
 
 
 def _text(values: np.ndarray, codes: np.ndarray) -> pd.Categorical:
-    """``values[codes]`` as a text column: categorical (one Python string per distinct
-    value, not per row)."""
+    """``values[codes]`` as a text column: categorical (one Python string per distinct value
+    in the column, not per row), its categories only the values that occur."""
     names, inverse = np.unique(np.asarray(values, dtype=str), return_inverse=True)
-    return pd.Categorical.from_codes(inverse[codes], categories=names.astype(object))
+    codes = inverse[codes]
+    used = np.flatnonzero(np.bincount(codes, minlength=len(names)))
+    renumber = np.full(len(names), -1, np.int64)
+    renumber[used] = np.arange(len(used))
+    return pd.Categorical.from_codes(renumber[codes], categories=names[used].astype(object))
 
 
 def _by_node(nodes: np.ndarray, n_nodes: int, payload: np.ndarray | None = None):

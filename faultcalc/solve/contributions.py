@@ -216,9 +216,13 @@ def _incident(stamps) -> dict[int, list[int]]:
     return at_node
 
 
+TEXT_COLUMNS = ("faulted_bus", "fault", "element", "kind", "from_bus", "phase")
+
+
 def as_table(phasors: list[Phasors]) -> pd.DataFrame:
     """One row per contribution: the largest phase current, its angle and phase letter, and
-    the residual (ground) current 3I0."""
+    the residual (ground) current 3I0. Text columns are categorical, as in
+    contribution_table.py (a table of every bus has millions of rows and few names)."""
     rows = []
     for p in phasors:
         size = np.abs(p.phases_ka)
@@ -242,4 +246,5 @@ def as_table(phasors: list[Phasors]) -> pd.DataFrame:
                 ig if ig > floor else 0.0,
             )
         )
-    return pd.DataFrame(rows, columns=list(CONTRIBUTION_COLUMNS))
+    table = pd.DataFrame(rows, columns=list(CONTRIBUTION_COLUMNS))
+    return table.astype({c: "category" for c in TEXT_COLUMNS})

@@ -154,6 +154,8 @@ class _Kept:
         self._diagonal = None
 
     def __getattr__(self, name):
+        if name.startswith("__") or name == "_factor":  # copies and pickles: not the factor's
+            raise AttributeError(name)
         return getattr(self._factor, name)
 
     def diagonal(self) -> np.ndarray:

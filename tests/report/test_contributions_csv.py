@@ -101,17 +101,23 @@ def test_contributions_at_most_keeps_whole_buses(make_input):
     assert len(cut) == (c.faulted_bus == cut.faulted_bus[0]).sum()
 
 
-@pytest.mark.parametrize("split", [False, True])
-def test_a_csv_written_in_two_halves_is_the_same_file(make_input, monkeypatch, tmp_path, split):
-    result = run_study(read_system(make_input(random_sheets(**SHEETS))), contributions="all")
+@pytest.mark.parametrize("quoted", [False, True])
+def test_a_csv_written_in_chunks_is_the_same_file(make_input, monkeypatch, tmp_path, quoted):
+    sheets = random_sheets(**SHEETS)
+    if quoted:  # a name that needs quotes, in a late chunk only: every field is then quoted
+        sheets["machines"][-1]["machine"] = 'MOT, "last"'
+    result = run_study(read_system(make_input(sheets)), contributions="all")
     one = tmp_path / "one.csv"
     csvout.write_contributions_csv_to(result, one)
-    monkeypatch.setattr(csvout, "SPLIT_ROWS", 3 if split else 10**9)
+    monkeypatch.setattr(csvout, "SPLIT_ROWS", 3)
+    monkeypatch.setattr(csvout, "CHUNK_ROWS", 7)
     monkeypatch.setattr(csvout.os, "cpu_count", lambda: 2)
-    two = tmp_path / "two.csv"
-    csvout.write_contributions_csv_to(result, two)
-    assert two.read_bytes() == one.read_bytes()
-    assert len(_read_back(two)) == len(result.contributions)
+    chunked = tmp_path / "chunked.csv"
+    csvout.write_contributions_csv_to(result, chunked)
+    assert chunked.read_bytes() == one.read_bytes()
+    rows = _read_back(chunked)
+    assert len(rows) == len(result.contributions) > 7 * 3
+    assert ('MOT, "last"' in {r["element"] for r in rows}) == quoted
 
 
 def test_the_report_prints_whole_buses_and_says_where_the_rest_is(monkeypatch, tmp_path):
@@ -133,3 +139,38 @@ def test_the_report_prints_whole_buses_and_says_where_the_rest_is(monkeypatch, t
         f"buses ({len(cut)} rows)" in text
     )
     assert f"every one of the {total} rows is in p-contributions.csv" in text
+
+
+def test_a_summary_and_many_contributions_agree_in_workbook_and_report(
+    make_input, monkeypatch, tmp_path
+):
+    # More buses than a full workbook takes and more contributions than a sheet: the workbook
+    # and the report hold the same faulted buses (the largest fault currents of the whole
+    # study, not of its summary), and every row's kV is there.
+    from pypdf import PdfReader
+
+    from faultcalc import results
+
+    monkeypatch.setattr(outputs, "BIG_OUTPUT_BUSES", 5)
+    monkeypatch.setattr(results, "SUMMARY_BUSES", 2)
+    monkeypatch.setattr(outputs, "BIG_CONTRIBUTION_ROWS", 60)
+    monkeypatch.setattr(outputs, "REPORT_CONTRIBUTION_ROWS", 60)
+    folder = make_input(random_sheets(**SHEETS))
+    out, report = tmp_path / "r.xlsx", tmp_path / "r.pdf"
+    run = _invoke("study", folder, "-o", out, "--report", report, "--contributions", "all")
+    assert run.exit_code == 0, run.output
+    result = run_study(read_system(folder), contributions="all")
+    cut, kept = result.contributions_at_most(60)
+    want = list(dict.fromkeys(cut.faulted_bus))
+    book = openpyxl.load_workbook(out, read_only=True)
+    words = {FAULT_WORDS["3ph"], FAULT_WORDS["slg"]}
+    body = [
+        r for r in book["Contributions"].iter_rows(values_only=True) if len(r) > 2 and r[1] in words
+    ]
+    assert list(dict.fromkeys(r[0] for r in body)) == want
+    assert all(r[5] is not None for r in body)  # Currents at kV, also for buses not summarised
+    text = " ".join(" ".join(p.extract_text().split()) for p in PdfReader(report).pages)
+    assert f"Contributions at {kept} of the" in text
+    section = text[text.rindex("Contributions to the fault current") :]
+    first = section.index(want[0])
+    assert all(section.index(b) >= first for b in want)

@@ -3,10 +3,12 @@ size on a page of its own size by the diagram's PDF renderer (faultcalc.diagram.
 
 from __future__ import annotations
 
+import dataclasses
 from pathlib import Path
 
 from ...results import StudyResult
 from ...solve import duty
+from ..words import contributions_cut_note
 from . import sections
 from .pages import Marks, NumberedCanvas, ReportDocument, SheetSlot
 
@@ -63,6 +65,23 @@ def _lacking(result: StudyResult) -> str:
     )
 
 
+def contributions_cut(result: StudyResult, contributions_in: str | None):
+    """The result with its contributions cut to what the report prints (whole faulted buses
+    of the largest fault currents, at most REPORT_CONTRIBUTION_ROWS rows; ranked on the whole
+    result, before any summary) and the note saying so ("" when nothing is cut)."""
+    from ..outputs import REPORT_CONTRIBUTION_ROWS
+
+    c = result.contributions
+    if c is None or len(c) <= REPORT_CONTRIBUTION_ROWS:
+        return result, ""
+    cut, kept = result.contributions_at_most(REPORT_CONTRIBUTION_ROWS)
+    where = contributions_in or "the workbook's Contributions sheet"
+    note = contributions_cut_note(
+        c, kept, len(cut), REPORT_CONTRIBUTION_ROWS, where, csv=contributions_in is not None
+    )
+    return dataclasses.replace(result, contributions=cut), note
+
+
 def write_report_to(
     result: StudyResult,
     path: str | Path,
@@ -82,6 +101,7 @@ def write_report_to(
     """
 
     counts = _counts(result)
+    result, contribution_note = contributions_cut(result, contributions_in)
     note = None
     if summary_of is not None:
         cut = result.summary()
@@ -115,7 +135,7 @@ def write_report_to(
     story += sections.inverters(result)
     story += sections.equipment(result)
     story += sections.cases(result)
-    story += sections.contributions(result, contributions_in)
+    story += sections.contributions(result, contribution_note)
     story += sections.cable_check(result)
     story += sections.warnings(result)
     story += sections.input_restated(

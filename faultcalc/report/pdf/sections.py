@@ -6,7 +6,6 @@ Paragraph: reportlab reads '<' and '&' in a paragraph as markup.
 
 from __future__ import annotations
 
-import dataclasses
 import math
 from xml.sax.saxutils import escape
 
@@ -30,7 +29,7 @@ from ...solve import duty
 from ..basis import basis_items
 from ..labeltext import label_lines
 from ..words import FAULT_WORDS as OUTPUT_FAULT_WORDS
-from ..words import contribution_kv, contributions_cut_note
+from ..words import contribution_kv
 from .pages import LANDSCAPE, MARGIN_PT, PORTRAIT, SMALL_PT
 
 FAULT_WORDS = {**OUTPUT_FAULT_WORDS, "": ""}
@@ -679,25 +678,13 @@ def cases(result: StudyResult) -> list:
     return out
 
 
-def contributions(result: StudyResult, every_row_in: str | None = None) -> list:
-    """The contributions, at most REPORT_CONTRIBUTION_ROWS rows of them (whole faulted buses,
-    the largest fault currents); ``every_row_in``: the CSV holding every row, if written."""
-    from ..outputs import REPORT_CONTRIBUTION_ROWS
-
+def contributions(result: StudyResult, cut_note: str = "") -> list:
+    """The contributions of ``result`` (already cut by build.contributions_cut when they are
+    more than the report prints; ``cut_note`` then says so)."""
     if result.contributions is None:
         return []
     out = heading("Contributions to the fault current", landscape=True)
-    cut_note = ""
-    if len(result.contributions) > REPORT_CONTRIBUTION_ROWS:
-        cut, kept = result.contributions_at_most(REPORT_CONTRIBUTION_ROWS)
-        cut_note = " " + contributions_cut_note(
-            result,
-            kept,
-            len(cut),
-            every_row_in or "the workbook's Contributions sheet",
-            "this report",
-        ).replace(" (its last column, input_sha256, is the input's SHA-256)", "")
-        result = dataclasses.replace(result, contributions=cut)
+    cut_note = f" {cut_note}" if cut_note else ""
     rows = [
         [
             r.faulted_bus,
