@@ -126,15 +126,8 @@ class SymmetricFactor:
         root = up < 0
         up[root] = np.flatnonzero(root)
         m[root] = 0.0
-        while True:
-            a = a + m * a[up]
-            m = m * m[up]
-            nxt = up[up]
-            if np.array_equal(nxt, up):
-                break
-            up = nxt
         z = np.empty(n, dtype=complex)
-        z[post] = a
+        z[post] = _down_the_tree(a, m, up)
         return z
 
     def _general_diagonal(self) -> np.ndarray:
@@ -204,15 +197,7 @@ class SymmetricFactor:
             m = np.zeros(n, dtype=complex)
             m[hanging] = val[start[hanging]] ** 2
             up = np.where(hanging, parent, np.arange(n))
-            a = z_diag
-            while True:
-                a = a + m * a[up]
-                m = m * m[up]
-                nxt = up[up]
-                if np.array_equal(nxt, up):
-                    break
-                up = nxt
-            z_diag = a
+            z_diag = _down_the_tree(z_diag, m, up)
         # The factored matrix is y[q][:, q] with q = argsort(perm_c).
         return z_diag[lu.perm_c]
 
@@ -319,6 +304,19 @@ def _dense_top(top, top_pos, ptr, idx, val, inv_d) -> np.ndarray:
     return blas.ztrmm(
         1.0, inv_l, inv_d[top][:, None] * inv_l, side=0, lower=1, trans_a=1, overwrite_b=1
     )
+
+
+def _down_the_tree(a: np.ndarray, m: np.ndarray, up: np.ndarray) -> np.ndarray:
+    """``z_j = a_j + m_j z_up(j)`` for every j at once, where ``up`` points at each entry's
+    parent (a root at itself, with m 0): pointer jumping, log2 of the depth whole-array
+    steps."""
+    while True:
+        a = a + m * a[up]
+        m = m * m[up]
+        nxt = up[up]
+        if np.array_equal(nxt, up):
+            return a
+        up = nxt
 
 
 def _segments(owner, first, count):
