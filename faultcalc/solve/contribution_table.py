@@ -5,10 +5,12 @@ Python step per faulted bus or per element.
 The same superposition as contributions.py (read its docstring first): for a fault at node n
 with sequence currents I_s, a node's voltage changes by ``dV_s = -Z_s[:, n] I_s``, so a source
 or machine of admittance y at node m delivers ``Z_s[m, n] I_s y`` and a branch meeting n its
-nodal injection turned round. The columns ``Z_s[:, n]`` come from the factorizations already
-made, a block of faulted nodes at a time (one multi-column pair of triangular solves each);
-only their rows at the shunts and at the branches' ends are kept. Every row of the table is
-then the same few lines of arithmetic on arrays of rows.
+nodal injection turned round. The entries ``Z_s[m, n]`` come from the factorizations already
+made, one of two ways: in a radial network with fewer sources and machines than faulted
+buses, from the columns at the shunts' nodes (Z is symmetric) and the values on the branches
+(``SymmetricFactor.pair_values``); otherwise from the columns at the faulted nodes, a block of
+them at a time. Blocks of faulted buses are done two at a time in threads. Every row of the
+table is then the same few lines of arithmetic on arrays of rows.
 
 Rows are in the order of the per-bus path: per faulted bus (in the order asked for), the
 three-phase fault, then the line-to-ground one (where the bus has a zero-sequence path); in
