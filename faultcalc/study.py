@@ -40,7 +40,7 @@ from .solve import (
     standards,
     threewinding,
 )
-from .solve.contribution_table import contribution_table
+from .solve.contribution_table import contribution_table as batched_contributions
 from .solve.contributions import (
     CONTRIBUTION_FAULTS,
     InverterState,
@@ -397,17 +397,23 @@ def contributions_table_of(a: Analysis, buses: list[int]) -> pd.DataFrame:
     fault an iteration of its own."""
     if a.inverters is not None:
         return as_table(contributions_of(a, buses))
-    zf_pu = a.system.settings.fault_ohm / perunit.z_base_ohm(np.array(a.pu.bus_kv), a.pu.base_mva)
-    pu = a.pu if a.e_bus is None else dataclasses.replace(a.pu, prefault_pu=tuple(a.e_bus))
-    return contribution_table(
+    pu, zf_pu = _contribution_basis(a)
+    return batched_contributions(
         pu, a.network, a.factor1, a.factor0, a.z1_node, a.z0_node, buses, zf_pu, a.angle_deg
     )
 
 
-def contributions_of(a: Analysis, buses: list[int]) -> list[Phasors]:
-    """Complex contributions to faults at the buses with these input indices."""
+def _contribution_basis(a: Analysis):
+    """The per-unit system the contributions take (with the open-circuit prefault voltages
+    when the study uses them) and the fault impedance per bus, per-unit."""
     zf_pu = a.system.settings.fault_ohm / perunit.z_base_ohm(np.array(a.pu.bus_kv), a.pu.base_mva)
     pu = a.pu if a.e_bus is None else dataclasses.replace(a.pu, prefault_pu=tuple(a.e_bus))
+    return pu, zf_pu
+
+
+def contributions_of(a: Analysis, buses: list[int]) -> list[Phasors]:
+    """Complex contributions to faults at the buses with these input indices."""
+    pu, zf_pu = _contribution_basis(a)
     state = None
     if a.inverters is not None:
         state = (

@@ -117,11 +117,11 @@ def _write_table_csv(
         handle.write((",".join(names) + "\n").encode())
         start = handle.tell()
         try:  # unquoted unless a text field needs quotes (then Arrow refuses and all are)
-            _write_rows(pa, pcsv, data, handle, path, "none")
+            _write_rows(pa, pcsv, data, handle, "none")
         except pa.ArrowInvalid:
             handle.seek(start)
             handle.truncate()
-            _write_rows(pa, pcsv, data, handle, path, "needed")
+            _write_rows(pa, pcsv, data, handle, "needed")
 
 
 # Rows above which a CSV is written in chunks of CHUNK_ROWS, two rendered at once (two
@@ -132,7 +132,7 @@ SPLIT_ROWS = 1_000_000
 CHUNK_ROWS = 250_000
 
 
-def _write_rows(pa, pcsv, data, handle, path: Path, quoting: str) -> None:
+def _write_rows(pa, pcsv, data, handle, quoting: str) -> None:
     options = _options(pcsv, quoting)
     if len(data) <= SPLIT_ROWS or (os.cpu_count() or 1) < 2:
         pcsv.write_csv(data, handle, write_options=options)

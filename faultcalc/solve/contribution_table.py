@@ -82,7 +82,7 @@ class _Parts:
     """What every block needs, gathered once: the shunts and the branch stamps by node."""
 
     def __init__(self, pu: PerUnitSystem, network: Network):
-        self.pu, self.network = pu, network
+        self.network = network
         s1, s0 = network.seq1, network.seq0
         n_bus = len(pu.bus_names)
         self.i_base = i_base_ka(np.asarray(pu.bus_kv, dtype=float), pu.base_mva)

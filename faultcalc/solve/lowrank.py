@@ -22,6 +22,8 @@ from.
 
 from __future__ import annotations
 
+import contextlib
+
 import numpy as np
 import scipy.sparse as sp
 
@@ -63,18 +65,14 @@ class StudyFactors(Orderings):
         self.updates = 0  # factorizations a case had as updates (for tests and benchmarks)
         self.fresh = 0  # factorizations a case had afresh
 
+    @contextlib.contextmanager
     def base(self, keep: bool = True):
         """Bracket the base case; ``keep`` False (a study without cases) keeps nothing."""
-        cache = self
-
-        class _Base:
-            def __enter__(self):
-                cache._keeping = keep
-
-            def __exit__(self, *exc):
-                cache._keeping = False
-
-        return _Base()
+        self._keeping = keep
+        try:
+            yield
+        finally:
+            self._keeping = False
 
     def factor(self, y: sp.spmatrix):
         y = _canonical(y)

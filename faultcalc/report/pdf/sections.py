@@ -712,17 +712,12 @@ def contributions(result: StudyResult, cut_note: str = "") -> list:
             "connected to), a branch's at the faulted-bus end. Convert a current at another "
             "voltage by the ratio of the two before comparing it with the faulted bus's. Angles "
             "relative to the prefault phase-a voltage at the faulted bus."
-            + (
-                f" {dropped:,} rows carrying less than 0.005 kA (a branch with nothing behind "
-                "it) are left out here; the workbook's Contributions sheet has every row."
-                if dropped and not cut_note
-                else ""
-            )
             + cut_note
             + (
-                f" Of the {len(result.contributions):,} rows, {dropped:,} carrying less than "
-                "0.005 kA (a branch with nothing behind it) are left out here."
-                if dropped and cut_note
+                f" {dropped:,} rows carrying less than 0.005 kA (a branch with nothing behind "
+                "it) are left out here"
+                + ("." if cut_note else "; the workbook's Contributions sheet has every row.")
+                if dropped
                 else ""
             ),
             BODY,
