@@ -11,6 +11,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
+from . import over_cases, textcolumns
 from ._version import __version__
 from .cautions import CAUTIONS
 from .conductors import cablecheck
@@ -19,15 +20,10 @@ from .model import System
 from .progress import Progress, reporter, without_gc
 from .results import (
     BUS_COLUMNS,
-    DUTY_COLUMNS,
     ELEMENT_COLUMNS,
-    FAULT_OF_COLUMN,
-    LABEL_COLUMNS,
-    MAXIMUM_COLUMNS,
     NOT_CONVERGED,
     Basis,
     StudyResult,
-    unconverged,
 )
 from .solve import (
     asymmetry,
@@ -80,7 +76,6 @@ MV_DUTY_COLUMNS = (
     "closing_rating_ka",
     "closing_pct",
 )
-ENVELOPE_COLUMNS = ("i3ph_ka", "islg_ka", "ill_ka", "illg_ka", "ip_ka", "iasym_ka", "duty_pct")
 
 GROUND_NOTE = (
     "no zero-sequence path to ground here (ungrounded or delta-fed without grounding): the "
@@ -591,7 +586,7 @@ def fault_table(a: Analysis, progress: Progress | None = None, interrupting=None
     loop = 2 * z1 + z0 + 3 * zf_pu
     xr_slg = np.where(grounded, _xr(np.where(grounded, loop, 1.0)), np.nan)
     rows = dict(
-        bus=list(pu.bus_names),
+        bus=_bus_column(a.system),
         kv=kv,
         r1_ohm=z1.real * z_base,
         x1_ohm=z1.imag * z_base,
@@ -607,9 +602,9 @@ def fault_table(a: Analysis, progress: Progress | None = None, interrupting=None
         ill_ka=f.ill * i_base,
         illg_ka=f.illg * i_base,
         ig_llg_ka=f.ig_llg * i_base,
-        max_fault=np.array(faults.FAULT_TYPES, dtype=object)[largest],
-        ground_note=np.where(grounded, "", np.array(GROUND_NOTE, dtype=object)),
-        prefault_pu=e,
+        max_fault=textcolumns.coded(faults.FAULT_TYPES, largest),
+        ground_note=textcolumns.coded(("", GROUND_NOTE), ~grounded),
+        prefault_pu=np.array(e, dtype=float),
         xr_fault=xr_fault,
         kappa=kappa,
         ip_ka=kappa * np.sqrt(2.0) * i3_ka,
@@ -619,13 +614,24 @@ def fault_table(a: Analysis, progress: Progress | None = None, interrupting=None
     )
     n = len(kv)
     i_int, xr_int = interrupting if interrupting is not None else (np.full(n, np.nan),) * 2
-    rows.update(i_int_ka=i_int, xr_int=xr_int)
-    rows.update({c: np.full(n, np.nan) for c in ("ib_ka", "idc_ka", "ik_ka", "ith_ka")})
-    rows.update(iec_note=[""] * n)  # method iec60909: filled by _solve
+    rows.update(i_int_ka=np.array(i_int, dtype=float), xr_int=np.array(xr_int, dtype=float))
+    blank = ("ib_ka", "idc_ka", "ik_ka", "ith_ka", *MIN_COLUMNS)  # iec60909: filled by _solve
+    rows.update({c: np.full(n, np.nan) for c in blank})
+    rows.update(iec_note=textcolumns.repeated("", n))  # method iec60909: filled by _solve
     rows.update(_inverter_columns(a, iterated, n))
     progress.step("equipment duty")
     rows.update(_duty(a.system, rows, interrupting is not None))
-    return pd.DataFrame(rows, columns=list(BUS_COLUMNS))
+    # every column its own array, none shared with another column or with the input: so
+    # the frame takes them as they are (no copy into one block; 100,000 buses: 6 ms a table)
+    return pd.DataFrame(rows, columns=list(BUS_COLUMNS), copy=False)
+
+
+def _bus_column(system: System):
+    """The bus names as a text column, made once for the bus table every case shares."""
+    memo = system.buses.memo()
+    if "bus text" not in memo:
+        memo["bus text"] = textcolumns.of_list(system.buses.column("bus"))
+    return memo["bus text"].copy()  # its own array object (the Arrow data are shared)
 
 
 INVERTER_NAMES_SHOWN = 5  # inverters named in a bus's note, at most, per fault type
@@ -666,7 +672,7 @@ def _inverter_columns(a: Analysis, solutions, n: int) -> dict[str, object]:
         return {
             "inverter_sweeps": np.full(n, np.nan),
             "inverter_residual_pu": np.full(n, np.nan),
-            "inverter_note": [note] * n,
+            "inverter_note": textcolumns.repeated(note, n),
         }
     names = np.array(a.inverters.names, dtype=object)
     parts: list[list[str]] = [[] for _ in range(n)]
@@ -692,7 +698,7 @@ def _inverter_columns(a: Analysis, solutions, n: int) -> dict[str, object]:
     return {
         "inverter_sweeps": sweeps.astype(float),
         "inverter_residual_pu": residual,
-        "inverter_note": ["; ".join(p) for p in parts],
+        "inverter_note": textcolumns.of_list(["; ".join(p) for p in parts]),
     }
 
 
@@ -702,21 +708,19 @@ def _duty(system: System, rows: dict, interrupting: bool) -> dict[str, object]:
     i3_ka, islg_ka = rows["i3ph_ka"], rows["islg_ka"]
     xr_fault, xr_slg = rows["xr_fault"], rows["xr_slg"]
     n = len(system.buses)
-    device = system.buses.column("device")
+    device_text, rated = _devices(system)
     out: dict[str, object] = {
-        "device": ["" if d is None else d for d in device],
-        "rating_ka": system.buses.array("rating_ka"),
+        "rating_ka": np.array(system.buses.array("rating_ka"), dtype=float),
         **{k: np.full(n, np.nan) for k in ("test_xr", "mf", "duty_ka", "duty_pct")},
-        "duty_status": [duty.STATUS_NONE] * n,
+        "duty_status": [duty.STATUS_NONE] * n,  # text, set at the rated buses only
         "duty_fault": [""] * n,
         "duty_basis": [""] * n,
         **{k: np.full(n, np.nan) for k in MV_DUTY_COLUMNS},
     }
-    rated = [k for k, d in enumerate(device) if d is not None]
-    stuck = [NOT_CONVERGED in (note or "") for note in rows["inverter_note"]]
+    notes = rows["inverter_note"]
     for k, b in zip(rated, system.buses.take(rated), strict=True):
-        if stuck[k]:  # a current not converged on has no duty: said, never "below rating"
-            out["duty_status"][k] = duty.STATUS_NOT_COMPUTED
+        if NOT_CONVERGED in (notes[k] or ""):  # a current not converged on has no duty:
+            out["duty_status"][k] = duty.STATUS_NOT_COMPUTED  # said, never "below rating"
             continue
         if b.device in duty.MV_DEVICES:
             _mv_duty(out, k, b, rows, interrupting, system.settings.frequency_hz)
@@ -738,7 +742,22 @@ def _duty(system: System, rows: dict, interrupting: bool) -> dict[str, object]:
         out["duty_basis"][k] = duty.BASIS_INTERRUPTING
         out["capability_ka"][k] = b.rating_ka
         out["interrupting_pct"][k] = pct
-    return out
+    texts = (("duty_status", duty.STATUS_NONE), ("duty_fault", ""), ("duty_basis", ""))
+    for column, blank in texts:
+        at_rated = [out[column][k] for k in rated]
+        out[column] = textcolumns.sparse(n, blank, rated, at_rated)
+    return {"device": device_text.copy(), **out}
+
+
+def _devices(system: System):
+    """The buses' devices as a text column ("" where none) and the rows that have one: made
+    once for the bus table every case shares."""
+    memo = system.buses.memo()
+    if "devices" not in memo:
+        device = system.buses.column("device")
+        rated = [k for k, d in enumerate(device) if d is not None]
+        memo["devices"] = (textcolumns.of_list(device), rated)
+    return memo["devices"]
 
 
 def _mv_duty(out: dict, k: int, b, rows: dict, interrupting: bool, frequency_hz: int) -> None:
@@ -793,264 +812,6 @@ def _mv_duty(out: dict, k: int, b, rows: dict, interrupting: bool, frequency_hz:
 def _cable_checks(system: System, progress: Progress) -> pd.DataFrame:
     progress.step("cable check")
     return cablecheck.check_table(system)[list(cablecheck.CHECK_COLUMNS)]
-
-
-def _aligned(tables: dict[str, pd.DataFrame], order: list[str]) -> dict[str, pd.DataFrame]:
-    """The tables with one row per bus of ``order`` (every bus of the base case and of any
-    case, see ``_all_buses``), in that order: a bus missing from a table (out of service
-    there) gets a row of blanks."""
-    index = pd.Index(np.array(order, dtype=object), name="bus")
-    out = {}
-    for name, table in tables.items():
-        same = len(table) == len(order) and bool(
-            (table.bus.to_numpy(dtype=object) == index.to_numpy()).all()
-        )
-        if not same:
-            table = table.set_index("bus").reindex(index).reset_index()
-        out[name] = table
-    return out
-
-
-def _all_buses(system: System) -> tuple[list[str], dict[str, str], list[str]]:
-    """Every bus of the base case and of any case (a bus out of service in the base case may be
-    in service in a case), in input order; their descriptions; the service buses among them."""
-    buses = system.buses
-    if not system.cases:  # the base case alone, in its own order (whole columns)
-        names = list(buses.column("bus"))
-        service = [n for n, yes in zip(names, buses.column("service"), strict=True) if yes == "yes"]
-        texts = (t or "" for t in buses.column("description"))
-        return names, dict(zip(names, texts, strict=True)), service
-    seen: dict[str, tuple[int, str, str]] = {}
-    for s in (system, *(case for _, case in system.cases)):
-        for name, row, text, service in zip(
-            s.buses.column("bus"),
-            s.buses.column("row"),
-            s.buses.column("description"),
-            s.buses.column("service"),
-            strict=True,
-        ):
-            if name not in seen:
-                seen[name] = (row if row is not None else 0, text or "", service)
-    order = sorted(seen, key=lambda n: seen[n][0])
-    return (
-        order,
-        {n: seen[n][1] for n in order},
-        [n for n in order if seen[n][2] == "yes"],
-    )
-
-
-def _worst(tables: dict[str, pd.DataFrame], column: str, rows=None) -> tuple[np.ndarray, ...]:
-    """Per bus (or per bus at ``rows``): the index of the table with the largest ``column``
-    (the first on equal values; NaN counts as none) and that value (NaN if none)."""
-    stack = np.vstack([t[column].to_numpy(dtype=float) for t in tables.values()])
-    if rows is not None:
-        stack = stack[:, rows]
-    return _largest(stack)
-
-
-def _largest(stack: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Per column of ``stack``: the row of the largest value (the first on equal values; NaN
-    counts as none) and that value (NaN where the column has none)."""
-    filled = np.where(np.isnan(stack), -np.inf, stack)
-    worst = np.argmax(filled, axis=0) if stack.shape[1] else np.zeros(0, dtype=np.int64)
-    value = filled[worst, np.arange(stack.shape[1])]
-    return worst, np.where(np.isinf(value), np.nan, value)
-
-
-def _pick(tables: dict[str, pd.DataFrame], column: str, worst: np.ndarray, rows) -> np.ndarray:
-    """``column`` at ``rows`` taken from the table ``worst`` names for each row."""
-    stack = np.vstack([t[column].iloc[rows].to_numpy(dtype=object) for t in tables.values()])
-    return stack[worst, np.arange(len(worst))]
-
-
-def _envelope(tables: dict[str, pd.DataFrame], order: list[str]) -> pd.DataFrame:
-    """Worst value per bus over the base and every case, with the case that gave it; for the
-    duty also its fault type and status."""
-    tables = _aligned(tables, order)
-    names = list(tables)
-    base = tables[names[0]]
-    out = {"bus": base.bus.tolist()}
-    case_names = np.array(names, dtype=object)
-    worst_of = {}
-    for column in ENVELOPE_COLUMNS:
-        worst, value = _worst(tables, column)
-        stuck = _stuck(tables, slice(None), FAULT_OF_COLUMN.get(column))  # duty: any type
-        value = np.where(stuck, np.nan, value)  # the worst is not known without them
-        worst_of[column] = worst
-        out[column] = value
-        out[column.replace("_ka", "").replace("_pct", "") + "_case"] = np.where(
-            stuck, NOT_CONVERGED, np.where(np.isfinite(value), case_names[worst], "")
-        )
-    rated = np.flatnonzero(np.isfinite(out["duty_pct"]))
-    worst = worst_of["duty_pct"][rated]
-    for column, blank in (("duty_fault", ""), ("duty_status", duty.STATUS_NONE)):
-        values = np.full(len(base), blank, dtype=object)
-        values[rated] = _pick(tables, column, worst, rated)
-        out[column] = values
-    not_computed = np.zeros(len(base), bool)
-    for t in tables.values():
-        not_computed |= (t.duty_status == duty.STATUS_NOT_COMPUTED).to_numpy()
-    out["duty_status"] = np.where(not_computed, duty.STATUS_NOT_COMPUTED, out["duty_status"])
-    return pd.DataFrame(out)
-
-
-def _worst_duty(
-    tables: dict[str, pd.DataFrame], order: list[str], descriptions: dict[str, str]
-) -> pd.DataFrame:
-    """Each bus with a device in the base or any case: its worst duty over all of them (the
-    first table on equal duty, so the base case before any case), with the case, the fault
-    type and the X/R that gave it, and the base case's duty beside it."""
-    tables = _aligned(tables, order)
-    names = list(tables)
-    base = tables[names[0]]
-    rated = np.zeros(len(base), dtype=bool)
-    not_computed = np.zeros(len(base), dtype=bool)
-    for table in tables.values():
-        rated |= np.isfinite(table.duty_pct.to_numpy(dtype=float))
-        not_computed |= (table.duty_status == duty.STATUS_NOT_COMPUTED).to_numpy()
-    rated |= not_computed
-    rows = np.flatnonzero(rated)
-    worst, pct = _worst(tables, "duty_pct", rows)
-    out: dict[str, object] = {"bus": base.bus.iloc[rows].to_numpy(dtype=object)}
-    for column in ("device", "rating_ka", "test_xr", "mf", "duty_ka", "duty_status", "duty_basis"):
-        out[column] = _pick(tables, column, worst, rows)
-    out["duty_pct"] = pct
-    fault = _pick(tables, "duty_fault", worst, rows)
-    out["duty_fault"] = fault
-    # the X/R of the duty: the ground-fault loop's, the interrupting network's for an MV
-    # breaker's interrupting duty with method ieee, else the bus's (first-cycle)
-    xr_int = _pick(tables, "xr_int", worst, rows).astype(float)
-    mv = (
-        np.isin(out["device"].astype(str), duty.MV_DEVICES)
-        & np.isfinite(xr_int)
-        & (out["duty_basis"].astype(str) != duty.BASIS_CLOSING)
-    )
-    out["duty_xr"] = np.where(
-        fault == "slg",
-        _pick(tables, "xr_slg", worst, rows).astype(float),
-        np.where(mv, xr_int, _pick(tables, "xr_fault", worst, rows).astype(float)),
-    )
-    out["duty_case"] = np.array(names, dtype=object)[worst]
-    for column in (
-        "capability_ka",
-        "interrupting_pct",
-        "closing_duty_ka",
-        "closing_rating_ka",
-        "closing_pct",
-    ):
-        out[column] = _pick(tables, column, worst, rows).astype(float)
-    out["base_duty_pct"] = base.duty_pct.iloc[rows].to_numpy(dtype=float)
-    out["base_duty_status"] = np.where(
-        pd.isna(base.duty_status.iloc[rows]).to_numpy(),
-        duty.STATUS_NONE,
-        base.duty_status.iloc[rows].to_numpy(dtype=object),
-    )
-    out["description"] = [descriptions.get(b, "") for b in out["bus"]]
-    stuck = not_computed[rows]  # in any case: the worst duty is not known
-    if stuck.any():
-        for column in ("duty_pct", "duty_ka", "mf", "duty_xr"):
-            out[column] = np.where(stuck, np.nan, np.asarray(out[column], dtype=float))
-        for column, words in (
-            ("duty_status", duty.STATUS_NOT_COMPUTED),
-            ("duty_case", NOT_CONVERGED),
-            ("duty_fault", ""),
-        ):
-            out[column] = np.where(stuck, words, np.asarray(out[column], dtype=object))
-    table = pd.DataFrame(out, columns=list(DUTY_COLUMNS))
-    for column in ("rating_ka", "test_xr", "mf", "duty_ka"):
-        table[column] = table[column].astype(float)
-    return table
-
-
-LABEL_FAULTS = ("i3ph_ka", "islg_ka", "ill_ka", "illg_ka")  # in the order of FAULT_TYPES
-
-
-def _labels(
-    tables: dict[str, pd.DataFrame], order: list[str], service: list[str], descriptions
-) -> pd.DataFrame:
-    """The label figure of the ``service`` buses: the largest of the four fault currents over
-    ``tables`` (the base case first, then the cases counted in labels), with the fault type
-    and the case that gave it (the first on equal values)."""
-    tables = _aligned(tables, order)
-    rows = pd.Index(np.array(order, dtype=object)).get_indexer(service)
-    names = list(tables)
-    base = tables[names[0]]
-    table, value, fault = _largest_fault(tables, rows)
-    return pd.DataFrame(
-        {
-            "bus": base.bus.iloc[rows].to_numpy(dtype=object),
-            "description": [descriptions[b] for b in service],
-            "kv": _kv(tables, rows),
-            "label_ka": value,
-            "label_fault": fault,
-            "label_case": np.where(
-                _stuck(tables, rows), NOT_CONVERGED, np.array(names, dtype=object)[table]
-            ),
-        },
-        columns=list(LABEL_COLUMNS),
-    )
-
-
-def _kv(tables: dict[str, pd.DataFrame], rows) -> np.ndarray:
-    """The nominal kV at ``rows`` (a bus in service only in a case has its kV in that case's
-    table alone)."""
-    return np.fmax.reduce([t.kv.iloc[rows].to_numpy(dtype=float) for t in tables.values()])
-
-
-def _largest_fault(tables: dict[str, pd.DataFrame], rows) -> tuple[np.ndarray, ...]:
-    """At ``rows`` of the aligned ``tables``: the index of the table holding the largest of the
-    four fault currents (the first on equal values: the base case, then three-phase, ...),
-    that current (NaN if none) and its fault type."""
-    stack = np.vstack(
-        [t[list(LABEL_FAULTS)].iloc[rows].to_numpy(dtype=float).T for t in tables.values()]
-    )  # table-major: base 3ph, slg, ll, llg, then each case's
-    worst, value = _largest(stack)
-    kinds = len(LABEL_FAULTS)
-    fault = np.array(faults.FAULT_TYPES, dtype=object)[worst % kinds]
-    value = np.where(_stuck(tables, rows), np.nan, value)  # never a maximum without them
-    return worst // kinds, value, np.where(np.isfinite(value), fault, "")
-
-
-def _stuck(tables: dict[str, pd.DataFrame], rows, fault: str | None = None) -> np.ndarray:
-    """At ``rows`` of the aligned ``tables``: where any table holds a current of ``fault``
-    (any when None) that the inverter iteration did not converge on."""
-    stuck = np.zeros(len(next(iter(tables.values()))), bool)
-    for t in tables.values():
-        stuck |= unconverged(t, fault)
-    return stuck[rows]
-
-
-def _maximum(
-    tables: dict[str, pd.DataFrame], order: list[str], descriptions, worst_duty: pd.DataFrame
-) -> pd.DataFrame:
-    """Per bus, the maximum available fault current over the base case and every case: the
-    largest of the four fault types, the type and the case that give it and that case's X/R;
-    the worst peak and half-cycle asymmetrical current over all; the worst duty status."""
-    tables = _aligned(tables, order)
-    names = list(tables)
-    rows = np.arange(len(order))
-    table, value, fault = _largest_fault(tables, rows)
-    xr = np.vstack([t.xr.to_numpy(dtype=float) for t in tables.values()])[table, rows]
-    status = dict(zip(worst_duty.bus, worst_duty.duty_status, strict=True))
-    return pd.DataFrame(
-        {
-            "bus": np.array(order, dtype=object),
-            "description": [descriptions[b] for b in order],
-            "kv": _kv(tables, rows),
-            "max_ka": value,
-            "max_fault": fault,
-            "max_case": np.where(
-                _stuck(tables, rows),
-                NOT_CONVERGED,
-                np.where(np.isfinite(value), np.array(names, dtype=object)[table], ""),
-            ),
-            "xr": np.where(np.isfinite(value), xr, np.nan),
-            "ip_ka": _worst(tables, "ip_ka")[1],
-            "iasym_ka": _worst(tables, "iasym_ka")[1],
-            "duty_status": [status.get(b, duty.STATUS_NONE) for b in order],
-        },
-        columns=list(MAXIMUM_COLUMNS),
-    )
 
 
 def contribution_buses(system: System, contributions) -> list[int]:
@@ -1125,8 +886,6 @@ def _solve(
         no_motors = _without_motors(found[0].system, found[0].prefault_pu, orderings)
         for column, values in breaking.after_first_instant(first, table, no_motors).items():
             table[column] = values
-    for column in MIN_COLUMNS:
-        table[column] = np.nan
     if len(found) > 1:
         low_analysis = analyse(
             found[1].system, found[1].prefault_pu, progress=progress, orderings=orderings
@@ -1234,7 +993,11 @@ def _inverter_notes(system: System, tables: dict[str, pd.DataFrame]) -> tuple[st
 def _mv_notes(system: System) -> tuple[str, ...]:
     """What the MV breaker duty assumed, said once per study that has an MV breaker."""
     mv: set[str] = set()
+    walked: set[int] = set()  # a case that changes no bus shares the base's bus table
     for one in [system, *(case for _, case in system.cases)]:
+        if id(one.buses) in walked:
+            continue
+        walked.add(id(one.buses))
         devices = one.buses.column("device")
         names = one.buses.column("bus")
         mv |= {n for n, d in zip(names, devices, strict=True) if d in duty.MV_DEVICES}
@@ -1412,9 +1175,11 @@ def _study(system: System, contributions, calculated_at, progress: Progress) -> 
     case_tables: dict[str, pd.DataFrame] = {}
     base_warnings = set(pu.warnings + network.warnings)
     case_warnings: list[str] = []
+    bus_names = {"base": pu.bus_names}  # per table, the buses it holds in order
     for name, case_system in system.cases:
         try:
             solved, case_tables[name] = _solve(case_system, progress, orderings)
+            bus_names[name] = solved.pu.bus_names
             case_warnings += [
                 f"in case '{name}': {w}"
                 for w in solved.pu.warnings + solved.network.warnings
@@ -1427,15 +1192,18 @@ def _study(system: System, contributions, calculated_at, progress: Progress) -> 
                     for p in exc.problems
                 ]
             ) from None
-    order, descriptions, service = _all_buses(system)
-    tables = _aligned({"base": buses, **case_tables}, order)  # once: the steps below find it so
-    envelope = _envelope(tables, order) if case_tables else None
-    left_out = tuple(name for name, case_system in system.cases if not case_system.in_labels)
-    labels = _labels(
-        {n: t for n, t in tables.items() if n not in left_out}, order, service, descriptions
+    order, descriptions, service = over_cases.all_buses(system)
+    same = tuple(order) == pu.bus_names  # then so is every case with the base's bus names
+    tables = over_cases.CaseTables(
+        {"base": buses, **case_tables},
+        order,
+        aligned=[n for n, names in bus_names.items() if same and names == pu.bus_names],
     )
+    envelope = over_cases.envelope(tables) if case_tables else None
+    left_out = tuple(name for name, case_system in system.cases if not case_system.in_labels)
+    labels = over_cases.labels(tables.without(left_out), service, descriptions)
 
-    worst_duty = _worst_duty(tables, order, descriptions)
+    worst_duty = over_cases.worst_duty(tables, descriptions)
     stamp = (calculated_at or _dt.datetime.now().astimezone()).isoformat(timespec="seconds")
     method = METHOD.format(
         method=methods.describe(system),
@@ -1467,7 +1235,7 @@ def _study(system: System, contributions, calculated_at, progress: Progress) -> 
         service_buses=tuple(service),
         duty=worst_duty,
         labels=labels,
-        maximum=_maximum(tables, order, descriptions, worst_duty),
+        maximum=over_cases.maximum(tables, descriptions, worst_duty),
         case_changes={name: case_system.changes for name, case_system in system.cases},
         label_cases_left_out=left_out,
     )

@@ -302,20 +302,21 @@ def test_near_rating_in_a_case_is_amber(make_input, tmp_path):
 def test_a_bus_missing_from_a_case_table_counts_as_none_there(tie_result):
     # A case whose table lacks a bus (a bus out of service): the bus's worst comes from the
     # other tables (common practice (no source): a bus that is not there has no duty).
-    from faultcalc import study
+    from faultcalc import over_cases
 
     base = tie_result.buses
     closed = tie_result.cases["tie closed"]
     tables = {"base": base, "tie closed": closed[closed.bus != "SUB-A"].iloc[::-1]}
     order = list(base.bus)
     descriptions = dict(zip(order, tie_result.descriptions, strict=True))
-    worst = study._worst_duty(tables, order, descriptions).set_index("bus")
+    aligned = over_cases.CaseTables(tables, order)
+    worst = over_cases.worst_duty(aligned, descriptions).set_index("bus")
     assert worst.loc["SUB-A", "duty_case"] == "base"
     assert worst.loc["SUB-B", "duty_case"] == "tie closed"
     assert worst.loc["SUB-B", "duty_pct"] == closed.set_index("bus").loc["SUB-B", "duty_pct"]
-    envelope = study._envelope(tables, order).set_index("bus")
+    envelope = over_cases.envelope(aligned).set_index("bus")
     assert envelope.loc["SUB-A", "duty_case"] == "base"
     assert envelope.loc["SUB-B", "duty_status"] == duty.STATUS_OVER
-    labels = study._labels(tables, order, [order[3], order[4]], descriptions).set_index("bus")
+    labels = over_cases.labels(aligned, [order[3], order[4]], descriptions).set_index("bus")
     assert labels.loc["SUB-A", "label_case"] == "base"
     assert labels.loc["SUB-B", "label_case"] == "tie closed"
