@@ -21,6 +21,7 @@ guidance on CSV injection advises; numbers, negative ones included, are written 
 from __future__ import annotations
 
 import os
+import threading
 from concurrent.futures import ThreadPoolExecutor
 from pathlib import Path
 
@@ -61,20 +62,40 @@ def round_significant(values: np.ndarray, digits: int = SIGNIFICANT_DIGITS) -> n
     return a
 
 
-def write_bus_csv_to(result: StudyResult, path: Path) -> None:
-    _write_table_csv(result.buses, BUS_COLUMNS, result.basis.input_sha256, path)
+class Stopped(Exception):
+    """A CSV written beside other outputs was told to stop (the others failed or were
+    interrupted): its temporary file is then removed with theirs."""
 
 
-def write_contributions_csv_to(result: StudyResult, path: Path) -> None:
+def write_bus_csv_to(result: StudyResult, path: Path, stop: threading.Event | None = None) -> None:
+    """Every row of ``result.buses``; ``stop``, when set, ends the writing between chunks
+    (raising Stopped)."""
+    _write_table_csv(result.buses, BUS_COLUMNS, result.basis.input_sha256, path, stop=stop)
+
+
+def write_contributions_csv_to(
+    result: StudyResult, path: Path, stop: threading.Event | None = None
+) -> None:
     """Every row of ``result.contributions`` (CONTRIBUTION_COLUMNS, then input_sha256 on the
-    first row only: on every row it would be half of a file of millions of rows)."""
+    first row only: on every row it would be half of a file of millions of rows); ``stop`` as
+    in write_bus_csv_to."""
     _write_table_csv(
-        result.contributions, CONTRIBUTION_COLUMNS, result.basis.input_sha256, path, every_row=False
+        result.contributions,
+        CONTRIBUTION_COLUMNS,
+        result.basis.input_sha256,
+        path,
+        every_row=False,
+        stop=stop,
     )
 
 
 def _write_table_csv(
-    table: pd.DataFrame, columns, sha256: str, path: Path, every_row: bool = True
+    table: pd.DataFrame,
+    columns,
+    sha256: str,
+    path: Path,
+    every_row: bool = True,
+    stop: threading.Event | None = None,
 ) -> None:
     import pyarrow as pa
     import pyarrow.csv as pcsv
@@ -117,11 +138,11 @@ def _write_table_csv(
         handle.write((",".join(names) + "\n").encode())
         start = handle.tell()
         try:  # unquoted unless a text field needs quotes (then Arrow refuses and all are)
-            _write_rows(pa, pcsv, data, handle, "none")
+            _write_rows(pa, pcsv, data, handle, "none", stop)
         except pa.ArrowInvalid:
             handle.seek(start)
             handle.truncate()
-            _write_rows(pa, pcsv, data, handle, "needed")
+            _write_rows(pa, pcsv, data, handle, "needed", stop)
 
 
 # Rows above which a CSV is written in chunks of CHUNK_ROWS, two rendered at once (two
@@ -132,7 +153,7 @@ SPLIT_ROWS = 1_000_000
 CHUNK_ROWS = 250_000
 
 
-def _write_rows(pa, pcsv, data, handle, quoting: str) -> None:
+def _write_rows(pa, pcsv, data, handle, quoting: str, stop=None) -> None:
     options = _options(pcsv, quoting)
     if len(data) <= SPLIT_ROWS or (os.cpu_count() or 1) < 2:
         pcsv.write_csv(data, handle, write_options=options)
@@ -148,6 +169,8 @@ def _write_rows(pa, pcsv, data, handle, quoting: str) -> None:
         pending = [pool.submit(rendered, s) for s in starts[:2]]
         for k in range(len(starts)):
             chunk = pending.pop(0).result()  # an error in a chunk is raised here
+            if stop is not None and stop.is_set():
+                raise Stopped(handle.name)
             if k + 2 < len(starts):
                 pending.append(pool.submit(rendered, starts[k + 2]))
             handle.write(memoryview(chunk))

@@ -24,8 +24,11 @@ This module imports the writers (openpyxl, pyarrow) only when it writes.
 
 from __future__ import annotations
 
+import contextlib
 import os
+import threading
 from collections.abc import Callable
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -280,39 +283,53 @@ class ResultFiles:
         ):
             one_line = system is not None and len(result.buses) <= ONE_LINE_SHEET_BUSES
             progress.plan(len(targets) + one_line)
-            sheets = _sheets(system, result) if self.report_path is not None else None
-            picture = None
-            if one_line:
-                progress.step("one-line")
-                picture = _png(sheets or _sheets(system, result))
-            progress.step("workbook" + (" (summary)" if big else ""))
-            write_workbook_to(
-                result,
-                temps[0],
-                summary_of=self.bus_csv.name if big else None,
-                diagram_png=picture,
-                contributions_in=self.contributions_csv.name if many else None,
-            )
-            if self.json_path:
-                progress.step("JSON")
-                write_json_to(result, temps[1])
-            if self.report_path:
-                from .pdf import write_report_to
+            stop = threading.Event()
 
-                progress.step("report")
-                write_report_to(
+            def companions() -> None:  # the large CSVs: Arrow and the disk let go of the
+                if big:  # interpreter, so they are written beside the workbook, not after
+                    write_bus_csv_to(result, temps[targets.index(self.bus_csv)], stop)
+                if many:
+                    write_contributions_csv_to(
+                        result, temps[targets.index(self.contributions_csv)], stop
+                    )
+
+            # a failure on either side is raised here, after both have stopped (the CSVs
+            # are told to), and staged() then removes every temporary file
+            with ThreadPoolExecutor(1) as beside, _stopping(stop):
+                csvs = beside.submit(companions) if big or many else None
+                sheets = _sheets(system, result) if self.report_path is not None else None
+                picture = None
+                if one_line:
+                    progress.step("one-line")
+                    picture = _png(sheets or _sheets(system, result))
+                progress.step("workbook" + (" (summary)" if big else ""))
+                write_workbook_to(
                     result,
-                    temps[targets.index(self.report_path)],
-                    sheets=sheets,
+                    temps[0],
                     summary_of=self.bus_csv.name if big else None,
+                    diagram_png=picture,
                     contributions_in=self.contributions_csv.name if many else None,
                 )
-            if big:
-                progress.step("every bus as CSV")
-                write_bus_csv_to(result, temps[targets.index(self.bus_csv)])
-            if many:
-                progress.step("every contribution as CSV")
-                write_contributions_csv_to(result, temps[targets.index(self.contributions_csv)])
+                if self.json_path:
+                    progress.step("JSON")
+                    write_json_to(result, temps[1])
+                if self.report_path:
+                    from .pdf import write_report_to
+
+                    progress.step("report")
+                    write_report_to(
+                        result,
+                        temps[targets.index(self.report_path)],
+                        sheets=sheets,
+                        summary_of=self.bus_csv.name if big else None,
+                        contributions_in=self.contributions_csv.name if many else None,
+                    )
+                if big:
+                    progress.step("every bus as CSV")
+                if many:
+                    progress.step("every contribution as CSV")
+                if csvs is not None:
+                    csvs.result()
         return WrittenResults(
             workbook=self.output,
             json=self.json_path,
@@ -323,6 +340,16 @@ class ResultFiles:
             contributions_csv=self.contributions_csv if many else None,
             removed_files=tuple(stale),
         )
+
+
+@contextlib.contextmanager
+def _stopping(stop: threading.Event):
+    """Set ``stop`` when the body raises (an error or an interrupt), then raise on."""
+    try:
+        yield
+    except BaseException:
+        stop.set()
+        raise
 
 
 def _sheets(system, result) -> list:

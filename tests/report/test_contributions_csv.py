@@ -174,3 +174,64 @@ def test_a_summary_and_many_contributions_agree_in_workbook_and_report(
     section = text[text.rindex("Contributions to the fault current") :]
     first = section.index(want[0])
     assert all(section.index(b) >= first for b in want)
+
+
+def _chunked(monkeypatch):
+    monkeypatch.setattr(outputs, "BIG_CONTRIBUTION_ROWS", 60)
+    monkeypatch.setattr(csvout, "SPLIT_ROWS", 3)
+    monkeypatch.setattr(csvout, "CHUNK_ROWS", 7)
+    monkeypatch.setattr(csvout.os, "cpu_count", lambda: 2)
+
+
+def test_a_failed_workbook_stops_the_csv_written_beside_it(make_input, monkeypatch, tmp_path):
+    # The contributions CSV is written in a thread beside the workbook. When the workbook
+    # fails, the CSV is told to stop between chunks, and no output or temporary file is left
+    # (common practice (no source): all outputs or none).
+    import threading
+
+    import faultcalc.report.workbook as workbook
+
+    _chunked(monkeypatch)
+    folder = make_input(random_sheets(**SHEETS))
+    out = tmp_path / "out" / "r.xlsx"
+    out.parent.mkdir()
+    started, raised = threading.Event(), []
+    real = csvout.write_contributions_csv_to
+
+    def csv_spy(result, path, stop=None):
+        started.set()
+        assert stop.wait(30)  # told to stop once the workbook has failed
+        try:
+            real(result, path, stop)
+        except BaseException as exc:
+            raised.append(exc)
+            raise
+
+    def broken_workbook(*args, **kwargs):
+        assert started.wait(30)
+        raise OSError(28, "No space left on device")
+
+    monkeypatch.setattr(csvout, "write_contributions_csv_to", csv_spy)
+    monkeypatch.setattr(workbook, "write_workbook_to", broken_workbook)
+    run = _invoke("study", folder, "-o", out, "--contributions", "all")
+    assert run.exit_code == 1 and "No space left" in run.output
+    assert [type(e) for e in raised] == [csvout.Stopped]
+    assert list(out.parent.iterdir()) == []
+
+
+def test_a_failed_csv_beside_the_workbook_leaves_nothing(make_input, monkeypatch, tmp_path):
+    # An error in the CSV's thread is the run's error, said as any write error is
+    # (common practice (no source): all outputs or none).
+    _chunked(monkeypatch)
+    folder = make_input(random_sheets(**SHEETS))
+    out = tmp_path / "out" / "r.xlsx"
+    out.parent.mkdir()
+
+    def broken(result, path, stop=None):
+        path.write_text("partial")
+        raise OSError(28, "No space left on device")
+
+    monkeypatch.setattr(csvout, "write_contributions_csv_to", broken)
+    run = _invoke("study", folder, "-o", out, "--contributions", "all")
+    assert run.exit_code == 1 and "No space left" in run.output
+    assert list(out.parent.iterdir()) == []
