@@ -323,7 +323,9 @@ def analyse(
     pu = perunit.to_per_unit(system, prefault_pu=prefault_pu)
     progress.step("admittance matrices")
     network = build_network(
-        pu, lambda: dict(zip(system.buses.column("bus"), system.buses.column("row"), strict=True))
+        pu,
+        lambda: dict(zip(system.buses.column("bus"), system.buses.column("row"), strict=True)),
+        orderings,
     )
     progress.step("Thevenin impedances Z1 = Z2")
     factor1 = factorize(network.y1, orderings)
@@ -528,7 +530,7 @@ def inverter_phase_currents(system: System, bus: str, fault: str) -> dict[str, n
 
 
 def _diagonal_variant(a: Analysis, transform) -> np.ndarray:
-    y = positive_matrix_variant(a.pu, a.network, transform)
+    y = positive_matrix_variant(a.pu, a.network, transform, a.orderings)
     return factorize(y, a.orderings).diagonal()[a.network.node_of_bus]
 
 
@@ -563,6 +565,7 @@ def fault_table(a: Analysis, progress: Progress | None = None, interrupting=None
         f = inverters.bus_faults(iterated, ~np.isnan(z0))
     else:
         f = faults.all_faults(z1, z1, z0, e, zf_pu)
+    texts = _texts(a.system)
     table = np.vstack([f.i3ph, f.islg, f.ill, f.illg])
     largest = np.argmax(np.where(np.isnan(table), -np.inf, table), axis=0)
     grounded = ~np.isnan(z0)
@@ -602,8 +605,8 @@ def fault_table(a: Analysis, progress: Progress | None = None, interrupting=None
         ill_ka=f.ill * i_base,
         illg_ka=f.illg * i_base,
         ig_llg_ka=f.ig_llg * i_base,
-        max_fault=textcolumns.coded(faults.FAULT_TYPES, largest),
-        ground_note=textcolumns.coded(("", GROUND_NOTE), ~grounded),
+        max_fault=textcolumns.coded(faults.FAULT_TYPES, largest, (texts, "max_fault")),
+        ground_note=textcolumns.coded(("", GROUND_NOTE), ~grounded, (texts, "ground_note")),
         prefault_pu=np.array(e, dtype=float),
         xr_fault=xr_fault,
         kappa=kappa,
@@ -617,13 +620,19 @@ def fault_table(a: Analysis, progress: Progress | None = None, interrupting=None
     rows.update(i_int_ka=np.array(i_int, dtype=float), xr_int=np.array(xr_int, dtype=float))
     blank = ("ib_ka", "idc_ka", "ik_ka", "ith_ka", *MIN_COLUMNS)  # iec60909: filled by _solve
     rows.update({c: np.full(n, np.nan) for c in blank})
-    rows.update(iec_note=textcolumns.repeated("", n))  # method iec60909: filled by _solve
-    rows.update(_inverter_columns(a, iterated, n))
+    rows.update(iec_note=textcolumns.repeated("", n, (texts, "iec_note")))  # iec60909: _solve
+    rows.update(_inverter_columns(a, iterated, n, texts))
     progress.step("equipment duty")
     rows.update(_duty(a.system, rows, interrupting is not None))
     # every column its own array, none shared with another column or with the input: so
     # the frame takes them as they are (no copy into one block; 100,000 buses: 6 ms a table)
     return pd.DataFrame(rows, columns=list(BUS_COLUMNS), copy=False)
+
+
+def _texts(system: System) -> dict:
+    """Where the bus table's text columns are kept for the next table of the same buses (see
+    textcolumns.coded): with the buses, which every case that changes none shares."""
+    return system.buses.memo().setdefault("text columns", {})
 
 
 def _bus_column(system: System):
@@ -660,7 +669,7 @@ def inverter_solutions(
     }
 
 
-def _inverter_columns(a: Analysis, solutions, n: int) -> dict[str, object]:
+def _inverter_columns(a: Analysis, solutions, n: int, texts: dict) -> dict[str, object]:
     """The bus table's inverter columns: the iteration's sweeps and residual (the largest over
     the four fault types) and a note of what did not converge, ceased or held its angle."""
     if solutions is None:
@@ -672,7 +681,7 @@ def _inverter_columns(a: Analysis, solutions, n: int) -> dict[str, object]:
         return {
             "inverter_sweeps": np.full(n, np.nan),
             "inverter_residual_pu": np.full(n, np.nan),
-            "inverter_note": textcolumns.repeated(note, n),
+            "inverter_note": textcolumns.repeated(note, n, (texts, "inverter_note")),
         }
     names = np.array(a.inverters.names, dtype=object)
     parts: list[list[str]] = [[] for _ in range(n)]
@@ -745,7 +754,7 @@ def _duty(system: System, rows: dict, interrupting: bool) -> dict[str, object]:
     texts = (("duty_status", duty.STATUS_NONE), ("duty_fault", ""), ("duty_basis", ""))
     for column, blank in texts:
         at_rated = [out[column][k] for k in rated]
-        out[column] = textcolumns.sparse(n, blank, rated, at_rated)
+        out[column] = textcolumns.sparse(n, blank, rated, at_rated, (_texts(system), column))
     return {"device": device_text.copy(), **out}
 
 
@@ -1025,11 +1034,13 @@ def _diagonals(system: System, prefault_pu, orderings: Orderings, *transforms):
     orderings), and the per-unit system."""
     pu = perunit.to_per_unit(system, prefault_pu=prefault_pu)
     network = build_network(
-        pu, lambda: dict(zip(system.buses.column("bus"), system.buses.column("row"), strict=True))
+        pu,
+        lambda: dict(zip(system.buses.column("bus"), system.buses.column("row"), strict=True)),
+        orderings,
     )
     out = []
     for transform in transforms:
-        y = positive_matrix_variant(pu, network, transform)
+        y = positive_matrix_variant(pu, network, transform, orderings)
         out.append(factorize(y, orderings).diagonal()[network.node_of_bus])
     return pu, out
 

@@ -18,8 +18,13 @@ import pyarrow as pa
 TEXT = "str"  # pandas' text dtype
 
 
-def coded(words: Sequence[str], codes: np.ndarray) -> pd.api.extensions.ExtensionArray:
-    """The text column whose row k is ``words[codes[k]]``.
+def coded(
+    words: Sequence[str], codes: np.ndarray, kept: tuple[dict, object] | None = None
+) -> pd.api.extensions.ExtensionArray:
+    """The text column whose row k is ``words[codes[k]]``. ``kept``: (a dict, a key) where
+    the last column made under that key is kept, and given again (a new array object on the
+    same Arrow data) when the words and codes are the same: the cases of a study mostly
+    repeat the base case's columns.
 
     >>> list(coded(["", "x"], np.array([1, 0, 1])))
     ['x', '', 'x']
@@ -27,17 +32,26 @@ def coded(words: Sequence[str], codes: np.ndarray) -> pd.api.extensions.Extensio
     codes = np.asarray(codes)
     if codes.dtype == bool:
         codes = codes.astype(np.int8)
+    if kept is not None:
+        memo, key = kept
+        last = memo.get(key)
+        if last is not None and last[0] == tuple(words) and np.array_equal(last[1], codes):
+            return last[2].copy()
     taken = pa.array(list(words), pa.large_string()).take(pa.array(codes))
-    return pd.array(taken, dtype=TEXT)
+    column = pd.array(taken, dtype=TEXT)
+    if kept is not None:
+        memo[key] = (tuple(words), codes.copy(), column)
+        return column.copy()
+    return column
 
 
-def repeated(word: str, n: int) -> pd.api.extensions.ExtensionArray:
-    """``n`` rows of ``word``."""
-    return coded([word], np.zeros(n, np.int8))
+def repeated(word: str, n: int, kept=None) -> pd.api.extensions.ExtensionArray:
+    """``n`` rows of ``word`` (``kept`` as in coded)."""
+    return coded([word], np.zeros(n, np.int8), kept)
 
 
-def sparse(n: int, blank: str, rows: Sequence[int], values: Sequence[str]):
-    """``n`` rows of ``blank`` but ``values[j]`` at row ``rows[j]``.
+def sparse(n: int, blank: str, rows: Sequence[int], values: Sequence[str], kept=None):
+    """``n`` rows of ``blank`` but ``values[j]`` at row ``rows[j]`` (``kept`` as in coded).
 
     >>> list(sparse(4, "-", [2, 0], ["b", "a"]))
     ['a', '-', 'b', '-']
@@ -46,7 +60,7 @@ def sparse(n: int, blank: str, rows: Sequence[int], values: Sequence[str]):
     code_of = {w: k for k, w in enumerate(words)}
     codes = np.zeros(n, np.int32)
     codes[np.asarray(rows, np.int64)] = [code_of[v] for v in values]
-    return coded(words, codes)
+    return coded(words, codes, kept)
 
 
 def of_list(values: Sequence[str | None]) -> pd.api.extensions.ExtensionArray:

@@ -68,11 +68,11 @@ class StudyFactors(Orderings):
     @contextlib.contextmanager
     def base(self, keep: bool = True):
         """Bracket the base case; ``keep`` False (a study without cases) keeps nothing."""
-        self._keeping = keep
+        self._keeping = self.keep_layouts = keep
         try:
             yield
         finally:
-            self._keeping = False
+            self._keeping = self.keep_layouts = False
 
     def factor(self, y: sp.spmatrix):
         y = _canonical(y)

@@ -37,11 +37,20 @@ class Stamps:
     shunt_node: np.ndarray
     shunt_y: np.ndarray
 
-    def matrix(self, n: int) -> sp.csc_matrix:
+    def matrix(self, n: int, extra_diagonal=None, orderings=None) -> sp.csc_matrix:
+        """The nodal admittance matrix (canonical CSC), with ``extra_diagonal`` (node -> value
+        entries, as two arrays) added; assembled by the study's kept layout of the same
+        entries when ``orderings`` has one (``Orderings.assembly``)."""
         f, t, y, tap = self.series_from, self.series_to, self.series_y, self.series_tap
-        rows = np.concatenate([f, t, f, t, self.shunt_node])
-        cols = np.concatenate([f, t, t, f, self.shunt_node])
-        vals = np.concatenate([y / tap**2, y, -y / tap, -y / tap, self.shunt_y])
+        more_at, more = (
+            (np.zeros(0, np.int64), np.zeros(0)) if extra_diagonal is None else (extra_diagonal)
+        )
+        rows = np.concatenate([f, t, f, t, self.shunt_node, more_at])
+        cols = np.concatenate([f, t, t, f, self.shunt_node, more_at])
+        vals = np.concatenate([y / tap**2, y, -y / tap, -y / tap, self.shunt_y, more])
+        layout = None if orderings is None else orderings.assembly(rows, cols, n)
+        if layout is not None:
+            return layout.matrix(vals)
         m = sp.coo_matrix((vals, (rows, cols)), shape=(n, n)).tocsc()
         m.sum_duplicates()
         return m
@@ -81,12 +90,13 @@ def _merge_ties(pu: PerUnitSystem) -> np.ndarray:
     return renumber[labels]
 
 
-def build_network(pu: PerUnitSystem, bus_rows=None) -> Network:
+def build_network(pu: PerUnitSystem, bus_rows=None, orderings=None) -> Network:
     """Assemble the sequence admittance matrices (whole-array work, one pass over elements).
 
     Raises InputError listing every bus that has no path to a source; ``bus_rows`` gives the
     spreadsheet row of each bus for that message (a dict, or a function returning one, called
-    only then).
+    only then). ``orderings``: the study's cache (thevenin.Orderings), whose kept layouts
+    assemble the matrices of a case with the base case's entries.
     """
     node_of_bus = _merge_ties(pu)
     n_bus_nodes = int(node_of_bus.max()) + 1 if len(node_of_bus) else 0
@@ -150,15 +160,16 @@ def build_network(pu: PerUnitSystem, bus_rows=None) -> Network:
         np.concatenate([a[sf], b[st], shunt_node[h_has0]]),
         np.concatenate([1.0 / z0[sf], 1.0 / z0[st], 1.0 / h_z0]),
     )
-    y1 = seq1.matrix(n)
+    y1 = seq1.matrix(n, orderings=orderings)
     _check_fed(pu, node_of_bus, n, seq1, bus_rows)
     grounded = _reaches_shunt(n, seq0)
-    y0 = seq0.matrix(n) + sp.diags((~grounded).astype(float), format="csc")
+    ungrounded = np.flatnonzero(~grounded)
+    y0 = seq0.matrix(n, (ungrounded, np.ones(len(ungrounded))), orderings)
     return Network(
         node_of_bus,
         n,
         y1,
-        y0.tocsc(),
+        y0,
         grounded,
         seq1,
         seq0,
@@ -275,12 +286,15 @@ def zone_angles_deg(pu: PerUnitSystem, network: Network, where=None) -> np.ndarr
     return angle
 
 
-def positive_matrix_variant(pu: PerUnitSystem, network: Network, transform) -> sp.csc_matrix:
+def positive_matrix_variant(
+    pu: PerUnitSystem, network: Network, transform, orderings=None
+) -> sp.csc_matrix:
     """The positive-sequence matrix with every impedance z replaced by ``transform(z)``
     (applied to whole complex arrays).
 
     For the X/R conventions (R-only and X-only reductions) and the IEC 60909-0
-    equivalent-frequency impedance; same nodes, taps and elements as ``network.y1``.
+    equivalent-frequency impedance; same nodes, taps and elements as ``network.y1``
+    (``orderings`` as in build_network).
     """
     s = network.seq1
     series_y = 1.0 / transform(pu.series.array("z1_pu", complex)[s.series_elem])
@@ -296,4 +310,4 @@ def positive_matrix_variant(pu: PerUnitSystem, network: Network, transform) -> s
         s.shunt_node,
         shunt_y,
     )
-    return stamps.matrix(network.n_nodes)
+    return stamps.matrix(network.n_nodes, orderings=orderings)
