@@ -89,9 +89,12 @@ class StudyFactors(Orderings):
 
     def _update(self, y: sp.csc_matrix):
         best = None
-        for base, kept in self._kept:
-            if base.y.shape != y.shape:
-                continue
+        sized = [(base, kept) for base, kept in self._kept if base.y.shape == y.shape]
+        # those of y's own pattern first: their difference is entry by entry, and a case
+        # that changes values only is found among them (the others' differences are sparse
+        # subtractions, the costly kind)
+        sized.sort(key=lambda pair: not pair[0].same_pattern(y))
+        for base, kept in sized:
             touched, block = base.difference(y)
             if best is None or len(touched) < len(best[0]):
                 best = (touched, block, kept)
@@ -121,21 +124,26 @@ class _Matrix:
 
     def __init__(self, y: sp.csc_matrix):
         self.y = y
-        column = np.repeat(np.arange(y.shape[1]), np.diff(y.indptr))
+        self.column = np.repeat(np.arange(y.shape[1]), np.diff(y.indptr))  # of each entry
         self.scale = np.zeros(y.shape[1])
-        np.maximum.at(self.scale, column, np.abs(y.data))
+        np.maximum.at(self.scale, self.column, np.abs(y.data))
+        # per entry, what a difference must exceed to be more than rounding
+        self.floor = ROUNDING * np.maximum(self.scale[self.column], self.scale[y.indices])
+
+    def same_pattern(self, y: sp.csc_matrix) -> bool:
+        return np.array_equal(y.indptr, self.y.indptr) and np.array_equal(y.indices, self.y.indices)
 
     def difference(self, y: sp.csc_matrix):
         """The nodes where ``y`` differs from this matrix beyond rounding, and the dense block
         of the difference on them (None when they are more than MAX_UPDATE_NODES)."""
-        same = np.array_equal(y.indptr, self.y.indptr) and np.array_equal(y.indices, self.y.indices)
-        if same:  # the same pattern (values changed): entry by entry
+        if self.same_pattern(y):  # values changed: entry by entry, the floors kept
             d = sp.csc_matrix((y.data - self.y.data, y.indices, y.indptr), shape=y.shape)
+            column, floor = self.column, self.floor
         else:  # elements in or out
             d = (y - self.y).tocsc()
-        column = np.repeat(np.arange(d.shape[1]), np.diff(d.indptr))
-        scale = np.maximum(self.scale[column], self.scale[d.indices])
-        real = np.abs(d.data) > ROUNDING * scale
+            column = np.repeat(np.arange(d.shape[1]), np.diff(d.indptr))
+            floor = ROUNDING * np.maximum(self.scale[column], self.scale[d.indices])
+        real = np.abs(d.data) > floor
         if np.count_nonzero(real) > MAX_UPDATE_NODES**2:  # too many to lie on few nodes
             return np.arange(y.shape[0]), None
         touched = np.unique(np.concatenate([column[real], d.indices[real]]))
