@@ -726,7 +726,7 @@ def _duty(system: System, rows: dict, interrupting: bool) -> dict[str, object]:
         "duty_basis": [""] * n,
         **{k: np.full(n, np.nan) for k in MV_DUTY_COLUMNS},
     }
-    notes = rows["inverter_note"]
+    notes = dict(zip(rated, rows["inverter_note"].take(np.asarray(rated, np.int64)), strict=True))
     for k, b in zip(rated, system.buses.take(rated), strict=True):
         if NOT_CONVERGED in (notes[k] or ""):  # a current not converged on has no duty:
             out["duty_status"][k] = duty.STATUS_NOT_COMPUTED  # said, never "below rating"

@@ -100,6 +100,7 @@ def _write_table_csv(
     import pyarrow as pa
     import pyarrow.csv as pcsv
 
+    _check(stop)
     table = table[list(columns)]
     floats = [n for n in columns if pd.api.types.is_float_dtype(table[n].dtype)]
     if len(table) > SPLIT_ROWS and (os.cpu_count() or 1) > 1:  # numpy lets go of the
@@ -134,7 +135,12 @@ def _write_table_csv(
         arrays.append(sha)
     names = [*columns, "input_sha256"]
     data = pa.Table.from_arrays(arrays, names=names)
-    with open(path, "wb") as handle:
+    _check(stop)
+    # Beside other outputs (``stop`` given), only into the temporary file made for it: when
+    # that is gone (every temporary file is removed on a failure), this fails, and never
+    # makes the file again.
+    with open(path, "wb" if stop is None else "r+b") as handle:
+        handle.truncate()
         handle.write((",".join(names) + "\n").encode())
         start = handle.tell()
         try:  # unquoted unless a text field needs quotes (then Arrow refuses and all are)
@@ -153,6 +159,11 @@ SPLIT_ROWS = 1_000_000
 CHUNK_ROWS = 250_000
 
 
+def _check(stop: threading.Event | None) -> None:
+    if stop is not None and stop.is_set():
+        raise Stopped("told to stop")
+
+
 def _write_rows(pa, pcsv, data, handle, quoting: str, stop=None) -> None:
     options = _options(pcsv, quoting)
     if len(data) <= SPLIT_ROWS or (os.cpu_count() or 1) < 2:
@@ -169,8 +180,7 @@ def _write_rows(pa, pcsv, data, handle, quoting: str, stop=None) -> None:
         pending = [pool.submit(rendered, s) for s in starts[:2]]
         for k in range(len(starts)):
             chunk = pending.pop(0).result()  # an error in a chunk is raised here
-            if stop is not None and stop.is_set():
-                raise Stopped(handle.name)
+            _check(stop)
             if k + 2 < len(starts):
                 pending.append(pool.submit(rendered, starts[k + 2]))
             handle.write(memoryview(chunk))

@@ -288,7 +288,7 @@ class ResultFiles:
             def companions() -> None:  # the large CSVs: Arrow and the disk let go of the
                 if big:  # interpreter, so they are written beside the workbook, not after
                     write_bus_csv_to(result, temps[targets.index(self.bus_csv)], stop)
-                if many:
+                if many and not stop.is_set():
                     write_contributions_csv_to(
                         result, temps[targets.index(self.contributions_csv)], stop
                     )
@@ -310,9 +310,11 @@ class ResultFiles:
                     diagram_png=picture,
                     contributions_in=self.contributions_csv.name if many else None,
                 )
+                _failed_early(csvs)
                 if self.json_path:
                     progress.step("JSON")
                     write_json_to(result, temps[1])
+                    _failed_early(csvs)
                 if self.report_path:
                     from .pdf import write_report_to
 
@@ -340,6 +342,12 @@ class ResultFiles:
             contributions_csv=self.contributions_csv if many else None,
             removed_files=tuple(stale),
         )
+
+
+def _failed_early(csvs) -> None:
+    """Raise the CSVs' error now if they have already failed (no need to write the rest)."""
+    if csvs is not None and csvs.done() and csvs.exception() is not None:
+        csvs.result()
 
 
 @contextlib.contextmanager

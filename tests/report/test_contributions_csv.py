@@ -235,3 +235,23 @@ def test_a_failed_csv_beside_the_workbook_leaves_nothing(make_input, monkeypatch
     run = _invoke("study", folder, "-o", out, "--contributions", "all")
     assert run.exit_code == 1 and "No space left" in run.output
     assert list(out.parent.iterdir()) == []
+
+
+def test_a_csv_beside_others_never_makes_its_file_again(make_input, tmp_path):
+    # Beside other outputs, a CSV writes only into the temporary file made for it: once a
+    # failure has removed that, the writer fails and leaves nothing (common practice (no
+    # source): no file left after a failed run); told to stop, it writes nothing.
+    import threading
+
+    result = run_study(read_system(make_input(random_sheets(**SHEETS))), contributions="all")
+    gone = tmp_path / ".r-buses.csv.part"
+    with pytest.raises(FileNotFoundError):
+        csvout.write_bus_csv_to(result, gone, threading.Event())
+    assert not gone.exists()
+    stopped = threading.Event()
+    stopped.set()
+    kept = tmp_path / ".r-contributions.csv.part"
+    kept.write_text("")
+    with pytest.raises(csvout.Stopped):
+        csvout.write_contributions_csv_to(result, kept, stopped)
+    assert kept.read_text() == ""
