@@ -203,7 +203,14 @@ def run_fleet(
     n_workers = 0
     # A task is never retried: a study that killed its worker would kill the next one, and a
     # finished study whose result sat on a lost worker would run again into its own files.
-    with dask.config.set({"distributed.scheduler.allowed-failures": 0}):
+    # The workers' sampling profiler (every 10 ms, for a dashboard we do not start) takes
+    # the interpreter from the study it samples: off (20 feeders of 5,000 buses on two
+    # local workers: 65.7 s with it, 63.9 s without).
+    settings = {
+        "distributed.scheduler.allowed-failures": 0,
+        "distributed.worker.profile.enabled": False,
+    }
+    with dask.config.set(settings):
         if scheduler:
             client, cluster = Client(scheduler), None
         else:
