@@ -115,6 +115,16 @@ class CaseTables:
         return out
 
 
+def bus_tables(system: System) -> Iterator:
+    """The bus tables of the base case and its cases, each once (a case that changes no bus
+    shares the base's), in order."""
+    walked: set[int] = set()
+    for one in (system, *(case for _, case in system.cases)):
+        if id(one.buses) not in walked:
+            walked.add(id(one.buses))
+            yield one.buses
+
+
 def all_buses(system: System) -> tuple[list[str], dict[str, str], list[str]]:
     """Every bus of the base case and of any case (a bus out of service in the base case may be
     in service in a case), in input order; their descriptions; the service buses among them."""
@@ -125,16 +135,12 @@ def all_buses(system: System) -> tuple[list[str], dict[str, str], list[str]]:
         texts = (t or "" for t in buses.column("description"))
         return names, dict(zip(names, texts, strict=True)), service
     seen: dict[str, tuple[int, str, str]] = {}
-    walked: set[int] = set()  # a case that changes no bus shares the base's bus table
-    for s in (system, *(case for _, case in system.cases)):
-        if id(s.buses) in walked:
-            continue
-        walked.add(id(s.buses))
+    for buses in bus_tables(system):
         for name, row, text, service in zip(
-            s.buses.column("bus"),
-            s.buses.column("row"),
-            s.buses.column("description"),
-            s.buses.column("service"),
+            buses.column("bus"),
+            buses.column("row"),
+            buses.column("description"),
+            buses.column("service"),
             strict=True,
         ):
             if name not in seen:

@@ -322,11 +322,7 @@ def analyse(
     progress.step("per-unit conversion")
     pu = perunit.to_per_unit(system, prefault_pu=prefault_pu)
     progress.step("admittance matrices")
-    network = build_network(
-        pu,
-        lambda: dict(zip(system.buses.column("bus"), system.buses.column("row"), strict=True)),
-        orderings,
-    )
+    network = _network(system, pu, orderings)
     progress.step("Thevenin impedances Z1 = Z2")
     factor1 = factorize(network.y1, orderings)
     z1_node = factor1.diagonal()
@@ -352,6 +348,14 @@ def analyse(
         e_bus,
         inverter_set,
         e_phasor if inverter_set is not None else None,
+    )
+
+
+def _network(system: System, pu, orderings: Orderings | None) -> Network:
+    """build_network for ``system`` (its bus rows named in a bus-without-source error)."""
+    buses = system.buses
+    return build_network(
+        pu, lambda: dict(zip(buses.column("bus"), buses.column("row"), strict=True)), orderings
     )
 
 
@@ -629,18 +633,25 @@ def fault_table(a: Analysis, progress: Progress | None = None, interrupting=None
     return pd.DataFrame(rows, columns=list(BUS_COLUMNS), copy=False)
 
 
+def _with_buses(system: System, key: str, make):
+    """``make()``, made once and kept with the buses (Records.memo), which every case that
+    changes no bus shares."""
+    memo = system.buses.memo()
+    if key not in memo:
+        memo[key] = make()
+    return memo[key]
+
+
 def _texts(system: System) -> dict:
     """Where the bus table's text columns are kept for the next table of the same buses (see
-    textcolumns.coded): with the buses, which every case that changes none shares."""
-    return system.buses.memo().setdefault("text columns", {})
+    textcolumns.coded)."""
+    return _with_buses(system, "text columns", dict)
 
 
 def _bus_column(system: System):
-    """The bus names as a text column, made once for the bus table every case shares."""
-    memo = system.buses.memo()
-    if "bus text" not in memo:
-        memo["bus text"] = textcolumns.of_list(system.buses.column("bus"))
-    return memo["bus text"].copy()  # its own array object (the Arrow data are shared)
+    """The bus names as a text column (its own array object; the Arrow data are shared)."""
+    names = _with_buses(system, "bus text", lambda: textcolumns.of_list(system.buses.column("bus")))
+    return names.copy()
 
 
 INVERTER_NAMES_SHOWN = 5  # inverters named in a bus's note, at most, per fault type
@@ -761,12 +772,12 @@ def _duty(system: System, rows: dict, interrupting: bool) -> dict[str, object]:
 def _devices(system: System):
     """The buses' devices as a text column ("" where none) and the rows that have one: made
     once for the bus table every case shares."""
-    memo = system.buses.memo()
-    if "devices" not in memo:
+
+    def make():
         device = system.buses.column("device")
-        rated = [k for k, d in enumerate(device) if d is not None]
-        memo["devices"] = (textcolumns.of_list(device), rated)
-    return memo["devices"]
+        return textcolumns.of_list(device), [k for k, d in enumerate(device) if d is not None]
+
+    return _with_buses(system, "devices", make)
 
 
 def _mv_duty(out: dict, k: int, b, rows: dict, interrupting: bool, frequency_hz: int) -> None:
@@ -1002,13 +1013,9 @@ def _inverter_notes(system: System, tables: dict[str, pd.DataFrame]) -> tuple[st
 def _mv_notes(system: System) -> tuple[str, ...]:
     """What the MV breaker duty assumed, said once per study that has an MV breaker."""
     mv: set[str] = set()
-    walked: set[int] = set()  # a case that changes no bus shares the base's bus table
-    for one in [system, *(case for _, case in system.cases)]:
-        if id(one.buses) in walked:
-            continue
-        walked.add(id(one.buses))
-        devices = one.buses.column("device")
-        names = one.buses.column("bus")
+    for buses in over_cases.bus_tables(system):
+        devices = buses.column("device")
+        names = buses.column("bus")
         mv |= {n for n, d in zip(names, devices, strict=True) if d in duty.MV_DEVICES}
     mv = sorted(mv)
     if not mv:
@@ -1033,11 +1040,7 @@ def _diagonals(system: System, prefault_pu, orderings: Orderings, *transforms):
     transform of the element impedances (a variant network solved against the study's
     orderings), and the per-unit system."""
     pu = perunit.to_per_unit(system, prefault_pu=prefault_pu)
-    network = build_network(
-        pu,
-        lambda: dict(zip(system.buses.column("bus"), system.buses.column("row"), strict=True)),
-        orderings,
-    )
+    network = _network(system, pu, orderings)
     out = []
     for transform in transforms:
         y = positive_matrix_variant(pu, network, transform, orderings)
@@ -1087,9 +1090,7 @@ def _inverters_interrupting_ka(system: System, prefault_pu, orderings: Orderings
     solve with a column per inverter node against the X-only network's factor."""
     variant = methods.interrupting_system(system)
     pu = perunit.to_per_unit(variant, prefault_pu=prefault_pu)
-    network = build_network(
-        pu, lambda: dict(zip(system.buses.column("bus"), system.buses.column("row"), strict=True))
-    )
+    network = _network(system, pu, orderings)
     factor = factorize(positive_matrix_variant(pu, network, _x_only), orderings)
     inv = inverters.prepare(variant, pu, network, factor)
     raised = inverters.iec_open_circuit_pu(inv, network.node_of_bus, 0.0)

@@ -37,17 +37,17 @@ class Stamps:
     shunt_node: np.ndarray
     shunt_y: np.ndarray
 
-    def matrix(self, n: int, extra_diagonal=None, orderings=None) -> sp.csc_matrix:
-        """The nodal admittance matrix (canonical CSC), with ``extra_diagonal`` (node -> value
-        entries, as two arrays) added; assembled by the study's kept layout of the same
-        entries when ``orderings`` has one (``Orderings.assembly``)."""
+    def matrix(self, n: int, ones_at=(), orderings=None) -> sp.csc_matrix:
+        """The nodal admittance matrix (canonical CSC), with 1 added on the diagonal at the
+        nodes ``ones_at``; assembled by the study's kept layout of the same entries when
+        ``orderings`` has one (``Orderings.assembly``)."""
         f, t, y, tap = self.series_from, self.series_to, self.series_y, self.series_tap
-        more_at, more = (
-            (np.zeros(0, np.int64), np.zeros(0)) if extra_diagonal is None else (extra_diagonal)
+        ones_at = np.asarray(ones_at, np.int64)
+        rows = np.concatenate([f, t, f, t, self.shunt_node, ones_at])
+        cols = np.concatenate([f, t, t, f, self.shunt_node, ones_at])
+        vals = np.concatenate(
+            [y / tap**2, y, -y / tap, -y / tap, self.shunt_y, np.ones(len(ones_at))]
         )
-        rows = np.concatenate([f, t, f, t, self.shunt_node, more_at])
-        cols = np.concatenate([f, t, t, f, self.shunt_node, more_at])
-        vals = np.concatenate([y / tap**2, y, -y / tap, -y / tap, self.shunt_y, more])
         layout = None if orderings is None else orderings.assembly(rows, cols, n)
         if layout is not None:
             return layout.matrix(vals)
@@ -163,8 +163,7 @@ def build_network(pu: PerUnitSystem, bus_rows=None, orderings=None) -> Network:
     y1 = seq1.matrix(n, orderings=orderings)
     _check_fed(pu, node_of_bus, n, seq1, bus_rows)
     grounded = _reaches_shunt(n, seq0)
-    ungrounded = np.flatnonzero(~grounded)
-    y0 = seq0.matrix(n, (ungrounded, np.ones(len(ungrounded))), orderings)
+    y0 = seq0.matrix(n, np.flatnonzero(~grounded), orderings)  # a dummy 1 where no path
     return Network(
         node_of_bus,
         n,
