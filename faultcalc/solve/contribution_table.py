@@ -168,11 +168,11 @@ class _Parts:
         total = int(count.sum())
         if not total:
             return None
-        out = dict(
-            faulted=np.empty(total, np.int64),
+        out = dict(  # codes of the text columns (see table), the currents
+            faulted=np.empty(total, np.int32),
             fault=np.empty(total, np.int8),
-            element=np.empty(total, np.int64),
-            from_bus=np.empty(total, np.int64),
+            element=np.empty(total, np.int32),
+            from_bus=np.empty(total, np.int32),
             i_ka=np.empty(total),
             angle_deg=np.empty(total),
             phase=np.empty(total, np.int8),
@@ -186,7 +186,7 @@ class _Parts:
                 out["element"][dest] = np.tile(self.h_index, len(at))
                 out["from_bus"][dest] = np.tile(self.h_bus, len(at))
                 base = np.tile(self.i_base[self.h_bus], len(at))
-                _currents(out, dest, *(v.T.ravel() for v in shunts), base, f_code == 0)
+                _currents(out, dest, *(v.ravel() for v in shunts), base, f_code == 0)
             if series is not None:
                 k = series["at"]
                 order = np.lexsort((series["place"], k))
@@ -207,13 +207,14 @@ class _Parts:
         return out
 
     def _shunt_rows(self, n, c, i1, i2, i0, z1c, z0c, angle_deg):
-        """Every shunt's sequence currents for each fault: arrays (shunts, faulted buses)."""
+        """Every shunt's sequence currents for each fault: arrays (faulted buses, shunts), so
+        that their rows are the table's in order."""
         z1 = z1c.shunts(n, c)
-        c1 = z1 * i1[None, :] * self.h_y1[:, None]
-        c2 = z1 * i2[None, :] * self.h_y1[:, None]
-        c0 = z0c.shunts(n, c) * i0[None, :] * self.h_y0[:, None]
+        c1 = z1 * i1[:, None] * self.h_y1[None, :]
+        c2 = z1 * i2[:, None] * self.h_y1[None, :]
+        c0 = z0c.shunts(n, c) * i0[:, None] * self.h_y0[None, :]
         # Turned into the shunt's own zone (contributions._rotate, on whole arrays).
-        theta = angle_deg[self.h_node][:, None] - angle_deg[n][None, :]
+        theta = angle_deg[self.h_node][None, :] - angle_deg[n][:, None]
         if theta.any():
             rot = np.exp(1j * np.radians(theta))
             half = theta / 180.0
@@ -295,27 +296,29 @@ class _Parts:
         )
 
     def table(self, blocks) -> pd.DataFrame:
+        """The blocks' rows as one table: each text column's codes mapped block by block to
+        the categories that occur (the row codes are never joined: 20 million rows, 240 MB
+        less fresh memory), the currents joined as they are."""
         blocks = [b for b in blocks if b is not None]
-        col = {
-            k: np.concatenate([b[k] for b in blocks]) if blocks else np.zeros(0, np.int64)
-            for k in ("faulted", "fault", "element", "from_bus", "i_ka", "angle_deg", "phase")
-            + ("ig_ka",)
+        texts = {
+            "faulted_bus": (self.all_names, "faulted"),
+            "fault": (np.array(CONTRIBUTION_FAULTS, object), "fault"),
+            "element": (self.names, "element"),
+            "kind": (self.kinds, "element"),
+            "from_bus": (self.all_names, "from_bus"),
+            "phase": (np.array(["a", "b", "c", ""], object), "phase"),
         }
-        return pd.DataFrame(
-            {
-                "faulted_bus": _text(self.all_names, col["faulted"]),
-                "fault": _text(np.array(CONTRIBUTION_FAULTS, object), col["fault"]),
-                "element": _text(self.names, col["element"]),
-                "kind": _text(self.kinds, col["element"]),
-                "from_bus": _text(self.all_names, col["from_bus"]),
-                "i_ka": col["i_ka"].astype(float),
-                "angle_deg": col["angle_deg"].astype(float),
-                "phase": _text(np.array(["a", "b", "c", ""], object), col["phase"]),
-                "ig_ka": col["ig_ka"].astype(float),
-            },
-            columns=list(CONTRIBUTION_COLUMNS),
-            copy=False,  # each column its own new array: no copy into one block
-        )
+        columns = {}
+        for name in CONTRIBUTION_COLUMNS:
+            if name in texts:
+                values, key = texts[name]
+                columns[name] = _text(values, [b[key] for b in blocks])
+            else:
+                columns[name] = (
+                    np.concatenate([b[name] for b in blocks]) if blocks else np.zeros(0)
+                )
+        # each column its own new array: no copy into one block
+        return pd.DataFrame(columns, columns=list(CONTRIBUTION_COLUMNS), copy=False)
 
 
 def _currents(out, dest, c1, c2, c0, base, balanced):
@@ -330,18 +333,21 @@ def _currents(out, dest, c1, c2, c0, base, balanced):
         top = size
         ig = np.zeros(len(size))
     else:
-        phases = np.stack(
-            [
-                (c0 + c1 + c2) * base,
-                (c0 + A * A * c1 + A * c2) * base,
-                (c0 + A * c1 + A * A * c2) * base,
-            ]
+        phases = (
+            (c0 + c1 + c2) * base,
+            (c0 + A * A * c1 + A * c2) * base,
+            (c0 + A * c1 + A * A * c2) * base,
         )
-        square = phases.real**2 + phases.imag**2  # sizes compared squared: no square roots
-        top_sq = square.max(axis=0)
-        k = np.argmax(square >= top_sq * (1 - 1e-9) ** 2, axis=0)  # 'a' first on a tie
-        every = np.arange(len(k))
-        chosen = phases[k, every]
+        # sizes compared squared (no square roots), phase by phase (no stack of the three)
+        square = [p.real**2 + p.imag**2 for p in phases]
+        top_sq = np.maximum(np.maximum(square[0], square[1]), square[2])
+        tie = top_sq * (1 - 1e-9) ** 2
+        # the first phase within the tie of the largest: 'a' first, and 'a' where none is
+        # (NaN)
+        k = np.where(
+            square[0] >= tie, 0, np.where(square[1] >= tie, 1, np.where(square[2] >= tie, 2, 0))
+        )
+        chosen = np.where(k == 0, phases[0], np.where(k == 1, phases[1], phases[2]))
         largest, top = np.abs(chosen), np.sqrt(top_sq)
         ig = np.abs(3 * c0 * base)
     floor = NEGLIGIBLE * np.maximum(1.0, top)
@@ -377,8 +383,8 @@ class _Columns:
         blocks run in threads)."""
         return _Columns(self.factor, self.h_node, _columns(self.factor, unique_nodes))
 
-    def shunts(self, n, c):
-        return self.z[self.h_node][:, c]
+    def shunts(self, n, c):  # (faulted buses, shunts)
+        return np.ascontiguousarray(self.z[self.h_node][:, c].T)
 
     def diagonal(self, n, c):
         return self.z[n, c]
@@ -401,9 +407,9 @@ class _ShuntColumns:
         return self
 
     def shunts(self, n, c):
-        out = np.zeros((len(self.h_node), len(n)), complex)
+        out = np.zeros((len(n), len(self.h_node)), complex)
         if self.x is not None:
-            out[self.live] = self.x[n][:, self.column].T
+            out[:, self.live] = self.x[n][:, self.column]
         return out
 
     def diagonal(self, n, c):
@@ -425,17 +431,26 @@ def _columns(factor, nodes: np.ndarray) -> np.ndarray:
     return out
 
 
-def _text(values: np.ndarray, codes: np.ndarray) -> pd.Categorical:
-    """``values[codes]`` as a text column: categorical (one Python string per distinct value
-    in the column, not per row), its categories only the values that occur."""
+def _text(values: np.ndarray, codes: list[np.ndarray]) -> pd.Categorical:
+    """``values[codes]`` (the blocks' codes in turn) as a text column: categorical (one Python
+    string per distinct value in the column, not per row), its categories only the values
+    that occur."""
     names, inverse = np.unique(np.asarray(values, dtype=str), return_inverse=True)
     # the small maps composed first, then one pass over the rows (20 million: 0.3 s to 0.1 s)
-    used = np.flatnonzero(np.bincount(inverse, np.bincount(codes, minlength=len(values)) > 0))
+    occurs = np.zeros(len(values), bool)
+    for part in codes:
+        occurs |= np.bincount(part, minlength=len(values)) > 0
+    used = np.flatnonzero(np.bincount(inverse, occurs, minlength=len(names)) > 0)
     renumber = np.full(len(names), -1, np.int32)
     renumber[used] = np.arange(len(used))
     dtype = np.int8 if len(used) < 128 else np.int16 if len(used) < 32768 else np.int32
     code_of_value = renumber[inverse].astype(dtype)  # codes of the size pandas keeps
-    return pd.Categorical.from_codes(code_of_value[codes], categories=names[used].astype(object))
+    rows = np.empty(sum(len(part) for part in codes), dtype)
+    start = 0
+    for part in codes:
+        np.take(code_of_value, part, out=rows[start : start + len(part)])
+        start += len(part)
+    return pd.Categorical.from_codes(rows, categories=names[used].astype(object))
 
 
 def _by_node(nodes: np.ndarray, n_nodes: int, payload: np.ndarray | None = None):
