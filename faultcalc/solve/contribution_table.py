@@ -314,9 +314,7 @@ class _Parts:
                 values, key = texts[name]
                 columns[name] = _text(values, [b[key] for b in blocks])
             else:
-                columns[name] = (
-                    np.concatenate([b[name] for b in blocks]) if blocks else np.zeros(0)
-                )
+                columns[name] = np.concatenate([b[name] for b in blocks]) if blocks else np.zeros(0)
         # each column its own new array: no copy into one block
         return pd.DataFrame(columns, columns=list(CONTRIBUTION_COLUMNS), copy=False)
 
