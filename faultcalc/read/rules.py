@@ -261,9 +261,8 @@ def transformers(sheet: Typed, buses: Buses, out: Collector, at: np.ndarray) -> 
                 "list the high-voltage winding's bus as hv_bus",
             )
             sheet.ok[i] = False
-    with np.errstate(divide="ignore", invalid="ignore"):
-        off_hv = np.abs(hv_kv / hv_bus_kv - 1.0) > KV_MISMATCH_WARN
-        off_lv = np.abs(lv_kv / lv_bus_kv - 1.0) > KV_MISMATCH_WARN
+    off_hv = slips.off_nominal(hv_kv, hv_bus_kv)
+    off_lv = slips.off_nominal(lv_kv, lv_bus_kv)
     for k in np.flatnonzero(off_hv | off_lv).tolist():
         i = int(at[k])
         if not sheet.ok[i]:
@@ -278,9 +277,7 @@ def transformers(sheet: Typed, buses: Buses, out: Collector, at: np.ndarray) -> 
                     int(sheet.rows[i]),
                     f"{side}_kv",
                     float(rated[k]),
-                    f"winding rated {rated[k]:g} kV on bus {bus[k]} of {nominal[k]:g} kV "
-                    f"(differs by {100 * (rated[k] / nominal[k] - 1):+.1f}%); modelled as an "
-                    "off-nominal ratio; check the nameplate and the bus voltage",
+                    slips.winding_off_nominal(float(rated[k]), bus[k], float(nominal[k])),
                 )
 
 
@@ -415,8 +412,7 @@ def machines(sheet: Typed, buses: Buses, out: Collector, at: np.ndarray) -> None
     bus = [v["bus"][i] for i in at.tolist()]
     bus_kv = _kv_at(sheet, "bus", buses, at)
     refuse_slips(sheet, at, slips.machine_slips(kv, xd_pct, bus_kv, bus, kva, hp), out)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        off = np.abs(kv / bus_kv - 1.0) > KV_MISMATCH_WARN
+    off = slips.off_nominal(kv, bus_kv)
     flagged = off | (f["neutral_ohm"][at] & ~f["x0_pct"][at])
     for k in np.flatnonzero(flagged).tolist():
         i = int(at[k])
@@ -488,8 +484,7 @@ def inverters(sheet: Typed, buses: Buses, out: Collector, at: np.ndarray) -> Non
     found = slips.inverter_slips(kv, bus_kv, bus, limit, v["cease_below_pu"][at], share)
     refuse_slips(sheet, at, found, out)
     sheet.ok[missing] = False
-    with np.errstate(divide="ignore", invalid="ignore"):
-        off = np.abs(kv / bus_kv - 1.0) > KV_MISMATCH_WARN
+    off = slips.off_nominal(kv, bus_kv)
     low, high = INVERTER_LIMIT_USUAL
     unusual = (limit < low) | (limit > high)
     large_share = share > NEGATIVE_SHARE_USUAL_PCT

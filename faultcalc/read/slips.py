@@ -103,6 +103,25 @@ def _off(rated: np.ndarray, nominal: np.ndarray) -> np.ndarray:
     return (ratio > KV_RATIO_LIMIT) | (ratio < 1.0 / KV_RATIO_LIMIT)
 
 
+def off_nominal(rated, nominal):
+    """True where a rated kV differs from its bus's nominal kV by more than KV_MISMATCH_WARN
+    (a warning: modelled as it is), on arrays or single values; False where either is
+    missing (NaN) or the bus kV is 0."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return np.abs(np.asarray(rated, float) / np.asarray(nominal, float) - 1.0) > (
+            KV_MISMATCH_WARN
+        )
+
+
+def winding_off_nominal(rated: float, bus: str, nominal: float) -> str:
+    """The warning for a transformer winding rated off its bus's nominal kV."""
+    return (
+        f"winding rated {rated:g} kV on bus {bus} of {nominal:g} kV (differs by "
+        f"{100 * (rated / nominal - 1):+.1f}%); modelled as an off-nominal ratio; check the "
+        "nameplate and the bus voltage"
+    )
+
+
 def _fits(rated: float, nominal: float) -> bool:
     return 1.0 / KV_RATIO_LIMIT <= rated / nominal <= KV_RATIO_LIMIT
 

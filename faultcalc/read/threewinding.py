@@ -76,15 +76,13 @@ def three_winding(sheet: Typed, buses: Buses, out: Collector, at: np.ndarray) ->
             position = buses.ends[(SHEET, f"{letter}_bus")][i]
             nominal = float(buses.kv[position])
             rated = float(v[f"{letter}_kv"][i])
-            if abs(rated / nominal - 1.0) > slips.KV_MISMATCH_WARN:
+            if slips.off_nominal(rated, nominal):
                 out.warn(
                     SHEET,
                     row,
                     f"{letter}_kv",
                     rated,
-                    f"winding rated {rated:g} kV on bus {bus} of {nominal:g} kV (differs by "
-                    f"{100 * (rated / nominal - 1):+.1f}%); modelled as an off-nominal ratio; "
-                    "check the nameplate and the bus voltage",
+                    slips.winding_off_nominal(rated, bus, nominal),
                 )
 
 
