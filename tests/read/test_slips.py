@@ -156,3 +156,20 @@ def test_a_slip_fails_the_command_with_status_2(make_input, tmp_path):
     run = CliRunner().invoke(main, ["study", str(make_input(sheets)), "-o", str(out)])
     assert run.exit_code == 2 and "kva" in run.output and not out.exists()
     assert "Traceback" not in run.output
+
+
+def test_a_rated_kv_off_its_bus_is_one_rule():
+    import numpy as np
+
+    from faultcalc.read import slips
+
+    # Warned beyond 5 % (slips.KV_MISMATCH_WARN, common practice, no source): 13.8 kV on
+    # 12.47 kV is 10.7 % off, 13.0 kV is 4.25 %; a blank (NaN) kV is never warned.
+    rated = np.array([13.8, 13.0, np.nan, 0.48])
+    nominal = np.array([12.47, 12.47, 12.47, np.nan])
+    assert slips.off_nominal(rated, nominal).tolist() == [True, False, False, False]
+    assert bool(slips.off_nominal(0.6, 0.48)) and not slips.off_nominal(0.48, 0.48)
+    assert slips.winding_off_nominal(13.8, "HV", 12.47) == (
+        "winding rated 13.8 kV on bus HV of 12.47 kV (differs by +10.7%); modelled as an "
+        "off-nominal ratio; check the nameplate and the bus voltage"
+    )
