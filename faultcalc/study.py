@@ -11,7 +11,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from . import over_cases, textcolumns
+from . import floatcolumns, over_cases, textcolumns
 from ._version import __version__
 from .cautions import CAUTIONS
 from .conductors import cablecheck
@@ -554,7 +554,7 @@ def fault_table(a: Analysis, progress: Progress | None = None, interrupting=None
     pu, network = a.pu, a.network
     z1 = a.z1_node[network.node_of_bus]
     z0 = a.z0_node[network.node_of_bus]
-    kv = np.array(pu.bus_kv)
+    kv = _with_buses(a.system, "kv", lambda: floatcolumns.read_only(np.array(pu.bus_kv)))
     e = np.array(pu.prefault_pu) if a.e_bus is None else a.e_bus
     z_base = perunit.z_base_ohm(kv, pu.base_mva)
     i_base = perunit.i_base_ka(kv, pu.base_mva)
@@ -592,17 +592,19 @@ def fault_table(a: Analysis, progress: Progress | None = None, interrupting=None
     kappa = asymmetry.kappa(r_over_x)
     loop = 2 * z1 + z0 + 3 * zf_pu
     xr_slg = np.where(grounded, _xr(np.where(grounded, loop, 1.0)), np.nan)
+    r1_ohm = floatcolumns.read_only(z1.real * z_base, copy=False)
+    x1_ohm = floatcolumns.read_only(z1.imag * z_base, copy=False)
     rows = dict(
         bus=_bus_column(a.system),
         kv=kv,
-        r1_ohm=z1.real * z_base,
-        x1_ohm=z1.imag * z_base,
+        r1_ohm=r1_ohm,
+        x1_ohm=x1_ohm,
         z1_pu=np.abs(z1),
         xr=_xr(z1),
         i3ph_ka=i3_ka,
         s3ph_mva=np.sqrt(3.0) * kv * i3_ka,
-        r2_ohm=z1.real * z_base,
-        x2_ohm=z1.imag * z_base,
+        r2_ohm=r1_ohm,  # Z2 = Z1: the same (read-only) arrays
+        x2_ohm=x1_ohm,
         r0_ohm=z0.real * z_base,
         x0_ohm=z0.imag * z_base,
         islg_ka=islg_ka,
@@ -620,10 +622,13 @@ def fault_table(a: Analysis, progress: Progress | None = None, interrupting=None
         xr_slg=xr_slg,
     )
     n = len(kv)
-    i_int, xr_int = interrupting if interrupting is not None else (np.full(n, np.nan),) * 2
-    rows.update(i_int_ka=np.array(i_int, dtype=float), xr_int=np.array(xr_int, dtype=float))
+    if interrupting is not None:
+        i_int, xr_int = (np.array(v, dtype=float) for v in interrupting)
+    else:
+        i_int = xr_int = floatcolumns.blank(n)
+    rows.update(i_int_ka=i_int, xr_int=xr_int)
     blank = ("ib_ka", "idc_ka", "ik_ka", "ith_ka", *MIN_COLUMNS)  # iec60909: filled by _solve
-    rows.update({c: np.full(n, np.nan) for c in blank})
+    rows.update({c: floatcolumns.blank(n) for c in blank})
     rows.update(iec_note=textcolumns.repeated("", n, (texts, "iec_note")))  # iec60909: _solve
     rows.update(_inverter_columns(a, iterated, n, texts))
     progress.step("equipment duty")
@@ -690,8 +695,8 @@ def _inverter_columns(a: Analysis, solutions, n: int, texts: dict) -> dict[str, 
             else ""
         )
         return {
-            "inverter_sweeps": np.full(n, np.nan),
-            "inverter_residual_pu": np.full(n, np.nan),
+            "inverter_sweeps": floatcolumns.blank(n),
+            "inverter_residual_pu": floatcolumns.blank(n),
             "inverter_note": textcolumns.repeated(note, n, (texts, "inverter_note")),
         }
     names = np.array(a.inverters.names, dtype=object)
@@ -729,13 +734,15 @@ def _duty(system: System, rows: dict, interrupting: bool) -> dict[str, object]:
     xr_fault, xr_slg = rows["xr_fault"], rows["xr_slg"]
     n = len(system.buses)
     device_text, rated = _devices(system)
+    numbers = ("test_xr", "mf", "duty_ka", "duty_pct", *MV_DUTY_COLUMNS)
     out: dict[str, object] = {
-        "rating_ka": np.array(system.buses.array("rating_ka"), dtype=float),
-        **{k: np.full(n, np.nan) for k in ("test_xr", "mf", "duty_ka", "duty_pct")},
+        "rating_ka": _with_buses(
+            system, "rating_ka", lambda: floatcolumns.read_only(system.buses.array("rating_ka"))
+        ),
+        **{k: {} for k in numbers},  # row -> value, set at the rated buses only
         "duty_status": [duty.STATUS_NONE] * n,  # text, set at the rated buses only
         "duty_fault": [""] * n,
         "duty_basis": [""] * n,
-        **{k: np.full(n, np.nan) for k in MV_DUTY_COLUMNS},
     }
     notes = dict(zip(rated, rows["inverter_note"].take(np.asarray(rated, np.int64)), strict=True))
     for k, b in zip(rated, system.buses.take(rated), strict=True):
@@ -762,6 +769,8 @@ def _duty(system: System, rows: dict, interrupting: bool) -> dict[str, object]:
         out["duty_basis"][k] = duty.BASIS_INTERRUPTING
         out["capability_ka"][k] = b.rating_ka
         out["interrupting_pct"][k] = pct
+    for column in numbers:
+        out[column] = floatcolumns.at_rows(n, out[column])
     texts = (("duty_status", duty.STATUS_NONE), ("duty_fault", ""), ("duty_basis", ""))
     for column, blank in texts:
         at_rated = [out[column][k] for k in rated]
