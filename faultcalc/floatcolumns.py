@@ -1,12 +1,18 @@
-"""Number columns of the result tables that hold no value (NaN) at every row or at most rows.
+"""Number columns of the result tables that hold no value (NaN) at every row or at most rows,
+or that several tables hold alike.
 
 A bus table has about twenty such columns (the minimum currents of a method without them,
-the interrupting network's where it is not computed, the duty at buses without a device, ...)
-and a study with cases makes one table per case: 100 cases of 100,000 buses held 16 such
-columns of 0.8 MB each a case. Fresh memory is not free (here about 0.6 ms a MB: writing the
-NaN costs page faults), so every column with no value at all is one read-only array of NaN,
-shared by every such column of the study's tables. Read-only: writing into one of them fails
-loudly (numpy's "assignment destination is read-only") instead of changing the others.
+the interrupting network's where it is not computed, the duty at buses without a device, Z2
+which is Z1, the kV of buses a case leaves alone, ...) and a study with cases makes one table
+per case: 100 cases of 100,000 buses held 20 such columns of 0.8 MB each a case. Fresh memory
+is not free (here about 0.6 ms a MB: writing the values costs page faults), so such a column
+is one read-only array, shared by every table that holds it.
+
+The tables take a shared array as a pandas Series that is kept (:func:`column`): pandas then
+knows the tables share it, and a user who edits a table in place (``table.loc[k, c] = v``)
+gets a copy of that column first (pandas' copy-on-write), never a change to the others. The
+arrays are read-only, so a write that bypasses pandas fails loudly (numpy's "assignment
+destination is read-only") instead of changing every table at once.
 """
 
 from __future__ import annotations
@@ -15,6 +21,7 @@ import functools
 from collections.abc import Mapping
 
 import numpy as np
+import pandas as pd
 
 
 @functools.lru_cache(maxsize=4)
@@ -62,3 +69,31 @@ def at_rows(n: int, values: Mapping[int, float]) -> np.ndarray:
         values.values(), float, len(values)
     )
     return column
+
+
+def column(values: np.ndarray) -> pd.Series:
+    """The read-only array ``values`` as a Series for the tables (its memory, not a copy): give
+    the same Series to every column and table that shares the array (see the module
+    docstring); :func:`blank` arrays get their kept Series here."""
+    if values.flags.writeable:
+        raise ValueError("a shared column must be read-only")
+    n = len(values)
+    if values is blank(n):
+        return _blank_column(n)
+    return pd.Series(values, copy=False)
+
+
+@functools.lru_cache(maxsize=4)
+def _blank_column(n: int) -> pd.Series:
+    return pd.Series(blank(n), copy=False)
+
+
+def frame(columns: dict[str, object], order) -> pd.DataFrame:
+    """The table of ``columns`` (each its own new array, or a Series of :func:`column`) in
+    ``order``, without copies; a :func:`blank` array given as an array is given as its kept
+    Series."""
+    given = {
+        name: _blank_column(len(v)) if isinstance(v, np.ndarray) and v is blank(len(v)) else v
+        for name, v in columns.items()
+    }
+    return pd.DataFrame(given, columns=list(order), copy=False)

@@ -554,7 +554,10 @@ def fault_table(a: Analysis, progress: Progress | None = None, interrupting=None
     pu, network = a.pu, a.network
     z1 = a.z1_node[network.node_of_bus]
     z0 = a.z0_node[network.node_of_bus]
-    kv = _with_buses(a.system, "kv", lambda: floatcolumns.read_only(np.array(pu.bus_kv)))
+    kv_column = _with_buses(
+        a.system, "kv", lambda: floatcolumns.column(floatcolumns.read_only(np.array(pu.bus_kv)))
+    )
+    kv = kv_column.to_numpy()
     e = np.array(pu.prefault_pu) if a.e_bus is None else a.e_bus
     z_base = perunit.z_base_ohm(kv, pu.base_mva)
     i_base = perunit.i_base_ka(kv, pu.base_mva)
@@ -592,8 +595,9 @@ def fault_table(a: Analysis, progress: Progress | None = None, interrupting=None
     kappa = asymmetry.kappa(r_over_x)
     loop = 2 * z1 + z0 + 3 * zf_pu
     xr_slg = np.where(grounded, _xr(np.where(grounded, loop, 1.0)), np.nan)
-    r1_ohm = floatcolumns.read_only(z1.real * z_base, copy=False)
-    x1_ohm = floatcolumns.read_only(z1.imag * z_base, copy=False)
+    # Z2 = Z1: the same columns, shared (floatcolumns)
+    r1_ohm = floatcolumns.column(floatcolumns.read_only(z1.real * z_base, copy=False))
+    x1_ohm = floatcolumns.column(floatcolumns.read_only(z1.imag * z_base, copy=False))
     rows = dict(
         bus=_bus_column(a.system),
         kv=kv,
@@ -603,7 +607,7 @@ def fault_table(a: Analysis, progress: Progress | None = None, interrupting=None
         xr=_xr(z1),
         i3ph_ka=i3_ka,
         s3ph_mva=np.sqrt(3.0) * kv * i3_ka,
-        r2_ohm=r1_ohm,  # Z2 = Z1: the same (read-only) arrays
+        r2_ohm=r1_ohm,
         x2_ohm=x1_ohm,
         r0_ohm=z0.real * z_base,
         x0_ohm=z0.imag * z_base,
@@ -633,9 +637,10 @@ def fault_table(a: Analysis, progress: Progress | None = None, interrupting=None
     rows.update(_inverter_columns(a, iterated, n, texts))
     progress.step("equipment duty")
     rows.update(_duty(a.system, rows, interrupting is not None))
-    # every column its own array, none shared with another column or with the input: so
-    # the frame takes them as they are (no copy into one block; 100,000 buses: 6 ms a table)
-    return pd.DataFrame(rows, columns=list(BUS_COLUMNS), copy=False)
+    # every column its own array, none shared with another column or with the input, or a
+    # shared read-only one given as its Series (floatcolumns): so the frame takes them as they
+    # are (no copy into one block; 100,000 buses: 6 ms a table)
+    return floatcolumns.frame({**rows, "kv": kv_column}, BUS_COLUMNS)
 
 
 def _with_buses(system: System, key: str, make):
@@ -737,7 +742,9 @@ def _duty(system: System, rows: dict, interrupting: bool) -> dict[str, object]:
     numbers = ("test_xr", "mf", "duty_ka", "duty_pct", *MV_DUTY_COLUMNS)
     out: dict[str, object] = {
         "rating_ka": _with_buses(
-            system, "rating_ka", lambda: floatcolumns.read_only(system.buses.array("rating_ka"))
+            system,
+            "rating_ka",
+            lambda: floatcolumns.column(floatcolumns.read_only(system.buses.array("rating_ka"))),
         ),
         **{k: {} for k in numbers},  # row -> value, set at the rated buses only
         "duty_status": [duty.STATUS_NONE] * n,  # text, set at the rated buses only
