@@ -97,3 +97,24 @@ def frame(columns: dict[str, object], order) -> pd.DataFrame:
         for name, v in columns.items()
     }
     return pd.DataFrame(given, columns=list(order), copy=False)
+
+
+def copy_or_kept(values) -> np.ndarray | pd.Series:
+    """``values`` (one per row) as a column of its own, or, when every row holds the same
+    finite value (the prefault voltage of most studies), the kept read-only column of that
+    value, shared by every table.
+
+    >>> copy_or_kept([1.0, 1.0]) is copy_or_kept(np.ones(2)), copy_or_kept([1.0, 2.0]).tolist()
+    (True, [1.0, 2.0])
+    """
+    values = np.array(values, dtype=float)
+    if len(values) and np.isfinite(values[0]) and (values == values[0]).all():
+        return _constant_column(len(values), float(values[0]))
+    return values
+
+
+@functools.lru_cache(maxsize=8)
+def _constant_column(n: int, value: float) -> pd.Series:
+    values = np.full(n, value)
+    values.flags.writeable = False
+    return pd.Series(values, copy=False)

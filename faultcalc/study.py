@@ -617,7 +617,7 @@ def fault_table(a: Analysis, progress: Progress | None = None, interrupting=None
         ig_llg_ka=f.ig_llg * i_base,
         max_fault=textcolumns.coded(faults.FAULT_TYPES, largest, (texts, "max_fault")),
         ground_note=textcolumns.coded(("", GROUND_NOTE), ~grounded, (texts, "ground_note")),
-        prefault_pu=np.array(e, dtype=float),
+        prefault_pu=floatcolumns.copy_or_kept(e),
         xr_fault=xr_fault,
         kappa=kappa,
         ip_ka=kappa * np.sqrt(2.0) * i3_ka,

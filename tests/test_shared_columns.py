@@ -29,6 +29,7 @@ def test_the_tables_share_what_they_hold_alike(system):
     assert shared(base.ib_ka, case.ib_ka) and shared(base.ib_ka, base.ik_ka)  # no value
     assert shared(base.r1_ohm, base.r2_ohm) and shared(base.x1_ohm, base.x2_ohm)  # Z2 = Z1
     assert shared(base.kv, case.kv)  # the case changes no bus
+    assert shared(base.prefault_pu, case.prefault_pu)  # 1.0 pu at every bus
     assert not shared(base.i3ph_ka, case.i3ph_ka)
     assert np.isnan(base.ib_ka).all()
 
@@ -41,6 +42,7 @@ def test_an_edit_in_place_changes_that_table_only(system):
     base.loc[0, "ib_ka"] = 1.0
     base.loc[0, "r2_ohm"] = 5.0
     base.loc[0, "kv"] = 99.0
+    base.loc[1, "prefault_pu"] = 1.1
     base.fillna({"ik_ka": 0.0}, inplace=True)
     assert base.loc[0, ["ib_ka", "r2_ohm", "kv", "ik_ka"]].tolist() == [1.0, 5.0, 99.0, 0.0]
     assert np.isnan(base.loc[0, "idc_ka"]) and np.array_equal(base.r1_ohm.to_numpy(), r1)
@@ -48,6 +50,7 @@ def test_an_edit_in_place_changes_that_table_only(system):
     again = run_study(system).buses  # the same System: its kept columns are untouched
     assert np.isnan(again.ib_ka).all() and np.isnan(again.ik_ka).all()
     assert again.kv.iloc[0] == before_case.kv.iloc[0]
+    assert (again.prefault_pu == before_case.prefault_pu).all()
     assert np.array_equal(again.r2_ohm.to_numpy(), r1)  # Z2 = Z1 of the base case
 
 
