@@ -469,3 +469,42 @@ def test_method_sections_print_the_currents_after_the_first_instant(make_input, 
         assert "MV 13.800" in page
         value = result.buses.set_index("bus").loc["MV", column]
         assert f"{value:.2f}" in page
+
+
+def _rows_per_part(parts, head=1):
+    return [len(p._cellvalues) - head for p in parts]
+
+
+def test_a_table_leaves_no_row_alone_on_a_page():
+    # Common practice in typesetting (no source): never one row alone under the repeated
+    # header at the top of a page, nor the header and one row at the foot of one.
+    from reportlab.platypus import LongTable
+
+    from faultcalc import typeface
+    from faultcalc.report.pdf import sections
+
+    typeface.register()
+
+    def made(n):
+        return sections.table(
+            ["Bus", "kA"], [[f"B{k}", f"{k}.0"] for k in range(n)], [0.5, 0.5], {1}
+        )
+
+    plain = made(10)
+    width, height = plain.wrap(400, 10_000)
+    row = plain._rowHeights[1]
+    header = plain._rowHeights[0]
+    # room for the header and 9 of 10 rows: a plain table carries one row on
+    room = header + 9 * row + 0.1
+    plain_parts = LongTable.split(plain, 400, room)
+    assert _rows_per_part(plain_parts) == [9, 1]
+    parts = plain.split(400, room)
+    assert _rows_per_part(parts) == [8, 2]
+    # room for the header and one row: the table moves on whole
+    assert plain.split(400, header + row + 0.1) == []
+    # room for two: split as usual
+    assert _rows_per_part(plain.split(400, header + 2 * row + 0.1)) == [2, 8]
+    # a short table is left to split as it would
+    short = made(3)
+    short.wrap(400, 10_000)
+    assert _rows_per_part(short.split(400, header + 2 * row + 0.1)) == [2, 1]

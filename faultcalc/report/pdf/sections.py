@@ -93,6 +93,32 @@ def heading(title: str, *, landscape: bool = False) -> list:
     ]
 
 
+class _RowTable(LongTable):
+    """A LongTable that leaves no row alone on a page when it runs on: a split that would
+    carry one row over (under the repeated header) carries two, and a split that would leave
+    the header and one row at the foot of a page moves the table on (common practice in
+    typesetting, no source). A row split inside itself (taller than a page) is left as it is."""
+
+    def split(self, availWidth, availHeight):  # noqa: N803 - reportlab's names
+        parts = super().split(availWidth, availHeight)
+        if len(parts) != 2:
+            return parts
+        head = self.repeatRows
+        rows = len(self._cellvalues) - head
+        kept = len(parts[0]._cellvalues) - head
+        carried = len(parts[1]._cellvalues) - head
+        if kept + carried != rows or rows < 4:  # split inside a row, or too short to mind
+            return parts
+        if kept == 1:
+            return []
+        if carried == 1:
+            last = self._rowHeights[head + kept - 1]
+            again = super().split(availWidth, availHeight - last + 1e-6)
+            if len(again) == 2 and len(again[1]._cellvalues) - head == 2:
+                return again
+        return parts
+
+
 def table(
     head: list[str],
     rows: list[list],
@@ -138,7 +164,7 @@ def table(
     for i, fill in enumerate(fills, start=1):
         if fill is not None:
             style.append(("BACKGROUND", (0, i), (-1, i), fill))
-    out = LongTable(
+    out = _RowTable(
         cells,
         colWidths=col_pt,
         repeatRows=1,
