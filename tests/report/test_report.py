@@ -504,6 +504,15 @@ def test_a_table_leaves_no_row_alone_on_a_page():
     assert plain.split(400, header + row + 0.1) == []
     # room for two: split as usual
     assert _rows_per_part(plain.split(400, header + 2 * row + 0.1)) == [2, 8]
+    # rows so tall that the next page could not hold the header and two: never moved on
+    # (it could never be placed), split as it would
+    tall = sections.table(
+        ["Bus", "Note"], [[f"B{k}", "word " * 900] for k in range(5)], [0.2, 0.8], set()
+    )
+    tall.wrap(400, 10_000)
+    first = tall._rowHeights[0] + tall._rowHeights[1]
+    assert tall._rowHeights[0] + 2 * tall._rowHeights[1] > sections._SHORTEST_BODY_PT
+    assert tall.split(400, first + 0.1) != []
     # a short table is left to split as it would
     short = made(3)
     short.wrap(400, 10_000)

@@ -30,7 +30,7 @@ from ..basis import basis_items
 from ..labeltext import label_lines
 from ..words import FAULT_WORDS as OUTPUT_FAULT_WORDS
 from ..words import contribution_kv
-from .pages import LANDSCAPE, MARGIN_PT, PORTRAIT, SMALL_PT
+from .pages import LANDSCAPE, MARGIN_PT, PORTRAIT, SMALL_PT, body_height_pt
 
 FAULT_WORDS = {**OUTPUT_FAULT_WORDS, "": ""}
 NO_PATH = "no path"
@@ -93,6 +93,9 @@ def heading(title: str, *, landscape: bool = False) -> list:
     ]
 
 
+_SHORTEST_BODY_PT = min(body_height_pt(LANDSCAPE), body_height_pt(PORTRAIT))
+
+
 class _RowTable(LongTable):
     """A LongTable that leaves no row alone on a page when it runs on: a split that would
     carry one row over (under the repeated header) carries two, and a split that would leave
@@ -109,7 +112,9 @@ class _RowTable(LongTable):
         carried = len(parts[1]._cellvalues) - head
         if kept + carried != rows or rows < 4:  # split inside a row, or too short to mind
             return parts
-        if kept == 1:
+        # moved on only when the next page holds the header and two rows (a table of rows
+        # taller than that splits as it would, or it could never be placed)
+        if kept == 1 and sum(self._rowHeights[: head + 2]) <= _SHORTEST_BODY_PT:
             return []
         if carried == 1:
             last = self._rowHeights[head + kept - 1]
