@@ -472,48 +472,83 @@ def test_method_sections_print_the_currents_after_the_first_instant(make_input, 
 
 
 def _rows_per_part(parts, head=1):
-    return [len(p._cellvalues) - head for p in parts]
+    return [len(p._cellvalues) - head for p in parts if hasattr(p, "_cellvalues")]
 
 
 def test_a_table_leaves_no_row_alone_on_a_page():
     # Common practice in typesetting (no source): never one row alone under the repeated
-    # header at the top of a page, nor the header and one row at the foot of one.
-    from reportlab.platypus import LongTable
+    # header at the top of a page when the page before can give up one more.
+    from reportlab.platypus import FrameBreak, LongTable
 
     from faultcalc import typeface
     from faultcalc.report.pdf import sections
 
     typeface.register()
 
-    def made(n):
-        return sections.table(
-            ["Bus", "kA"], [[f"B{k}", f"{k}.0"] for k in range(n)], [0.5, 0.5], {1}
-        )
+    def made(rows):
+        return sections.table(["Bus", "Note"], rows, [0.2, 0.8], set())
 
-    plain = made(10)
-    width, height = plain.wrap(400, 10_000)
-    row = plain._rowHeights[1]
-    header = plain._rowHeights[0]
+    plain = made([[f"B{k}", f"{k}.0"] for k in range(10)])
+    plain.wrap(400, 10_000)
+    header, row = plain._rowHeights[0], plain._rowHeights[1]
     # room for the header and 9 of 10 rows: a plain table carries one row on
     room = header + 9 * row + 0.1
-    plain_parts = LongTable.split(plain, 400, room)
-    assert _rows_per_part(plain_parts) == [9, 1]
+    assert _rows_per_part(LongTable.split(plain, 400, room)) == [9, 1]
     parts = plain.split(400, room)
     assert _rows_per_part(parts) == [8, 2]
-    # room for the header and one row: the table moves on whole
-    assert plain.split(400, header + row + 0.1) == []
-    # room for two: split as usual
+    assert isinstance(parts[1], type(FrameBreak()))  # the two rows start the next page
+    # the header and one or two rows at the foot of a page: split as usual (moving the table
+    # on would leave the headings above it alone)
+    assert _rows_per_part(plain.split(400, header + row + 0.1)) == [1, 9]
     assert _rows_per_part(plain.split(400, header + 2 * row + 0.1)) == [2, 8]
-    # rows so tall that the next page could not hold the header and two: never moved on
-    # (it could never be placed), split as it would
-    tall = sections.table(
-        ["Bus", "Note"], [[f"B{k}", "word " * 900] for k in range(5)], [0.2, 0.8], set()
-    )
+    # short rows kept, a tall row carried, spare room at the foot: still two carried
+    mixed = made([[f"B{k}", "x"] for k in range(10)] + [["TALL", "word " * 200]])
+    mixed.wrap(400, 10_000)
+    heights = mixed._rowHeights
+    assert heights[-1] > 3 * heights[1]
+    foot = sum(heights[:11]) + 30  # the tall row does not fit the 30 pt to spare
+    assert _rows_per_part(LongTable.split(mixed, 400, foot)) == [10, 1]
+    assert _rows_per_part(mixed.split(400, foot)) == [9, 2]
+    # two rows kept and one carried: left (one fewer would leave one alone at the foot)
+    three = made([[f"B{k}", f"{k}"] for k in range(3)])
+    three.wrap(400, 10_000)
+    assert _rows_per_part(three.split(400, header + 2 * row + 0.1)) == [2, 1]
+    # rows taller than a page split inside themselves, as they would
+    tall = made([[f"B{k}", "word " * 900] for k in range(5)])
     tall.wrap(400, 10_000)
-    first = tall._rowHeights[0] + tall._rowHeights[1]
-    assert tall._rowHeights[0] + 2 * tall._rowHeights[1] > sections._SHORTEST_BODY_PT
-    assert tall.split(400, first + 0.1) != []
-    # a short table is left to split as it would
-    short = made(3)
-    short.wrap(400, 10_000)
-    assert _rows_per_part(short.split(400, header + 2 * row + 0.1)) == [2, 1]
+    assert tall.split(400, tall._rowHeights[0] + tall._rowHeights[1] + 0.1) != []
+
+
+def test_a_table_in_a_document_carries_two_rows_on():
+    # The same rule where reportlab places the pieces: the shorter first piece leaves room at
+    # the foot of its page (here more than the header and a row), and the two carried rows
+    # must still start the next page together.
+    import io
+
+    from reportlab.platypus import SimpleDocTemplate
+
+    from faultcalc import typeface
+    from faultcalc.report.pdf import sections
+
+    typeface.register()
+    placed = []  # (page, rows) of every table piece drawn
+
+    class Doc(SimpleDocTemplate):
+        def afterFlowable(self, flowable):  # noqa: N802 - reportlab's name
+            if hasattr(flowable, "_cellvalues"):
+                placed.append((self.page, len(flowable._cellvalues) - 1))
+
+    rows = [[f"B{k}", "x"] for k in range(10)] + [["TALL", "word " * 200]]
+
+    def made():
+        return sections.table(["Bus", "Note"], rows, [0.2, 0.8], set())
+
+    probe = made()
+    probe.wrap(400, 10_000)
+    heights = probe._rowHeights
+    spare = heights[0] + heights[1] + 5  # room for the header and a short row, not the tall
+    assert heights[-1] > spare
+    frame = sum(heights[:11]) + spare
+    doc = Doc(io.BytesIO(), pagesize=(500, frame + 2 * 36 + 12), topMargin=36, bottomMargin=36)
+    doc.build([made()])
+    assert placed == [(1, 9), (2, 2)]

@@ -13,6 +13,7 @@ from reportlab.lib import colors
 from reportlab.lib.enums import TA_RIGHT
 from reportlab.lib.styles import ParagraphStyle
 from reportlab.platypus import (
+    FrameBreak,
     KeepTogether,
     LongTable,
     NextPageTemplate,
@@ -30,7 +31,7 @@ from ..basis import basis_items
 from ..labeltext import label_lines
 from ..words import FAULT_WORDS as OUTPUT_FAULT_WORDS
 from ..words import contribution_kv
-from .pages import LANDSCAPE, MARGIN_PT, PORTRAIT, SMALL_PT, body_height_pt
+from .pages import LANDSCAPE, MARGIN_PT, PORTRAIT, SMALL_PT
 
 FAULT_WORDS = {**OUTPUT_FAULT_WORDS, "": ""}
 NO_PATH = "no path"
@@ -93,14 +94,12 @@ def heading(title: str, *, landscape: bool = False) -> list:
     ]
 
 
-_SHORTEST_BODY_PT = min(body_height_pt(LANDSCAPE), body_height_pt(PORTRAIT))
-
-
 class _RowTable(LongTable):
-    """A LongTable that leaves no row alone on a page when it runs on: a split that would
-    carry one row over (under the repeated header) carries two, and a split that would leave
-    the header and one row at the foot of a page moves the table on (common practice in
-    typesetting, no source). A row split inside itself (taller than a page) is left as it is."""
+    """A LongTable that leaves no row alone under its repeated header when it runs on: a split
+    that would carry one row over carries two, where the page keeps two or more (common
+    practice in typesetting, no source). A row split inside itself (taller than a page) is
+    left as it is. The other widow, the header and one row at the foot of a page, is left:
+    moving the table on would leave the headings above it alone on their page instead."""
 
     def split(self, availWidth, availHeight):  # noqa: N803 - reportlab's names
         parts = super().split(availWidth, availHeight)
@@ -110,17 +109,17 @@ class _RowTable(LongTable):
         rows = len(self._cellvalues) - head
         kept = len(parts[0]._cellvalues) - head
         carried = len(parts[1]._cellvalues) - head
-        if kept + carried != rows or rows < 4:  # split inside a row, or too short to mind
+        if kept + carried != rows:  # split inside a row
             return parts
-        # moved on only when the next page holds the header and two rows (a table of rows
-        # taller than that splits as it would, or it could never be placed)
-        if kept == 1 and sum(self._rowHeights[: head + 2]) <= _SHORTEST_BODY_PT:
-            return []
-        if carried == 1:
-            last = self._rowHeights[head + kept - 1]
-            again = super().split(availWidth, availHeight - last + 1e-6)
+        if carried == 1 and kept >= 3:
+            # room for the header and one row fewer than were kept (not the room less the
+            # last row: the foot of the page may have room to spare)
+            room = sum(self._rowHeights[: head + kept - 1]) + 1e-6
+            again = super().split(availWidth, room)
             if len(again) == 2 and len(again[1]._cellvalues) - head == 2:
-                return again
+                # the rest of this page left blank: else the two rows are tried in the room
+                # the shorter first part leaves, and one is split off again
+                return [again[0], FrameBreak(), again[1]]
         return parts
 
 
