@@ -89,14 +89,21 @@ def _blank_column(n: int) -> pd.Series:
 
 
 def frame(columns: dict[str, object], order) -> pd.DataFrame:
-    """The table of ``columns`` (each its own new array, or a Series of :func:`column`) in
-    ``order``, without copies; a :func:`blank` array given as an array is given as its kept
-    Series."""
-    given = {
-        name: _blank_column(len(v)) if isinstance(v, np.ndarray) and v is blank(len(v)) else v
-        for name, v in columns.items()
-    }
-    return pd.DataFrame(given, columns=list(order), copy=False)
+    """The table of ``columns`` in ``order``, without copies: each its own new array, a kept
+    Series of :func:`column`, or a read-only array, given as one Series however many columns
+    hold it (so pandas knows they share it; a :func:`blank` one as its kept Series)."""
+    shared: dict[int, pd.Series] = {}  # by the array's id: alive while ``columns`` holds it
+
+    def given(values):
+        if isinstance(values, np.ndarray) and not values.flags.writeable:
+            if id(values) not in shared:
+                shared[id(values)] = column(values)
+            return shared[id(values)]
+        return values
+
+    return pd.DataFrame(
+        {name: given(v) for name, v in columns.items()}, columns=list(order), copy=False
+    )
 
 
 def copy_or_kept(values) -> np.ndarray | pd.Series:

@@ -595,9 +595,9 @@ def fault_table(a: Analysis, progress: Progress | None = None, interrupting=None
     kappa = asymmetry.kappa(r_over_x)
     loop = 2 * z1 + z0 + 3 * zf_pu
     xr_slg = np.where(grounded, _xr(np.where(grounded, loop, 1.0)), np.nan)
-    # Z2 = Z1: the same columns, shared (floatcolumns)
-    r1_ohm = floatcolumns.column(floatcolumns.read_only(z1.real * z_base, copy=False))
-    x1_ohm = floatcolumns.column(floatcolumns.read_only(z1.imag * z_base, copy=False))
+    # Z2 = Z1: the same read-only columns, shared (floatcolumns.frame)
+    r1_ohm = floatcolumns.read_only(z1.real * z_base, copy=False)
+    x1_ohm = floatcolumns.read_only(z1.imag * z_base, copy=False)
     rows = dict(
         bus=_bus_column(a.system),
         kv=kv,
@@ -638,8 +638,8 @@ def fault_table(a: Analysis, progress: Progress | None = None, interrupting=None
     progress.step("equipment duty")
     rows.update(_duty(a.system, rows, interrupting is not None))
     # every column its own array, none shared with another column or with the input, or a
-    # shared read-only one given as its Series (floatcolumns): so the frame takes them as they
-    # are (no copy into one block; 100,000 buses: 6 ms a table)
+    # shared read-only one (floatcolumns): so the frame takes them as they are (no copy into
+    # one block; 100,000 buses: 6 ms a table)
     return floatcolumns.frame({**rows, "kv": kv_column}, BUS_COLUMNS)
 
 

@@ -32,18 +32,13 @@ class Marks:
     caution: str  # one line of caution, above the basis line
 
 
-def body_height_pt(size) -> float:
-    """The height of a page's body frame (between the header and the footer bands)."""
-    return size[1] - 2 * MARGIN_PT - HEADER_PT - FOOTER_PT
-
-
 def _frame(size) -> Frame:
     w, h = size
     return Frame(
         MARGIN_PT,
         MARGIN_PT + FOOTER_PT,
         w - 2 * MARGIN_PT,
-        body_height_pt(size),
+        h - 2 * MARGIN_PT - HEADER_PT - FOOTER_PT,
         leftPadding=0,
         rightPadding=0,
         topPadding=0,

@@ -101,6 +101,8 @@ class _RowTable(LongTable):
     left as it is. The other widow, the header and one row at the foot of a page, is left:
     moving the table on would leave the headings above it alone on their page instead."""
 
+    # reportlab's own attributes are read: _cellvalues (the rows of a table or piece, the
+    # repeated header first) and _rowHeights (their heights, set by split's layout pass)
     def split(self, availWidth, availHeight):  # noqa: N803 - reportlab's names
         parts = super().split(availWidth, availHeight)
         if len(parts) != 2:
